@@ -1,0 +1,1 @@
+//! The probabilistic engine of trellis (see ARCHITECTURE.md).

@@ -1,0 +1,302 @@
+//! The semantic model: the grammar as a set of weighted rules.
+//!
+//! Built from the syntax trees of the root file and every file it `use`s by
+//! [`crate::lower`]. Names are resolved to ids, weights are exact rationals,
+//! and every rule knows its resolved probability. Spans point back into the
+//! files so every analysis can report where a fact came from.
+
+use crate::diagnostic::Location;
+use crate::tree::Tree;
+use num_bigint::BigInt;
+use num_rational::BigRational;
+use num_traits::{ToPrimitive, Zero};
+use std::collections::HashMap;
+use std::fmt;
+
+/// An exact probability or weight.
+pub type Ratio = BigRational;
+
+/// A non-terminal.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct NtId(pub u32);
+
+/// A terminal (a word).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct TermId(pub u32);
+
+/// A rule, numbered in source order across all files.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub struct RuleId(pub u32);
+
+impl NtId {
+    pub fn index(self) -> usize {
+        self.0 as usize
+    }
+}
+impl TermId {
+    pub fn index(self) -> usize {
+        self.0 as usize
+    }
+}
+impl RuleId {
+    pub fn index(self) -> usize {
+        self.0 as usize
+    }
+}
+
+/// One right-hand-side item.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+pub enum Sym {
+    N(NtId),
+    T(TermId),
+}
+
+/// How a weight was written, so rewrites can keep the user's style.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Notation {
+    Decimal,
+    Fraction,
+    Percent,
+}
+
+/// A weight as the user wrote it.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Weight {
+    pub text: String,
+    pub value: Ratio,
+    pub notation: Notation,
+    pub location: Location,
+}
+
+#[derive(Clone, Debug, PartialEq)]
+pub struct Rule {
+    pub lhs: NtId,
+    pub rhs: Vec<Sym>,
+    /// Where each right-hand-side item is written.
+    pub rhs_locations: Vec<Location>,
+    /// The weight as written; `None` for an alternative that shares the remainder.
+    pub weight: Option<Weight>,
+    /// The resolved exact probability of the rule given its left-hand side.
+    pub probability: Ratio,
+    /// `probability` as a float, for the numeric engine.
+    pub p: f64,
+    /// The whole alternative.
+    pub location: Location,
+    pub doc: Option<String>,
+}
+
+impl Rule {
+    pub fn is_unary(&self) -> bool {
+        self.rhs.len() == 1 && matches!(self.rhs[0], Sym::N(_))
+    }
+}
+
+/// The block that defines a non-terminal.
+#[derive(Clone, Debug, PartialEq)]
+pub struct BlockInfo {
+    /// The name at the head of the block.
+    pub name: Location,
+    /// The whole block.
+    pub location: Location,
+    pub relative: bool,
+    pub doc: Option<String>,
+    /// Sum of the resolved probabilities of the block's rules (1 for a sound block).
+    pub mass: Ratio,
+}
+
+#[derive(Clone, Debug, PartialEq)]
+pub struct NonTerminal {
+    pub name: String,
+    /// The defining block, or `None` if the symbol is only used.
+    pub block: Option<BlockInfo>,
+    pub rules: Vec<RuleId>,
+    /// Every place the name is referenced (right-hand sides and `start`).
+    pub references: Vec<Location>,
+}
+
+impl NonTerminal {
+    pub fn is_defined(&self) -> bool {
+        self.block.is_some()
+    }
+}
+
+/// A `test` block of the grammar (run by the test runner).
+#[derive(Clone, Debug, PartialEq)]
+pub struct GrammarTest {
+    pub name: String,
+    pub location: Location,
+    pub doc: Option<String>,
+    pub cases: Vec<TestCase>,
+}
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Expectation {
+    Accept,
+    Reject,
+}
+
+#[derive(Clone, Debug, PartialEq)]
+pub struct TestCase {
+    pub expect: Expectation,
+    pub sentence: String,
+    /// The expected most probable tree (`accept S as TREE`).
+    pub tree: Option<Tree>,
+    pub location: Location,
+}
+
+impl TestCase {
+    /// The sentence split on whitespace into words.
+    pub fn words(&self) -> Vec<&str> {
+        self.sentence.split_whitespace().collect()
+    }
+}
+
+/// A whole grammar: every block of the root file and of the files it uses.
+#[derive(Clone, Debug, Default, PartialEq)]
+pub struct Grammar {
+    pub name: Option<String>,
+    pub start: Option<NtId>,
+    /// Where `start` is declared.
+    pub start_location: Option<Location>,
+    pub nonterminals: Vec<NonTerminal>,
+    pub terminals: Vec<String>,
+    pub rules: Vec<Rule>,
+    pub tests: Vec<GrammarTest>,
+    nt_index: HashMap<String, NtId>,
+    term_index: HashMap<String, TermId>,
+}
+
+impl Grammar {
+    pub fn new() -> Self {
+        Grammar::default()
+    }
+
+    /// The id of non-terminal `name`, creating an (undefined) entry if new.
+    pub fn intern_nt(&mut self, name: &str) -> NtId {
+        if let Some(&id) = self.nt_index.get(name) {
+            return id;
+        }
+        let id = NtId(self.nonterminals.len() as u32);
+        self.nonterminals.push(NonTerminal {
+            name: name.to_string(),
+            block: None,
+            rules: Vec::new(),
+            references: Vec::new(),
+        });
+        self.nt_index.insert(name.to_string(), id);
+        id
+    }
+
+    pub fn intern_term(&mut self, word: &str) -> TermId {
+        if let Some(&id) = self.term_index.get(word) {
+            return id;
+        }
+        let id = TermId(self.terminals.len() as u32);
+        self.terminals.push(word.to_string());
+        self.term_index.insert(word.to_string(), id);
+        id
+    }
+
+    pub fn nt(&self, name: &str) -> Option<NtId> {
+        self.nt_index.get(name).copied()
+    }
+
+    pub fn term(&self, word: &str) -> Option<TermId> {
+        self.term_index.get(word).copied()
+    }
+
+    pub fn nt_name(&self, id: NtId) -> &str {
+        &self.nonterminals[id.index()].name
+    }
+
+    pub fn term_text(&self, id: TermId) -> &str {
+        &self.terminals[id.index()]
+    }
+
+    pub fn nonterminal(&self, id: NtId) -> &NonTerminal {
+        &self.nonterminals[id.index()]
+    }
+
+    pub fn rule(&self, id: RuleId) -> &Rule {
+        &self.rules[id.index()]
+    }
+
+    /// Adds a rule and registers it with its left-hand side.
+    pub fn push_rule(&mut self, rule: Rule) -> RuleId {
+        let id = RuleId(self.rules.len() as u32);
+        self.nonterminals[rule.lhs.index()].rules.push(id);
+        self.rules.push(rule);
+        id
+    }
+
+    pub fn nt_ids(&self) -> impl Iterator<Item = NtId> {
+        (0..self.nonterminals.len() as u32).map(NtId)
+    }
+
+    pub fn rule_ids(&self) -> impl Iterator<Item = RuleId> {
+        (0..self.rules.len() as u32).map(RuleId)
+    }
+
+    /// The rules of `nt`.
+    pub fn rules_of(&self, nt: NtId) -> impl Iterator<Item = (RuleId, &Rule)> {
+        self.nonterminals[nt.index()]
+            .rules
+            .iter()
+            .map(move |&id| (id, &self.rules[id.index()]))
+    }
+
+    /// A right-hand-side item written for people: `Name` or `"word"`.
+    pub fn sym_text(&self, sym: Sym) -> String {
+        match sym {
+            Sym::N(n) => self.nt_name(n).to_string(),
+            Sym::T(t) => crate::syntax::lexer::quote(self.term_text(t)),
+        }
+    }
+
+    /// A rule written for people: `A → B "c"`.
+    pub fn rule_text(&self, id: RuleId) -> String {
+        let rule = self.rule(id);
+        let mut out = format!("{} →", self.nt_name(rule.lhs));
+        for &sym in &rule.rhs {
+            out.push(' ');
+            out.push_str(&self.sym_text(sym));
+        }
+        out
+    }
+}
+
+/// Formats an exact ratio as a fraction `p/q` (or an integer).
+pub fn fraction(r: &Ratio) -> String {
+    if r.denom() == &BigInt::from(1) {
+        r.numer().to_string()
+    } else {
+        format!("{}/{}", r.numer(), r.denom())
+    }
+}
+
+/// A ratio as a float (`NaN`-free: huge values saturate).
+pub fn to_f64(r: &Ratio) -> f64 {
+    if r.is_zero() {
+        return 0.0;
+    }
+    r.to_f64().unwrap_or(f64::NAN)
+}
+
+/// A ratio as a short decimal for messages: exact when it terminates within
+/// 12 digits, otherwise rounded with `≈`.
+pub struct Decimal<'a>(pub &'a Ratio);
+
+impl fmt::Display for Decimal<'_> {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match crate::weight::exact_decimal(self.0, 12) {
+            Some(s) => f.write_str(&s),
+            None => write!(f, "≈{}", trim_float(to_f64(self.0))),
+        }
+    }
+}
+
+fn trim_float(x: f64) -> String {
+    let s = format!("{x:.10}");
+    let s = s.trim_end_matches('0');
+    s.trim_end_matches('.').to_string()
+}

@@ -1,0 +1,101 @@
+//! Parse trees and their labelled-bracket notation.
+
+use crate::syntax::lexer::quote;
+use std::fmt;
+
+/// A parse tree: inner nodes carry a non-terminal label, leaves are words.
+#[derive(Clone, Debug, PartialEq, Eq, Hash)]
+pub enum Tree {
+    Node { label: String, children: Vec<Tree> },
+    Leaf(String),
+}
+
+impl Tree {
+    pub fn node(label: impl Into<String>, children: Vec<Tree>) -> Tree {
+        Tree::Node {
+            label: label.into(),
+            children,
+        }
+    }
+
+    pub fn leaf(word: impl Into<String>) -> Tree {
+        Tree::Leaf(word.into())
+    }
+
+    pub fn label(&self) -> Option<&str> {
+        match self {
+            Tree::Node { label, .. } => Some(label),
+            Tree::Leaf(_) => None,
+        }
+    }
+
+    /// The words at the leaves, left to right.
+    pub fn words(&self) -> Vec<&str> {
+        let mut out = Vec::new();
+        self.collect_words(&mut out);
+        out
+    }
+
+    fn collect_words<'a>(&'a self, out: &mut Vec<&'a str>) {
+        match self {
+            Tree::Leaf(w) => out.push(w),
+            Tree::Node { children, .. } => children.iter().for_each(|c| c.collect_words(out)),
+        }
+    }
+
+    /// Labelled brackets with terminals quoted, as in `.trellis` tests:
+    /// `(Ticket (Kind "day") "ticket")`.
+    pub fn to_brackets(&self) -> String {
+        let mut out = String::new();
+        self.write(&mut out, true);
+        out
+    }
+
+    /// Labelled brackets with bare terminals, as in plain treebank files.
+    pub fn to_treebank(&self) -> String {
+        let mut out = String::new();
+        self.write(&mut out, false);
+        out
+    }
+
+    fn write(&self, out: &mut String, quoted: bool) {
+        match self {
+            Tree::Leaf(w) if quoted => out.push_str(&quote(w)),
+            Tree::Leaf(w) => out.push_str(w),
+            Tree::Node { label, children } => {
+                out.push('(');
+                out.push_str(label);
+                for c in children {
+                    out.push(' ');
+                    c.write(out, quoted);
+                }
+                out.push(')');
+            }
+        }
+    }
+}
+
+impl fmt::Display for Tree {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.to_brackets())
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn brackets_quote_terminals_only_in_the_language_form() {
+        let t = Tree::node(
+            "Ticket",
+            vec![
+                Tree::node("Kind", vec![Tree::leaf("day")]),
+                Tree::leaf("ticket"),
+            ],
+        );
+        assert_eq!(t.to_brackets(), r#"(Ticket (Kind "day") "ticket")"#);
+        assert_eq!(t.to_treebank(), "(Ticket (Kind day) ticket)");
+        assert_eq!(t.words(), vec!["day", "ticket"]);
+    }
+}

@@ -1,0 +1,1 @@
+//! The trellis language server (arrives with its own issue).
