@@ -1,1 +1,57 @@
-fn main() {}
+//! `trellis`: the command line for writing and checking weighted grammars.
+//!
+//! This file only parses arguments and dispatches. Each subcommand lives in
+//! its own module under [`commands`]; adding one means a new file there, one
+//! variant in [`Command`] and one arm in [`main`].
+
+mod commands;
+mod config_file;
+mod fs_loader;
+mod render;
+
+use clap::{Parser, Subcommand};
+use std::process::ExitCode;
+
+/// Tools for hand-written weighted context-free grammars (`.trellis` files).
+#[derive(Parser, Debug)]
+#[command(
+    name = "trellis",
+    version,
+    about = "Tools for hand-written weighted context-free grammars (.trellis files)",
+    long_about = "Tools for hand-written weighted context-free grammars (.trellis files).\n\n\
+        Exit status: 0 when nothing is wrong, 1 when a grammar has errors \
+        (or warnings under --deny-warnings), 2 when trellis could not do what \
+        was asked (bad arguments, unreadable files, an invalid trellis.toml).",
+    propagate_version = true
+)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    /// Find mistakes in grammars without running them: weights that do not
+    /// add up, undefined or unreachable symbols, syntax errors and more.
+    Check(commands::check::CheckArgs),
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let outcome = match cli.command {
+        Command::Check(args) => commands::check::run(&args),
+    };
+    outcome.into()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use clap::CommandFactory;
+
+    #[test]
+    fn the_argument_definitions_are_consistent() {
+        // clap's own self-check: conflicting names, bad defaults, etc.
+        Cli::command().debug_assert();
+    }
+}

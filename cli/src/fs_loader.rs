@@ -1,0 +1,81 @@
+//! Reading grammar files from disk: the real [`FileLoader`] of the CLI.
+
+use grammar_lang::FileLoader;
+use std::io::ErrorKind;
+use std::path::Path;
+
+/// Loads `use`d files from the file system, as UTF-8 text.
+#[derive(Clone, Copy, Debug, Default)]
+pub struct DiskLoader;
+
+impl FileLoader for DiskLoader {
+    fn load(&self, path: &Path) -> Result<String, String> {
+        read_text(path)
+    }
+}
+
+/// The UTF-8 text of the file at `path`, or a short reason why there is none,
+/// phrased to follow "cannot read <path>: ".
+pub fn read_text(path: &Path) -> Result<String, String> {
+    let bytes = std::fs::read(path).map_err(|e| io_reason(&e))?;
+    decode(bytes)
+}
+
+/// Turns file bytes into text, naming the line of the first bad byte.
+pub fn decode(bytes: Vec<u8>) -> Result<String, String> {
+    String::from_utf8(bytes).map_err(|e| {
+        let offset = e.utf8_error().valid_up_to();
+        let bytes = e.as_bytes();
+        let line = 1 + bytes[..offset].iter().filter(|&&b| b == b'\n').count();
+        format!(
+            "it is not UTF-8 text (invalid byte 0x{:02X} on line {line}); save it as UTF-8",
+            bytes[offset]
+        )
+    })
+}
+
+/// A short, stable description of an I/O failure.
+pub fn io_reason(e: &std::io::Error) -> String {
+    match e.kind() {
+        ErrorKind::NotFound => "no such file or directory".to_string(),
+        ErrorKind::PermissionDenied => "permission denied".to_string(),
+        ErrorKind::IsADirectory => "it is a directory".to_string(),
+        _ => e.to_string(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn invalid_utf8_names_the_byte_and_its_line() {
+        // 0xFF never occurs in UTF-8 (RFC 3629, section 1).
+        let err = decode(b"start S\nS { \"f\xFFhre\" }\n".to_vec()).unwrap_err();
+        assert!(err.contains("not UTF-8"), "{err}");
+        assert!(err.contains("0xFF"), "{err}");
+        assert!(err.contains("line 2"), "{err}");
+    }
+
+    #[test]
+    fn valid_utf8_with_non_ascii_text_is_kept_as_is() {
+        let text = "S { \"Fähre\" }\n";
+        assert_eq!(decode(text.as_bytes().to_vec()).unwrap(), text);
+    }
+
+    #[test]
+    fn a_missing_file_is_reported_plainly() {
+        let dir = tempfile::tempdir().unwrap();
+        let err = DiskLoader
+            .load(&dir.path().join("absent.trellis"))
+            .unwrap_err();
+        assert_eq!(err, "no such file or directory");
+    }
+
+    #[test]
+    fn a_directory_is_not_a_grammar_file() {
+        let dir = tempfile::tempdir().unwrap();
+        let err = read_text(dir.path()).unwrap_err();
+        assert_eq!(err, "it is a directory");
+    }
+}
