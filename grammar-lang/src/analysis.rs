@@ -45,7 +45,7 @@ pub fn analyze(root: &Path, text: &str, loader: &dyn FileLoader, config: &Config
     let mut diagnostics: Vec<Diagnostic> = diagnostics
         .into_iter()
         .filter_map(|mut d| {
-            d.severity = config.level(d.code)?;
+            d.severity = config.severity(d.code, d.severity)?;
             Some(d)
         })
         .collect();

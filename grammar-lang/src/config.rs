@@ -63,6 +63,18 @@ impl Config {
         }
     }
 
+    /// The severity for a finding of `code` that a check emitted at
+    /// `emitted`, or `None` if the check is off. A level set in
+    /// `trellis.toml` wins; otherwise the check's own choice stands (some
+    /// checks pick the severity per finding, e.g. `unary-cycle`).
+    pub fn severity(&self, code: Code, emitted: Severity) -> Option<Severity> {
+        match self.levels.get(&code) {
+            Some(Level::Off) => None,
+            Some(Level::At(sev)) => Some(*sev),
+            None => Some(emitted),
+        }
+    }
+
     /// Reads a `trellis.toml` text. Every problem is reported, not just the first.
     pub fn from_toml(text: &str) -> Result<Config, Vec<ConfigError>> {
         let raw: RawConfig = toml::from_str(text).map_err(|e| {
@@ -144,6 +156,22 @@ mod tests {
         assert_eq!(c.level(Code::Unreachable), Some(Severity::Error));
         assert_eq!(c.level(Code::DuplicateRule), None);
         assert_eq!(c.level(Code::Arity), Some(Severity::Warning));
+    }
+
+    #[test]
+    fn an_explicit_level_overrides_the_severity_a_check_chose() {
+        let c = Config::from_toml("[checks]\nunreachable = \"note\"\narity = \"off\"\n").unwrap();
+        assert_eq!(
+            c.severity(Code::Unreachable, Severity::Warning),
+            Some(Severity::Note)
+        );
+        assert_eq!(c.severity(Code::Arity, Severity::Warning), None);
+        // Nothing configured: the emitted severity stands, even if it is not
+        // the code's default.
+        assert_eq!(
+            c.severity(Code::UnaryCycle, Severity::Error),
+            Some(Severity::Error)
+        );
     }
 
     #[test]

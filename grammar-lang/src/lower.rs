@@ -1,10 +1,33 @@
 //! Lowering: syntax trees of the root file and its `use`d files → [`Grammar`].
+//!
+//! Lowering happens in two steps:
+//!
+//! 1. **Loading.** The root file is parsed, then every `use "path"` is
+//!    followed (depth first, in source order) through the [`FileLoader`].
+//!    A file reached twice without a cycle (a diamond) is loaded once; a
+//!    `use` that leads back to a file still being loaded is a `use-cycle`;
+//!    a file that cannot be read is a `use-missing`.
+//! 2. **Building the model.** Every file, in load order, contributes its
+//!    declarations: `grammar`, `start`, blocks and tests. Names are interned
+//!    (also names that are only used, so that later checks can report them),
+//!    weights are read exactly and each block's probabilities are resolved
+//!    (see [`resolve_block`]).
+//!
+//! Findings that only lowering can see are reported here: syntax errors,
+//! `use` problems, `duplicate-declaration`, `duplicate-block`, `bad-weight`.
+//! Everything else is left to [`crate::check`].
 
-use crate::diagnostic::Diagnostic;
-use crate::model::Grammar;
-use crate::source::{FileLoader, SourceMap};
-use crate::syntax::ast::SyntaxFile;
-use std::path::Path;
+use crate::diagnostic::{Code, Diagnostic, Location};
+use crate::model::{
+    self, BlockInfo, Expectation, Grammar, GrammarTest, Ratio, Rule, Sym, TestCase, Weight,
+};
+use crate::source::{normalize, resolve_use, FileId, FileLoader, SourceMap};
+use crate::span::Span;
+use crate::syntax::ast::{self, Decl, Item, SyntaxFile, TreeChild, TreeSyntax};
+use crate::tree::Tree;
+use num_traits::{One, Signed, Zero};
+use std::collections::HashMap;
+use std::path::{Path, PathBuf};
 
 /// The result of lowering: files, their syntax, the model and the findings so far.
 pub struct Lowered {
@@ -14,14 +37,639 @@ pub struct Lowered {
     pub diagnostics: Vec<Diagnostic>,
 }
 
+/// Loads `root` (whose text is `text`) and every file it uses, and builds
+/// the semantic model of the whole grammar.
 pub fn lower(root: &Path, text: &str, loader: &dyn FileLoader) -> Lowered {
-    let _ = loader;
-    let mut sources = SourceMap::new();
-    sources.add(root.to_path_buf(), text.to_string());
-    Lowered {
-        sources,
-        syntax: vec![crate::syntax::parse(text)],
+    lower_using(root, text, loader, &crate::syntax::parse)
+}
+
+/// [`lower`] with the parser supplied by the caller.
+fn lower_using(
+    root: &Path,
+    text: &str,
+    loader: &dyn FileLoader,
+    parse: &dyn Fn(&str) -> SyntaxFile,
+) -> Lowered {
+    let mut lowerer = Lowerer {
+        parse,
+        sources: SourceMap::new(),
+        syntax: Vec::new(),
         grammar: Grammar::new(),
         diagnostics: Vec::new(),
+        grammar_name: None,
+    };
+    lowerer.load(root, text, loader);
+    for index in 0..lowerer.syntax.len() {
+        lowerer.lower_file(FileId(index as u32));
+    }
+    Lowered {
+        sources: lowerer.sources,
+        syntax: lowerer.syntax,
+        grammar: lowerer.grammar,
+        diagnostics: lowerer.diagnostics,
+    }
+}
+
+/// How one alternative's weight takes part in resolving its block.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Share {
+    /// A weight as written (may be zero or negative).
+    Weighted(Ratio),
+    /// No weight: the alternative shares what the weighted ones leave.
+    Unweighted,
+    /// The weight could not be read; the alternative gets probability 0.
+    Broken,
+}
+
+/// Resolves the probabilities of one block's alternatives, exactly.
+///
+/// * A plain block: a weighted alternative keeps its weight. The `k`
+///   unweighted alternatives each get `(1 − W)/k`, where `W` is the sum of
+///   the weights, when that remainder is positive, and 0 otherwise (the
+///   `no-mass-left` check reports that case).
+/// * A `relative` block: every weight is divided by the sum of all weights,
+///   an unweighted alternative counting as weight 1. If the sum is 0 every
+///   alternative gets 0.
+///
+/// In both kinds a negative weight (an error of its own, `negative-weight`)
+/// counts as 0 so that the other numbers stay probabilities, and a
+/// [`Share::Broken`] weight counts as 0 as well.
+pub fn resolve_block(relative: bool, shares: &[Share]) -> Vec<Ratio> {
+    let clamp = |w: &Ratio| {
+        if w.is_negative() {
+            Ratio::zero()
+        } else {
+            w.clone()
+        }
+    };
+    if relative {
+        let weights: Vec<Ratio> = shares
+            .iter()
+            .map(|s| match s {
+                Share::Weighted(w) => clamp(w),
+                Share::Unweighted => Ratio::one(),
+                Share::Broken => Ratio::zero(),
+            })
+            .collect();
+        let sum: Ratio = weights.iter().sum();
+        if sum.is_zero() {
+            return vec![Ratio::zero(); shares.len()];
+        }
+        return weights.into_iter().map(|w| w / &sum).collect();
+    }
+    let weighted: Ratio = shares
+        .iter()
+        .filter_map(|s| match s {
+            Share::Weighted(w) => Some(clamp(w)),
+            _ => None,
+        })
+        .sum();
+    let unweighted = shares
+        .iter()
+        .filter(|s| matches!(s, Share::Unweighted))
+        .count();
+    let remainder = Ratio::one() - weighted;
+    let each = if unweighted > 0 && remainder.is_positive() {
+        remainder / Ratio::from_integer(unweighted.into())
+    } else {
+        Ratio::zero()
+    };
+    shares
+        .iter()
+        .map(|s| match s {
+            Share::Weighted(w) => clamp(w),
+            Share::Unweighted => each.clone(),
+            Share::Broken => Ratio::zero(),
+        })
+        .collect()
+}
+
+struct Lowerer<'p> {
+    parse: &'p dyn Fn(&str) -> SyntaxFile,
+    sources: SourceMap,
+    syntax: Vec<SyntaxFile>,
+    grammar: Grammar,
+    diagnostics: Vec<Diagnostic>,
+    /// The first `grammar NAME` declaration.
+    grammar_name: Option<Location>,
+}
+
+/// A file whose `use` declarations are being followed.
+struct Frame {
+    file: FileId,
+    /// Resolved path, `use` declaration span and target as written.
+    uses: Vec<(PathBuf, Span, String)>,
+    next: usize,
+}
+
+impl Lowerer<'_> {
+    fn add_file(&mut self, path: PathBuf, text: String) -> FileId {
+        let syntax = (self.parse)(&text);
+        let id = self.sources.add(path, text);
+        self.syntax.push(syntax);
+        id
+    }
+
+    fn frame(&self, file: FileId) -> Frame {
+        let from = &self.sources.get(file).path;
+        let uses = self.syntax[file.0 as usize]
+            .decls
+            .iter()
+            .filter_map(|d| match d {
+                Decl::Use(u) => Some((
+                    resolve_use(from, &u.path.value),
+                    u.span,
+                    u.path.value.clone(),
+                )),
+                _ => None,
+            })
+            .collect();
+        Frame {
+            file,
+            uses,
+            next: 0,
+        }
+    }
+
+    /// Loads the root file and, depth first, every file it uses. Iterative,
+    /// so long `use` chains cannot exhaust the call stack.
+    fn load(&mut self, root: &Path, text: &str, loader: &dyn FileLoader) {
+        let root_id = self.add_file(root.to_path_buf(), text.to_string());
+        // Files by normalised path, and whether each is still being loaded.
+        let mut by_path: HashMap<PathBuf, FileId> = HashMap::new();
+        by_path.insert(normalize(root), root_id);
+        let mut in_progress = vec![true];
+        let mut stack = vec![self.frame(root_id)];
+        while let Some(top) = stack.last_mut() {
+            let Some((path, span, target)) = top.uses.get(top.next).cloned() else {
+                in_progress[top.file.0 as usize] = false;
+                stack.pop();
+                continue;
+            };
+            top.next += 1;
+            let from = top.file;
+            let at = Location::new(from, span);
+            if let Some(&seen) = by_path.get(&path) {
+                if in_progress[seen.0 as usize] {
+                    let first = stack.iter().position(|f| f.file == seen).unwrap_or(0);
+                    let mut cycle: Vec<String> = stack[first..]
+                        .iter()
+                        .map(|f| self.sources.get(f.file).path.display().to_string())
+                        .collect();
+                    cycle.push(self.sources.get(seen).path.display().to_string());
+                    self.diagnostics.push(
+                        Diagnostic::new(
+                            Code::UseCycle,
+                            at,
+                            format!("`use` cycle: {}", cycle.join(" → ")),
+                        )
+                        .with_label("leads back to a file that is being used")
+                        .with_help(
+                            "files may not use each other in a circle; move the shared blocks \
+                             into a file that both use",
+                        ),
+                    );
+                }
+                // Otherwise the file is already loaded (a diamond): nothing to do.
+                continue;
+            }
+            match loader.load(&path) {
+                Ok(text) => {
+                    let id = self.add_file(path.clone(), text);
+                    by_path.insert(path, id);
+                    in_progress.push(true);
+                    let frame = self.frame(id);
+                    stack.push(frame);
+                }
+                Err(reason) => {
+                    let using = self.sources.get(from).path.display().to_string();
+                    self.diagnostics.push(
+                        Diagnostic::new(
+                            Code::UseMissing,
+                            at,
+                            format!(
+                                "cannot read `{}` (used as \"{target}\"): {reason}",
+                                path.display()
+                            ),
+                        )
+                        .with_label("file not found or unreadable")
+                        .with_help(format!(
+                            "the path is relative to the directory of `{using}`; fix the path or \
+                             create the file"
+                        )),
+                    );
+                }
+            }
+        }
+    }
+
+    fn text(&self, file: FileId, span: Span) -> &str {
+        span.text(&self.sources.get(file).text)
+    }
+
+    fn lower_file(&mut self, file: FileId) {
+        let syntax = std::mem::take(&mut self.syntax[file.0 as usize]);
+        for error in &syntax.errors {
+            let code = if error.empty_rule {
+                Code::EmptyRule
+            } else {
+                Code::Syntax
+            };
+            let mut d = Diagnostic::new(code, Location::new(file, error.span), &error.message);
+            if let Some(help) = &error.help {
+                d = d.with_help(help);
+            }
+            self.diagnostics.push(d);
+        }
+        for decl in &syntax.decls {
+            match decl {
+                Decl::Grammar(d) => self.grammar_decl(file, d),
+                Decl::Start(d) => self.start_decl(file, d),
+                Decl::Use(_) => {}
+                Decl::Block(b) => self.block(file, b),
+                Decl::Test(t) => self.test(file, t),
+            }
+        }
+        self.syntax[file.0 as usize] = syntax;
+    }
+
+    fn grammar_decl(&mut self, file: FileId, decl: &ast::NameDecl) {
+        let at = Location::new(file, decl.name.span);
+        let name = self.text(file, decl.name.span).to_string();
+        match self.grammar_name {
+            None => {
+                self.grammar_name = Some(at);
+                self.grammar.name = Some(name);
+            }
+            Some(first) => {
+                let first_name = self.grammar.name.clone().unwrap_or_default();
+                self.diagnostics.push(
+                    Diagnostic::new(
+                        Code::DuplicateDeclaration,
+                        at,
+                        format!("the grammar is named twice: `{first_name}` and then `{name}`"),
+                    )
+                    .with_label("second `grammar` declaration")
+                    .with_related(first, "first named here")
+                    .with_help("keep one `grammar` declaration for the whole grammar"),
+                );
+            }
+        }
+    }
+
+    fn start_decl(&mut self, file: FileId, decl: &ast::NameDecl) {
+        let at = Location::new(file, decl.name.span);
+        let name = self.text(file, decl.name.span).to_string();
+        let nt = self.grammar.intern_nt(&name);
+        self.grammar.nonterminals[nt.index()].references.push(at);
+        match self.grammar.start_location {
+            None => {
+                self.grammar.start = Some(nt);
+                self.grammar.start_location = Some(at);
+            }
+            Some(first) => {
+                let first_name = self
+                    .grammar
+                    .start
+                    .map(|s| self.grammar.nt_name(s).to_string())
+                    .unwrap_or_default();
+                self.diagnostics.push(
+                    Diagnostic::new(
+                        Code::DuplicateDeclaration,
+                        at,
+                        format!(
+                            "a second `start` declaration (`{name}`); the start symbol is already `{first_name}`"
+                        ),
+                    )
+                    .with_label("second `start` declaration")
+                    .with_related(first, "start symbol first declared here")
+                    .with_help(
+                        "a grammar has exactly one start symbol across all its files; remove one \
+                         of the declarations",
+                    ),
+                );
+            }
+        }
+    }
+
+    /// The right-hand side of an alternative, recording every reference.
+    fn rhs(&mut self, file: FileId, alt: &ast::Alternative) -> (Vec<Sym>, Vec<Location>) {
+        let mut rhs = Vec::with_capacity(alt.items.len());
+        let mut locations = Vec::with_capacity(alt.items.len());
+        for item in &alt.items {
+            let at = Location::new(file, item.span());
+            let sym = match item {
+                Item::NonTerminal(name) => {
+                    let text = name.span.text(&self.sources.get(file).text);
+                    let nt = self.grammar.intern_nt(text);
+                    self.grammar.nonterminals[nt.index()].references.push(at);
+                    Sym::N(nt)
+                }
+                Item::Terminal(s) => Sym::T(self.grammar.intern_term(&s.value)),
+            };
+            rhs.push(sym);
+            locations.push(at);
+        }
+        (rhs, locations)
+    }
+
+    fn block(&mut self, file: FileId, block: &ast::Block) {
+        let name_at = Location::new(file, block.name.span);
+        let name = self.text(file, block.name.span).to_string();
+        let nt = self.grammar.intern_nt(&name);
+        if let Some(first) = &self.grammar.nonterminals[nt.index()].block {
+            let first = first.name;
+            self.diagnostics.push(
+                Diagnostic::new(
+                    Code::DuplicateBlock,
+                    name_at,
+                    format!("`{name}` has a second block"),
+                )
+                .with_label("second block")
+                .with_related(first, "first block")
+                .with_help(format!(
+                    "all rules of `{name}` belong in one block: move these alternatives into the \
+                     first block and delete this one (only the first block is used)"
+                )),
+            );
+            // Its rules are not added, but its references are still recorded
+            // so that names used only here are known.
+            for alt in &block.alternatives {
+                self.rhs(file, alt);
+            }
+            return;
+        }
+        let relative = block.relative.is_some();
+        self.grammar.nonterminals[nt.index()].block = Some(BlockInfo {
+            name: name_at,
+            location: Location::new(file, block.span),
+            relative,
+            doc: block.doc.as_ref().map(|d| d.text()),
+            mass: Ratio::zero(),
+        });
+        let mut rules = Vec::with_capacity(block.alternatives.len());
+        let mut shares = Vec::with_capacity(block.alternatives.len());
+        for alt in &block.alternatives {
+            if alt.items.is_empty() {
+                // The parser reported the empty alternative (`empty-rule`).
+                self.grammar.mark_damaged(nt);
+                continue;
+            }
+            let (weight, share) = match alt.weight {
+                None => (None, Share::Unweighted),
+                Some(span) => {
+                    let text = self.text(file, span).to_string();
+                    let at = Location::new(file, span);
+                    match crate::weight::parse_weight(&text) {
+                        Ok((value, notation)) => (
+                            Some(Weight {
+                                text,
+                                value: value.clone(),
+                                notation,
+                                location: at,
+                            }),
+                            Share::Weighted(value),
+                        ),
+                        Err(reason) => {
+                            self.diagnostics.push(
+                                Diagnostic::new(
+                                    Code::BadWeight,
+                                    at,
+                                    format!("bad weight: {reason}"),
+                                )
+                                .with_label("not a usable weight")
+                                .with_help(
+                                    "write a weight as a decimal `0.25`, a fraction `1/4` or a \
+                                         percentage `25%`",
+                                ),
+                            );
+                            self.grammar.mark_damaged(nt);
+                            (None, Share::Broken)
+                        }
+                    }
+                }
+            };
+            let (rhs, rhs_locations) = self.rhs(file, alt);
+            rules.push(Rule {
+                lhs: nt,
+                rhs,
+                rhs_locations,
+                weight,
+                probability: Ratio::zero(),
+                p: 0.0,
+                location: Location::new(file, alt.span),
+                doc: alt.doc.as_ref().map(|d| d.text()),
+            });
+            shares.push(share);
+        }
+        let probabilities = resolve_block(relative, &shares);
+        let mut mass = Ratio::zero();
+        for (mut rule, probability) in rules.into_iter().zip(probabilities) {
+            mass += &probability;
+            rule.p = model::to_f64(&probability);
+            rule.probability = probability;
+            self.grammar.push_rule(rule);
+        }
+        if let Some(info) = &mut self.grammar.nonterminals[nt.index()].block {
+            info.mass = mass;
+        }
+    }
+
+    fn test(&mut self, file: FileId, test: &ast::TestBlock) {
+        let cases = test
+            .cases
+            .iter()
+            .map(|case| TestCase {
+                expect: match case.expect {
+                    ast::Expectation::Accept => Expectation::Accept,
+                    ast::Expectation::Reject => Expectation::Reject,
+                },
+                sentence: case.sentence.value.clone(),
+                tree: case.tree.as_ref().map(|t| self.tree(file, t)),
+                location: Location::new(file, case.span),
+            })
+            .collect();
+        self.grammar.tests.push(GrammarTest {
+            name: test.name.value.clone(),
+            location: Location::new(file, test.span),
+            doc: test.doc.as_ref().map(|d| d.text()),
+            cases,
+        });
+    }
+
+    fn tree(&self, file: FileId, tree: &TreeSyntax) -> Tree {
+        Tree::node(
+            self.text(file, tree.label.span),
+            tree.children
+                .iter()
+                .map(|c| match c {
+                    TreeChild::Node(n) => self.tree(file, n),
+                    TreeChild::Leaf(s) => Tree::leaf(s.value.clone()),
+                })
+                .collect(),
+        )
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::source::MemoryLoader;
+    use crate::syntax::ast::{Alternative, Block, Name, NameDecl, Str};
+    use num_bigint::BigInt;
+
+    fn r(n: i64, d: i64) -> Ratio {
+        Ratio::new(BigInt::from(n), BigInt::from(d))
+    }
+
+    fn w(n: i64, d: i64) -> Share {
+        Share::Weighted(r(n, d))
+    }
+
+    #[test]
+    fn unweighted_alternatives_share_the_whole_block_equally() {
+        // Design doc, `Kind { "return" | "single" | "day" }`: 1/3 each.
+        let shares = vec![Share::Unweighted, Share::Unweighted, Share::Unweighted];
+        assert_eq!(resolve_block(false, &shares), vec![r(1, 3); 3]);
+    }
+
+    #[test]
+    fn unweighted_alternatives_share_what_the_weighted_ones_leave() {
+        // 0.30 + 0.20 + 0.20 + 0.15 + 0.10 leaves 0.05 for the one unweighted.
+        let shares = vec![
+            w(3, 10),
+            w(1, 5),
+            w(1, 5),
+            w(3, 20),
+            w(1, 10),
+            Share::Unweighted,
+        ];
+        let p = resolve_block(false, &shares);
+        assert_eq!(p[5], r(1, 20));
+        assert_eq!(p.iter().sum::<Ratio>(), r(1, 1));
+        // Two unweighted split the rest in halves.
+        let p = resolve_block(false, &[w(9, 10), Share::Unweighted, Share::Unweighted]);
+        assert_eq!(p, vec![r(9, 10), r(1, 20), r(1, 20)]);
+    }
+
+    #[test]
+    fn nothing_left_means_unweighted_alternatives_get_zero() {
+        let p = resolve_block(false, &[w(7, 10), w(3, 10), Share::Unweighted]);
+        assert_eq!(p, vec![r(7, 10), r(3, 10), r(0, 1)]);
+        let p = resolve_block(false, &[w(6, 5), Share::Unweighted]);
+        assert_eq!(p, vec![r(6, 5), r(0, 1)]);
+    }
+
+    #[test]
+    fn relative_blocks_divide_by_the_sum() {
+        // Design doc, `Count relative { 6 "one" 3 "two" 1 "three" }`.
+        let p = resolve_block(true, &[w(6, 1), w(3, 1), w(1, 1)]);
+        assert_eq!(p, vec![r(6, 10), r(3, 10), r(1, 10)]);
+        // An unweighted alternative counts as weight 1.
+        let p = resolve_block(true, &[w(3, 1), Share::Unweighted]);
+        assert_eq!(p, vec![r(3, 4), r(1, 4)]);
+        // A sum of 0 gives 0 everywhere instead of dividing by zero.
+        let p = resolve_block(true, &[w(0, 1), w(0, 1)]);
+        assert_eq!(p, vec![r(0, 1), r(0, 1)]);
+    }
+
+    #[test]
+    fn negative_and_unreadable_weights_count_as_zero() {
+        let p = resolve_block(false, &[w(5, 4), w(-1, 4)]);
+        assert_eq!(p, vec![r(5, 4), r(0, 1)]);
+        let p = resolve_block(false, &[Share::Broken, Share::Unweighted]);
+        assert_eq!(p, vec![r(0, 1), r(1, 1)]);
+        let p = resolve_block(true, &[w(-2, 1), w(1, 1), Share::Broken]);
+        assert_eq!(p, vec![r(0, 1), r(1, 1), r(0, 1)]);
+    }
+
+    // A hand-written syntax tree, so lowering is tested on its own.
+
+    fn at(text: &str, needle: &str) -> Span {
+        let start = text.find(needle).expect("needle in test text");
+        Span::new(start, start + needle.len())
+    }
+
+    fn name(text: &str, needle: &str) -> Name {
+        Name {
+            span: at(text, needle),
+        }
+    }
+
+    fn terminal(text: &str, quoted: &str) -> Item {
+        Item::Terminal(Str {
+            span: at(text, quoted),
+            value: crate::syntax::lexer::unquote(quoted),
+        })
+    }
+
+    const KIOSK: &str = "start Kind\nKind {\n  \"return\" | 1/4 \"single\" | Day\n}\n";
+
+    fn kiosk_syntax(text: &str) -> SyntaxFile {
+        let alt = |weight: Option<&str>, items: Vec<Item>, whole: &str| Alternative {
+            weight: weight.map(|w| at(text, w)),
+            items,
+            doc: None,
+            span: at(text, whole),
+        };
+        SyntaxFile {
+            tokens: Vec::new(),
+            decls: vec![
+                Decl::Start(NameDecl {
+                    keyword: at(text, "start"),
+                    name: name(text, "Kind"),
+                    span: at(text, "start Kind"),
+                }),
+                Decl::Block(Block {
+                    name: Name {
+                        span: Span::new(11, 15),
+                    },
+                    relative: None,
+                    open: at(text, "{"),
+                    close: Some(at(text, "}")),
+                    alternatives: vec![
+                        alt(None, vec![terminal(text, "\"return\"")], "\"return\""),
+                        alt(
+                            Some("1/4"),
+                            vec![terminal(text, "\"single\"")],
+                            "1/4 \"single\"",
+                        ),
+                        alt(None, vec![Item::NonTerminal(name(text, "Day"))], "Day"),
+                    ],
+                    doc: None,
+                    span: Span::new(11, text.len() - 1),
+                }),
+            ],
+            errors: Vec::new(),
+        }
+    }
+
+    #[test]
+    fn a_block_becomes_rules_with_resolved_probabilities_and_references() {
+        let lowered = lower_using(
+            Path::new("kiosk.trellis"),
+            KIOSK,
+            &MemoryLoader::new(),
+            &kiosk_syntax,
+        );
+        let g = &lowered.grammar;
+        assert!(lowered.diagnostics.is_empty(), "{:?}", lowered.diagnostics);
+        let kind = g.nt("Kind").unwrap();
+        assert_eq!(g.start, Some(kind));
+        assert_eq!(g.start_location.unwrap().span, at(KIOSK, "Kind"));
+        assert_eq!(g.rules.len(), 3);
+        let probs: Vec<Ratio> = g.rules.iter().map(|r| r.probability.clone()).collect();
+        assert_eq!(probs, vec![r(3, 8), r(1, 4), r(3, 8)]);
+        assert_eq!(g.rules[1].p, 0.25);
+        assert_eq!(g.rules[1].weight.as_ref().unwrap().text, "1/4");
+        let block = g.nonterminal(kind).block.as_ref().unwrap();
+        assert_eq!(block.mass, r(1, 1));
+        assert_eq!(block.name.span, Span::new(11, 15));
+        // `Day` is used but not defined: interned, with its reference.
+        let day = g.nt("Day").unwrap();
+        assert!(!g.nonterminal(day).is_defined());
+        assert_eq!(g.nonterminal(day).references[0].span, at(KIOSK, "Day"));
+        assert_eq!(g.rules[2].rhs, vec![Sym::N(day)]);
+        assert_eq!(g.rule_text(crate::model::RuleId(2)), "Kind → Day");
     }
 }

@@ -164,6 +164,9 @@ pub struct Grammar {
     pub tests: Vec<GrammarTest>,
     nt_index: HashMap<String, NtId>,
     term_index: HashMap<String, TermId>,
+    /// Blocks whose probabilities could not be resolved faithfully (a weight
+    /// that could not be read, an empty alternative); see [`Grammar::is_damaged`].
+    damaged: std::collections::HashSet<NtId>,
 }
 
 impl Grammar {
@@ -195,6 +198,18 @@ impl Grammar {
         self.terminals.push(word.to_string());
         self.term_index.insert(word.to_string(), id);
         id
+    }
+
+    /// Marks `nt`'s block as damaged: one of its alternatives was dropped or
+    /// has an unreadable weight, and an error saying so was already reported.
+    pub fn mark_damaged(&mut self, nt: NtId) {
+        self.damaged.insert(nt);
+    }
+
+    /// Whether `nt`'s block is damaged (see [`Grammar::mark_damaged`]). Its
+    /// resolved probabilities are not meaningful, so its sums are not checked.
+    pub fn is_damaged(&self, nt: NtId) -> bool {
+        self.damaged.contains(&nt)
     }
 
     pub fn nt(&self, name: &str) -> Option<NtId> {

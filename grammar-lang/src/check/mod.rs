@@ -1,4 +1,23 @@
 //! The static analyses over the semantic model.
+//!
+//! Each analysis lives in its own module and reports under stable
+//! [`Code`](crate::diagnostic::Code)s:
+//!
+//! * [`weights`] — `sum-not-one`, `no-mass-left`, `zero-weight`, `negative-weight`
+//! * [`names`] — `undefined`, `no-start`, `unknown-start`, `duplicate-rule`
+//! * [`graph`] — `unreachable`, `unproductive`, `unary-cycle`
+//! * [`arity`] — `arity`
+//!
+//! Every analysis is linear (or near-linear) in the size of the grammar:
+//! ids index vectors, and nothing compares all pairs of rules or symbols.
+//! Diagnostics carry the check's own severity; [`crate::analysis`] then
+//! applies the levels configured in `trellis.toml`.
+
+pub mod arity;
+pub mod graph;
+pub mod names;
+pub mod suggest;
+pub mod weights;
 
 use crate::config::Config;
 use crate::diagnostic::Diagnostic;
@@ -12,5 +31,8 @@ pub fn run_checks(
     config: &Config,
     out: &mut Vec<Diagnostic>,
 ) {
-    let _ = (grammar, sources, config, out);
+    weights::check(grammar, out);
+    names::check(grammar, sources, out);
+    graph::check(grammar, out);
+    arity::check(grammar, config, out);
 }

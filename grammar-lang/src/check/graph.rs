@@ -1,0 +1,459 @@
+//! Graph checks over the rules: `unreachable`, `unproductive`, `unary-cycle`.
+//!
+//! All three run in time linear in the size of the grammar: reachability is
+//! a breadth-first search, productivity the classic worklist computation of
+//! the least fixed point (each rule keeps a count of right-hand-side
+//! non-terminals not yet known to be productive), and unary cycles come from
+//! the strongly connected components of the unary-rule graph (Tarjan's
+//! algorithm, written with an explicit stack so that long chains of
+//! symbols cannot overflow the call stack).
+
+use crate::diagnostic::{Code, Diagnostic, Severity};
+use crate::model::{fraction, Decimal, Grammar, NtId, Ratio, RuleId, Sym};
+use num_traits::One;
+use std::collections::VecDeque;
+
+pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
+    unreachable(grammar, out);
+    unproductive(grammar, out);
+    unary_cycles(grammar, out);
+}
+
+/// The non-terminals reachable from `start` (including it).
+pub fn reachable_from(grammar: &Grammar, start: NtId) -> Vec<bool> {
+    let mut seen = vec![false; grammar.nonterminals.len()];
+    seen[start.index()] = true;
+    let mut queue = VecDeque::from([start]);
+    while let Some(nt) = queue.pop_front() {
+        for (_, rule) in grammar.rules_of(nt) {
+            for &sym in &rule.rhs {
+                if let Sym::N(next) = sym {
+                    if !seen[next.index()] {
+                        seen[next.index()] = true;
+                        queue.push_back(next);
+                    }
+                }
+            }
+        }
+    }
+    seen
+}
+
+fn unreachable(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
+    let Some(start) = grammar.start else { return };
+    if !grammar.nonterminal(start).is_defined() {
+        return;
+    }
+    let start_name = grammar.nt_name(start);
+    let seen = reachable_from(grammar, start);
+    for nt in grammar.nt_ids() {
+        let Some(block) = &grammar.nonterminal(nt).block else {
+            continue;
+        };
+        if seen[nt.index()] {
+            continue;
+        }
+        let name = grammar.nt_name(nt);
+        let mut d = Diagnostic::new(
+            Code::Unreachable,
+            block.name,
+            format!("`{name}` cannot be reached from the start symbol `{start_name}`"),
+        )
+        .with_label("never used in a derivation")
+        .with_help(format!(
+            "use `{name}` in a rule that is reachable from `{start_name}`, or delete the block"
+        ));
+        if let Some(at) = grammar.start_location {
+            d = d.with_related(at, "start symbol declared here");
+        }
+        out.push(d);
+    }
+}
+
+/// Which non-terminals derive at least one string of terminals.
+pub fn productive(grammar: &Grammar) -> Vec<bool> {
+    let n = grammar.nonterminals.len();
+    // For each rule: how many right-hand-side non-terminals are not yet
+    // known to be productive. For each non-terminal: the rules it occurs in
+    // (once per occurrence), as a compressed adjacency list.
+    let mut pending = vec![0u32; grammar.rules.len()];
+    let mut offsets = vec![0usize; n + 1];
+    for (i, rule) in grammar.rules.iter().enumerate() {
+        for &sym in &rule.rhs {
+            if let Sym::N(nt) = sym {
+                pending[i] += 1;
+                offsets[nt.index() + 1] += 1;
+            }
+        }
+    }
+    for i in 0..n {
+        offsets[i + 1] += offsets[i];
+    }
+    let mut fill = offsets.clone();
+    let mut occurrences = vec![0u32; offsets[n]];
+    for (i, rule) in grammar.rules.iter().enumerate() {
+        for &sym in &rule.rhs {
+            if let Sym::N(nt) = sym {
+                occurrences[fill[nt.index()]] = i as u32;
+                fill[nt.index()] += 1;
+            }
+        }
+    }
+    let mut productive = vec![false; n];
+    let mut queue = Vec::new();
+    for (i, rule) in grammar.rules.iter().enumerate() {
+        if pending[i] == 0 && !productive[rule.lhs.index()] {
+            productive[rule.lhs.index()] = true;
+            queue.push(rule.lhs);
+        }
+    }
+    while let Some(nt) = queue.pop() {
+        for &r in &occurrences[offsets[nt.index()]..offsets[nt.index() + 1]] {
+            let r = r as usize;
+            pending[r] -= 1;
+            let lhs = grammar.rules[r].lhs;
+            if pending[r] == 0 && !productive[lhs.index()] {
+                productive[lhs.index()] = true;
+                queue.push(lhs);
+            }
+        }
+    }
+    productive
+}
+
+/// How many failing rules the message spells out (all are related locations).
+const LISTED_RULES: usize = 4;
+
+fn unproductive(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
+    let productive = productive(grammar);
+    for nt in grammar.nt_ids() {
+        let Some(block) = &grammar.nonterminal(nt).block else {
+            continue;
+        };
+        if productive[nt.index()] {
+            continue;
+        }
+        let name = grammar.nt_name(nt);
+        let mut failing = Vec::new();
+        for (id, rule) in grammar.rules_of(nt) {
+            let mut needs: Vec<NtId> = Vec::new();
+            for &sym in &rule.rhs {
+                if let Sym::N(dep) = sym {
+                    if !productive[dep.index()] && !needs.contains(&dep) {
+                        needs.push(dep);
+                    }
+                }
+            }
+            let needs: Vec<String> = needs
+                .into_iter()
+                .map(|dep| {
+                    if grammar.nonterminal(dep).is_defined() {
+                        format!("`{}`", grammar.nt_name(dep))
+                    } else {
+                        format!("`{}` (undefined)", grammar.nt_name(dep))
+                    }
+                })
+                .collect();
+            failing.push((id, rule.location, needs.join(", ")));
+        }
+        let message = if failing.is_empty() {
+            format!("`{name}` derives no string of words: its block has no rules")
+        } else {
+            let mut listed: Vec<String> = failing
+                .iter()
+                .take(LISTED_RULES)
+                .map(|(id, _, needs)| format!("`{}` needs {needs}", grammar.rule_text(*id)))
+                .collect();
+            if failing.len() > LISTED_RULES {
+                listed.push(format!("and {} more rules", failing.len() - LISTED_RULES));
+            }
+            format!(
+                "`{name}` derives no string of words: every rule needs a symbol that never \
+                 finishes ({})",
+                listed.join("; ")
+            )
+        };
+        let mut d = Diagnostic::new(Code::Unproductive, block.name, message)
+            .with_label("never finishes")
+            .with_help(format!(
+                "give `{name}` an alternative that reaches words without going through \
+                 these symbols again, e.g. one made of terminals only"
+            ));
+        for (_, at, needs) in failing {
+            d = d.with_related(at, format!("needs {needs}"));
+        }
+        out.push(d);
+    }
+}
+
+/// A directed graph in compressed form: the edges leaving node `v` are
+/// `edges[offsets[v]..offsets[v + 1]]`, each a (target, rule) pair.
+struct Graph {
+    offsets: Vec<usize>,
+    edges: Vec<(u32, RuleId)>,
+}
+
+impl Graph {
+    fn out(&self, v: usize) -> std::ops::Range<usize> {
+        self.offsets[v]..self.offsets[v + 1]
+    }
+}
+
+/// The graph of unary rules `A → B`, restricted to the edges `keep` accepts.
+fn unary_graph(grammar: &Grammar, keep: impl Fn(RuleId) -> bool) -> Graph {
+    let n = grammar.nonterminals.len();
+    let mut offsets = vec![0usize; n + 1];
+    let mut edges = Vec::new();
+    for nt in grammar.nt_ids() {
+        for (id, rule) in grammar.rules_of(nt) {
+            if let [Sym::N(target)] = rule.rhs.as_slice() {
+                if keep(id) {
+                    edges.push((target.0, id));
+                }
+            }
+        }
+        offsets[nt.index() + 1] = edges.len();
+    }
+    Graph { offsets, edges }
+}
+
+const NONE: u32 = u32::MAX;
+
+/// Strongly connected components (Tarjan's algorithm, iterative). Returns
+/// the component number of each node.
+fn components(graph: &Graph) -> Vec<u32> {
+    let n = graph.offsets.len() - 1;
+    let mut index = vec![NONE; n];
+    let mut low = vec![0u32; n];
+    let mut on_stack = vec![false; n];
+    let mut component = vec![NONE; n];
+    let mut stack: Vec<u32> = Vec::new();
+    let mut calls: Vec<(u32, usize)> = Vec::new();
+    let mut counter = 0u32;
+    let mut components = 0u32;
+    for root in 0..n {
+        if index[root] != NONE {
+            continue;
+        }
+        index[root] = counter;
+        low[root] = counter;
+        counter += 1;
+        stack.push(root as u32);
+        on_stack[root] = true;
+        calls.push((root as u32, graph.offsets[root]));
+        while let Some(&mut (v, ref mut next)) = calls.last_mut() {
+            let v = v as usize;
+            if *next < graph.offsets[v + 1] {
+                let w = graph.edges[*next].0 as usize;
+                *next += 1;
+                if index[w] == NONE {
+                    index[w] = counter;
+                    low[w] = counter;
+                    counter += 1;
+                    stack.push(w as u32);
+                    on_stack[w] = true;
+                    calls.push((w as u32, graph.offsets[w]));
+                } else if on_stack[w] {
+                    low[v] = low[v].min(index[w]);
+                }
+                continue;
+            }
+            calls.pop();
+            if let Some(&(u, _)) = calls.last() {
+                low[u as usize] = low[u as usize].min(low[v]);
+            }
+            if low[v] == index[v] {
+                while let Some(w) = stack.pop() {
+                    on_stack[w as usize] = false;
+                    component[w as usize] = components;
+                    if w as usize == v {
+                        break;
+                    }
+                }
+                components += 1;
+            }
+        }
+    }
+    component
+}
+
+/// The members of each component that contains a cycle (more than one
+/// node, or one node with an edge to itself), in order of first member.
+fn cyclic_components(graph: &Graph, component: &[u32]) -> Vec<Vec<u32>> {
+    let count = component.iter().map(|&c| c as usize + 1).max().unwrap_or(0);
+    let mut members: Vec<Vec<u32>> = vec![Vec::new(); count];
+    for (v, &c) in component.iter().enumerate() {
+        members[c as usize].push(v as u32);
+    }
+    members
+        .into_iter()
+        .filter(|m| match m.as_slice() {
+            [] => false,
+            [v] => graph.edges[graph.out(*v as usize)]
+                .iter()
+                .any(|&(w, _)| w == *v),
+            _ => true,
+        })
+        .collect()
+}
+
+/// A shortest cycle through `from` inside its component (breadth-first
+/// search), as the rules taken in order. `parent` must be all `None` and is
+/// left that way.
+fn cycle_through(
+    graph: &Graph,
+    component: &[u32],
+    from: u32,
+    parent: &mut [Option<(u32, RuleId)>],
+) -> Vec<RuleId> {
+    let c = component[from as usize];
+    let mut touched = Vec::new();
+    let mut queue = VecDeque::from([from]);
+    let mut found = None;
+    'search: while let Some(u) = queue.pop_front() {
+        for &(w, rule) in &graph.edges[graph.out(u as usize)] {
+            if component[w as usize] != c {
+                continue;
+            }
+            if w == from {
+                found = Some((u, rule));
+                break 'search;
+            }
+            if parent[w as usize].is_none() {
+                parent[w as usize] = Some((u, rule));
+                touched.push(w);
+                queue.push_back(w);
+            }
+        }
+    }
+    let mut cycle = Vec::new();
+    if let Some((mut u, last)) = found {
+        cycle.push(last);
+        while u != from {
+            match parent[u as usize] {
+                Some((prev, rule)) => {
+                    cycle.push(rule);
+                    u = prev;
+                }
+                None => break,
+            }
+        }
+        cycle.reverse();
+    }
+    for w in touched {
+        parent[w as usize] = None;
+    }
+    cycle
+}
+
+/// The member whose first rule comes first in the source, so reports start
+/// where a reader would.
+fn first_in_source(grammar: &Grammar, members: &[u32]) -> u32 {
+    members
+        .iter()
+        .copied()
+        .min_by_key(|&v| {
+            grammar.nonterminals[v as usize]
+                .rules
+                .first()
+                .map_or(u32::MAX, |r| r.0)
+        })
+        .unwrap_or(0)
+}
+
+fn unary_cycles(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
+    let all = unary_graph(grammar, |_| true);
+    let all_components = components(&all);
+    let cyclic = cyclic_components(&all, &all_components);
+    if cyclic.is_empty() {
+        return;
+    }
+    // Cycles whose every rule has probability exactly 1: a derivation that
+    // enters one never leaves. They lie inside the components above.
+    let certain = unary_graph(grammar, |id| grammar.rule(id).probability.is_one());
+    let certain_components = components(&certain);
+    let mut certain_in: Vec<Option<u32>> = vec![None; grammar.nonterminals.len()];
+    for members in cyclic_components(&certain, &certain_components) {
+        let rep = first_in_source(grammar, &members);
+        let outer = all_components[rep as usize] as usize;
+        if certain_in[outer].is_none() {
+            certain_in[outer] = Some(rep);
+        }
+    }
+    let mut parent = vec![None; grammar.nonterminals.len()];
+    for members in cyclic {
+        let outer = all_components[members[0] as usize] as usize;
+        let (cycle, is_certain) = match certain_in[outer] {
+            Some(rep) => (
+                cycle_through(&certain, &certain_components, rep, &mut parent),
+                true,
+            ),
+            None => {
+                let rep = first_in_source(grammar, &members);
+                (
+                    cycle_through(&all, &all_components, rep, &mut parent),
+                    false,
+                )
+            }
+        };
+        if let Some(d) = cycle_diagnostic(grammar, &cycle, is_certain, members.len()) {
+            out.push(d);
+        }
+    }
+}
+
+fn cycle_diagnostic(
+    grammar: &Grammar,
+    cycle: &[RuleId],
+    certain: bool,
+    component_size: usize,
+) -> Option<Diagnostic> {
+    let (&first, rest) = cycle.split_first()?;
+    let mut path = vec![grammar.nt_name(grammar.rule(first).lhs)];
+    let mut product = Ratio::one();
+    for &id in cycle {
+        let rule = grammar.rule(id);
+        product *= &rule.probability;
+        if let [Sym::N(target)] = rule.rhs.as_slice() {
+            path.push(grammar.nt_name(*target));
+        }
+    }
+    let path = path.join(" → ");
+    let mut message = format!("unary rules form a cycle: {path}");
+    let others = component_size.saturating_sub(cycle.len());
+    if others > 0 {
+        message.push_str(&format!(
+            " ({others} more symbols are caught in cycles with these)"
+        ));
+    }
+    let mut d = if certain {
+        message.push_str(
+            "; every rule on it has probability 1, so a derivation that enters it never ends",
+        );
+        let mut d = Diagnostic::new(Code::UnaryCycle, grammar.rule(first).location, message);
+        d.severity = Severity::Error;
+        d.with_label("loops forever")
+    } else {
+        message.push_str(&format!(
+            "; going round it once has probability {}",
+            if product.denom().is_one() {
+                fraction(&product)
+            } else {
+                format!("{} ({})", fraction(&product), Decimal(&product))
+            }
+        ));
+        Diagnostic::new(Code::UnaryCycle, grammar.rule(first).location, message)
+            .with_label("starts a cycle of unary rules")
+    };
+    for &id in rest {
+        d = d.with_related(
+            grammar.rule(id).location,
+            format!("then `{}`", grammar.rule_text(id)),
+        );
+    }
+    Some(d.with_help(
+        "a cycle of single-symbol rules gives a sentence infinitely many parse trees and makes \
+         the parser close chains of unary rules; break it by removing one of these rules or by \
+         giving it a word of its own",
+    ))
+}

@@ -1,0 +1,151 @@
+//! Name checks: `undefined`, `no-start`, `unknown-start` and `duplicate-rule`.
+
+use super::suggest::Suggester;
+use crate::diagnostic::{Code, Diagnostic, Location};
+use crate::model::{Grammar, RuleId, Sym};
+use crate::source::{FileId, SourceMap};
+use crate::span::Span;
+use std::collections::HashMap;
+
+pub fn check(grammar: &Grammar, sources: &SourceMap, out: &mut Vec<Diagnostic>) {
+    let suggester = Suggester::new(defined_in_source_order(grammar).map(|nt| grammar.nt_name(nt)));
+    undefined(grammar, &suggester, out);
+    start(grammar, sources, &suggester, out);
+    duplicate_rules(grammar, out);
+}
+
+/// Defined non-terminals ordered by where their block is written.
+fn defined_in_source_order(grammar: &Grammar) -> impl Iterator<Item = crate::model::NtId> {
+    let mut defined: Vec<_> = grammar
+        .nt_ids()
+        .filter_map(|nt| {
+            let block = grammar.nonterminal(nt).block.as_ref()?;
+            Some((block.name.file, block.name.span.start, nt))
+        })
+        .collect();
+    defined.sort_unstable();
+    defined.into_iter().map(|(_, _, nt)| nt)
+}
+
+fn did_you_mean(suggestion: Option<&str>) -> String {
+    suggestion.map_or(String::new(), |s| format!("; did you mean `{s}`?"))
+}
+
+fn undefined(grammar: &Grammar, suggester: &Suggester, out: &mut Vec<Diagnostic>) {
+    for nt in grammar.nt_ids() {
+        let symbol = grammar.nonterminal(nt);
+        if symbol.is_defined() {
+            continue;
+        }
+        let uses: Vec<Location> = symbol
+            .references
+            .iter()
+            .copied()
+            // The `start` declaration has its own check, `unknown-start`.
+            .filter(|&at| Some(at) != grammar.start_location || grammar.start != Some(nt))
+            .collect();
+        if uses.is_empty() {
+            continue;
+        }
+        let suggestion = suggester.closest(&symbol.name);
+        let help = match suggestion {
+            Some(s) => format!(
+                "fix the name (perhaps `{s}`), or define it with a block `{} {{ … }}`",
+                symbol.name
+            ),
+            None => format!(
+                "define it with a block `{} {{ … }}`, or fix the name",
+                symbol.name
+            ),
+        };
+        for at in uses {
+            out.push(
+                Diagnostic::new(
+                    Code::Undefined,
+                    at,
+                    format!(
+                        "`{}` is used but has no block{}",
+                        symbol.name,
+                        did_you_mean(suggestion)
+                    ),
+                )
+                .with_label("not defined")
+                .with_help(help.clone()),
+            );
+        }
+    }
+}
+
+fn start(grammar: &Grammar, sources: &SourceMap, suggester: &Suggester, out: &mut Vec<Diagnostic>) {
+    match (grammar.start, grammar.start_location) {
+        (Some(start), Some(at)) => {
+            let symbol = grammar.nonterminal(start);
+            if symbol.is_defined() {
+                return;
+            }
+            let suggestion = suggester.closest(&symbol.name);
+            out.push(
+                Diagnostic::new(
+                    Code::UnknownStart,
+                    at,
+                    format!(
+                        "the start symbol `{}` has no block{}",
+                        symbol.name,
+                        did_you_mean(suggestion)
+                    ),
+                )
+                .with_label("no such block")
+                .with_help(format!(
+                    "start from a symbol that has a block, or define `{} {{ … }}`",
+                    symbol.name
+                )),
+            );
+        }
+        _ => {
+            if sources.is_empty() {
+                return;
+            }
+            let example = defined_in_source_order(grammar)
+                .next()
+                .map_or("Name", |nt| grammar.nt_name(nt));
+            out.push(
+                Diagnostic::new(
+                    Code::NoStart,
+                    Location::new(FileId(0), Span::point(0)),
+                    "the grammar has no `start` declaration",
+                )
+                .with_label("no start symbol")
+                .with_help(format!(
+                    "declare where derivations begin, e.g. `start {example}` at the top of the file"
+                )),
+            );
+        }
+    }
+}
+
+fn duplicate_rules(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
+    let mut seen: HashMap<&[Sym], RuleId> = HashMap::new();
+    for nt in grammar.nt_ids() {
+        seen.clear();
+        for (id, rule) in grammar.rules_of(nt) {
+            match seen.get(rule.rhs.as_slice()) {
+                None => {
+                    seen.insert(&rule.rhs, id);
+                }
+                Some(&first) => out.push(
+                    Diagnostic::new(
+                        Code::DuplicateRule,
+                        rule.location,
+                        format!("rule `{}` is written twice", grammar.rule_text(id)),
+                    )
+                    .with_label("same right-hand side again")
+                    .with_related(grammar.rule(first).location, "first written here")
+                    .with_help(
+                        "delete one of the two alternatives and, if wanted, add its weight to the \
+                         other",
+                    ),
+                ),
+            }
+        }
+    }
+}

@@ -1,0 +1,143 @@
+//! Weight checks: blocks must sum to exactly 1, weights must be usable.
+//!
+//! * `zero-weight` (warning) and `negative-weight` (error) at the weight.
+//! * `no-mass-left`: a plain block with unweighted alternatives whose
+//!   weighted alternatives already use all the mass; reported at the
+//!   unweighted alternatives.
+//! * `sum-not-one`: a plain block whose resolved probabilities do not add up
+//!   to exactly 1, with the exact sum and the exact gap.
+//!
+//! The sum checks are skipped for `relative` blocks (they are normalised by
+//! definition), for blocks with a negative weight (the negative weight is
+//! the error to fix first, and any sum would be misleading), for damaged
+//! blocks (an unreadable weight or an empty alternative was already
+//! reported) and for blocks without rules (reported as `unproductive`).
+
+use crate::diagnostic::{Code, Diagnostic};
+use crate::model::{fraction, Decimal, Grammar, Ratio};
+use num_traits::{One, Signed, Zero};
+
+pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
+    for nt in grammar.nt_ids() {
+        let Some(block) = &grammar.nonterminal(nt).block else {
+            continue;
+        };
+        let name = grammar.nt_name(nt);
+        let mut has_negative = false;
+        let mut weighted = Ratio::zero();
+        let mut unweighted = Vec::new();
+        for (id, rule) in grammar.rules_of(nt) {
+            let Some(weight) = &rule.weight else {
+                unweighted.push(rule);
+                continue;
+            };
+            weighted += &weight.value;
+            if weight.value.is_zero() {
+                out.push(
+                    Diagnostic::new(
+                        Code::ZeroWeight,
+                        weight.location,
+                        format!(
+                            "rule `{}` has weight {} and can never be used",
+                            grammar.rule_text(id),
+                            weight.text
+                        ),
+                    )
+                    .with_label("weight 0")
+                    .with_help("remove the alternative, or give it a positive weight"),
+                );
+            } else if weight.value.is_negative() {
+                has_negative = true;
+                out.push(
+                    Diagnostic::new(
+                        Code::NegativeWeight,
+                        weight.location,
+                        format!(
+                            "rule `{}` has the negative weight {} ({}); weights cannot be below 0",
+                            grammar.rule_text(id),
+                            fraction(&weight.value),
+                            Decimal(&weight.value)
+                        ),
+                    )
+                    .with_label("negative weight")
+                    .with_help(format!(
+                        "use a weight of 0 or more; the sum of `{name}` is checked once no weight \
+                         is negative"
+                    )),
+                );
+            }
+        }
+        let rule_count = grammar.nonterminal(nt).rules.len();
+        if block.relative || has_negative || grammar.is_damaged(nt) || rule_count == 0 {
+            continue;
+        }
+        if let Some((first, rest)) = unweighted.split_first() {
+            if weighted >= Ratio::one() {
+                let how_much = if weighted.is_one() {
+                    "all of it".to_string()
+                } else {
+                    format!("more than all of it: {}", gap_text(&weighted))
+                };
+                let alternatives = if unweighted.len() == 1 {
+                    "the unweighted alternative gets".to_string()
+                } else {
+                    format!("the {} unweighted alternatives get", unweighted.len())
+                };
+                let mut d = Diagnostic::new(
+                    Code::NoMassLeft,
+                    first.location,
+                    format!(
+                        "the weighted alternatives of `{name}` already use {how_much}, so \
+                         {alternatives} probability 0"
+                    ),
+                )
+                .with_label("gets nothing")
+                .with_help(format!(
+                    "lower the weights so that something is left for the unweighted \
+                     alternatives, give them weights of their own, or mark `{name}` `relative`"
+                ));
+                for rule in rest {
+                    d = d.with_related(rule.location, "also gets nothing");
+                }
+                out.push(d.with_related(block.name, "block defined here"));
+                continue;
+            }
+        }
+        if !block.mass.is_one() {
+            let gap = &block.mass - Ratio::one();
+            let (amount, side) = if gap.is_negative() {
+                (-gap, "short")
+            } else {
+                (gap, "too much")
+            };
+            out.push(
+                Diagnostic::new(
+                    Code::SumNotOne,
+                    block.name,
+                    format!(
+                        "block `{name}` sums to {}: {} {side}",
+                        gap_text(&block.mass),
+                        gap_text(&amount)
+                    ),
+                )
+                .with_label(format!("sums to {}", fraction(&block.mass)))
+                .with_help(format!(
+                    "make the weights of `{name}` add up to exactly 1 (an unweighted alternative \
+                     takes whatever is left), or mark the block `relative` to divide the weights \
+                     by their sum"
+                )),
+            );
+        }
+    }
+}
+
+/// `99/100 (0.99)`; an integer is written once.
+fn gap_text(r: &Ratio) -> String {
+    let f = fraction(r);
+    let d = Decimal(r).to_string();
+    if f == d {
+        f
+    } else {
+        format!("{f} ({d})")
+    }
+}
