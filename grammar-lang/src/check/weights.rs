@@ -74,9 +74,12 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
         if let Some((first, rest)) = unweighted.split_first() {
             if weighted >= Ratio::one() {
                 let how_much = if weighted.is_one() {
-                    "all of it".to_string()
+                    "sum to 1, the whole probability of the block".to_string()
                 } else {
-                    format!("more than all of it: {}", gap_text(&weighted))
+                    format!(
+                        "sum to {}, more than the whole probability 1 of the block",
+                        gap_text(&weighted)
+                    )
                 };
                 let alternatives = if unweighted.len() == 1 {
                     "the unweighted alternative gets".to_string()
@@ -87,7 +90,7 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
                     Code::NoMassLeft,
                     first.location,
                     format!(
-                        "the weighted alternatives of `{name}` already use {how_much}, so \
+                        "the weighted alternatives of `{name}` already {how_much}, so \
                          {alternatives} probability 0"
                     ),
                 )
