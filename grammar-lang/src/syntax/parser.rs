@@ -1,10 +1,544 @@
-//! The chumsky parser (in progress).
-use super::ast::SyntaxFile;
+//! The recovering parser: non-trivia tokens → [`SyntaxFile`].
+//!
+//! Built with chumsky over the logos token list. Recovery is line-based,
+//! which suits a language whose alternatives end at newlines: an alternative
+//! that cannot be read is skipped to the end of its line (or to the next `|`
+//! or `}`), a declaration that cannot be read is skipped to the end of its
+//! line, and a block whose `}` is missing ends where the next declaration
+//! begins. Every error is reported; every intact declaration is kept.
 
-pub fn parse(text: &str) -> SyntaxFile {
-    SyntaxFile {
-        tokens: super::lexer::lex(text),
-        decls: Vec::new(),
-        errors: Vec::new(),
+use super::ast::*;
+use super::lexer::{lex, unquote, Token, TokenKind};
+use crate::span::Span;
+use chumsky::error::EmptyErr;
+use chumsky::input::Input as _;
+use chumsky::prelude::*;
+
+type Rich_<'a> = Rich<'a, TokenKind, SimpleSpan>;
+
+/// The error types the parser is instantiated with: a free one for the fast
+/// first pass over (usually correct) files, and `Rich` for reporting.
+trait ParseError<'a>:
+    chumsky::error::Error<'a, TokenSlice<'a>>
+    + chumsky::error::LabelError<'a, TokenSlice<'a>, chumsky::DefaultExpected<'a, TokenKind>>
+    + 'a
+{
+    fn custom(span: SimpleSpan, message: String) -> Self;
+}
+
+impl<'a> ParseError<'a> for Rich_<'a> {
+    fn custom(span: SimpleSpan, message: String) -> Self {
+        Rich::custom(span, message)
     }
+}
+
+impl<'a> ParseError<'a> for EmptyErr {
+    fn custom(_: SimpleSpan, _: String) -> Self {
+        EmptyErr::default()
+    }
+}
+
+type TokenSlice<'a> =
+    chumsky::input::MappedInput<'a, TokenKind, SimpleSpan, &'a [(TokenKind, SimpleSpan)]>;
+
+/// Separates a message from its help text inside a chumsky custom error.
+const HELP_SEP: char = '\u{1f}';
+/// Marks a custom error as an empty alternative.
+const EMPTY_MARK: char = '\u{1e}';
+
+/// Parses `text` into its lossless syntax. Never fails: errors are collected.
+pub fn parse(text: &str) -> SyntaxFile {
+    let tokens = lex(text);
+    let significant: Vec<(TokenKind, SimpleSpan)> = tokens
+        .iter()
+        .filter(|t| !t.kind.is_trivia())
+        .map(|t| (t.kind, SimpleSpan::from(t.span.range())))
+        .collect();
+    let eoi = SimpleSpan::from(text.len()..text.len());
+    // Fast pass without error bookkeeping; most files being edited or checked
+    // are correct. Only when it fails does the reporting pass run.
+    let fast = file_parser::<EmptyErr>(text)
+        .parse(significant.as_slice().split_token_span(eoi))
+        .into_output_errors();
+    let (decls, errs) = match fast {
+        (Some(decls), errs) if errs.is_empty() => (Some(decls), Vec::new()),
+        _ => file_parser::<Rich_>(text)
+            .parse(significant.as_slice().split_token_span(eoi))
+            .into_output_errors(),
+    };
+    let mut decls = decls.unwrap_or_default();
+    let mut errors: Vec<SyntaxError> = errs.into_iter().map(|e| convert_error(e, text)).collect();
+    attach_docs(&mut decls, &tokens, text);
+    errors.sort_by_key(|e| (e.span.start, e.span.end));
+    errors.dedup();
+    SyntaxFile {
+        tokens,
+        decls,
+        errors,
+    }
+}
+
+fn sp(s: SimpleSpan) -> Span {
+    Span::new(s.start, s.end)
+}
+
+/// An error message, a help text, and whether it is an empty alternative.
+fn custom<'a, Er: ParseError<'a>>(span: SimpleSpan, message: &str, help: &str) -> Er {
+    Er::custom(span, format!("{message}{HELP_SEP}{help}"))
+}
+
+fn convert_error(err: Rich<'_, TokenKind, SimpleSpan>, src: &str) -> SyntaxError {
+    let span = sp(*err.span());
+    match err.reason() {
+        chumsky::error::RichReason::Custom(msg) => {
+            let (empty_rule, msg) = match msg.strip_prefix(EMPTY_MARK) {
+                Some(rest) => (true, rest),
+                None => (false, msg.as_str()),
+            };
+            let (message, help) = match msg.split_once(HELP_SEP) {
+                Some((m, h)) => (m.to_string(), Some(h.to_string())),
+                None => (msg.to_string(), None),
+            };
+            SyntaxError {
+                span,
+                message,
+                help,
+                empty_rule,
+            }
+        }
+        _ => {
+            let found = err.found().copied();
+            let mut expected: Vec<String> = err
+                .expected()
+                .filter_map(|p| match p {
+                    chumsky::error::RichPattern::Token(t)
+                        if **t == TokenKind::UnterminatedString =>
+                    {
+                        None
+                    }
+                    chumsky::error::RichPattern::Token(t) => Some(t.describe().to_string()),
+                    chumsky::error::RichPattern::Label(l) => Some(l.to_string()),
+                    chumsky::error::RichPattern::EndOfInput => Some("end of file".to_string()),
+                    _ => None,
+                })
+                .collect();
+            expected.sort();
+            expected.dedup();
+            let found_text = match found {
+                None => "end of file".to_string(),
+                Some(kind) => describe_found(kind, span.text(src)),
+            };
+            let message = if expected.is_empty() {
+                format!("unexpected {found_text}")
+            } else {
+                format!(
+                    "unexpected {found_text}; expected {}",
+                    one_of_list(&expected)
+                )
+            };
+            SyntaxError {
+                span,
+                message,
+                help: found.and_then(help_for_found),
+                empty_rule: false,
+            }
+        }
+    }
+}
+
+/// Names a found token with its text: "symbol name `Foo`".
+fn describe_found(kind: TokenKind, text: &str) -> String {
+    let text: String = text.chars().take(40).collect();
+    match kind {
+        TokenKind::Ident => format!("symbol name `{text}`"),
+        TokenKind::String | TokenKind::UnterminatedString => format!("terminal {text}"),
+        TokenKind::Weight => format!("weight `{text}`"),
+        TokenKind::Unknown => format!("character `{text}`"),
+        other => other.describe().to_string(),
+    }
+}
+
+fn one_of_list(items: &[String]) -> String {
+    match items {
+        [] => String::new(),
+        [one] => one.clone(),
+        [init @ .., last] => format!("{} or {}", init.join(", "), last),
+    }
+}
+
+fn help_for_found(found: TokenKind) -> Option<String> {
+    Some(match found {
+        TokenKind::Unknown => {
+            "terminals must be quoted (\"word\"); symbol names use letters, digits, `_ - . ' +`"
+                .into()
+        }
+        TokenKind::UnterminatedString => "close the terminal with `\"` on the same line".into(),
+        TokenKind::LBrace => {
+            "a block is written `Name { alternatives }`; is a `}` missing above?".into()
+        }
+        TokenKind::RBrace => "this `}` closes no block".into(),
+        TokenKind::LParen | TokenKind::RParen => {
+            "brackets only appear in test trees: `accept \"words\" as (Start ...)`".into()
+        }
+        k if k.is_keyword() => format!(
+            "{} is a keyword and cannot be used as a symbol name; rename the symbol",
+            k.describe()
+        ),
+        _ => return None,
+    })
+}
+
+/// One element of a block body, before empty alternatives are sorted out.
+#[derive(Clone)]
+enum BodyElem {
+    Alt(Alternative),
+    Pipe(Span),
+    Newline,
+    /// An unreadable stretch (already reported).
+    Junk,
+}
+
+fn file_parser<'a, Er: ParseError<'a>>(
+    src: &'a str,
+) -> impl Parser<'a, TokenSlice<'a>, Vec<Decl>, extra::Err<Er>> {
+    use TokenKind as T;
+
+    let newline = just(T::Newline).ignored();
+    let name = just(T::Ident).map_with(|_, e| Name { span: sp(e.span()) });
+    let string = just(T::String).map_with(move |_, e| {
+        let span = sp(e.span());
+        Str {
+            span,
+            value: unquote(span.text(src)),
+        }
+    });
+    // A string missing its closing quote is reported and kept as a terminal.
+    let unterminated = just(T::UnterminatedString).validate(move |_, e, emitter| {
+        emitter.emit(custom(
+            e.span(),
+            "this terminal is missing its closing `\"`",
+            "close the terminal with `\"` on the same line",
+        ));
+        let span = sp(e.span());
+        Str {
+            span,
+            value: unquote(span.text(src)),
+        }
+    });
+    let terminal = string.or(unterminated);
+
+    // Lookaheads that end a block body: the start of another declaration.
+    let block_header = name
+        .then(just(T::KwRelative).or_not())
+        .then(just(T::LBrace))
+        .ignored();
+    let decl_keyword = choice((
+        one_of([T::KwGrammar, T::KwStart])
+            .then(just(T::Ident))
+            .ignored(),
+        just(T::KwUse).then(just(T::String)).ignored(),
+        just(T::KwTest)
+            .then(just(T::String))
+            .then(just(T::LBrace))
+            .ignored(),
+    ));
+    let next_decl = block_header.or(decl_keyword).boxed();
+
+    // ── blocks ──────────────────────────────────────────────────────────
+    let weight = just(T::Weight).map_with(|_, e| sp(e.span()));
+    let item = choice((name.map(Item::NonTerminal), terminal.map(Item::Terminal)));
+    let items = item.repeated().collect::<Vec<_>>();
+    let alternative = choice((
+        weight.map(Some).then(items),
+        item.repeated().at_least(1).collect::<Vec<_>>().map(|items| (None, items)),
+    ))
+    .map_with(|(weight, items), e| Alternative {
+        weight,
+        items,
+        doc: None,
+        span: sp(e.span()),
+    })
+    .validate(|alt, e, emitter| {
+        if alt.items.is_empty() {
+            emitter.emit(Er::custom(
+                e.span(),
+                format!(
+                    "{EMPTY_MARK}this alternative has a weight but derives nothing: empty (epsilon) rules are not supported{HELP_SEP}{EPSILON_HELP}"
+                ),
+            ));
+        }
+        alt
+    });
+    let alt_end = choice((just(T::Newline), just(T::Pipe), just(T::RBrace)))
+        .ignored()
+        .or(end())
+        .rewind();
+    let rest_of_alt = none_of([T::Newline, T::Pipe, T::RBrace])
+        .repeated()
+        .at_least(1)
+        .to(BodyElem::Junk);
+    let body_elem = next_decl.clone().not().ignore_then(choice((
+        just(T::Newline).to(BodyElem::Newline),
+        just(T::Pipe).map_with(|_, e| BodyElem::Pipe(sp(e.span()))),
+        alternative
+            .then_ignore(alt_end)
+            .map(BodyElem::Alt)
+            .recover_with(via_parser(rest_of_alt)),
+    )));
+    let close = just(T::RBrace)
+        .map_with(|_, e| Some(sp(e.span())))
+        .or(empty().to(None));
+    let block = name
+        .then(just(T::KwRelative).map_with(|_, e| sp(e.span())).or_not())
+        .then(just(T::LBrace).map_with(|_, e| sp(e.span())))
+        .then(body_elem.repeated().collect::<Vec<_>>())
+        .then(close)
+        .map_with(|((((name, relative), open), body), close), e| {
+            (name, relative, open, body, close, sp(e.span()))
+        })
+        .validate(
+            move |(name, relative, open, body, close, span), _, emitter| {
+                if close.is_none() {
+                    emitter.emit(custom(
+                        SimpleSpan::from(open.range()),
+                        &format!("block `{}` is not closed", name.span.text(src)),
+                        "add `}` after its last alternative",
+                    ));
+                }
+                let alternatives = sort_body(body, src, &mut |span, msg| {
+                    emitter.emit(Er::custom(
+                        SimpleSpan::from(span.range()),
+                        format!("{EMPTY_MARK}{msg}{HELP_SEP}{EPSILON_HELP}"),
+                    ))
+                });
+                Decl::Block(Block {
+                    name,
+                    relative,
+                    open,
+                    close,
+                    alternatives,
+                    doc: None,
+                    span,
+                })
+            },
+        );
+
+    // ── tests ───────────────────────────────────────────────────────────
+    let tree = recursive(|tree| {
+        let child = choice((tree.map(TreeChild::Node), terminal.map(TreeChild::Leaf)));
+        name.then(child.repeated().collect::<Vec<_>>())
+            .delimited_by(just(T::LParen), just(T::RParen))
+            .map_with(|(label, children), e| TreeSyntax {
+                label,
+                children,
+                span: sp(e.span()),
+            })
+    });
+    let expectation = choice((
+        just(T::KwAccept).to(Expectation::Accept),
+        just(T::KwReject).to(Expectation::Reject),
+    ));
+    let case = expectation
+        .then(terminal)
+        .then(just(T::KwAs).ignore_then(tree).or_not())
+        .map_with(|((expect, sentence), tree), e| TestCase {
+            expect,
+            sentence,
+            tree,
+            span: sp(e.span()),
+        })
+        .validate(|case, e, emitter| {
+            if case.tree.is_some() && case.expect == Expectation::Reject {
+                emitter.emit(custom(
+                    e.span(),
+                    "`reject` cannot have an expected tree",
+                    "use `accept \"…\" as (…)` to check the best parse",
+                ));
+            }
+            case
+        });
+    let case_end = choice((just(T::Newline), just(T::RBrace)))
+        .ignored()
+        .or(end())
+        .rewind();
+    let rest_of_case = none_of([T::Newline, T::RBrace])
+        .repeated()
+        .at_least(1)
+        .to(None);
+    let test_elem = next_decl.clone().not().ignore_then(choice((
+        newline.to(None),
+        case.then_ignore(case_end)
+            .map(Some)
+            .recover_with(via_parser(rest_of_case)),
+    )));
+    let test_block = just(T::KwTest)
+        .map_with(|_, e| sp(e.span()))
+        .then(terminal)
+        .then(just(T::LBrace).map_with(|_, e| sp(e.span())))
+        .then(test_elem.repeated().collect::<Vec<_>>())
+        .then(close)
+        .map_with(|((((keyword, name), open), cases), close), e| {
+            (keyword, name, open, cases, close, sp(e.span()))
+        })
+        .validate(|(keyword, name, open, cases, close, span), _, emitter| {
+            if close.is_none() {
+                emitter.emit(custom(
+                    SimpleSpan::from(open.range()),
+                    "test block is not closed",
+                    "add `}` after its last case",
+                ));
+            }
+            Decl::Test(TestBlock {
+                keyword,
+                name,
+                cases: cases.into_iter().flatten().collect(),
+                doc: None,
+                span,
+            })
+        });
+
+    // ── simple declarations ─────────────────────────────────────────────
+    let name_decl = |kw: TokenKind| {
+        just(kw)
+            .map_with(|_, e| sp(e.span()))
+            .then(name)
+            .map_with(|(keyword, name), e| NameDecl {
+                keyword,
+                name,
+                span: sp(e.span()),
+            })
+    };
+    let grammar_decl = name_decl(T::KwGrammar).map(Decl::Grammar);
+    let start_decl = name_decl(T::KwStart).map(Decl::Start);
+    let use_decl = just(T::KwUse)
+        .map_with(|_, e| sp(e.span()))
+        .then(terminal)
+        .map_with(|(keyword, path), e| {
+            Decl::Use(UseDecl {
+                keyword,
+                path,
+                span: sp(e.span()),
+            })
+        });
+
+    let decl = choice((grammar_decl, start_decl, use_decl, test_block, block));
+    let rest_of_line = none_of([T::Newline]).repeated().at_least(1).to(None);
+    let top = choice((newline.to(None), decl.map(Some))).recover_with(via_parser(rest_of_line));
+    top.repeated()
+        .collect::<Vec<_>>()
+        .then_ignore(end())
+        .map(|decls| decls.into_iter().flatten().collect())
+}
+
+const EPSILON_HELP: &str = "factor the optional part out: instead of `A { B | <nothing> }` write the rules that use `A` twice, once with `B` and once without";
+
+/// Turns body elements into alternatives, reporting empty ones: two `|`
+/// with nothing between them, a `|` with no alternative on either side, and
+/// empty terminals `""`.
+fn sort_body(
+    body: Vec<BodyElem>,
+    src: &str,
+    report: &mut dyn FnMut(Span, &str),
+) -> Vec<Alternative> {
+    let is_alt = |e: Option<&BodyElem>| matches!(e, Some(BodyElem::Alt(_)) | Some(BodyElem::Junk));
+    for (i, elem) in body.iter().enumerate() {
+        if let BodyElem::Pipe(span) = elem {
+            let before = i.checked_sub(1).and_then(|j| body.get(j));
+            let after = body.get(i + 1);
+            let doubled = matches!(after, Some(BodyElem::Pipe(_)));
+            if doubled || (!is_alt(before) && !is_alt(after)) {
+                report(*span, "empty alternative: epsilon rules are not supported");
+            }
+        }
+    }
+    let mut alternatives = Vec::new();
+    for elem in body {
+        if let BodyElem::Alt(alt) = elem {
+            for item in &alt.items {
+                if let Item::Terminal(s) = item {
+                    if s.value.is_empty() && s.span.text(src).ends_with('"') {
+                        report(s.span, "empty terminal `\"\"`: it matches no word, and epsilon rules are not supported");
+                    }
+                }
+            }
+            alternatives.push(alt);
+        }
+    }
+    alternatives
+}
+
+/// Attaches `##` lines directly above each block, test and alternative.
+fn attach_docs(decls: &mut [Decl], tokens: &[Token], src: &str) {
+    for decl in decls {
+        match decl {
+            Decl::Block(block) => {
+                block.doc = doc_before(tokens, src, block.span.start);
+                for alt in &mut block.alternatives {
+                    alt.doc = doc_before(tokens, src, alt.span.start);
+                }
+            }
+            Decl::Test(test) => test.doc = doc_before(tokens, src, test.span.start),
+            _ => {}
+        }
+    }
+}
+
+/// The doc comment lines that end on the line just before `offset`'s line.
+fn doc_before(tokens: &[Token], src: &str, offset: u32) -> Option<Doc> {
+    // Cheap test on the text first: is the previous line a `##` line?
+    let before = src
+        .get(..offset as usize)?
+        .trim_end_matches([' ', '\t', '\r', '\u{FEFF}']);
+    let previous_line = before.strip_suffix('\n')?;
+    let previous_line =
+        previous_line[previous_line.rfind('\n').map_or(0, |i| i + 1)..].trim_start();
+    if !previous_line.starts_with("##") || previous_line.starts_with("###") {
+        return None;
+    }
+    let mut i = tokens.partition_point(|t| t.span.start < offset);
+    let mut lines: Vec<Span> = Vec::new();
+    loop {
+        // Expect (whitespace) newline (whitespace) doc-comment, walking back.
+        let mut j = i;
+        while j > 0 && tokens[j - 1].kind == TokenKind::Whitespace {
+            j -= 1;
+        }
+        if j == 0 || tokens[j - 1].kind != TokenKind::Newline {
+            break;
+        }
+        j -= 1;
+        while j > 0 && tokens[j - 1].kind == TokenKind::Whitespace {
+            j -= 1;
+        }
+        if j == 0 || tokens[j - 1].kind != TokenKind::DocComment {
+            break;
+        }
+        lines.push(tokens[j - 1].span);
+        i = j - 1;
+        // A doc line must start its line.
+        let mut k = i;
+        while k > 0 && tokens[k - 1].kind == TokenKind::Whitespace {
+            k -= 1;
+        }
+        if k > 0 && tokens[k - 1].kind != TokenKind::Newline {
+            lines.pop();
+            break;
+        }
+    }
+    if lines.is_empty() {
+        return None;
+    }
+    lines.reverse();
+    let span = lines[0].cover(lines[lines.len() - 1]);
+    let lines = lines
+        .iter()
+        .map(|s| {
+            let text = s.text(src).trim_start_matches("##");
+            text.strip_prefix(' ')
+                .unwrap_or(text)
+                .trim_end()
+                .to_string()
+        })
+        .collect();
+    Some(Doc { lines, span })
 }
