@@ -1,0 +1,242 @@
+//! The public parsing API: [`Parser::new`] compiles a grammar once,
+//! [`Parser::parse`] analyses one sentence.
+//!
+//! ```
+//! # use grammar_lang::model::*;
+//! # use grammar_lang::{FileId, Location, Span};
+//! # let mut g = Grammar::new();
+//! # let s = g.intern_nt("S");
+//! # let w = g.intern_term("hello");
+//! # let loc = Location::new(FileId(0), Span::new(0, 0));
+//! # g.start = Some(s);
+//! # g.push_rule(Rule { lhs: s, rhs: vec![Sym::T(w)], rhs_locations: vec![loc], weight: None,
+//! #     probability: Ratio::from_integer(1.into()), p: 1.0, location: loc, doc: None });
+//! use trellis_engine::parser::{ParseOptions, Parser};
+//! let parser = Parser::new(&g).unwrap();
+//! let outcome = parser.parse(&["hello"], &ParseOptions::default()).unwrap();
+//! assert_eq!(outcome.best.unwrap().tree.to_brackets(), r#"(S "hello")"#);
+//! ```
+
+use crate::compile::{CompileError, CompiledGrammar};
+use crate::count::{count_parses, Count};
+use crate::explain::{explain, Explanation};
+use crate::viterbi::{best_derivation, derivation_logprob, to_user_trees, Deriv};
+use crate::{inside, kbest, viterbi};
+use grammar_lang::model::Grammar;
+use grammar_lang::tree::Tree;
+use std::fmt;
+
+/// Default limit on the chart's memory: 1 GiB.
+pub const DEFAULT_MAX_CHART_BYTES: u64 = 1 << 30;
+
+/// What to compute for a sentence.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ParseOptions {
+    /// How many best trees to list in [`ParseOutcome::kbest`] (0: none).
+    pub kbest: usize,
+    /// Refuse sentences whose chart would need more memory than this.
+    pub max_chart_bytes: u64,
+    /// Count the parses exactly (big integers; costs time on large grammars).
+    pub count_parses: bool,
+    /// Explain a failed parse.
+    pub explain: bool,
+}
+
+impl Default for ParseOptions {
+    fn default() -> Self {
+        ParseOptions {
+            kbest: 1,
+            max_chart_bytes: DEFAULT_MAX_CHART_BYTES,
+            count_parses: true,
+            explain: true,
+        }
+    }
+}
+
+/// One parse tree in the user's own rules.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ParsedTree {
+    pub tree: Tree,
+    pub probability: f64,
+    /// Natural log of `probability` (exact even where `probability` underflows).
+    pub log_probability: f64,
+}
+
+/// The result of parsing one sentence.
+#[derive(Clone, Debug, PartialEq)]
+pub struct ParseOutcome {
+    /// The most probable tree, if the sentence parses.
+    pub best: Option<ParsedTree>,
+    /// The `kbest` most probable trees, best first (fewer if there are fewer).
+    pub kbest: Vec<ParsedTree>,
+    /// P(sentence): the sum over all its trees (0 if none).
+    pub sentence_probability: f64,
+    /// Natural log of the sentence probability (`-inf` if it does not parse).
+    pub sentence_log_probability: f64,
+    /// The number of distinct trees, when counting was asked for.
+    pub parse_count: Option<Count>,
+    /// Why the sentence does not parse (only when it does not and it was asked for).
+    pub explanation: Option<Explanation>,
+}
+
+impl ParseOutcome {
+    pub fn parsed(&self) -> bool {
+        self.best.is_some()
+    }
+}
+
+/// Why a sentence could not be analysed at all.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum ParseError {
+    /// No words.
+    EmptySentence,
+    /// The chart would need more memory than allowed.
+    ChartTooLarge {
+        words: usize,
+        needed_bytes: u64,
+        limit_bytes: u64,
+    },
+}
+
+impl fmt::Display for ParseError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            ParseError::EmptySentence => f.write_str("the sentence is empty: there is nothing to parse"),
+            ParseError::ChartTooLarge {
+                words,
+                needed_bytes,
+                limit_bytes,
+            } => write!(
+                f,
+                "a sentence of {words} words needs a chart of about {} MiB, more than the limit of {} MiB; \
+                 split the input into shorter sentences or raise the limit",
+                needed_bytes.div_ceil(1 << 20),
+                limit_bytes / (1 << 20)
+            ),
+        }
+    }
+}
+
+impl std::error::Error for ParseError {}
+
+/// A grammar compiled for parsing. Cheap to share between threads.
+#[derive(Clone, Debug)]
+pub struct Parser {
+    grammar: CompiledGrammar,
+}
+
+impl Parser {
+    /// Compiles `grammar` for parsing. Grammars with errors are the caller's
+    /// concern (check them first); this refuses only what cannot be parsed
+    /// with at all: no start symbol, or unary cycles that do not shrink.
+    pub fn new(grammar: &Grammar) -> Result<Parser, CompileError> {
+        Ok(Parser {
+            grammar: CompiledGrammar::new(grammar)?,
+        })
+    }
+
+    pub fn compiled(&self) -> &CompiledGrammar {
+        &self.grammar
+    }
+
+    /// Estimated memory of the chart for `words` words with `options`, in bytes.
+    pub fn chart_bytes(&self, words: usize, options: &ParseOptions) -> u64 {
+        let n = words as u128;
+        let cells = n * (n + 1) / 2;
+        let n_sym = self.grammar.symbol_count().max(1) as u128;
+        // Viterbi score + present list + inside log and scaled values.
+        let mut per_item: u128 = 8 + 4 + 8 + 8;
+        if options.count_parses {
+            per_item += std::mem::size_of::<Count>() as u128;
+        }
+        if options.kbest > 1 {
+            // Two list headers plus up to k entries of each list.
+            per_item += 2 * 24 + 2 * 24 * options.kbest as u128;
+        }
+        let per_cell: u128 = 8 + 1 + 4;
+        let total = cells * (n_sym * per_item + per_cell);
+        u64::try_from(total).unwrap_or(u64::MAX)
+    }
+
+    /// Parses one sentence (a sequence of words, matched exactly).
+    pub fn parse<S: AsRef<str>>(
+        &self,
+        words: &[S],
+        options: &ParseOptions,
+    ) -> Result<ParseOutcome, ParseError> {
+        if words.is_empty() {
+            return Err(ParseError::EmptySentence);
+        }
+        let needed = self.chart_bytes(words.len(), options);
+        if needed > options.max_chart_bytes {
+            return Err(ParseError::ChartTooLarge {
+                words: words.len(),
+                needed_bytes: needed,
+                limit_bytes: options.max_chart_bytes,
+            });
+        }
+        let words: Vec<&str> = words.iter().map(|w| w.as_ref()).collect();
+        let g = &self.grammar;
+        let n = words.len();
+        let vit = viterbi::fill(g, &words);
+        let root_score = vit.get(0, n, g.start);
+        if root_score == f64::NEG_INFINITY {
+            return Ok(ParseOutcome {
+                best: None,
+                kbest: Vec::new(),
+                sentence_probability: 0.0,
+                sentence_log_probability: f64::NEG_INFINITY,
+                parse_count: options.count_parses.then(Count::zero),
+                explanation: options.explain.then(|| explain(g, &words, &vit)),
+            });
+        }
+        let best =
+            best_derivation(g, &vit, &words, 0, n, g.start).map(|d| self.tree_of(&words, &d));
+        let ins = inside::fill(g, &words, &vit);
+        let sentence_log_probability = ins.get(0, n, g.start);
+        let kbest = match options.kbest {
+            0 => Vec::new(),
+            1 => best.iter().cloned().collect(),
+            k => kbest::kbest(g, &words, &vit, k)
+                .into_iter()
+                .map(|(d, _)| self.tree_of(&words, &d))
+                .collect(),
+        };
+        Ok(ParseOutcome {
+            best,
+            kbest,
+            sentence_probability: sentence_log_probability.exp(),
+            sentence_log_probability,
+            parse_count: options.count_parses.then(|| count_parses(g, &words, &vit)),
+            explanation: None,
+        })
+    }
+
+    /// Parses a line of text split on whitespace.
+    pub fn parse_line(
+        &self,
+        line: &str,
+        options: &ParseOptions,
+    ) -> Result<ParseOutcome, ParseError> {
+        let words: Vec<&str> = line.split_whitespace().collect();
+        self.parse(&words, options)
+    }
+
+    fn tree_of(&self, words: &[&str], d: &Deriv) -> ParsedTree {
+        let log_probability = derivation_logprob(&self.grammar, words, d);
+        let tree = to_user_trees(&self.grammar, words, d)
+            .into_iter()
+            .next()
+            .unwrap_or_else(|| {
+                Tree::node(
+                    self.grammar.names[self.grammar.start as usize].clone(),
+                    Vec::new(),
+                )
+            });
+        ParsedTree {
+            tree,
+            probability: log_probability.exp(),
+            log_probability,
+        }
+    }
+}

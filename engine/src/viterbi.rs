@@ -1,0 +1,301 @@
+//! Viterbi CKY in log space: the best derivation of every chart item.
+//!
+//! The chart stores, per cell and symbol, the log-probability of the best
+//! derivation after the cell's unary closure (`-inf` where the symbol does
+//! not derive the span), plus a list of the symbols present in each cell.
+//! No back-pointers are stored: the best derivation is recovered top-down by
+//! re-deriving the arg-max at each item from the finished chart, which keeps
+//! the inner loop to one add, one add and one compare per rule.
+
+use crate::chart::Layout;
+use crate::compile::{CompiledGrammar, Origin};
+
+/// A derivation in the compiled grammar.
+#[derive(Clone, Debug, PartialEq)]
+pub(crate) enum Deriv {
+    /// `sym → words[pos]` by lexical entry number `entry` of that word.
+    Lex { sym: u32, pos: usize, entry: u32 },
+    /// Binary rule number `rule`.
+    Bin {
+        rule: u32,
+        left: Box<Deriv>,
+        right: Box<Deriv>,
+    },
+    /// Unary rule number `rule` (index into the compiled unary rules).
+    Unary { rule: u32, child: Box<Deriv> },
+}
+
+pub(crate) struct ViterbiChart {
+    pub layout: Layout,
+    pub score: Vec<f64>,
+    present_start: Vec<u32>,
+    present: Vec<u32>,
+}
+
+impl ViterbiChart {
+    /// The symbols that derive the span of cell `c`, in increasing order.
+    #[inline]
+    pub fn present(&self, c: usize) -> &[u32] {
+        &self.present[self.present_start[c] as usize..self.present_start[c + 1] as usize]
+    }
+
+    #[inline]
+    pub fn get(&self, i: usize, j: usize, sym: u32) -> f64 {
+        self.score[self.layout.cell(i, j) * self.layout.n_sym + sym as usize]
+    }
+}
+
+/// Fills the Viterbi chart for `words`.
+#[allow(clippy::needless_range_loop)] // cells are addressed by (i, j)
+pub(crate) fn fill(g: &CompiledGrammar, words: &[&str]) -> ViterbiChart {
+    let layout = Layout::new(words.len(), g.symbol_count());
+    let n_sym = layout.n_sym;
+    let cells = layout.cells();
+    let mut score = vec![f64::NEG_INFINITY; cells * n_sym];
+    let mut present_start = Vec::with_capacity(cells + 1);
+    present_start.push(0u32);
+    let mut present: Vec<u32> = Vec::new();
+    let mut pre = vec![f64::NEG_INFINITY; n_sym];
+    for len in 1..=layout.n {
+        for i in 0..=layout.n - len {
+            let j = i + len;
+            let c = layout.cell(i, j);
+            pre.fill(f64::NEG_INFINITY);
+            let (done, rest) = score.split_at_mut(c * n_sym);
+            if len == 1 {
+                if let Some(entries) = g.lexicon.get(words[i]) {
+                    for e in entries {
+                        let slot = &mut pre[e.sym as usize];
+                        if e.lp > *slot {
+                            *slot = e.lp;
+                        }
+                    }
+                }
+            } else {
+                for k in i + 1..j {
+                    let l = layout.cell(i, k);
+                    let r = layout.cell(k, j);
+                    let left = &done[l * n_sym..(l + 1) * n_sym];
+                    let right = &done[r * n_sym..(r + 1) * n_sym];
+                    let lp_start = present_start[l] as usize;
+                    let lp_end = present_start[l + 1] as usize;
+                    for &b in &present[lp_start..lp_end] {
+                        let lb = left[b as usize];
+                        let rules = &g.bin[g.binary_rule_range(b)];
+                        combine_max(rules, lb, right, &mut pre);
+                    }
+                }
+            }
+            let row = &mut rest[..n_sym];
+            row.copy_from_slice(&pre);
+            for &b in &g.unary_children {
+                let pb = pre[b as usize];
+                if pb == f64::NEG_INFINITY {
+                    continue;
+                }
+                for &(a, w) in &g.vit_closure[b as usize] {
+                    let cand = w + pb;
+                    if cand > row[a as usize] {
+                        row[a as usize] = cand;
+                    }
+                }
+            }
+            for (s, &v) in row.iter().enumerate() {
+                if v > f64::NEG_INFINITY {
+                    present.push(s as u32);
+                }
+            }
+            present_start.push(present.len() as u32);
+        }
+    }
+    ViterbiChart {
+        layout,
+        score,
+        present_start,
+        present,
+    }
+}
+
+/// The inner loop: every rule with left child score `lb`.
+#[inline(always)]
+fn combine_max(rules: &[crate::compile::BinRule], lb: f64, right: &[f64], pre: &mut [f64]) {
+    for rule in rules {
+        // Indices come from the compiled grammar and are < n_sym.
+        let rc = right[rule.right as usize];
+        let cand = rule.lp + lb + rc;
+        let slot = &mut pre[rule.parent as usize];
+        if cand > *slot {
+            *slot = cand;
+        }
+    }
+}
+
+/// The best score of `sym` over `i..j` before the unary closure, with its
+/// derivation step: lexical entry or (rule, split).
+fn best_pre(
+    g: &CompiledGrammar,
+    chart: &ViterbiChart,
+    words: &[&str],
+    i: usize,
+    j: usize,
+    sym: u32,
+) -> Option<(f64, PreStep)> {
+    let mut best: Option<(f64, PreStep)> = None;
+    if j - i == 1 {
+        for (n, e) in g.lexicon.get(words[i]).into_iter().flatten().enumerate() {
+            if e.sym == sym && best.as_ref().is_none_or(|(s, _)| e.lp > *s) {
+                best = Some((e.lp, PreStep::Lex(n as u32)));
+            }
+        }
+        return best;
+    }
+    for &r in &g.by_parent[sym as usize] {
+        let br = g.bin[r as usize];
+        let left = g.bin_left[r as usize];
+        for k in i + 1..j {
+            let cand = br.lp + chart.get(i, k, left) + chart.get(k, j, br.right);
+            if cand > f64::NEG_INFINITY && best.as_ref().is_none_or(|(s, _)| cand > *s) {
+                best = Some((cand, PreStep::Bin { rule: r, split: k }));
+            }
+        }
+    }
+    best
+}
+
+enum PreStep {
+    Lex(u32),
+    Bin { rule: u32, split: usize },
+}
+
+/// The best derivation of `sym` over `i..j` (after the unary closure).
+pub(crate) fn best_derivation(
+    g: &CompiledGrammar,
+    chart: &ViterbiChart,
+    words: &[&str],
+    i: usize,
+    j: usize,
+    sym: u32,
+) -> Option<Deriv> {
+    if chart.get(i, j, sym) == f64::NEG_INFINITY {
+        return None;
+    }
+    // Which symbol B does the best chain sym ⇒* B end in?
+    let mut target = sym;
+    let mut target_score = if g.in_unary[sym as usize] {
+        best_pre(g, chart, words, i, j, sym).map_or(f64::NEG_INFINITY, |(s, _)| s)
+    } else {
+        f64::NEG_INFINITY
+    };
+    if g.in_unary[sym as usize] {
+        let c = chart.layout.cell(i, j);
+        for &b in chart.present(c) {
+            if b == sym || g.unary_by_child[b as usize].is_empty() {
+                continue;
+            }
+            if let Some(&(_, w)) = g.vit_closure[b as usize].iter().find(|&&(a, _)| a == sym) {
+                if let Some((pb, _)) = best_pre(g, chart, words, i, j, b) {
+                    if w + pb > target_score {
+                        target_score = w + pb;
+                        target = b;
+                    }
+                }
+            }
+        }
+    }
+    let mut node = pre_derivation(g, chart, words, i, j, target)?;
+    // Wrap the chain sym ⇒ … ⇒ target, innermost rule first.
+    let mut chain = Vec::new();
+    let mut at = sym;
+    while at != target {
+        let &first = g.best_first.get(&(at, target))?;
+        chain.push(first);
+        at = g.unary[first as usize].child;
+    }
+    for &rule in chain.iter().rev() {
+        node = Deriv::Unary {
+            rule,
+            child: Box::new(node),
+        };
+    }
+    Some(node)
+}
+
+fn pre_derivation(
+    g: &CompiledGrammar,
+    chart: &ViterbiChart,
+    words: &[&str],
+    i: usize,
+    j: usize,
+    sym: u32,
+) -> Option<Deriv> {
+    match best_pre(g, chart, words, i, j, sym)?.1 {
+        PreStep::Lex(entry) => Some(Deriv::Lex { sym, pos: i, entry }),
+        PreStep::Bin { rule, split } => {
+            let left = g.bin_left[rule as usize];
+            let right = g.bin[rule as usize].right;
+            Some(Deriv::Bin {
+                rule,
+                left: Box::new(best_derivation(g, chart, words, i, split, left)?),
+                right: Box::new(best_derivation(g, chart, words, split, j, right)?),
+            })
+        }
+    }
+}
+
+/// The log-probability of a derivation: the sum of its rules' log-probabilities.
+pub(crate) fn derivation_logprob(g: &CompiledGrammar, words: &[&str], d: &Deriv) -> f64 {
+    match d {
+        Deriv::Lex { pos, entry, .. } => g
+            .lexicon
+            .get(words[*pos])
+            .and_then(|es| es.get(*entry as usize))
+            .map_or(f64::NEG_INFINITY, |e| e.lp),
+        Deriv::Bin { rule, left, right } => {
+            g.bin[*rule as usize].lp
+                + derivation_logprob(g, words, left)
+                + derivation_logprob(g, words, right)
+        }
+        Deriv::Unary { rule, child } => {
+            g.unary[*rule as usize].lp + derivation_logprob(g, words, child)
+        }
+    }
+}
+
+/// Converts a compiled derivation to the user's tree: intermediates are
+/// spliced out, pre-terminals become plain words, every unary rule of a
+/// chain shows as its own node.
+pub(crate) fn to_user_trees(
+    g: &CompiledGrammar,
+    words: &[&str],
+    d: &Deriv,
+) -> Vec<grammar_lang::tree::Tree> {
+    use grammar_lang::tree::Tree;
+    match d {
+        Deriv::Lex { sym, pos, .. } => {
+            let leaf = Tree::leaf(words[*pos]);
+            if g.is_user(*sym) {
+                vec![Tree::node(g.names[*sym as usize].clone(), vec![leaf])]
+            } else {
+                vec![leaf]
+            }
+        }
+        Deriv::Unary { rule, child } => {
+            let parent = g.unary[*rule as usize].parent;
+            vec![Tree::node(
+                g.names[parent as usize].clone(),
+                to_user_trees(g, words, child),
+            )]
+        }
+        Deriv::Bin { rule, left, right } => {
+            let mut kids = to_user_trees(g, words, left);
+            kids.extend(to_user_trees(g, words, right));
+            let parent = g.bin[*rule as usize].parent;
+            if g.is_user(parent) {
+                debug_assert!(matches!(g.bin_origin[*rule as usize], Origin::User(_)));
+                vec![Tree::node(g.names[parent as usize].clone(), kids)]
+            } else {
+                kids
+            }
+        }
+    }
+}
