@@ -2,11 +2,17 @@
 
 pub(crate) mod chart;
 pub mod compile;
+pub mod consistency;
 pub mod count;
 pub mod explain;
 pub(crate) mod inside;
 pub(crate) mod kbest;
 pub mod parser;
+pub mod rng;
+pub mod sample;
 pub(crate) mod viterbi;
+
+mod linalg;
+mod prob_model;
 
 pub use parser::{ParseOptions, ParseOutcome, Parser};

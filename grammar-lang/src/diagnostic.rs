@@ -107,6 +107,8 @@ codes! {
     UseCycle = "use-cycle", Error;
     /// An unknown key or value in `trellis.toml`.
     Config = "config", Error;
+    /// The start symbol's derivations end with probability below 1.
+    Leaky = "leaky", Warning;
 }
 
 impl fmt::Display for Code {
