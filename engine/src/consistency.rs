@@ -641,7 +641,9 @@ pub fn leaky_diagnostic(g: &Grammar, report: &ConsistencyReport) -> Option<Diagn
             .collect();
         let names = names.join(", ");
         let message = match source.cause {
-            LeakCause::Undefined => format!("{names} has no block, so no derivation through it ends"),
+            LeakCause::Undefined => {
+                format!("{names} has no block, so no derivation through it ends")
+            }
             LeakCause::NoRules => {
                 format!("every rule of {names} has weight 0, so no derivation through it ends")
             }
@@ -656,11 +658,7 @@ pub fn leaky_diagnostic(g: &Grammar, report: &ConsistencyReport) -> Option<Diagn
                 )
             }
         };
-        let Some(at) = source
-            .symbols
-            .first()
-            .and_then(|&a| symbol_location(g, a))
-        else {
+        let Some(at) = source.symbols.first().and_then(|&a| symbol_location(g, a)) else {
             continue;
         };
         d = d.with_related(at, message);

@@ -35,7 +35,13 @@ impl ProbModel {
         let mut p: Vec<f64> = g
             .rules
             .iter()
-            .map(|r| if r.p.is_finite() && r.p > 0.0 { r.p } else { 0.0 })
+            .map(|r| {
+                if r.p.is_finite() && r.p > 0.0 {
+                    r.p
+                } else {
+                    0.0
+                }
+            })
             .collect();
         let mut rescaled = Vec::new();
         let mut has_rules = vec![false; n];
@@ -210,7 +216,13 @@ mod tests {
     fn a_long_chain_does_not_overflow_the_stack() {
         let n = 200_000;
         let succ: Vec<Vec<u32>> = (0..n)
-            .map(|i| if i + 1 < n { vec![i as u32 + 1] } else { vec![0] })
+            .map(|i| {
+                if i + 1 < n {
+                    vec![i as u32 + 1]
+                } else {
+                    vec![0]
+                }
+            })
             .collect();
         let comps = sccs(&succ);
         assert_eq!(comps.len(), 1);

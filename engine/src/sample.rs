@@ -465,7 +465,11 @@ fn alias_table(rules: &[(u32, f64)], out: &mut Vec<AliasEntry>) {
             (prob[i] * 18_446_744_073_709_551_616.0) as u64
         };
         let own = rules[i].0;
-        let other = if prob[i] >= 1.0 { own } else { rules[alias[i]].0 };
+        let other = if prob[i] >= 1.0 {
+            own
+        } else {
+            rules[alias[i]].0
+        };
         out.push(AliasEntry {
             threshold,
             primary: own,

@@ -47,8 +47,14 @@ fn the_spectral_radius_of_binary_branching_is_twice_the_branching_probability() 
 
     let critical = analyze(&binary(0.5)).unwrap();
     assert_eq!(critical.regime, Regime::Critical);
-    assert!(critical.tight, "a critical branching process still dies out");
-    assert_eq!(critical.expected_length, None, "but its expected size is infinite");
+    assert!(
+        critical.tight,
+        "a critical branching process still dies out"
+    );
+    assert_eq!(
+        critical.expected_length, None,
+        "but its expected size is infinite"
+    );
     assert_eq!(critical.symbols[0].expected_uses, None);
 
     let super_ = analyze(&binary(0.7)).unwrap();
@@ -112,11 +118,18 @@ fn mutual_recursion_is_solved_as_one_component() {
     let p = 0.75;
     let g = grammar(
         "A",
-        &[("A", "B B", p), ("A", r#""a""#, 1.0 - p), ("B", r#"A "b""#, 1.0)],
+        &[
+            ("A", "B B", p),
+            ("A", r#""a""#, 1.0 - p),
+            ("B", r#"A "b""#, 1.0),
+        ],
     );
     let report = analyze(&g).unwrap();
     for s in &report.symbols {
-        assert!((s.termination_probability - 1.0 / 3.0).abs() < 1e-12, "{s:?}");
+        assert!(
+            (s.termination_probability - 1.0 / 3.0).abs() < 1e-12,
+            "{s:?}"
+        );
     }
     // M = [[0, 2p], [1, 0]]: eigenvalues ±√(2p) (characteristic λ² − 2p).
     assert!((report.spectral_radius - (2.0 * p).sqrt()).abs() < 1e-12);
@@ -146,7 +159,11 @@ fn the_leaky_example_reports_its_leak_and_where_it_comes_from() {
     assert!(d.message.contains("0.4286"), "{}", d.message);
     assert!(d.message.contains("0.5714"), "{}", d.message);
     assert_eq!(d.related.len(), 1);
-    assert!(d.related[0].message.contains("`S`"), "{}", d.related[0].message);
+    assert!(
+        d.related[0].message.contains("`S`"),
+        "{}",
+        d.related[0].message
+    );
     assert!(d.help.is_some());
 }
 
@@ -177,7 +194,11 @@ fn an_unproductive_loop_is_named_as_never_ending() {
     // S → "a" (0.25) | B (0.75); B → B "b": B never ends, S ends w.p. 1/4.
     let g = grammar(
         "S",
-        &[("S", r#""a""#, 0.25), ("S", "B", 0.75), ("B", r#"B "b""#, 1.0)],
+        &[
+            ("S", r#""a""#, 0.25),
+            ("S", "B", 0.75),
+            ("B", r#"B "b""#, 1.0),
+        ],
     );
     let report = analyze(&g).unwrap();
     assert!((report.leak - 0.75).abs() < 1e-15);
@@ -200,7 +221,11 @@ fn unreachable_symbols_do_not_affect_the_report() {
     // X is supercritical but unreachable from S.
     let g = grammar(
         "S",
-        &[("S", r#""a""#, 1.0), ("X", "X X", 0.9), ("X", r#""x""#, 0.1)],
+        &[
+            ("S", r#""a""#, 1.0),
+            ("X", "X X", 0.9),
+            ("X", r#""x""#, 0.1),
+        ],
     );
     let report = analyze(&g).unwrap();
     assert!(report.tight);

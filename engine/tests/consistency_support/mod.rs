@@ -19,10 +19,12 @@ pub fn grammar(start: &str, rules: &[(&str, &str, f64)]) -> Grammar {
         let a = g.intern_nt(lhs);
         let items: Vec<Sym> = rhs
             .split_whitespace()
-            .map(|item| match item.strip_prefix('"').and_then(|w| w.strip_suffix('"')) {
-                Some(word) => Sym::T(g.intern_term(word)),
-                None => Sym::N(g.intern_nt(item)),
-            })
+            .map(
+                |item| match item.strip_prefix('"').and_then(|w| w.strip_suffix('"')) {
+                    Some(word) => Sym::T(g.intern_term(word)),
+                    None => Sym::N(g.intern_nt(item)),
+                },
+            )
             .collect();
         let at = loc(100 + 10 * i, 105 + 10 * i);
         for sym in &items {
