@@ -176,3 +176,42 @@ fn termination_probabilities_are_fixed_points_of_the_grammar_on_random_grammars(
         }
     }
 }
+
+#[test]
+fn spectral_radius_of_a_large_component_is_invariant_under_diagonal_similarity() {
+    // A circulant M with every row summing to c has ρ(M) = c (Perron–
+    // Frobenius: a non-negative matrix with constant row sums has that sum
+    // as its spectral radius), and D⁻¹ M D has the same eigenvalues for any
+    // invertible diagonal D (similarity). Its rows no longer sum to c, so
+    // the iteration has real work to do. Built as unary rules
+    // N_i → N_j with probability (D⁻¹ M D)[i][j] plus N_i → "w" for the rest;
+    // 600 symbols in one component take the large-matrix path.
+    let n = 600;
+    let c = 0.9;
+    let mut rng = Xoshiro256StarStar::seed_from_u64(31);
+    let d: Vec<f64> = (0..n).map(|_| 1.0 + 0.05 * rng.next_f64()).collect();
+    let names: Vec<String> = (0..n).map(|i| format!("N{i}")).collect();
+    let mut spec: Vec<(String, String, f64)> = Vec::new();
+    for i in 0..n {
+        let mut used = 0.0;
+        for step in [1, 7, 31] {
+            let j = (i + step) % n;
+            let p = c / 3.0 * d[j] / d[i];
+            used += p;
+            spec.push((names[i].clone(), names[j].clone(), p));
+        }
+        spec.push((names[i].clone(), "\"w\"".to_string(), 1.0 - used));
+    }
+    let refs: Vec<(&str, &str, f64)> = spec
+        .iter()
+        .map(|(a, b, p)| (a.as_str(), b.as_str(), *p))
+        .collect();
+    let g = consistency_support::grammar("N0", &refs);
+    let report = analyze(&g).unwrap();
+    assert!(
+        (report.spectral_radius - c).abs() < 1e-9,
+        "ρ = {}",
+        report.spectral_radius
+    );
+    assert!(report.tight);
+}
