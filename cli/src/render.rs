@@ -118,25 +118,36 @@ impl<'a> HumanRenderer<'a> {
         let config = ariadne::Config::default()
             .with_index_type(IndexType::Byte)
             .with_color(self.color);
-        // ariadne draws no underline for a label without a message.
-        let mut label = Label::new(primary.clone())
-            .with_priority(1)
-            .with_message(d.label.as_deref().unwrap_or("here"));
-        if self.color {
-            label = label.with_color(severity_color(d.severity));
+        // (span, message, colour, primary?) of every label.
+        let mut labels = vec![(
+            primary.clone(),
+            // ariadne draws no underline for a label without a message.
+            d.label.as_deref().unwrap_or("here"),
+            severity_color(d.severity),
+            true,
+        )];
+        for Related { location, message } in &d.related {
+            if let Some(f) = file(sources, location.file) {
+                let span = (location.file, clamp(&f.text, location.span));
+                labels.push((span, message.as_str(), Color::Blue, false));
+            }
         }
+        // ariadne starts a new snippet (headed by the primary location) when
+        // a label lies above the previous one; ordering labels by file (the
+        // primary's first) and position keeps one snippet per file.
+        labels.sort_by_key(|((id, range), _, _, is_primary)| {
+            (*id != d.location.file, *id, range.start, !is_primary)
+        });
         let mut report = Report::build(kind, primary)
             .with_config(config)
-            .with_message(&d.message)
-            .with_label(label);
-        for Related { location, message } in &d.related {
-            let Some(f) = file(sources, location.file) else {
-                continue;
-            };
-            let mut label =
-                Label::new((location.file, clamp(&f.text, location.span))).with_message(message);
+            .with_message(&d.message);
+        for (order, (span, message, color, is_primary)) in labels.into_iter().enumerate() {
+            let mut label = Label::new(span)
+                .with_message(message)
+                .with_order(order as i32)
+                .with_priority(i32::from(is_primary));
             if self.color {
-                label = label.with_color(Color::Blue);
+                label = label.with_color(color);
             }
             report = report.with_label(label);
         }
@@ -408,6 +419,16 @@ mod tests {
         assert!(out.starts_with("error[duplicate-block]"), "{out}");
         assert!(out.contains("dup.trellis:3:1"), "{out}");
         assert!(out.contains("first block of `S`"), "{out}");
+        // One snippet for the file, headed by the primary location, showing
+        // the earlier line 2 above line 3.
+        assert_eq!(out.matches("─[ ").count(), 1, "{out}");
+        let line2 = out
+            .find(" 2 │ S { \"a\" }")
+            .unwrap_or_else(|| panic!("{out}"));
+        let line3 = out
+            .find(" 3 │ S { \"b\" }")
+            .unwrap_or_else(|| panic!("{out}"));
+        assert!(line2 < line3, "{out}");
     }
 
     #[test]
@@ -425,8 +446,8 @@ mod tests {
         )
         .with_related(Location::new(FileId(1), Span::new(0, 1)), "other block");
         let out = HumanRenderer::new(&sources, false).render(&d);
-        assert!(out.contains("main.trellis:2:1"), "{out}");
-        assert!(out.contains("words.trellis:1:1"), "{out}");
+        assert!(out.contains("╭─[ main.trellis:2:1 ]"), "{out}");
+        assert!(out.contains("├─[ words.trellis:1:1 ]"), "{out}");
         assert!(out.contains("other block"), "{out}");
     }
 
