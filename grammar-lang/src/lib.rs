@@ -19,6 +19,7 @@ pub mod config;
 pub mod diagnostic;
 pub mod lower;
 pub mod model;
+pub mod print;
 pub mod source;
 pub mod span;
 pub mod syntax;
