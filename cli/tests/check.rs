@@ -472,3 +472,63 @@ fn an_empty_directory_checks_nothing_and_says_so() {
         run.stderr
     );
 }
+
+#[test]
+fn used_files_are_found_relative_to_the_using_file_not_the_working_directory() {
+    let dir = tempfile::tempdir().unwrap();
+    write(
+        dir.path(),
+        "grammars/kiosk.trellis",
+        "start Request\nuse \"lexicon/words.trellis\"\nRequest { Kind \"ticket\" }\n",
+    );
+    write(
+        dir.path(),
+        "grammars/lexicon/words.trellis",
+        "Kind {\n  1/2 \"return\"\n  1/2 \"return\"\n}\n",
+    );
+    let run = trellis(
+        dir.path(),
+        &["check", "--format", "json", "grammars/kiosk.trellis"],
+    );
+    assert_eq!(run.code, 0, "{}{}", run.stdout, run.stderr);
+    let diags = diagnostics(&run);
+    assert_eq!(codes(&diags), ["duplicate-rule"]);
+    assert_eq!(diags[0]["file"], "grammars/lexicon/words.trellis");
+    assert_eq!(diags[0]["line"], 3);
+}
+
+#[test]
+fn a_used_file_that_is_not_utf8_is_a_located_error_in_the_grammar() {
+    let dir = tempfile::tempdir().unwrap();
+    write(
+        dir.path(),
+        "kiosk.trellis",
+        "start Request\nuse \"words.trellis\"\nRequest { \"ticket\" }\n",
+    );
+    // 0xFF never occurs in UTF-8 (RFC 3629, section 1).
+    fs::write(dir.path().join("words.trellis"), b"Kind { \"\xFF\" }\n").unwrap();
+    let run = trellis(dir.path(), &["check", "--format", "json", "kiosk.trellis"]);
+    assert_eq!(run.code, 1, "{}{}", run.stdout, run.stderr);
+    let diags = diagnostics(&run);
+    assert_eq!(codes(&diags), ["use-missing"]);
+    assert_eq!(diags[0]["file"], "kiosk.trellis");
+    assert_eq!(diags[0]["line"], 2);
+    assert!(
+        diags[0]["message"].as_str().unwrap().contains("not UTF-8"),
+        "{}",
+        diags[0]
+    );
+}
+
+#[test]
+fn the_shipped_ferry_kiosk_example_checks_clean() {
+    // A realistic two-file grammar: examples/ferry_kiosk.trellis uses
+    // examples/ferry_lexicon.trellis, read from disk through `use`.
+    let examples = Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples");
+    let run = trellis(
+        &examples,
+        &["check", "--format", "json", "ferry_kiosk.trellis"],
+    );
+    assert_eq!(run.code, 0, "{}{}", run.stdout, run.stderr);
+    assert!(diagnostics(&run).is_empty(), "{}", run.stdout);
+}

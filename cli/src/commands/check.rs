@@ -548,6 +548,26 @@ mod tests {
         assert!(roots.iter().all(|r| !r.named));
     }
 
+    #[cfg(unix)]
+    #[test]
+    fn a_link_back_to_a_parent_directory_does_not_loop() {
+        let dir = tempfile::tempdir().unwrap();
+        fs::create_dir_all(dir.path().join("sub")).unwrap();
+        fs::write(dir.path().join("sub/a.trellis"), "").unwrap();
+        std::os::unix::fs::symlink(dir.path(), dir.path().join("sub/up")).unwrap();
+        // A link to a grammar file is followed.
+        std::os::unix::fs::symlink(
+            dir.path().join("sub/a.trellis"),
+            dir.path().join("b.trellis"),
+        )
+        .unwrap();
+        let (roots, failures) = discover(&[dir.path().to_path_buf()]);
+        assert!(failures.is_empty(), "{failures:?}");
+        let got: Vec<PathBuf> = roots.iter().map(|r| r.path.clone()).collect();
+        // Both names lead to one file, which is checked once.
+        assert_eq!(got, vec![dir.path().join("b.trellis")]);
+    }
+
     #[test]
     fn a_file_named_twice_is_checked_once_and_counts_as_named() {
         let dir = tempfile::tempdir().unwrap();
