@@ -57,6 +57,18 @@ fn severity_color(severity: Severity) -> Color {
     }
 }
 
+/// Labels further apart than this many lines are shown in separate
+/// snippets, each headed by its own location, instead of one long snippet.
+const SNIPPET_GAP: u32 = 6;
+
+/// An ariadne source id: a file and which snippet of it. ariadne draws one
+/// snippet per id, so two ids for one file give two snippets.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+struct Snippet {
+    file: FileId,
+    part: u32,
+}
+
 /// The ariadne cache over one analysis' files: sources are built once per
 /// file and borrow the text already in memory.
 struct SourceCache<'a> {
@@ -64,23 +76,79 @@ struct SourceCache<'a> {
     built: HashMap<FileId, Source<&'a str>>,
 }
 
-impl<'a> ariadne::Cache<FileId> for SourceCache<'a> {
+impl<'a> ariadne::Cache<Snippet> for SourceCache<'a> {
     type Storage = &'a str;
 
-    fn fetch(&mut self, id: &FileId) -> Result<&Source<&'a str>, impl fmt::Debug> {
+    fn fetch(&mut self, id: &Snippet) -> Result<&Source<&'a str>, impl fmt::Debug> {
         let sources = self.sources;
-        match file(sources, *id) {
+        match file(sources, id.file) {
             Some(f) => Ok(self
                 .built
-                .entry(*id)
+                .entry(id.file)
                 .or_insert_with(|| Source::from(f.text.as_str()))),
-            None => Err(format!("no file with id {}", id.0)),
+            None => Err(format!("no file with id {}", id.file.0)),
         }
     }
 
-    fn display<'b>(&self, id: &'b FileId) -> Option<impl fmt::Display + 'b> {
-        file(self.sources, *id).map(|f| f.path.display().to_string())
+    fn display<'b>(&self, id: &'b Snippet) -> Option<impl fmt::Display + 'b> {
+        file(self.sources, id.file).map(|f| f.path.display().to_string())
     }
+}
+
+/// One label before it is handed to ariadne.
+struct Pending<'m> {
+    file: FileId,
+    range: Range<usize>,
+    first_line: u32,
+    last_line: u32,
+    message: &'m str,
+    color: Color,
+    primary: bool,
+}
+
+impl Pending<'_> {
+    fn new<'m>(f: &SourceFile, file: FileId, range: Range<usize>, message: &'m str) -> Pending<'m> {
+        Pending {
+            file,
+            first_line: f.lines.line_of(range.start),
+            last_line: f.lines.line_of(range.end),
+            range,
+            message,
+            color: Color::Blue,
+            primary: false,
+        }
+    }
+}
+
+/// Assigns labels to snippets: labels of one file that are close together
+/// share a snippet. Returns the labels with their snippet, ordered for
+/// ariadne: the primary label's snippet first, then by file and line.
+fn snippets(mut labels: Vec<Pending<'_>>) -> Vec<(Snippet, Pending<'_>)> {
+    labels.sort_by_key(|l| (l.file, l.range.start, !l.primary));
+    let mut out: Vec<(Snippet, Pending)> = Vec::with_capacity(labels.len());
+    let mut part = 0;
+    for label in labels {
+        if let Some((prev, _)) = out.last() {
+            let reach = out
+                .iter()
+                .filter(|(s, _)| *s == *prev)
+                .map(|(_, l)| l.last_line)
+                .max()
+                .unwrap_or(0);
+            if prev.file != label.file || label.first_line > reach + SNIPPET_GAP {
+                part += 1;
+            }
+        }
+        let snippet = Snippet {
+            file: label.file,
+            part,
+        };
+        out.push((snippet, label));
+    }
+    let primary = out.iter().find(|(_, l)| l.primary).map(|(s, _)| *s);
+    // Stable: within a snippet, labels stay in line order.
+    out.sort_by_key(|(s, _)| (Some(*s) != primary, *s));
+    out
 }
 
 /// Renders diagnostics of one analysis as ariadne reports.
@@ -114,40 +182,44 @@ impl<'a> HumanRenderer<'a> {
             }
             return self.finish_text(out);
         };
-        let primary = (d.location.file, clamp(&primary_file.text, d.location.span));
         let config = ariadne::Config::default()
             .with_index_type(IndexType::Byte)
             .with_color(self.color);
-        // (span, message, colour, primary?) of every label.
-        let mut labels = vec![(
-            primary.clone(),
-            // ariadne draws no underline for a label without a message.
-            d.label.as_deref().unwrap_or("here"),
-            severity_color(d.severity),
-            true,
-        )];
+        let mut labels = vec![Pending {
+            color: severity_color(d.severity),
+            primary: true,
+            ..Pending::new(
+                primary_file,
+                d.location.file,
+                clamp(&primary_file.text, d.location.span),
+                // ariadne draws no underline for a label without a message.
+                d.label.as_deref().unwrap_or("here"),
+            )
+        }];
         for Related { location, message } in &d.related {
             if let Some(f) = file(sources, location.file) {
-                let span = (location.file, clamp(&f.text, location.span));
-                labels.push((span, message.as_str(), Color::Blue, false));
+                let range = clamp(&f.text, location.span);
+                labels.push(Pending::new(f, location.file, range, message));
             }
         }
-        // ariadne starts a new snippet (headed by the primary location) when
-        // a label lies above the previous one; ordering labels by file (the
-        // primary's first) and position keeps one snippet per file.
-        labels.sort_by_key(|((id, range), _, _, is_primary)| {
-            (*id != d.location.file, *id, range.start, !is_primary)
-        });
+        let labels = snippets(labels);
+        let Some(primary) = labels
+            .iter()
+            .find(|(_, l)| l.primary)
+            .map(|(s, l)| (*s, l.range.clone()))
+        else {
+            return self.finish_text(format!("{kind_name}: {}\n", d.message));
+        };
         let mut report = Report::build(kind, primary)
             .with_config(config)
             .with_message(&d.message);
-        for (order, (span, message, color, is_primary)) in labels.into_iter().enumerate() {
-            let mut label = Label::new(span)
-                .with_message(message)
+        for (order, (snippet, l)) in labels.into_iter().enumerate() {
+            let mut label = Label::new((snippet, l.range))
+                .with_message(l.message)
                 .with_order(order as i32)
-                .with_priority(i32::from(is_primary));
+                .with_priority(i32::from(l.primary));
             if self.color {
-                label = label.with_color(color);
+                label = label.with_color(l.color);
             }
             report = report.with_label(label);
         }
@@ -429,6 +501,34 @@ mod tests {
             .find(" 3 │ S { \"b\" }")
             .unwrap_or_else(|| panic!("{out}"));
         assert!(line2 < line3, "{out}");
+    }
+
+    #[test]
+    fn far_apart_spans_get_their_own_snippets_headed_by_their_own_place() {
+        // `start` on line 1, the unreachable block on line 12: the related
+        // label gets a snippet of its own instead of a 12-line one.
+        let mut text = String::from("start Request\nRequest { \"ticket\" }\n");
+        text.push_str(&"# filler\n".repeat(9));
+        text.push_str("Timetable { \"when\" }\n");
+        let sources = one_file("kiosk.trellis", &text);
+        let d = Diagnostic::new(
+            Code::Unreachable,
+            Location::new(FileId(0), span_of(&text, "Timetable")),
+            "`Timetable` cannot be reached",
+        )
+        .with_related(
+            Location::new(FileId(0), span_of(&text, "Request\n")),
+            "start symbol declared here",
+        );
+        let out = HumanRenderer::new(&sources, false).render(&d);
+        let primary = out
+            .find("╭─[ kiosk.trellis:12:1 ]")
+            .unwrap_or_else(|| panic!("{out}"));
+        let related = out
+            .find("├─[ kiosk.trellis:1:7 ]")
+            .unwrap_or_else(|| panic!("{out}"));
+        assert!(primary < related, "the primary place comes first: {out}");
+        assert!(!out.contains("# filler"), "{out}");
     }
 
     #[test]
