@@ -33,6 +33,7 @@ struct Cli {
 enum Command {
     /// Find mistakes in grammars without running them: weights that do not
     /// add up, undefined or unreachable symbols, syntax errors and more.
+    #[command(long_about = commands::check::LONG_ABOUT)]
     Check(commands::check::CheckArgs),
 }
 

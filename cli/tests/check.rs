@@ -455,6 +455,8 @@ fn version_and_help_describe_the_tool() {
     let run = trellis(dir.path(), &["check", "--help"]);
     assert_eq!(run.code, 0);
     assert!(run.stdout.contains("--deny-warnings"), "{}", run.stdout);
+    assert!(run.stdout.contains("Exit status: 0"), "{}", run.stdout);
+    assert!(run.stdout.contains("trellis.toml"), "{}", run.stdout);
     // Every check a user can configure is listed with its default level.
     assert!(run.stdout.contains("unreachable"), "{}", run.stdout);
     assert!(run.stdout.contains("sum-not-one"), "{}", run.stdout);

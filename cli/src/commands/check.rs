@@ -9,9 +9,8 @@ use grammar_lang::{Analysis, Code, Diagnostic, Span};
 use std::collections::{HashMap, HashSet};
 use std::path::{Path, PathBuf};
 
-/// Arguments of `trellis check`.
-#[derive(clap::Args, Debug, Clone)]
-#[command(long_about = "Find mistakes in grammars without running them.\n\n\
+/// The full description shown by `trellis check --help`.
+pub const LONG_ABOUT: &str = "Find mistakes in grammars without running them.\n\n\
     Every .trellis file named, and every .trellis file found under a named \
     directory (hidden directories and target/ are skipped), is checked together \
     with the files it `use`s. A file found in a directory that another checked \
@@ -21,8 +20,11 @@ use std::path::{Path, PathBuf};
     [checks]\n  unreachable = \"error\"\n  duplicate-rule = \"off\"\n\n\
     Exit status: 0 when no errors were found; 1 when errors were found (or \
     warnings, with --deny-warnings); 2 when a path does not exist, a file \
-    cannot be read as UTF-8 text, or trellis.toml is invalid.",
-    after_long_help = checks_help())]
+    cannot be read as UTF-8 text, or trellis.toml is invalid.";
+
+/// Arguments of `trellis check`.
+#[derive(clap::Args, Debug, Clone)]
+#[command(after_long_help = checks_help())]
 pub struct CheckArgs {
     /// Grammar files or directories to check [default: the current directory]
     #[arg(value_name = "PATH")]
@@ -50,9 +52,15 @@ fn checks_help() -> String {
         "Checks (name and default level; set a level per check in trellis.toml \
          to \"error\", \"warning\", \"note\" or \"off\"):\n",
     );
-    for code in Code::ALL {
+    for &code in Code::ALL {
+        let note = match code {
+            // Problems in trellis.toml itself stop the run; not a grammar check.
+            Code::Config => continue,
+            Code::Syntax => " (always)",
+            _ => "",
+        };
         out.push_str(&format!(
-            "  {:width$}  {}\n",
+            "  {:width$}  {}{note}\n",
             code.as_str(),
             code.default_severity()
         ));
