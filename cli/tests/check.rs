@@ -534,3 +534,33 @@ fn the_shipped_ferry_kiosk_example_checks_clean() {
     assert_eq!(run.code, 0, "{}{}", run.stdout, run.stderr);
     assert!(diagnostics(&run).is_empty(), "{}", run.stdout);
 }
+
+#[test]
+fn json_related_places_point_at_the_other_block() {
+    // language.md: two blocks for one name is an error that points at both.
+    let dir = tempfile::tempdir().unwrap();
+    write(
+        dir.path(),
+        "kiosk.trellis",
+        "start Kind\nKind { \"return\" }\nKind { \"single\" }\n",
+    );
+    let run = trellis(dir.path(), &["check", "--format", "json", "kiosk.trellis"]);
+    assert_eq!(run.code, 1, "{}{}", run.stdout, run.stderr);
+    let diags = diagnostics(&run);
+    assert_eq!(codes(&diags), ["duplicate-block"], "{}", run.stdout);
+    let d = &diags[0];
+    assert_eq!(d["line"], 3);
+    let related = d["related"].as_array().unwrap();
+    assert_eq!(related.len(), 1, "{d}");
+    assert_eq!(related[0]["file"], "kiosk.trellis");
+    assert_eq!(related[0]["line"], 2);
+    assert_eq!(related[0]["column"], 1);
+    assert!(related[0]["message"]
+        .as_str()
+        .is_some_and(|m| !m.is_empty()));
+
+    // The human report shows both places.
+    let run = trellis(dir.path(), &["check", "kiosk.trellis"]);
+    assert!(run.stdout.contains("Kind { \"return\" }"), "{}", run.stdout);
+    assert!(run.stdout.contains("Kind { \"single\" }"), "{}", run.stdout);
+}
