@@ -2,7 +2,7 @@
 
 mod consistency_support;
 
-use consistency_support::{grammar, loc};
+use consistency_support::{grammar, parse};
 use grammar_lang::Code;
 use trellis_engine::consistency::{analyze, leaky_diagnostic, LeakCause, Regime};
 
@@ -10,6 +10,17 @@ use trellis_engine::consistency::{analyze, leaky_diagnostic, LeakCause, Regime};
 fn binary(p: f64) -> grammar_lang::Grammar {
     grammar("S", &[("S", "S S", p), ("S", r#""a""#, 1.0 - p)])
 }
+
+const LEAKY: &str = r#"
+grammar leaky_example
+start S
+
+## Splits more often than it stops.
+S {
+  0.7  S S
+  0.3  "a"
+}
+"#;
 
 #[test]
 fn binary_branching_terminates_with_the_galton_watson_extinction_probability() {
@@ -140,7 +151,7 @@ fn mutual_recursion_is_solved_as_one_component() {
 fn the_leaky_example_reports_its_leak_and_where_it_comes_from() {
     // S → S S (0.7) | "a" (0.3): terminates with probability 3/7
     // (Galton–Watson extinction (1 − p)/p), so 1 − 3/7 leaks.
-    let g = binary(0.7);
+    let g = parse(LEAKY);
     let report = analyze(&g).unwrap();
     assert!(!report.tight);
     assert!((report.leak - (1.0 - 3.0 / 7.0)).abs() < 1e-12);
@@ -155,7 +166,8 @@ fn the_leaky_example_reports_its_leak_and_where_it_comes_from() {
 
     let d = leaky_diagnostic(&g, &report).expect("a leaky grammar gets a diagnostic");
     assert_eq!(d.code, Code::Leaky);
-    assert_eq!(d.location, loc(0, 5), "at the start declaration");
+    assert_eq!(d.location.span.text(LEAKY), "S", "at the start declaration");
+    assert_eq!(Some(d.location), g.start_location);
     assert!(d.message.contains("0.4286"), "{}", d.message);
     assert!(d.message.contains("0.5714"), "{}", d.message);
     assert_eq!(d.related.len(), 1);
