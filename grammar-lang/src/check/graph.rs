@@ -8,8 +8,10 @@
 //! algorithm, written with an explicit stack so that long chains of
 //! symbols cannot overflow the call stack).
 
+use super::number_text;
 use crate::diagnostic::{Code, Diagnostic, Severity};
-use crate::model::{fraction, Decimal, Grammar, NtId, Ratio, RuleId, Sym};
+use crate::model::{Grammar, NtId, Ratio, RuleId, Sym};
+use num_bigint::BigInt;
 use num_traits::One;
 use std::collections::VecDeque;
 
@@ -410,14 +412,19 @@ fn cycle_diagnostic(
 ) -> Option<Diagnostic> {
     let (&first, rest) = cycle.split_first()?;
     let mut path = vec![grammar.nt_name(grammar.rule(first).lhs)];
-    let mut product = Ratio::one();
+    // Numerators and denominators are multiplied separately and reduced
+    // once: reducing after every step costs a gcd of ever longer numbers.
+    let mut numer = BigInt::one();
+    let mut denom = BigInt::one();
     for &id in cycle {
         let rule = grammar.rule(id);
-        product *= &rule.probability;
+        numer *= rule.probability.numer();
+        denom *= rule.probability.denom();
         if let [Sym::N(target)] = rule.rhs.as_slice() {
             path.push(grammar.nt_name(*target));
         }
     }
+    let product = Ratio::new(numer, denom);
     let path = path.join(" → ");
     let mut message = format!("unary rules form a cycle: {path}");
     let others = component_size.saturating_sub(cycle.len());
@@ -436,11 +443,7 @@ fn cycle_diagnostic(
     } else {
         message.push_str(&format!(
             "; going round it once has probability {}",
-            if product.denom().is_one() {
-                fraction(&product)
-            } else {
-                format!("{} ({})", fraction(&product), Decimal(&product))
-            }
+            number_text(&product)
         ));
         Diagnostic::new(Code::UnaryCycle, grammar.rule(first).location, message)
             .with_label("starts a cycle of unary rules")

@@ -21,8 +21,9 @@ pub mod weights;
 
 use crate::config::Config;
 use crate::diagnostic::Diagnostic;
-use crate::model::Grammar;
+use crate::model::{fraction, Decimal, Grammar, Ratio};
 use crate::source::SourceMap;
+use num_traits::{Signed, ToPrimitive};
 
 /// Runs every model-level check and appends its findings to `out`.
 pub fn run_checks(
@@ -35,4 +36,67 @@ pub fn run_checks(
     names::check(grammar, sources, out);
     graph::check(grammar, out);
     arity::check(grammar, config, out);
+}
+
+/// An exact number for a message: `99/100 (0.99)`, `4/3 (≈1.3333333333)`,
+/// or just `1`. Numbers whose fraction would be unreadably long (more than
+/// 40 digits in numerator and denominator together) are shown only
+/// approximately, in scientific notation when they are very small or large.
+pub fn number_text(r: &Ratio) -> String {
+    if r.numer().bits() + r.denom().bits() > 133 {
+        return approximate(r);
+    }
+    let f = fraction(r);
+    let d = Decimal(r).to_string();
+    if f == d {
+        f
+    } else {
+        format!("{f} ({d})")
+    }
+}
+
+/// `≈1.2e-15051`: the decimal exponent from the bit lengths and the leading
+/// digits from the top 64 bits of numerator and denominator.
+fn approximate(r: &Ratio) -> String {
+    if let Some(x) = r
+        .to_f64()
+        .filter(|x| x.is_normal() && x.abs() > 1e-300 && x.abs() < 1e300)
+    {
+        return format!("≈{x:.6e}");
+    }
+    let lead = |n: &num_bigint::BigInt| -> (f64, i64) {
+        let n = n.abs();
+        let shift = n.bits().saturating_sub(64);
+        let top = (&n >> shift).to_f64().unwrap_or(1.0);
+        (top.log10(), shift as i64)
+    };
+    let (ln, sn) = lead(r.numer());
+    let (ld, sd) = lead(r.denom());
+    let log10 = ln - ld + (sn - sd) as f64 * std::f64::consts::LOG10_2;
+    let exponent = log10.floor();
+    let mantissa = 10f64.powf(log10 - exponent);
+    let sign = if r.is_negative() { "-" } else { "" };
+    format!("≈{sign}{mantissa:.1}e{exponent}")
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use num_bigint::BigInt;
+
+    #[test]
+    fn numbers_are_exact_when_short_and_approximate_when_huge() {
+        let r = |n: i64, d: i64| Ratio::new(BigInt::from(n), BigInt::from(d));
+        assert_eq!(number_text(&r(99, 100)), "99/100 (0.99)");
+        assert_eq!(number_text(&r(1, 1)), "1");
+        assert_eq!(number_text(&r(1, 3)), "1/3 (≈0.3333333333)");
+        // 2^100 = 1.2676506e30 (recalled from memory), so 2^200 =
+        // 1.606938e60 and 2^-200 = 6.223015e-61.
+        let tiny = Ratio::new(BigInt::from(1), BigInt::from(1) << 200);
+        assert_eq!(number_text(&tiny), "≈6.223015e-61");
+        // log10 2 = 0.30103 (recalled from memory): 2^-50000 =
+        // 10^-15051.4998 = 10^0.5002 · 10^-15052 ≈ 3.2e-15052.
+        let tinier = Ratio::new(BigInt::from(1), BigInt::from(1) << 50_000);
+        assert_eq!(number_text(&tinier), "≈3.2e-15052");
+    }
 }

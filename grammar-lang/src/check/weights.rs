@@ -13,8 +13,9 @@
 //! blocks (an unreadable weight or an empty alternative was already
 //! reported) and for blocks without rules (reported as `unproductive`).
 
+use super::number_text;
 use crate::diagnostic::{Code, Diagnostic};
-use crate::model::{fraction, Decimal, Grammar, Ratio};
+use crate::model::{fraction, Grammar, Ratio};
 use num_traits::{One, Signed, Zero};
 
 pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
@@ -53,10 +54,9 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
                         Code::NegativeWeight,
                         weight.location,
                         format!(
-                            "rule `{}` has the negative weight {} ({}); weights cannot be below 0",
+                            "rule `{}` has the negative weight {}; weights cannot be below 0",
                             grammar.rule_text(id),
-                            fraction(&weight.value),
-                            Decimal(&weight.value)
+                            number_text(&weight.value)
                         ),
                     )
                     .with_label("negative weight")
@@ -78,7 +78,7 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
                 } else {
                     format!(
                         "sum to {}, more than the whole probability 1 of the block",
-                        gap_text(&weighted)
+                        number_text(&weighted)
                     )
                 };
                 let alternatives = if unweighted.len() == 1 {
@@ -119,8 +119,8 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
                     block.name,
                     format!(
                         "block `{name}` sums to {}: {} {side}",
-                        gap_text(&block.mass),
-                        gap_text(&amount)
+                        number_text(&block.mass),
+                        number_text(&amount)
                     ),
                 )
                 .with_label(format!("sums to {}", fraction(&block.mass)))
@@ -131,16 +131,5 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
                 )),
             );
         }
-    }
-}
-
-/// `99/100 (0.99)`; an integer is written once.
-fn gap_text(r: &Ratio) -> String {
-    let f = fraction(r);
-    let d = Decimal(r).to_string();
-    if f == d {
-        f
-    } else {
-        format!("{f} ({d})")
     }
 }
