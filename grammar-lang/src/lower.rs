@@ -25,7 +25,8 @@ use crate::source::{normalize, resolve_use, FileId, FileLoader, SourceMap};
 use crate::span::Span;
 use crate::syntax::ast::{self, Decl, Item, SyntaxFile, TreeChild, TreeSyntax};
 use crate::tree::Tree;
-use num_traits::{One, Signed, Zero};
+use num_bigint::BigInt;
+use num_traits::{One, Signed, ToPrimitive, Zero};
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
@@ -57,6 +58,7 @@ fn lower_using(
         grammar: Grammar::new(),
         diagnostics: Vec::new(),
         grammar_name: None,
+        weights: HashMap::new(),
     };
     lowerer.load(root, text, loader);
     for index in 0..lowerer.syntax.len() {
@@ -71,10 +73,10 @@ fn lower_using(
 }
 
 /// How one alternative's weight takes part in resolving its block.
-#[derive(Clone, Debug, PartialEq)]
-pub enum Share {
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Share<'a> {
     /// A weight as written (may be zero or negative).
-    Weighted(Ratio),
+    Weighted(&'a Ratio),
     /// No weight: the alternative shares what the weighted ones leave.
     Unweighted,
     /// The weight could not be read; the alternative gets probability 0.
@@ -94,41 +96,47 @@ pub enum Share {
 /// In both kinds a negative weight (an error of its own, `negative-weight`)
 /// counts as 0 so that the other numbers stay probabilities, and a
 /// [`Share::Broken`] weight counts as 0 as well.
-pub fn resolve_block(relative: bool, shares: &[Share]) -> Vec<Ratio> {
-    let clamp = |w: &Ratio| {
-        if w.is_negative() {
-            Ratio::zero()
-        } else {
-            w.clone()
+pub fn resolve_block(relative: bool, shares: &[Share<'_>]) -> Vec<Ratio> {
+    let zero = Ratio::zero();
+    let one = Ratio::one();
+    // The weight each alternative counts with (`None`: a share of the rest).
+    fn counted<'a>(
+        s: Share<'a>,
+        relative: bool,
+        zero: &'a Ratio,
+        one: &'a Ratio,
+    ) -> Option<&'a Ratio> {
+        match s {
+            Share::Weighted(w) if w.is_negative() => Some(zero),
+            Share::Weighted(w) => Some(w),
+            Share::Unweighted if relative => Some(one),
+            Share::Unweighted => None,
+            Share::Broken => Some(zero),
         }
-    };
-    if relative {
-        let weights: Vec<Ratio> = shares
+    }
+    let sum = exact_sum(
+        shares
             .iter()
-            .map(|s| match s {
-                Share::Weighted(w) => clamp(w),
-                Share::Unweighted => Ratio::one(),
-                Share::Broken => Ratio::zero(),
-            })
-            .collect();
-        let sum: Ratio = weights.iter().sum();
+            .filter_map(|s| counted(*s, relative, &zero, &one)),
+    );
+    if relative {
         if sum.is_zero() {
             return vec![Ratio::zero(); shares.len()];
         }
-        return weights.into_iter().map(|w| w / &sum).collect();
+        return shares
+            .iter()
+            .map(|s| match counted(*s, relative, &zero, &one) {
+                Some(w) if sum.is_one() => w.clone(),
+                Some(w) => w / &sum,
+                None => Ratio::zero(),
+            })
+            .collect();
     }
-    let weighted: Ratio = shares
-        .iter()
-        .filter_map(|s| match s {
-            Share::Weighted(w) => Some(clamp(w)),
-            _ => None,
-        })
-        .sum();
     let unweighted = shares
         .iter()
         .filter(|s| matches!(s, Share::Unweighted))
         .count();
-    let remainder = Ratio::one() - weighted;
+    let remainder = Ratio::one() - sum;
     let each = if unweighted > 0 && remainder.is_positive() {
         remainder / Ratio::from_integer(unweighted.into())
     } else {
@@ -136,12 +144,49 @@ pub fn resolve_block(relative: bool, shares: &[Share]) -> Vec<Ratio> {
     };
     shares
         .iter()
-        .map(|s| match s {
-            Share::Weighted(w) => clamp(w),
-            Share::Unweighted => each.clone(),
-            Share::Broken => Ratio::zero(),
-        })
+        .map(|s| counted(*s, relative, &zero, &one).unwrap_or(&each).clone())
         .collect()
+}
+
+/// The exact sum of `terms`. Works in 128-bit integers while numerators
+/// and denominators stay within 64 bits (the usual case for hand-written
+/// weights) and falls back to big rationals beyond; both give the same
+/// reduced value.
+pub fn exact_sum<'a>(terms: impl IntoIterator<Item = &'a Ratio>) -> Ratio {
+    let mut small: (i128, i128) = (0, 1);
+    let mut terms = terms.into_iter();
+    while let Some(term) = terms.next() {
+        let (n, d) = small;
+        let next = match (term.numer().to_i64(), term.denom().to_i64()) {
+            (Some(tn), Some(td)) => {
+                // |n|, d, |tn|, td < 2^63, so no product or sum overflows i128.
+                let (tn, td) = (i128::from(tn), i128::from(td));
+                let num = n * td + tn * d;
+                let den = d * td;
+                let g = gcd(num.unsigned_abs(), den.unsigned_abs()) as i128;
+                let (num, den) = (num / g, den / g);
+                (i64::try_from(num).is_ok() && i64::try_from(den).is_ok()).then_some((num, den))
+            }
+            _ => None,
+        };
+        match next {
+            Some(next) => small = next,
+            None => {
+                let so_far = Ratio::new(BigInt::from(n), BigInt::from(d));
+                return terms.fold(so_far + term, |acc, t| acc + t);
+            }
+        }
+    }
+    let (n, d) = small;
+    // Already reduced, denominator positive.
+    Ratio::new_raw(BigInt::from(n), BigInt::from(d))
+}
+
+fn gcd(mut a: u128, mut b: u128) -> u128 {
+    while b != 0 {
+        (a, b) = (b, a % b);
+    }
+    a.max(1)
 }
 
 struct Lowerer<'p> {
@@ -152,6 +197,8 @@ struct Lowerer<'p> {
     diagnostics: Vec<Diagnostic>,
     /// The first `grammar NAME` declaration.
     grammar_name: Option<Location>,
+    /// Weights already read, by spelling.
+    weights: HashMap<String, (Ratio, model::Notation)>,
 }
 
 /// A file whose `use` declarations are being followed.
@@ -408,47 +455,40 @@ impl Lowerer<'_> {
             mass: Ratio::zero(),
         });
         let mut rules = Vec::with_capacity(block.alternatives.len());
-        let mut shares = Vec::with_capacity(block.alternatives.len());
+        let mut broken = Vec::with_capacity(block.alternatives.len());
         for alt in &block.alternatives {
             if alt.items.is_empty() {
                 // The parser reported the empty alternative (`empty-rule`).
                 self.grammar.mark_damaged(nt);
                 continue;
             }
-            let (weight, share) = match alt.weight {
-                None => (None, Share::Unweighted),
-                Some(span) => {
-                    let text = self.text(file, span).to_string();
-                    let at = Location::new(file, span);
-                    match crate::weight::parse_weight(&text) {
-                        Ok((value, notation)) => (
-                            Some(Weight {
-                                text,
-                                value: value.clone(),
-                                notation,
-                                location: at,
-                            }),
-                            Share::Weighted(value),
-                        ),
-                        Err(reason) => {
-                            self.diagnostics.push(
-                                Diagnostic::new(
-                                    Code::BadWeight,
-                                    at,
-                                    format!("bad weight: {reason}"),
-                                )
+            let mut weight = None;
+            let mut is_broken = false;
+            if let Some(span) = alt.weight {
+                let at = Location::new(file, span);
+                match self.read_weight(file, span) {
+                    Ok((text, value, notation)) => {
+                        weight = Some(Weight {
+                            text,
+                            value,
+                            notation,
+                            location: at,
+                        })
+                    }
+                    Err(reason) => {
+                        self.diagnostics.push(
+                            Diagnostic::new(Code::BadWeight, at, format!("bad weight: {reason}"))
                                 .with_label("not a usable weight")
                                 .with_help(
                                     "write a weight as a decimal `0.25`, a fraction `1/4` or a \
-                                         percentage `25%`",
+                                     percentage `25%`",
                                 ),
-                            );
-                            self.grammar.mark_damaged(nt);
-                            (None, Share::Broken)
-                        }
+                        );
+                        self.grammar.mark_damaged(nt);
+                        is_broken = true;
                     }
                 }
-            };
+            }
             let (rhs, rhs_locations) = self.rhs(file, alt);
             rules.push(Rule {
                 lhs: nt,
@@ -460,12 +500,20 @@ impl Lowerer<'_> {
                 location: Location::new(file, alt.span),
                 doc: alt.doc.as_ref().map(|d| d.text()),
             });
-            shares.push(share);
+            broken.push(is_broken);
         }
+        let shares: Vec<Share<'_>> = rules
+            .iter()
+            .zip(&broken)
+            .map(|(rule, &broken)| match &rule.weight {
+                Some(w) => Share::Weighted(&w.value),
+                None if broken => Share::Broken,
+                None => Share::Unweighted,
+            })
+            .collect();
         let probabilities = resolve_block(relative, &shares);
-        let mut mass = Ratio::zero();
+        let mass = exact_sum(&probabilities);
         for (mut rule, probability) in rules.into_iter().zip(probabilities) {
-            mass += &probability;
             rule.p = model::to_f64(&probability);
             rule.probability = probability;
             self.grammar.push_rule(rule);
@@ -473,6 +521,23 @@ impl Lowerer<'_> {
         if let Some(info) = &mut self.grammar.nonterminals[nt.index()].block {
             info.mass = mass;
         }
+    }
+
+    /// Reads a weight, remembering each distinct spelling: grammars repeat
+    /// the same few weights many times.
+    fn read_weight(
+        &mut self,
+        file: FileId,
+        span: Span,
+    ) -> Result<(String, Ratio, model::Notation), String> {
+        let text = span.text(&self.sources.get(file).text);
+        if let Some((value, notation)) = self.weights.get(text) {
+            return Ok((text.to_string(), value.clone(), *notation));
+        }
+        let (value, notation) = crate::weight::parse_weight(text)?;
+        self.weights
+            .insert(text.to_string(), (value.clone(), notation));
+        Ok((text.to_string(), value, notation))
     }
 
     fn test(&mut self, file: FileId, test: &ast::TestBlock) {
@@ -522,65 +587,99 @@ mod tests {
         Ratio::new(BigInt::from(n), BigInt::from(d))
     }
 
-    fn w(n: i64, d: i64) -> Share {
-        Share::Weighted(r(n, d))
+    /// The weights of a block written as (numerator, denominator) pairs;
+    /// `None` is an unweighted alternative.
+    fn resolve(relative: bool, weights: &[Option<(i64, i64)>]) -> Vec<Ratio> {
+        let values: Vec<Option<Ratio>> = weights.iter().map(|w| w.map(|(n, d)| r(n, d))).collect();
+        let shares: Vec<Share<'_>> = values
+            .iter()
+            .map(|v| v.as_ref().map_or(Share::Unweighted, Share::Weighted))
+            .collect();
+        resolve_block(relative, &shares)
+    }
+
+    const U: Option<(i64, i64)> = None;
+
+    fn w(n: i64, d: i64) -> Option<(i64, i64)> {
+        Some((n, d))
     }
 
     #[test]
     fn unweighted_alternatives_share_the_whole_block_equally() {
         // Design doc, `Kind { "return" | "single" | "day" }`: 1/3 each.
-        let shares = vec![Share::Unweighted, Share::Unweighted, Share::Unweighted];
-        assert_eq!(resolve_block(false, &shares), vec![r(1, 3); 3]);
+        assert_eq!(resolve(false, &[U, U, U]), vec![r(1, 3); 3]);
     }
 
     #[test]
     fn unweighted_alternatives_share_what_the_weighted_ones_leave() {
         // 0.30 + 0.20 + 0.20 + 0.15 + 0.10 leaves 0.05 for the one unweighted.
-        let shares = vec![
-            w(3, 10),
-            w(1, 5),
-            w(1, 5),
-            w(3, 20),
-            w(1, 10),
-            Share::Unweighted,
-        ];
-        let p = resolve_block(false, &shares);
+        let p = resolve(false, &[w(3, 10), w(1, 5), w(1, 5), w(3, 20), w(1, 10), U]);
         assert_eq!(p[5], r(1, 20));
         assert_eq!(p.iter().sum::<Ratio>(), r(1, 1));
         // Two unweighted split the rest in halves.
-        let p = resolve_block(false, &[w(9, 10), Share::Unweighted, Share::Unweighted]);
+        let p = resolve(false, &[w(9, 10), U, U]);
         assert_eq!(p, vec![r(9, 10), r(1, 20), r(1, 20)]);
     }
 
     #[test]
     fn nothing_left_means_unweighted_alternatives_get_zero() {
-        let p = resolve_block(false, &[w(7, 10), w(3, 10), Share::Unweighted]);
+        let p = resolve(false, &[w(7, 10), w(3, 10), U]);
         assert_eq!(p, vec![r(7, 10), r(3, 10), r(0, 1)]);
-        let p = resolve_block(false, &[w(6, 5), Share::Unweighted]);
+        let p = resolve(false, &[w(6, 5), U]);
         assert_eq!(p, vec![r(6, 5), r(0, 1)]);
     }
 
     #[test]
     fn relative_blocks_divide_by_the_sum() {
         // Design doc, `Count relative { 6 "one" 3 "two" 1 "three" }`.
-        let p = resolve_block(true, &[w(6, 1), w(3, 1), w(1, 1)]);
+        let p = resolve(true, &[w(6, 1), w(3, 1), w(1, 1)]);
         assert_eq!(p, vec![r(6, 10), r(3, 10), r(1, 10)]);
         // An unweighted alternative counts as weight 1.
-        let p = resolve_block(true, &[w(3, 1), Share::Unweighted]);
+        let p = resolve(true, &[w(3, 1), U]);
         assert_eq!(p, vec![r(3, 4), r(1, 4)]);
         // A sum of 0 gives 0 everywhere instead of dividing by zero.
-        let p = resolve_block(true, &[w(0, 1), w(0, 1)]);
+        let p = resolve(true, &[w(0, 1), w(0, 1)]);
         assert_eq!(p, vec![r(0, 1), r(0, 1)]);
     }
 
     #[test]
     fn negative_and_unreadable_weights_count_as_zero() {
-        let p = resolve_block(false, &[w(5, 4), w(-1, 4)]);
+        let p = resolve(false, &[w(5, 4), w(-1, 4)]);
         assert_eq!(p, vec![r(5, 4), r(0, 1)]);
         let p = resolve_block(false, &[Share::Broken, Share::Unweighted]);
         assert_eq!(p, vec![r(0, 1), r(1, 1)]);
-        let p = resolve_block(true, &[w(-2, 1), w(1, 1), Share::Broken]);
+        let two = r(-2, 1);
+        let one = r(1, 1);
+        let p = resolve_block(
+            true,
+            &[Share::Weighted(&two), Share::Weighted(&one), Share::Broken],
+        );
         assert_eq!(p, vec![r(0, 1), r(1, 1), r(0, 1)]);
+    }
+
+    #[test]
+    fn exact_sums_agree_with_big_rationals_small_and_large() {
+        // The i128 fast path and the big-rational fallback must agree with
+        // plain big-rational addition (num-rational is the reference).
+        let terms = [
+            r(1, 3),
+            r(1, 7),
+            r(-5, 11),
+            r(i64::MAX, 3),
+            r(1, i64::MAX),
+            r(2, 9),
+            r(i64::MAX, i64::MAX - 1),
+        ];
+        for len in 0..=terms.len() {
+            let expected: Ratio = terms[..len].iter().sum();
+            let got = exact_sum(&terms[..len]);
+            assert_eq!(got, expected);
+            // Reduced exactly like `Ratio::new` would.
+            assert_eq!(got.numer(), expected.numer());
+            assert_eq!(got.denom(), expected.denom());
+        }
+        let huge = Ratio::new(BigInt::from(1), BigInt::from(1) << 100);
+        assert_eq!(exact_sum([&r(1, 2), &huge, &r(1, 2)]), r(1, 1) + &huge);
     }
 
     // A hand-written syntax tree, so lowering is tested on its own.

@@ -1,6 +1,7 @@
 //! Name checks: `undefined`, `no-start`, `unknown-start` and `duplicate-rule`.
 
 use super::suggest::Suggester;
+use super::FastHash;
 use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::model::{Grammar, RuleId, Sym};
 use crate::source::{FileId, SourceMap};
@@ -8,10 +9,31 @@ use crate::span::Span;
 use std::collections::HashMap;
 
 pub fn check(grammar: &Grammar, sources: &SourceMap, out: &mut Vec<Diagnostic>) {
-    let suggester = Suggester::new(defined_in_source_order(grammar).map(|nt| grammar.nt_name(nt)));
-    undefined(grammar, &suggester, out);
-    start(grammar, sources, &suggester, out);
+    let suggester = Lazy {
+        grammar,
+        suggester: None,
+    };
+    let mut suggester = suggester;
+    undefined(grammar, &mut suggester, out);
+    start(grammar, sources, &mut suggester, out);
     duplicate_rules(grammar, out);
+}
+
+/// The suggester over every defined name, built only when a name is wrong.
+struct Lazy<'a> {
+    grammar: &'a Grammar,
+    suggester: Option<Suggester<'a>>,
+}
+
+impl<'a> Lazy<'a> {
+    fn closest(&mut self, wrong: &str) -> Option<&'a str> {
+        let grammar = self.grammar;
+        self.suggester
+            .get_or_insert_with(|| {
+                Suggester::new(defined_in_source_order(grammar).map(|nt| grammar.nt_name(nt)))
+            })
+            .closest(wrong)
+    }
 }
 
 /// Defined non-terminals ordered by where their block is written.
@@ -31,7 +53,7 @@ fn did_you_mean(suggestion: Option<&str>) -> String {
     suggestion.map_or(String::new(), |s| format!("; did you mean `{s}`?"))
 }
 
-fn undefined(grammar: &Grammar, suggester: &Suggester, out: &mut Vec<Diagnostic>) {
+fn undefined(grammar: &Grammar, suggester: &mut Lazy, out: &mut Vec<Diagnostic>) {
     for nt in grammar.nt_ids() {
         let symbol = grammar.nonterminal(nt);
         if symbol.is_defined() {
@@ -76,7 +98,7 @@ fn undefined(grammar: &Grammar, suggester: &Suggester, out: &mut Vec<Diagnostic>
     }
 }
 
-fn start(grammar: &Grammar, sources: &SourceMap, suggester: &Suggester, out: &mut Vec<Diagnostic>) {
+fn start(grammar: &Grammar, sources: &SourceMap, suggester: &mut Lazy, out: &mut Vec<Diagnostic>) {
     match (grammar.start, grammar.start_location) {
         (Some(start), Some(at)) => {
             let symbol = grammar.nonterminal(start);
@@ -124,7 +146,7 @@ fn start(grammar: &Grammar, sources: &SourceMap, suggester: &Suggester, out: &mu
 }
 
 fn duplicate_rules(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
-    let mut seen: HashMap<&[Sym], RuleId> = HashMap::new();
+    let mut seen: HashMap<&[Sym], RuleId, FastHash> = HashMap::default();
     for nt in grammar.nt_ids() {
         seen.clear();
         for (id, rule) in grammar.rules_of(nt) {

@@ -15,6 +15,7 @@
 
 use super::number_text;
 use crate::diagnostic::{Code, Diagnostic};
+use crate::lower::exact_sum;
 use crate::model::{fraction, Grammar, Ratio};
 use num_traits::{One, Signed, Zero};
 
@@ -25,14 +26,14 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
         };
         let name = grammar.nt_name(nt);
         let mut has_negative = false;
-        let mut weighted = Ratio::zero();
+        let mut weights = Vec::new();
         let mut unweighted = Vec::new();
         for (id, rule) in grammar.rules_of(nt) {
             let Some(weight) = &rule.weight else {
                 unweighted.push(rule);
                 continue;
             };
-            weighted += &weight.value;
+            weights.push(&weight.value);
             if weight.value.is_zero() {
                 out.push(
                     Diagnostic::new(
@@ -72,6 +73,7 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
             continue;
         }
         if let Some((first, rest)) = unweighted.split_first() {
+            let weighted = exact_sum(weights);
             if weighted >= Ratio::one() {
                 let how_much = if weighted.is_one() {
                     "sum to 1, the whole probability of the block".to_string()
