@@ -50,10 +50,21 @@ pub enum Origin {
 #[derive(Clone, Copy, Debug)]
 pub(crate) struct BinRule {
     pub lp: f64,
+    pub parent: u32,
+    pub right: u32,
+}
+
+/// The same rule with its linear probability, for the inside pass.
+#[derive(Clone, Copy, Debug)]
+pub(crate) struct LinRule {
     pub p: f64,
     pub parent: u32,
     pub right: u32,
 }
+
+/// Largest symbol count for which the dense `(left, right) → rules` table
+/// is built (`n_sym²` entries of 4 bytes: at most 16 MiB).
+const MAX_PAIR_TABLE_SYMBOLS: usize = 2048;
 
 /// A lexical entry: `sym → word`.
 #[derive(Clone, Copy, Debug)]
@@ -125,6 +136,10 @@ pub struct CompiledGrammar {
     /// `bin[left_offsets[b]..left_offsets[b + 1]]`.
     pub(crate) left_offsets: Vec<u32>,
     pub(crate) bin: Vec<BinRule>,
+    pub(crate) bin_lin: Vec<LinRule>,
+    /// When the grammar is small enough: rules with left child `b` and right
+    /// child `c` are `bin[pair_offsets[b·n + c]..pair_offsets[b·n + c + 1]]`.
+    pub(crate) pair_offsets: Option<Vec<u32>>,
     /// Left child, probability and origin of each binary rule (cold data).
     pub(crate) bin_left: Vec<u32>,
     pub(crate) bin_p: Vec<f64>,
@@ -217,9 +232,12 @@ impl CompiledGrammar {
         let n_sym = b.kinds.len();
         // Group binary rules by left child (stable: source order inside a group).
         let mut order: Vec<usize> = (0..b.bins.len()).collect();
-        order.sort_by_key(|&i| (b.bins[i].1, b.bins[i].0, b.bins[i].2));
+        order.sort_by_key(|&i| (b.bins[i].1, b.bins[i].2, b.bins[i].0));
         let mut left_offsets = vec![0u32; n_sym + 1];
         let mut bin = Vec::with_capacity(order.len());
+        let mut bin_lin = Vec::with_capacity(order.len());
+        let mut pair_counts =
+            (n_sym <= MAX_PAIR_TABLE_SYMBOLS).then(|| vec![0u32; n_sym * n_sym + 1]);
         let mut bin_left = Vec::with_capacity(order.len());
         let mut bin_p = Vec::with_capacity(order.len());
         let mut bin_origin = Vec::with_capacity(order.len());
@@ -231,10 +249,13 @@ impl CompiledGrammar {
             by_parent[parent as usize].push(bin.len() as u32);
             bin.push(BinRule {
                 lp: p.ln(),
-                p,
                 parent,
                 right,
             });
+            bin_lin.push(LinRule { p, parent, right });
+            if let Some(counts) = pair_counts.as_mut() {
+                counts[left as usize * n_sym + right as usize + 1] += 1;
+            }
             min_lp = min_lp.min(p.ln());
             bin_left.push(left);
             bin_p.push(p);
@@ -242,6 +263,13 @@ impl CompiledGrammar {
         }
         for s in 0..n_sym {
             left_offsets[s + 1] += left_offsets[s];
+        }
+        // Prefix sums turn the per-pair counts into offsets (rules are
+        // sorted by left, then right child).
+        if let Some(counts) = pair_counts.as_mut() {
+            for x in 1..counts.len() {
+                counts[x] += counts[x - 1];
+            }
         }
         for entries in b.lexicon.values() {
             for e in entries {
@@ -278,6 +306,8 @@ impl CompiledGrammar {
             start: start.0,
             left_offsets,
             bin,
+            bin_lin,
+            pair_offsets: pair_counts,
             bin_left,
             bin_p,
             bin_origin,
@@ -362,6 +392,16 @@ impl CompiledGrammar {
 
     pub(crate) fn binary_rule_range(&self, left: u32) -> std::ops::Range<usize> {
         self.left_offsets[left as usize] as usize..self.left_offsets[left as usize + 1] as usize
+    }
+
+    /// How to visit the rules of left child `b` against a right cell with
+    /// `right_present` symbols: by looking up each (b, c) pair when that is
+    /// fewer steps than scanning all of `b`'s rules.
+    #[inline]
+    pub(crate) fn use_pairs(&self, b: u32, right_present: usize) -> Option<&[u32]> {
+        let table = self.pair_offsets.as_deref()?;
+        let rules = self.left_offsets[b as usize + 1] - self.left_offsets[b as usize];
+        (2 * right_present < rules as usize).then_some(table)
     }
 }
 

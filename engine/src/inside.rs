@@ -75,11 +75,26 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str], vit: &ViterbiChart) -> I
                         let f = (s - scale).exp();
                         let left = &lin_done[l * n_sym..(l + 1) * n_sym];
                         let right = &lin_done[r * n_sym..(r + 1) * n_sym];
+                        let rp = vit.present(r);
                         for &b in vit.present(l) {
                             let lb = left[b as usize] * f;
-                            for rule in &g.bin[g.binary_rule_range(b)] {
-                                let rc = right[rule.right as usize];
-                                acc[rule.parent as usize] += rule.p * lb * rc;
+                            if let Some(table) = g.use_pairs(b, rp.len()) {
+                                let base = b as usize * n_sym;
+                                for &c in rp {
+                                    let s = table[base + c as usize] as usize;
+                                    let e = table[base + c as usize + 1] as usize;
+                                    if s < e {
+                                        let lbc = lb * right[c as usize];
+                                        for rule in &g.bin_lin[s..e] {
+                                            acc[rule.parent as usize] += rule.p * lbc;
+                                        }
+                                    }
+                                }
+                            } else {
+                                for rule in &g.bin_lin[g.binary_rule_range(b)] {
+                                    let rc = right[rule.right as usize];
+                                    acc[rule.parent as usize] += rule.p * lb * rc;
+                                }
                             }
                         }
                     } else {

@@ -164,18 +164,7 @@ impl Parser {
         words: &[S],
         options: &ParseOptions,
     ) -> Result<ParseOutcome, ParseError> {
-        if words.is_empty() {
-            return Err(ParseError::EmptySentence);
-        }
-        let needed = self.chart_bytes(words.len(), options);
-        if needed > options.max_chart_bytes {
-            return Err(ParseError::ChartTooLarge {
-                words: words.len(),
-                needed_bytes: needed,
-                limit_bytes: options.max_chart_bytes,
-            });
-        }
-        let words: Vec<&str> = words.iter().map(|w| w.as_ref()).collect();
+        let words = self.check_size(words, options)?;
         let g = &self.grammar;
         let n = words.len();
         let vit = viterbi::fill(g, &words);
@@ -210,6 +199,81 @@ impl Parser {
             parse_count: options.count_parses.then(|| count_parses(g, &words, &vit)),
             explanation: None,
         })
+    }
+
+    /// Only the most probable tree (the Viterbi pass): the fast path when
+    /// nothing else is needed. `Ok(None)` when the sentence does not parse.
+    pub fn best_tree<S: AsRef<str>>(
+        &self,
+        words: &[S],
+        max_chart_bytes: u64,
+    ) -> Result<Option<ParsedTree>, ParseError> {
+        let options = ParseOptions {
+            kbest: 1,
+            max_chart_bytes,
+            count_parses: false,
+            explain: false,
+        };
+        let words = self.check_size(words, &options)?;
+        let g = &self.grammar;
+        let vit = viterbi::fill(g, &words);
+        Ok(best_derivation(g, &vit, &words, 0, words.len(), g.start)
+            .map(|d| self.tree_of(&words, &d)))
+    }
+
+    /// The number of binary-rule evaluations one chart pass makes for
+    /// `words`: one rule tried at one split point with both children present.
+    /// Counted in a separate pass over a filled chart (for benchmarks; the
+    /// parsing loops themselves count nothing).
+    pub fn binary_evaluations<S: AsRef<str>>(
+        &self,
+        words: &[S],
+        max_chart_bytes: u64,
+    ) -> Result<u64, ParseError> {
+        let options = ParseOptions {
+            max_chart_bytes,
+            count_parses: false,
+            ..ParseOptions::default()
+        };
+        let words = self.check_size(words, &options)?;
+        let g = &self.grammar;
+        let vit = viterbi::fill(g, &words);
+        let layout = vit.layout;
+        let mut evals = 0u64;
+        for len in 2..=layout.n {
+            for i in 0..=layout.n - len {
+                let j = i + len;
+                for k in i + 1..j {
+                    let r = layout.cell(k, j) * layout.n_sym;
+                    for &b in vit.present(layout.cell(i, k)) {
+                        evals += g.bin[g.binary_rule_range(b)]
+                            .iter()
+                            .filter(|rule| vit.score[r + rule.right as usize] > f64::NEG_INFINITY)
+                            .count() as u64;
+                    }
+                }
+            }
+        }
+        Ok(evals)
+    }
+
+    fn check_size<'w, S: AsRef<str>>(
+        &self,
+        words: &'w [S],
+        options: &ParseOptions,
+    ) -> Result<Vec<&'w str>, ParseError> {
+        if words.is_empty() {
+            return Err(ParseError::EmptySentence);
+        }
+        let needed = self.chart_bytes(words.len(), options);
+        if needed > options.max_chart_bytes {
+            return Err(ParseError::ChartTooLarge {
+                words: words.len(),
+                needed_bytes: needed,
+                limit_bytes: options.max_chart_bytes,
+            });
+        }
+        Ok(words.iter().map(|w| w.as_ref()).collect())
     }
 
     /// Parses a line of text split on whitespace.

@@ -79,10 +79,29 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str]) -> ViterbiChart {
                     let right = &done[r * n_sym..(r + 1) * n_sym];
                     let lp_start = present_start[l] as usize;
                     let lp_end = present_start[l + 1] as usize;
+                    let rp = &present[present_start[r] as usize..present_start[r + 1] as usize];
                     for &b in &present[lp_start..lp_end] {
                         let lb = left[b as usize];
-                        let rules = &g.bin[g.binary_rule_range(b)];
-                        combine_max(rules, lb, right, &mut pre);
+                        if let Some(table) = g.use_pairs(b, rp.len()) {
+                            let base = b as usize * n_sym;
+                            for &c in rp {
+                                let s = table[base + c as usize] as usize;
+                                let e = table[base + c as usize + 1] as usize;
+                                if s < e {
+                                    let lbc = lb + right[c as usize];
+                                    for rule in &g.bin[s..e] {
+                                        let cand = rule.lp + lbc;
+                                        let slot = &mut pre[rule.parent as usize];
+                                        if cand > *slot {
+                                            *slot = cand;
+                                        }
+                                    }
+                                }
+                            }
+                        } else {
+                            let rules = &g.bin[g.binary_rule_range(b)];
+                            combine_max(rules, lb, right, &mut pre);
+                        }
                     }
                 }
             }

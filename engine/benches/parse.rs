@@ -1,0 +1,244 @@
+//! Parsing speed.
+//!
+//! (a) A generated grammar of the size of a treebank grammar: 300
+//!     non-terminals (50 word classes, 250 phrase symbols), 30,000 binary
+//!     rules and a 2,000-word lexicon; 40-word sentences. Reports binary-rule
+//!     evaluations per second (one rule tried at one split point with both
+//!     children present — counted once in the setup by
+//!     `Parser::binary_evaluations`, never in the timed loop) and sentences
+//!     per second, for the Viterbi pass alone and for a full parse
+//!     (Viterbi + inside; no parse count, which uses big integers).
+//! (b) The ferry-kiosk example grammar (`examples/ferry_kiosk.trellis`) with
+//!     15-word sentences sampled from it: full parse including the parse count.
+
+use criterion::{criterion_group, criterion_main, Criterion, Throughput};
+use grammar_lang::model::{Grammar, NtId, Rule, Sym};
+use grammar_lang::{FileId, Location, MemoryLoader, Span};
+use num_bigint::BigInt;
+use std::hint::black_box;
+use std::path::Path;
+use trellis_engine::parser::{ParseOptions, Parser, DEFAULT_MAX_CHART_BYTES};
+
+/// SplitMix64 (Steele, Lea & Flood 2014).
+struct Rng(u64);
+impl Rng {
+    fn next(&mut self) -> u64 {
+        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+        let mut z = self.0;
+        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+        z ^ (z >> 31)
+    }
+    fn below(&mut self, n: usize) -> usize {
+        (self.next() % n as u64) as usize
+    }
+}
+
+fn push(g: &mut Grammar, lhs: NtId, rhs: Vec<Sym>, weight: u64, sum: u64) {
+    let loc = Location::new(FileId(0), Span::new(0, 0));
+    let probability = grammar_lang::model::Ratio::new(BigInt::from(weight), BigInt::from(sum));
+    g.push_rule(Rule {
+        lhs,
+        rhs_locations: vec![loc; rhs.len()],
+        rhs,
+        weight: None,
+        p: weight as f64 / sum as f64,
+        probability,
+        location: loc,
+        doc: None,
+    });
+}
+
+const CLASSES: usize = 50;
+const PHRASES: usize = 250;
+const BINARY_RULES: usize = 30_000;
+const WORDS: usize = 2_000;
+
+fn generated_grammar() -> Grammar {
+    let mut rng = Rng(0x5eed);
+    let mut g = Grammar::new();
+    let names: Vec<String> = (0..CLASSES)
+        .map(|i| format!("C{i}"))
+        .chain((0..PHRASES).map(|i| format!("P{i}")))
+        .collect();
+    let nts: Vec<NtId> = names.iter().map(|n| g.intern_nt(n)).collect();
+    g.start = Some(nts[CLASSES]);
+    // Binary rules: each phrase symbol gets 120 distinct (left, right) pairs.
+    let per_phrase = BINARY_RULES / PHRASES;
+    for p in 0..PHRASES {
+        let mut pairs = std::collections::HashSet::new();
+        while pairs.len() < per_phrase {
+            pairs.insert((rng.below(nts.len()), rng.below(nts.len())));
+        }
+        let weights: Vec<u64> = (0..per_phrase).map(|_| 1 + rng.below(9) as u64).collect();
+        let sum = weights.iter().sum();
+        let mut pairs: Vec<_> = pairs.into_iter().collect();
+        pairs.sort_unstable();
+        for ((l, r), w) in pairs.into_iter().zip(weights) {
+            push(
+                &mut g,
+                nts[CLASSES + p],
+                vec![Sym::N(nts[l]), Sym::N(nts[r])],
+                w,
+                sum,
+            );
+        }
+    }
+    // Lexicon: every word belongs to one or two word classes.
+    let mut by_class: Vec<Vec<usize>> = vec![Vec::new(); CLASSES];
+    for w in 0..WORDS {
+        by_class[w % CLASSES].push(w);
+        if rng.below(3) == 0 {
+            by_class[rng.below(CLASSES)].push(w);
+        }
+    }
+    for (c, words) in by_class.iter().enumerate() {
+        let sum = words.len() as u64;
+        for &w in words {
+            let t = g.intern_term(&format!("w{w}"));
+            push(&mut g, nts[c], vec![Sym::T(t)], 1, sum);
+        }
+    }
+    g
+}
+
+fn bench_generated(c: &mut Criterion) {
+    let g = generated_grammar();
+    let parser = Parser::new(&g).expect("the generated grammar compiles");
+    let mut rng = Rng(40);
+    let sentences: Vec<Vec<String>> = (0..4)
+        .map(|_| (0..40).map(|_| format!("w{}", rng.below(WORDS))).collect())
+        .collect();
+    let evals: u64 = sentences
+        .iter()
+        .map(|s| {
+            parser
+                .binary_evaluations(s, DEFAULT_MAX_CHART_BYTES)
+                .expect("fits")
+        })
+        .sum();
+    eprintln!(
+        "generated grammar: {} compiled symbols, {} binary rules; {} binary-rule evaluations per 40-word sentence",
+        parser.compiled().symbol_count(),
+        parser.compiled().binary_rule_count(),
+        evals / sentences.len() as u64
+    );
+    let options = ParseOptions {
+        kbest: 1,
+        count_parses: false,
+        explain: false,
+        ..ParseOptions::default()
+    };
+    let mut group = c.benchmark_group("generated_300nt_30k_rules_40_words");
+    group.sample_size(10);
+    group.throughput(Throughput::Elements(evals));
+    group.bench_function("viterbi_evaluations", |b| {
+        b.iter(|| {
+            for s in &sentences {
+                black_box(
+                    parser
+                        .best_tree(black_box(s), DEFAULT_MAX_CHART_BYTES)
+                        .expect("fits"),
+                );
+            }
+        })
+    });
+    group.bench_function("viterbi_and_inside_evaluations", |b| {
+        b.iter(|| {
+            for s in &sentences {
+                black_box(parser.parse(black_box(s), &options).expect("fits"));
+            }
+        })
+    });
+    group.throughput(Throughput::Elements(sentences.len() as u64));
+    group.bench_function("full_parse_sentences", |b| {
+        b.iter(|| {
+            for s in &sentences {
+                black_box(parser.parse(black_box(s), &options).expect("fits"));
+            }
+        })
+    });
+    group.finish();
+}
+
+/// Samples a sentence top-down; `None` past `limit` words.
+fn sample(
+    g: &Grammar,
+    rng: &mut Rng,
+    sym: NtId,
+    limit: usize,
+    out: &mut Vec<String>,
+) -> Option<()> {
+    let r = rng.next() as f64 / u64::MAX as f64;
+    let mut acc = 0.0;
+    let rules: Vec<_> = g.rules_of(sym).collect();
+    let (_, rule) = rules
+        .iter()
+        .find(|(_, rule)| {
+            acc += rule.p;
+            r < acc
+        })
+        .or(rules.last())?;
+    for &item in &rule.rhs {
+        match item {
+            Sym::T(t) => out.push(g.term_text(t).to_string()),
+            Sym::N(n) => sample(g, rng, n, limit, out)?,
+        }
+        if out.len() > limit {
+            return None;
+        }
+    }
+    Some(())
+}
+
+fn bench_ferry(c: &mut Criterion) {
+    let dir = Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples");
+    let read =
+        |name: &str| std::fs::read_to_string(dir.join(name)).expect("the ferry example exists");
+    let loader = MemoryLoader::new().with(
+        dir.join("ferry_lexicon.trellis"),
+        read("ferry_lexicon.trellis"),
+    );
+    let analysis = grammar_lang::analyze(
+        &dir.join("ferry_kiosk.trellis"),
+        &read("ferry_kiosk.trellis"),
+        &loader,
+        &grammar_lang::Config::default(),
+    );
+    assert!(
+        !analysis.has_errors(),
+        "the ferry example has errors: {:?}",
+        analysis.diagnostics
+    );
+    let g = analysis.grammar;
+    let parser = Parser::new(&g).expect("the ferry grammar compiles");
+    let mut rng = Rng(15);
+    let mut sentences = Vec::new();
+    let start = g.start.expect("the ferry grammar has a start");
+    while sentences.len() < 20 {
+        let mut words = Vec::new();
+        if sample(&g, &mut rng, start, 15, &mut words).is_some() && words.len() == 15 {
+            sentences.push(words);
+        }
+    }
+    let options = ParseOptions::default();
+    for s in &sentences {
+        assert!(
+            parser.parse(s, &options).expect("fits").parsed(),
+            "sampled sentence must parse"
+        );
+    }
+    let mut group = c.benchmark_group("ferry_kiosk_15_words");
+    group.throughput(Throughput::Elements(sentences.len() as u64));
+    group.bench_function("full_parse_sentences", |b| {
+        b.iter(|| {
+            for s in &sentences {
+                black_box(parser.parse(black_box(s), &options).expect("fits"));
+            }
+        })
+    });
+    group.finish();
+}
+
+criterion_group!(benches, bench_generated, bench_ferry);
+criterion_main!(benches);
