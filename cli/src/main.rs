@@ -35,12 +35,21 @@ enum Command {
     /// add up, undefined or unreachable symbols, syntax errors and more.
     #[command(long_about = commands::check::LONG_ABOUT)]
     Check(commands::check::CheckArgs),
+    /// Draw random sentences or trees from a grammar, reproducibly with --seed.
+    #[command(long_about = commands::sample::LONG_ABOUT)]
+    Sample(commands::sample::SampleArgs),
+    /// Whether the grammar's probability ends on finite sentences, expected
+    /// sentence length and how often each symbol is used.
+    #[command(long_about = commands::stats::LONG_ABOUT)]
+    Stats(commands::stats::StatsArgs),
 }
 
 fn main() -> ExitCode {
     let cli = Cli::parse();
     let outcome = match cli.command {
         Command::Check(args) => commands::check::run(&args),
+        Command::Sample(args) => commands::sample::run(&args),
+        Command::Stats(args) => commands::stats::run(&args),
     };
     outcome.into()
 }

@@ -651,8 +651,8 @@ pub fn leaky_diagnostic(g: &Grammar, report: &ConsistencyReport) -> Option<Diagn
             LeakCause::Recursion { growth } => {
                 growing.push(names.clone());
                 format!(
-                    "{names} recurses too much: each use is expected to produce {} more \
-                     (at most 1 keeps derivations finite); it ends with probability {}",
+                    "{names} recurses too much: on average each use leads to {} more \
+                     (derivations stay finite only below 1); it ends with probability {}",
                     show(growth),
                     show(source.termination_probability)
                 )

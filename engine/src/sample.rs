@@ -30,8 +30,10 @@ use std::fmt;
 const TERM_BIT: u32 = 1 << 31;
 
 /// A derivation size limit for interactive use: generous for any tight
-/// grammar, quick to hit for a leaky one.
-pub const DEFAULT_LIMIT: usize = 100_000;
+/// grammar, quick to hit for a leaky one, and small enough that the
+/// recursive printing and dropping of a [`Tree`] of that depth is safe on
+/// a default thread stack.
+pub const DEFAULT_LIMIT: usize = 10_000;
 
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub enum SampleError {

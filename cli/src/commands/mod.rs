@@ -2,6 +2,8 @@
 //! and how output is shaped.
 
 pub mod check;
+pub mod sample;
+pub mod stats;
 
 use std::io::IsTerminal;
 use std::process::ExitCode;

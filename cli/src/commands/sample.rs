@@ -1,0 +1,252 @@
+//! `trellis sample`: draw random sentences (or trees) from a grammar.
+
+use super::{emit, use_color, Outcome, Stream};
+use crate::config_file::Resolver;
+use crate::fs_loader::{self, DiskLoader};
+use crate::render::HumanRenderer;
+use grammar_lang::model::NtId;
+use grammar_lang::{Analysis, Severity};
+use serde::Serialize;
+use std::path::{Path, PathBuf};
+use trellis_engine::rng::Xoshiro256StarStar;
+use trellis_engine::sample::{SampleError, Sampler, DEFAULT_LIMIT};
+
+pub const LONG_ABOUT: &str = "Draw random sentences from a grammar.\n\n\
+    Each sentence is built top-down from the start symbol (or --from), choosing \
+    every rule with its probability. The same --seed always gives the same \
+    output, on every machine. A derivation that needs more than --max-rules \
+    rule applications is abandoned and counted: that happens when the grammar \
+    gives probability to derivations that never end (`trellis stats` says how \
+    much).\n\n\
+    Exit status: 0 when every draw produced a sentence; 1 when the grammar has \
+    errors or some draws were abandoned; 2 when the file cannot be read, the \
+    configuration is invalid or --from names no symbol.";
+
+/// Output format of `trellis sample`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+pub enum SampleFormat {
+    /// One sentence (or tree) per line.
+    Text,
+    /// One JSON object {"seed", "from", "samples": [{"sentence", "tree"?}], "abandoned"}.
+    Json,
+}
+
+/// Arguments of `trellis sample`.
+#[derive(clap::Args, Debug, Clone)]
+pub struct SampleArgs {
+    /// The grammar file (its `use`d files are read too)
+    #[arg(value_name = "GRAMMAR")]
+    pub grammar: PathBuf,
+
+    /// How many sentences to draw
+    #[arg(short = 'n', long = "count", value_name = "N", default_value_t = 10)]
+    pub count: usize,
+
+    /// Seed of the random generator [default: taken from the clock]
+    #[arg(long, value_name = "S")]
+    pub seed: Option<u64>,
+
+    /// Start from this non-terminal instead of the grammar's `start`
+    #[arg(long, value_name = "SYMBOL")]
+    pub from: Option<String>,
+
+    /// Print labelled-bracket trees instead of sentences
+    #[arg(long)]
+    pub trees: bool,
+
+    /// Abandon a derivation after this many rule applications
+    #[arg(long, value_name = "N", default_value_t = DEFAULT_LIMIT)]
+    pub max_rules: usize,
+
+    #[arg(long, value_enum, default_value_t = SampleFormat::Text)]
+    pub format: SampleFormat,
+}
+
+/// A grammar read and analysed for the engine commands.
+pub struct Loaded {
+    pub analysis: Analysis,
+}
+
+/// Reads and analyses the grammar at `path` with its trellis.toml. Errors in
+/// the grammar are rendered on stderr and end the command (status 1): the
+/// engine's numbers would describe a grammar other than the one meant.
+pub fn load_grammar(path: &Path, command: &str) -> Result<Loaded, Outcome> {
+    let config = match Resolver::new().for_grammar(path) {
+        Ok(config) => config,
+        Err(problem) => {
+            emit(
+                Stream::Stderr,
+                &format!(
+                    "error: {} is not a valid trellis configuration; `trellis check {}` shows why\n",
+                    problem.path.display(),
+                    path.display()
+                ),
+            );
+            return Err(Outcome::Failure);
+        }
+    };
+    let text = match fs_loader::read_text(path) {
+        Ok(text) => text,
+        Err(reason) => {
+            emit(
+                Stream::Stderr,
+                &format!("error: cannot read {}: {reason}\n", path.display()),
+            );
+            return Err(Outcome::Failure);
+        }
+    };
+    let analysis = grammar_lang::analyze(path, &text, &DiskLoader, &config);
+    if analysis.has_errors() {
+        let mut renderer = HumanRenderer::new(&analysis.sources, use_color(Stream::Stderr));
+        let mut out = String::new();
+        for d in analysis
+            .diagnostics
+            .iter()
+            .filter(|d| d.severity == Severity::Error)
+        {
+            out.push_str(&renderer.render(d));
+            out.push('\n');
+        }
+        out.push_str(&format!(
+            "error: {} has errors, so trellis {command} did not run; fix them first \
+             (`trellis check` lists every finding)\n",
+            path.display()
+        ));
+        emit(Stream::Stderr, &out);
+        return Err(Outcome::Findings);
+    }
+    Ok(Loaded { analysis })
+}
+
+/// The symbol named by `--from`, or the grammar's start.
+pub fn root_symbol(analysis: &Analysis, from: Option<&str>) -> Result<NtId, Outcome> {
+    let g = &analysis.grammar;
+    match from {
+        Some(name) => match g.nt(name).filter(|&a| g.nonterminal(a).is_defined()) {
+            Some(a) => Ok(a),
+            None => {
+                emit(
+                    Stream::Stderr,
+                    &format!("error: --from {name}: the grammar has no block named `{name}`\n"),
+                );
+                Err(Outcome::Failure)
+            }
+        },
+        None => g.start.ok_or_else(|| {
+            emit(
+                Stream::Stderr,
+                "error: the grammar has no `start` declaration; name a symbol with --from\n",
+            );
+            Outcome::Failure
+        }),
+    }
+}
+
+#[derive(Serialize)]
+struct JsonSample {
+    sentence: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    tree: Option<String>,
+}
+
+#[derive(Serialize)]
+struct JsonOutput<'a> {
+    seed: u64,
+    from: &'a str,
+    samples: Vec<JsonSample>,
+    abandoned: usize,
+}
+
+fn clock_seed() -> u64 {
+    std::time::SystemTime::now()
+        .duration_since(std::time::UNIX_EPOCH)
+        .map_or(0, |d| d.as_nanos() as u64)
+}
+
+/// Runs `trellis sample`.
+pub fn run(args: &SampleArgs) -> Outcome {
+    let loaded = match load_grammar(&args.grammar, "sample") {
+        Ok(l) => l,
+        Err(outcome) => return outcome,
+    };
+    let g = &loaded.analysis.grammar;
+    let from = match root_symbol(&loaded.analysis, args.from.as_deref()) {
+        Ok(a) => a,
+        Err(outcome) => return outcome,
+    };
+    let sampler = match Sampler::new(g).and_then(|s| s.check(from).map(|()| s)) {
+        Ok(s) => s,
+        Err(e) => {
+            emit(Stream::Stderr, &format!("error: {e}\n"));
+            return Outcome::Findings;
+        }
+    };
+    let seed = args.seed.unwrap_or_else(clock_seed);
+    let mut rng = Xoshiro256StarStar::seed_from_u64(seed);
+    let mut samples = Vec::with_capacity(args.count.min(1 << 20));
+    let mut abandoned = 0usize;
+    let mut last_error = None;
+    for _ in 0..args.count {
+        let drawn = if args.trees {
+            sampler
+                .tree(&mut rng, from, args.max_rules)
+                .map(|t| JsonSample {
+                    sentence: t.words().join(" "),
+                    tree: Some(t.to_brackets()),
+                })
+        } else {
+            sampler
+                .sentence(&mut rng, from, args.max_rules)
+                .map(|s| JsonSample {
+                    sentence: sampler.text(&s),
+                    tree: None,
+                })
+        };
+        match drawn {
+            Ok(sample) => samples.push(sample),
+            Err(e @ SampleError::LimitExceeded { .. }) => {
+                abandoned += 1;
+                last_error = Some(e);
+            }
+            Err(e) => {
+                emit(Stream::Stderr, &format!("error: {e}\n"));
+                return Outcome::Findings;
+            }
+        }
+    }
+    match args.format {
+        SampleFormat::Text => {
+            let mut out = String::new();
+            for s in &samples {
+                out.push_str(s.tree.as_deref().unwrap_or(&s.sentence));
+                out.push('\n');
+            }
+            emit(Stream::Stdout, &out);
+        }
+        SampleFormat::Json => {
+            let doc = JsonOutput {
+                seed,
+                from: g.nt_name(from),
+                samples,
+                abandoned,
+            };
+            let mut out =
+                serde_json::to_string(&doc).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"));
+            out.push('\n');
+            emit(Stream::Stdout, &out);
+        }
+    }
+    if let Some(e) = last_error {
+        emit(
+            Stream::Stderr,
+            &format!(
+                "warning: {abandoned} of {} draws abandoned: {e}; `trellis stats {}` \
+                 shows how much probability is lost\n",
+                args.count,
+                args.grammar.display()
+            ),
+        );
+        return Outcome::Findings;
+    }
+    Outcome::Clean
+}
