@@ -66,5 +66,31 @@ fn bench_sampling(c: &mut Criterion) {
     });
 }
 
-criterion_group!(benches, bench_sampling);
+/// A grammar of `n` mutually recursive symbols (one strongly connected
+/// component): N_i → N_{i+1} N_j (0.3) | "w" N_k (0.2) | "w" (0.5), with j
+/// and k spread by fixed strides. Subcritical (each use makes 0.8 more).
+fn recursive_grammar(n: usize) -> grammar_lang::Grammar {
+    let mut text = String::from("start N0\n");
+    for i in 0..n {
+        let (a, b, c) = ((i + 1) % n, (i * 7 + 3) % n, (i * 13 + 5) % n);
+        text.push_str(&format!(
+            "N{i} {{\n  0.3 N{a} N{b}\n  0.2 \"w\" N{c}\n  0.5 \"w\"\n}}\n"
+        ));
+    }
+    grammar_lang::analyze_text(&text).grammar
+}
+
+fn bench_consistency(c: &mut Criterion) {
+    let mut group = c.benchmark_group("consistency_recursive");
+    group.sample_size(10);
+    for n in [50usize, 200] {
+        let g = recursive_grammar(n);
+        group.bench_function(format!("{n}_symbols"), |b| {
+            b.iter(|| black_box(consistency(&g).expect("has a start")))
+        });
+    }
+    group.finish();
+}
+
+criterion_group!(benches, bench_sampling, bench_consistency);
 criterion_main!(benches);

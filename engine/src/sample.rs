@@ -19,12 +19,21 @@
 //!   rules stops with [`SampleError::LimitExceeded`]. The walk uses an
 //!   explicit stack, so neither a deep nor a wide derivation can overflow
 //!   the call stack; memory is bounded by `limit` × the longest rule.
+//! * **Deep trees**: [`Tree`] prints and drops itself recursively, so
+//!   [`Sampler::tree`] refuses trees deeper than [`TREE_DEPTH_LIMIT`]
+//!   ([`SampleError::TreeTooDeep`]); sentences have no depth limit.
 
 use crate::prob_model::ProbModel;
 use crate::rng::RandomSource;
 use grammar_lang::model::{Grammar, NtId, RuleId, Sym, TermId};
 use grammar_lang::tree::Tree;
 use std::fmt;
+
+/// The deepest tree [`Sampler::tree`] returns. [`Tree`]'s printing and
+/// dropping recurse once per level; 5,000 levels stay well inside the
+/// 2 MiB stack of a spawned thread even in debug builds, and far exceed
+/// the depth of any tree people read.
+pub const TREE_DEPTH_LIMIT: usize = 5_000;
 
 /// Marks a terminal in the compiled right-hand sides.
 const TERM_BIT: u32 = 1 << 31;
@@ -49,6 +58,8 @@ pub enum SampleError {
     Unproductive { from: String, symbol: String },
     /// The derivation needed more than `limit` rule applications.
     LimitExceeded { from: String, limit: usize },
+    /// The sampled tree is deeper than [`TREE_DEPTH_LIMIT`].
+    TreeTooDeep { from: String, limit: usize },
     /// More than 2^31 symbols of one kind.
     TooLarge,
 }
@@ -88,6 +99,11 @@ impl fmt::Display for SampleError {
                 f,
                 "a derivation from `{from}` grew past {limit} rule applications; \
                  the grammar may give probability to derivations that never end"
+            ),
+            SampleError::TreeTooDeep { from, limit } => write!(
+                f,
+                "a tree sampled from `{from}` is more than {limit} levels deep; \
+                 sample the sentence instead"
             ),
             SampleError::TooLarge => write!(f, "the grammar is too large to sample from"),
         }
@@ -343,12 +359,25 @@ impl<'g> Sampler<'g> {
         limit: usize,
     ) -> Result<Tree, SampleError> {
         let d = self.derivation(rng, from, limit)?;
-        Ok(self.tree_of(&d))
+        self.build_tree(&d, TREE_DEPTH_LIMIT)
+            .ok_or_else(|| SampleError::TreeTooDeep {
+                from: self.grammar.nt_name(from).to_string(),
+                limit: TREE_DEPTH_LIMIT,
+            })
     }
 
     /// Builds the tree of a leftmost derivation as produced by
-    /// [`Sampler::derivation`] (iteratively, so depth is no concern here).
+    /// [`Sampler::derivation`] (iteratively). Symbols a derivation cut short
+    /// never expanded appear as childless nodes. The caller owns the depth
+    /// question: see [`TREE_DEPTH_LIMIT`].
     pub fn tree_of(&self, derivation: &[RuleId]) -> Tree {
+        self.build_tree(derivation, usize::MAX)
+            .unwrap_or_else(|| Tree::node("", Vec::new()))
+    }
+
+    /// The tree of `derivation`, or `None` when deeper than `max_depth`
+    /// (or empty).
+    fn build_tree(&self, derivation: &[RuleId], max_depth: usize) -> Option<Tree> {
         struct Frame {
             rule: usize,
             next: usize,
@@ -356,21 +385,22 @@ impl<'g> Sampler<'g> {
         }
         let g = self.grammar;
         let mut rules = derivation.iter();
-        let Some(first) = rules.next() else {
-            return Tree::node("", Vec::new());
-        };
+        let first = rules.next()?;
         let mut frames = vec![Frame {
             rule: first.index(),
             next: 0,
             children: Vec::new(),
         }];
-        while let Some(top) = frames.last_mut() {
+        loop {
+            let depth = frames.len();
+            let top = frames.last_mut()?;
             let rhs = &g.rules[top.rule].rhs;
             if let Some(&sym) = rhs.get(top.next) {
                 top.next += 1;
                 match sym {
                     Sym::T(t) => top.children.push(Tree::leaf(g.term_text(t))),
                     Sym::N(b) => match rules.next() {
+                        Some(_) if depth >= max_depth => return None,
                         Some(r) => frames.push(Frame {
                             rule: r.index(),
                             next: 0,
@@ -382,15 +412,13 @@ impl<'g> Sampler<'g> {
                 }
                 continue;
             }
-            let done = frames.pop();
-            let Some(done) = done else { break };
+            let done = frames.pop()?;
             let node = Tree::node(g.nt_name(g.rules[done.rule].lhs), done.children);
             match frames.last_mut() {
                 Some(parent) => parent.children.push(node),
-                None => return node,
+                None => return Some(node),
             }
         }
-        Tree::node("", Vec::new())
     }
 
     /// Joins terminal ids into the sentence text (words separated by spaces).

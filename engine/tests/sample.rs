@@ -352,3 +352,38 @@ fn undefined_and_unproductive_symbols_are_named_before_sampling() {
         .unwrap_err();
     assert!(matches!(err, SampleError::NoRules { ref symbol, .. } if symbol == "Z"));
 }
+
+#[test]
+fn a_tree_too_deep_to_print_safely_is_refused_but_its_sentence_is_not() {
+    // A chain N0 → "a" N1 → … → "a" N5999 → "a": exactly 6,000 levels, past
+    // the tree depth limit (5,000) and within the rule limit.
+    let depth = 6_000;
+    let rules: Vec<(String, String)> = (0..depth)
+        .map(|i| {
+            let rhs = if i + 1 < depth {
+                format!(r#""a" N{}"#, i + 1)
+            } else {
+                r#""a""#.to_string()
+            };
+            (format!("N{i}"), rhs)
+        })
+        .collect();
+    let spec: Vec<(&str, &str, f64)> = rules
+        .iter()
+        .map(|(a, b)| (a.as_str(), b.as_str(), 1.0))
+        .collect();
+    let g = grammar("N0", &spec);
+    let start = g.start.unwrap();
+    let sampler = Sampler::new(&g).unwrap();
+    let mut rng = Xoshiro256StarStar::seed_from_u64(1);
+    let err = sampler.tree(&mut rng, start, 10_000).unwrap_err();
+    assert_eq!(
+        err,
+        SampleError::TreeTooDeep {
+            from: "N0".into(),
+            limit: trellis_engine::sample::TREE_DEPTH_LIMIT
+        }
+    );
+    let sentence = sampler.sentence(&mut rng, start, 10_000).unwrap();
+    assert_eq!(sentence.len(), depth);
+}

@@ -204,7 +204,7 @@ pub fn run(args: &SampleArgs) -> Outcome {
         };
         match drawn {
             Ok(sample) => samples.push(sample),
-            Err(e @ SampleError::LimitExceeded { .. }) => {
+            Err(e @ (SampleError::LimitExceeded { .. } | SampleError::TreeTooDeep { .. })) => {
                 abandoned += 1;
                 last_error = Some(e);
             }
