@@ -560,3 +560,236 @@ fn semantic_tokens_classify_every_token_and_mark_definitions() {
         .collect();
     assert_eq!(got, vec!["2", "\"wört\"", "Ä"]);
 }
+
+// ── outline and symbol search ───────────────────────────────────────────
+
+#[test]
+fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
+    use grammar_lang::ide::{DocumentSymbol, SymbolKind};
+    let a = analysis();
+    let outline = ide::document_symbols(&a, L);
+    let summary: Vec<(&str, SymbolKind, Option<&str>, usize)> = outline
+        .iter()
+        .map(|s| {
+            (
+                s.name.as_str(),
+                s.kind,
+                s.detail.as_deref(),
+                s.children.len(),
+            )
+        })
+        .collect();
+    assert_eq!(
+        summary,
+        vec![
+            ("Art", SymbolKind::Block, Some("3 rules"), 3),
+            ("Anzahl", SymbolKind::Block, Some("3 rules · relative"), 3),
+            ("Bitte", SymbolKind::Block, Some("1 rule"), 1),
+        ]
+    );
+    let anzahl = &outline[1];
+    assert_eq!(anzahl.selection_span, at(LEXIKON, "Anzahl", 0));
+    assert_eq!(
+        anzahl.span.text(LEXIKON),
+        "Anzahl relative {\n  6   \"eine\"\n  3   \"zwei\"\n  1   \"drei\"\n}"
+    );
+    assert_eq!(
+        anzahl.children[0],
+        DocumentSymbol {
+            name: "\"eine\"".into(),
+            detail: Some("6 · p = 3/5 = 0.6".into()),
+            kind: SymbolKind::Rule,
+            span: at(LEXIKON, "6   \"eine\"", 0),
+            selection_span: at(LEXIKON, "\"eine\"", 0),
+            children: Vec::new(),
+        }
+    );
+    let outline = ide::document_symbols(&a, M);
+    let kinds: Vec<(SymbolKind, &str)> =
+        outline.iter().map(|s| (s.kind, s.name.as_str())).collect();
+    assert_eq!(
+        kinds,
+        vec![
+            (SymbolKind::Grammar, "fähre"),
+            (SymbolKind::Start, "Anfrage"),
+            (SymbolKind::Use, "lexikon.trellis"),
+            (SymbolKind::Block, "Anfrage"),
+            (SymbolKind::Block, "Fahrkarte"),
+            (SymbolKind::Block, "Wunsch"),
+            (SymbolKind::Test, "Bestellungen"),
+        ]
+    );
+    let test = &outline[6];
+    assert_eq!(test.detail.as_deref(), Some("test · 2 cases"));
+    assert_eq!(test.children[1].name, "Tages Fahrkarte");
+    assert_eq!(test.children[1].detail.as_deref(), Some("accept as tree"));
+    assert_eq!(
+        outline[3].children[0].detail.as_deref(),
+        Some("0.55 · p = 11/20 = 0.55")
+    );
+    assert_eq!(outline[5].children[0].detail.as_deref(), Some("p = 1"));
+}
+
+#[test]
+fn workspace_symbols_rank_exact_prefix_substring_then_fuzzy_matches() {
+    let a = analysis();
+    let names = |q: &str| -> Vec<String> {
+        ide::workspace_symbols(&a, q, 10)
+            .into_iter()
+            .map(|s| s.name)
+            .collect()
+    };
+    assert_eq!(names("art"), vec!["Art", "Fahrkarte"]);
+    assert_eq!(names("an"), vec!["Anzahl", "Anfrage"]);
+    // Fuzzy: the characters in order.
+    assert_eq!(names("fkt"), vec!["Fahrkarte"]);
+    assert_eq!(names("zz"), Vec::<String>::new());
+    assert_eq!(names("").len(), 6);
+    assert_eq!(ide::workspace_symbols(&a, "", 2).len(), 2);
+    let anzahl = &ide::workspace_symbols(&a, "Anzahl", 10)[0];
+    assert_eq!(anzahl.location, Location::new(L, at(LEXIKON, "Anzahl", 0)));
+    assert_eq!(anzahl.detail, "3 rules · relative");
+    assert_eq!(
+        ide::workspace_symbols(&a, "anfrage", 10)[0].detail,
+        "3 rules · start"
+    );
+}
+
+// ── completion ──────────────────────────────────────────────────────────
+
+fn labels(list: &ide::CompletionList) -> Vec<&str> {
+    list.items.iter().map(|i| i.label.as_str()).collect()
+}
+
+#[test]
+fn completion_offers_names_on_right_hand_sides_filtered_by_the_typed_word() {
+    let text = "start S\nS {\n  0.5 Fa\n  0.5 \"x\" \n}\nFahrt { \"f\" }\nFähre { \"ä\" }\nWeg { Fahrt }\n";
+    let a = grammar_lang::analyze_text(text);
+    let list = ide::completions(&a, M, inside(text, "Fa\n", 0, 2));
+    assert_eq!(list.replace, at(text, "Fa", 0));
+    // `ä` is not `a`: `Fähre` does not match.
+    assert_eq!(labels(&list), vec!["Fahrt"]);
+    assert_eq!(list.items[0].kind, ide::CompletionKind::NonTerminal);
+    assert_eq!(list.items[0].detail.as_deref(), Some("1 rule"));
+    assert!(!list.incomplete);
+    // After a terminal, at a space: every defined name, nothing replaced.
+    let list = ide::completions(&a, M, inside(text, "\"x\" ", 0, 4));
+    assert_eq!(list.replace, Span::point(inside(text, "\"x\" ", 0, 4)));
+    assert_eq!(labels(&list), vec!["S", "Weg", "Fahrt", "Fähre"]);
+    // Inside a quoted word or a comment: nothing.
+    assert!(ide::completions(&a, M, inside(text, "\"x\"", 0, 1))
+        .items
+        .is_empty());
+}
+
+#[test]
+fn completion_offers_keywords_where_declarations_start_and_relative_after_a_block_name() {
+    let text = "start S\nS { \"a\" | Neu }\n\nu\nT \n";
+    let a = grammar_lang::analyze_text(text);
+    // At the start of a top-level line: keywords not yet used, then
+    // undefined names (to give them a block); `start` is taken.
+    let list = ide::completions(&a, M, inside(text, "\n\n", 0, 2));
+    assert_eq!(labels(&list), vec!["use", "test", "grammar", "Neu"]);
+    assert_eq!(list.items[0].kind, ide::CompletionKind::Keyword);
+    let list = ide::completions(&a, M, inside(text, "\nu\n", 0, 2));
+    assert_eq!(labels(&list), vec!["use", "Neu"]);
+    let u = inside(text, "\nu\n", 0, 1);
+    assert_eq!(list.replace, Span::new(u, u + 1));
+    let list = ide::completions(&a, M, inside(text, "T \n", 0, 2));
+    assert_eq!(labels(&list), vec!["relative"]);
+    // After `start`: the defined names.
+    let text = "start \nZiel { \"z\" }\n";
+    let a = grammar_lang::analyze_text(text);
+    assert_eq!(labels(&ide::completions(&a, M, 6)), vec!["Ziel"]);
+}
+
+#[test]
+fn completion_in_tests_offers_case_keywords_as_and_tree_labels() {
+    let text = "start S\nS { \"a\" }\ntest \"t\" {\n  accept \"a\" as (S \"a\")\n  \n  accept \"a\" \n  accept \"a\" as (\n}\n";
+    let a = grammar_lang::analyze_text(text);
+    let blank = inside(text, "\n  \n", 0, 3);
+    assert_eq!(
+        labels(&ide::completions(&a, M, blank)),
+        vec!["accept", "reject"]
+    );
+    let after_sentence = inside(text, "\"a\" \n", 0, 4);
+    assert_eq!(labels(&ide::completions(&a, M, after_sentence)), vec!["as"]);
+    let open = inside(text, "as (\n", 0, 4);
+    assert_eq!(labels(&ide::completions(&a, M, open)), vec!["S"]);
+}
+
+// ── inlay hints and code lenses ─────────────────────────────────────────
+
+#[test]
+fn inlay_hints_show_resolved_probabilities_of_unweighted_and_relative_alternatives() {
+    let a = analysis();
+    let whole = Span::new(0, LEXIKON.len());
+    let hints: Vec<(usize, String, bool, bool)> = ide::inlay_hints(&a, L, whole)
+        .into_iter()
+        .map(|h| (h.offset, h.label, h.pad_left, h.pad_right))
+        .collect();
+    let start = |needle: &str| at(LEXIKON, needle, 0).start as usize;
+    assert_eq!(
+        hints,
+        vec![
+            (start("\"Rückfahrt\""), "= 1/3".to_string(), false, true),
+            (start("\"Einzel\""), "= 1/3".to_string(), false, true),
+            (start("\"Tages\""), "= 1/3".to_string(), false, true),
+            (start("6   \"eine\"") + 1, "= 3/5".to_string(), true, false),
+            (start("3   \"zwei\"") + 1, "= 3/10".to_string(), true, false),
+            (start("1   \"drei\"") + 1, "= 1/10".to_string(), true, false),
+            (start("\"bitte\""), "= 1".to_string(), false, true),
+        ]
+    );
+    let tooltip = &ide::inlay_hints(&a, L, whole)[3].tooltip;
+    assert_eq!(
+        tooltip,
+        "probability of `Anzahl → \"eine\"`: 3/5 = 0.6 (weight divided by the block's sum)"
+    );
+    // Only the requested range; weighted alternatives of plain blocks get none.
+    let line = at(LEXIKON, "  3   \"zwei\"", 0);
+    assert_eq!(ide::inlay_hints(&a, L, line).len(), 1);
+    assert!(ide::inlay_hints(&a, M, Span::new(0, MAIN.len()))
+        .iter()
+        .all(|h| h.offset == inside(MAIN, "\"ich\"", 0, 0)));
+}
+
+#[test]
+fn inlay_hints_approximate_long_fractions() {
+    let text = "start S\nS relative { 1 \"a\" | 2 \"b\" | 123456 \"c\" }\n";
+    let a = grammar_lang::analyze_text(text);
+    let labels: Vec<String> = ide::inlay_hints(&a, M, Span::new(0, text.len()))
+        .into_iter()
+        .map(|h| h.label)
+        .collect();
+    // 1/123459, 2/123459, 123456/123459: three significant digits, six
+    // where three would round to 1.
+    assert_eq!(labels, vec!["≈ 0.0000081", "≈ 0.0000162", "≈ 0.999976"]);
+}
+
+#[test]
+fn code_lenses_sit_on_start_and_on_each_test() {
+    use grammar_lang::ide::{CodeLens, CodeLensKind};
+    let a = analysis();
+    assert_eq!(
+        ide::code_lenses(&a, M),
+        vec![
+            CodeLens {
+                span: at(MAIN, "start Anfrage", 0),
+                kind: CodeLensKind::ParseSentence
+            },
+            CodeLens {
+                span: at(MAIN, "start Anfrage", 0),
+                kind: CodeLensKind::Sample
+            },
+            CodeLens {
+                span: Span::new(at(MAIN, "test", 0).start as usize, MAIN.len() - 1),
+                kind: CodeLensKind::RunTest {
+                    test: 0,
+                    name: "Bestellungen".into()
+                }
+            },
+        ]
+    );
+    assert_eq!(ide::code_lenses(&a, L), Vec::new());
+}

@@ -118,3 +118,21 @@ pub(crate) fn rule_of(
     let &id = rules.get(i)?;
     (grammar.rule(id).location.span == alt.span).then_some(id)
 }
+/// The byte offset where the line containing `offset` starts.
+pub(crate) fn line_start(text: &str, offset: usize) -> usize {
+    let offset = offset.min(text.len());
+    text.as_bytes()[..offset]
+        .iter()
+        .rposition(|&b| b == b'\n')
+        .map_or(0, |i| i + 1)
+}
+
+/// The byte offset just after the newline ending the line containing
+/// `offset` (the text length on the last line).
+pub(crate) fn next_line_start(text: &str, offset: usize) -> usize {
+    let offset = offset.min(text.len());
+    text.as_bytes()[offset..]
+        .iter()
+        .position(|&b| b == b'\n')
+        .map_or(text.len(), |i| offset + i + 1)
+}

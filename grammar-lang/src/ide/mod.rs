@@ -36,23 +36,39 @@
 //! | go to definition | [`definition`] → [`Location`] | no |
 //! | find references | [`references`] → `Vec<Location>` | no |
 //! | rename | [`prepare_rename`] → `Span`, [`rename`] → `Vec<TextEdit>` | no |
+//! | outline | [`document_symbols`] → `Vec<DocumentSymbol>` | no |
+//! | symbol search | [`workspace_symbols`] → `Vec<WorkspaceSymbol>` | no |
+//! | completion | [`completions`] → [`CompletionList`] | no |
 //! | highlighting | [`semantic_tokens`] → `Vec<SemanticToken>` | no |
+//! | quick fixes | [`code_actions`] → `Vec<CodeAction>` | no |
+//! | inlay hints | [`inlay_hints`] → `Vec<InlayHint>` | no |
+//! | code lenses | [`code_lenses`] → `Vec<CodeLens>` | no |
 //!
 //! Numbers that only the probabilistic engine knows (termination
 //! probabilities, expected rule uses) are handed to [`hover`] in an
 //! optional [`EngineFacts`]; without them hover still answers.
 
+mod actions;
+mod completion;
+mod hints;
 mod hover;
 mod locate;
 mod lookup;
 mod navigation;
 mod numbers;
+mod symbols;
 mod tokens;
 mod walk;
 
+pub use actions::{code_actions, CodeAction, CodeActionKind};
+pub use completion::{completions, CompletionItem, CompletionKind, CompletionList};
+pub use hints::{code_lenses, inlay_hints, CodeLens, CodeLensKind, InlayHint};
 pub use hover::{hover, EngineFacts, Hover};
 pub use lookup::{lookup, Lookup, NtRole};
 pub use navigation::{definition, prepare_rename, references, rename, RenameError};
+pub use symbols::{
+    document_symbols, workspace_symbols, DocumentSymbol, SymbolKind, WorkspaceSymbol,
+};
 pub use tokens::{semantic_tokens, SemanticToken, TokenClass, TokenModifiers};
 
 use crate::analysis::Analysis;

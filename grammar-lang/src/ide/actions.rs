@@ -1,0 +1,270 @@
+//! Code actions: quick fixes for diagnostics that keep the user's text.
+//!
+//! Every fix edits as little as possible: it replaces weight tokens,
+//! inserts text at one point, or deletes whole lines. Comments and layout
+//! outside the edited tokens or lines are never touched.
+
+use super::locate::{self, line_start, next_line_start};
+use super::TextEdit;
+use crate::analysis::Analysis;
+use crate::diagnostic::{Code, Diagnostic, Location};
+use crate::model::{fraction, Notation, Ratio};
+use crate::source::FileId;
+use crate::span::Span;
+use crate::syntax::ast::{Block, Decl};
+use crate::syntax::lexer::quote;
+use crate::weight::exact_decimal;
+use num_bigint::BigInt;
+use num_traits::{Signed, Zero};
+
+/// Longest decimal expansion (digits after the point) a renormalised
+/// weight may have to be written as a decimal rather than a fraction.
+const SHORT_DECIMAL: usize = 6;
+
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum CodeActionKind {
+    QuickFix,
+    Refactor,
+}
+
+/// One offered change.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct CodeAction {
+    pub title: String,
+    pub kind: CodeActionKind,
+    /// The code of the diagnostic this fixes, if any.
+    pub diagnostic_code: Option<Code>,
+    /// Where that diagnostic is reported.
+    pub diagnostic_location: Option<Location>,
+    pub edits: Vec<TextEdit>,
+}
+
+/// The fixes for the diagnostics of `file` that overlap `span`:
+///
+/// * `sum-not-one` — **renormalize** the block: every weight is divided by
+///   the block's sum, so ratios are kept and the sum is exactly 1. Weights
+///   are written as decimals (or percentages, if the block wrote only
+///   percentages) when the block wrote no fraction and every new value has
+///   a terminating decimal expansion of at most six digits; otherwise as
+///   exact fractions. Only weight tokens change. (A block reported as
+///   `sum-not-one` has a weight on every alternative: unweighted
+///   alternatives would take the remainder.) Also offered: **mark the
+///   block `relative`**, which inserts ` relative` after its name.
+/// * `undefined` — **define the symbol** with a stub block
+///   `Name {\n  "Name"  # TODO: …\n}` inserted on the line after the block
+///   that uses it, separated by a blank line.
+/// * `unreachable` — **remove the block**: deletes its lines, the `##` doc
+///   lines above it and one adjacent blank line; nothing else.
+///
+/// Cost: a pass over the file's diagnostics plus the size of the blocks
+/// concerned.
+pub fn code_actions(analysis: &Analysis, file: FileId, span: Span) -> Vec<CodeAction> {
+    let mut out: Vec<CodeAction> = Vec::new();
+    for d in analysis.diagnostics.iter().filter(|d| {
+        d.location.file == file
+            && d.location.span.start <= span.end
+            && span.start <= d.location.span.end
+    }) {
+        let found = match d.code {
+            Code::SumNotOne => {
+                let mut v = Vec::new();
+                if let Some(block) = block_named_at(analysis, d.location) {
+                    v.extend(renormalize(analysis, file, block, d));
+                    v.push(make_relative(analysis, file, block, d));
+                }
+                v
+            }
+            Code::Undefined => define_stub(analysis, d).into_iter().collect(),
+            Code::Unreachable => block_named_at(analysis, d.location)
+                .map(|block| remove_block(analysis, file, block, d))
+                .into_iter()
+                .collect(),
+            _ => Vec::new(),
+        };
+        for action in found {
+            if !out.iter().any(|a| a.title == action.title) {
+                out.push(action);
+            }
+        }
+    }
+    out
+}
+
+fn quick_fix(title: String, d: &Diagnostic, edits: Vec<TextEdit>) -> CodeAction {
+    CodeAction {
+        title,
+        kind: CodeActionKind::QuickFix,
+        diagnostic_code: Some(d.code),
+        diagnostic_location: Some(d.location),
+        edits,
+    }
+}
+
+/// The block whose name is at `at`.
+fn block_named_at(analysis: &Analysis, at: Location) -> Option<&Block> {
+    let syntax = locate::syntax(analysis, at.file)?;
+    match locate::decl_at(syntax, at.span.start as usize)? {
+        Decl::Block(b) if b.name.span == at.span => Some(b),
+        _ => None,
+    }
+}
+
+fn renormalize(
+    analysis: &Analysis,
+    file: FileId,
+    block: &Block,
+    d: &Diagnostic,
+) -> Option<CodeAction> {
+    let grammar = &analysis.grammar;
+    let nt = locate::is_model_block(analysis, file, block)?;
+    if grammar.is_damaged(nt) {
+        return None;
+    }
+    let rules: Vec<_> = grammar.rules_of(nt).map(|(_, r)| r).collect();
+    let weights: Vec<_> = rules
+        .iter()
+        .map(|r| r.weight.as_ref())
+        .collect::<Option<Vec<_>>>()?;
+    if weights.is_empty() || weights.iter().any(|w| w.value.is_negative()) {
+        return None;
+    }
+    let sum: Ratio = weights.iter().map(|w| &w.value).sum();
+    if sum.is_zero() {
+        return None;
+    }
+    let new: Vec<Ratio> = weights.iter().map(|w| &w.value / &sum).collect();
+    let no_fraction = weights.iter().all(|w| w.notation != Notation::Fraction);
+    let all_percent = weights.iter().all(|w| w.notation == Notation::Percent);
+    let hundred = Ratio::from_integer(BigInt::from(100));
+    let texts: Vec<String> = if no_fraction && all_percent {
+        let percents: Option<Vec<String>> = new
+            .iter()
+            .map(|r| exact_decimal(&(r * &hundred), SHORT_DECIMAL).map(|d| format!("{d}%")))
+            .collect();
+        percents.unwrap_or_else(|| new.iter().map(fraction).collect())
+    } else if no_fraction {
+        let decimals: Option<Vec<String>> = new
+            .iter()
+            .map(|r| exact_decimal(r, SHORT_DECIMAL))
+            .collect();
+        decimals.unwrap_or_else(|| new.iter().map(fraction).collect())
+    } else {
+        new.iter().map(fraction).collect()
+    };
+    let edits: Vec<TextEdit> = weights
+        .iter()
+        .zip(texts)
+        .filter(|(w, text)| w.text != *text)
+        .map(|(w, text)| TextEdit {
+            file: w.location.file,
+            span: w.location.span,
+            new_text: text,
+        })
+        .collect();
+    if edits.is_empty() {
+        return None;
+    }
+    Some(quick_fix(
+        format!(
+            "Renormalize `{}` so its weights sum to 1",
+            grammar.nt_name(nt)
+        ),
+        d,
+        edits,
+    ))
+}
+
+fn make_relative(analysis: &Analysis, file: FileId, block: &Block, d: &Diagnostic) -> CodeAction {
+    let name = block.name.span.text(locate::text(analysis, file));
+    quick_fix(
+        format!("Mark `{name}` relative (divide its weights by their sum)"),
+        d,
+        vec![TextEdit {
+            file,
+            span: Span::point(block.name.span.end as usize),
+            new_text: " relative".to_string(),
+        }],
+    )
+}
+
+fn define_stub(analysis: &Analysis, d: &Diagnostic) -> Option<CodeAction> {
+    let file = d.location.file;
+    let syntax = locate::syntax(analysis, file)?;
+    let text = locate::text(analysis, file);
+    let name = d.location.span.text(text);
+    let Decl::Block(block) = locate::decl_at(syntax, d.location.span.start as usize)? else {
+        return None;
+    };
+    // Indent like the block's first alternative when it starts its line.
+    let indent = block
+        .alternatives
+        .first()
+        .map(|alt| {
+            let start = line_start(text, alt.span.start as usize);
+            &text[start..alt.span.start as usize]
+        })
+        .filter(|s| !s.is_empty() && s.chars().all(|c| c == ' ' || c == '\t'))
+        .unwrap_or("  ");
+    let at = next_line_start(text, block.span.end as usize);
+    let lead = if text[..at].ends_with('\n') {
+        "\n"
+    } else {
+        "\n\n"
+    };
+    let stub = format!(
+        "{lead}{name} {{\n{indent}{}  # TODO: the words or symbols `{name}` stands for\n}}\n",
+        quote(name)
+    );
+    Some(quick_fix(
+        format!("Define `{name}` with a stub block"),
+        d,
+        vec![TextEdit {
+            file,
+            span: Span::point(at),
+            new_text: stub,
+        }],
+    ))
+}
+
+fn remove_block(analysis: &Analysis, file: FileId, block: &Block, d: &Diagnostic) -> CodeAction {
+    let text = locate::text(analysis, file);
+    let name = block.name.span.text(text);
+    let first = block
+        .doc
+        .as_ref()
+        .map_or(block.span.start, |doc| doc.span.start) as usize;
+    let last = block.span.end as usize;
+    let from = line_start(text, first);
+    let to = next_line_start(text, last);
+    let blank_before_first = text[from..first].trim().is_empty();
+    let rest_of_last_line = text[last..to].trim_start();
+    let only_comment_after = rest_of_last_line.is_empty() || rest_of_last_line.starts_with('#');
+    let span = if blank_before_first && only_comment_after {
+        // Whole lines, plus one blank line: the one after if there is one,
+        // else the one before.
+        let after_end = next_line_start(text, to);
+        if to < text.len() && text[to..after_end].trim().is_empty() {
+            Span::new(from, after_end)
+        } else if from > 0 {
+            let before_start = line_start(text, from - 1);
+            if text[before_start..from].trim().is_empty() {
+                Span::new(before_start, to)
+            } else {
+                Span::new(from, to)
+            }
+        } else {
+            Span::new(from, to)
+        }
+    } else {
+        Span::new(first, last)
+    };
+    quick_fix(
+        format!("Remove the unreachable block `{name}`"),
+        d,
+        vec![TextEdit {
+            file,
+            span,
+            new_text: String::new(),
+        }],
+    )
+}
