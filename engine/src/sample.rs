@@ -558,3 +558,49 @@ fn blockers(g: &Grammar, model: &ProbModel) -> Vec<Option<Blocker>> {
     spread(loops, &mut blocked);
     blocked
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// The probability the table gives each rule: column i is drawn with
+    /// probability 1/n, then its own rule with threshold/2^64, else its
+    /// alias (Walker's method, by definition).
+    fn implied(entries: &[AliasEntry], rules: usize) -> Vec<f64> {
+        let n = entries.len() as f64;
+        let mut p = vec![0.0; rules];
+        for e in entries {
+            let own = if e.threshold == u64::MAX {
+                1.0
+            } else {
+                e.threshold as f64 / 18_446_744_073_709_551_616.0
+            };
+            p[e.primary as usize] += own / n;
+            p[e.alias as usize] += (1.0 - own) / n;
+        }
+        p
+    }
+
+    #[test]
+    fn alias_tables_reproduce_the_block_distribution() {
+        let cases: Vec<Vec<f64>> = vec![
+            vec![0.5, 0.5],
+            vec![0.1, 0.2, 0.7],
+            vec![0.001, 0.3, 0.049, 0.25, 0.4],
+            (1..=17).map(|i| i as f64 / 153.0).collect(),
+        ];
+        for probs in cases {
+            let rules: Vec<(u32, f64)> = probs
+                .iter()
+                .enumerate()
+                .map(|(i, &p)| (i as u32, p))
+                .collect();
+            let mut entries = Vec::new();
+            alias_table(&rules, &mut entries);
+            assert_eq!(entries.len(), probs.len());
+            for (got, want) in implied(&entries, probs.len()).iter().zip(&probs) {
+                assert!((got - want).abs() < 1e-14, "{got} vs {want}");
+            }
+        }
+    }
+}

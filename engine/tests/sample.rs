@@ -387,3 +387,31 @@ fn a_tree_too_deep_to_print_safely_is_refused_but_its_sentence_is_not() {
     let sentence = sampler.sentence(&mut rng, start, 10_000).unwrap();
     assert_eq!(sentence.len(), depth);
 }
+
+#[test]
+fn a_long_block_with_rare_rules_is_drawn_in_proportion() {
+    // Seven alternatives from 0.4 down to 0.001 (alias-table columns mixing
+    // large and small rules).
+    let probs = [0.4, 0.25, 0.15, 0.1, 0.059, 0.04, 0.001];
+    let words = ["a", "b", "c", "d", "e", "f", "g"];
+    let spec: Vec<(&str, String, f64)> = words
+        .iter()
+        .zip(probs)
+        .map(|(w, p)| ("S", format!("\"{w}\""), p))
+        .collect();
+    let spec: Vec<(&str, &str, f64)> = spec.iter().map(|(a, b, p)| (*a, b.as_str(), *p)).collect();
+    let g = grammar("S", &spec);
+    let start = g.start.unwrap();
+    let sampler = Sampler::new(&g).unwrap();
+    let mut rng = Xoshiro256StarStar::seed_from_u64(123);
+    let mut observed = [0.0f64; 7];
+    for _ in 0..DRAWS {
+        let s = sampler.sentence(&mut rng, start, 10).unwrap();
+        observed[s[0].index()] += 1.0;
+    }
+    let expected: Vec<f64> = probs.iter().map(|p| p * DRAWS as f64).collect();
+    // 7 cells → 6 degrees of freedom; critical value at α = 0.001 is
+    // 22.458 (same table as above). The rarest cell expects 100 counts.
+    let stat = chi_square(&observed, &expected);
+    assert!(stat < 22.458, "chi-square {stat}");
+}
