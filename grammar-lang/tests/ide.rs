@@ -680,6 +680,11 @@ fn completion_offers_names_on_right_hand_sides_filtered_by_the_typed_word() {
     assert!(ide::completions(&a, M, inside(text, "\"x\"", 0, 1))
         .items
         .is_empty());
+    // In the middle of a run of spaces: names.
+    let text = "start S\nS { \"x\"      }\n";
+    let a = grammar_lang::analyze_text(text);
+    let list = ide::completions(&a, M, inside(text, "\"x\"   ", 0, 6));
+    assert_eq!(labels(&list), vec!["S"]);
 }
 
 #[test]

@@ -79,15 +79,23 @@ pub fn completions(analysis: &Analysis, file: FileId, offset: usize) -> Completi
         return empty(Span::point(offset));
     };
     let text = locate::text(analysis, file);
-    let offset = offset.min(text.len());
+    let mut offset = offset.min(text.len());
+    while !text.is_char_boundary(offset) {
+        offset -= 1;
+    }
     let tokens = &syntax.tokens;
     // The token the cursor is in, or right after.
     let i = tokens.partition_point(|t| (t.span.end as usize) < offset);
     let (replace, prefix) = match tokens.get(i) {
-        Some(t) if (t.span.start as usize) < offset && is_word(t.kind) => {
-            (t.span, &text[t.span.start as usize..offset])
-        }
-        Some(t) if (t.span.start as usize) < offset && (t.span.end as usize) > offset => {
+        Some(t) if (t.span.start as usize) < offset && is_word(t.kind) => (
+            t.span,
+            text.get(t.span.start as usize..offset).unwrap_or(""),
+        ),
+        Some(t)
+            if (t.span.start as usize) < offset
+                && (t.span.end as usize) > offset
+                && !matches!(t.kind, TokenKind::Whitespace | TokenKind::Newline) =>
+        {
             // Inside a string, a comment or a weight: nothing to complete.
             return empty(Span::point(offset));
         }
