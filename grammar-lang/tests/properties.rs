@@ -709,3 +709,85 @@ fn the_broken_examples_show_every_static_diagnostic_code() {
         "codes not shown by the broken examples: {missing:?}"
     );
 }
+
+// ---------------------------------------------------------------------------
+// Printing whatever a text lowers to
+// ---------------------------------------------------------------------------
+
+/// Grammar-shaped text: declarations and blocks from well-formed and broken pieces.
+fn grammar_soup() -> impl Strategy<Value = String> {
+    let line = prop_oneof![
+        select(vec![
+            "0.5", "1/3", "25%", "-1/4", "0", "1/0", "2", "", "", ""
+        ])
+        .prop_flat_map(|w| {
+            proptest::collection::vec(
+                select(vec!["A", "B", "C", "\"x\"", "\"y z\"", "\"\\\"\"", "\"é\""]),
+                0..4,
+            )
+            .prop_map(move |items| format!("  {w} {}", items.join(" ")))
+        }),
+        select(vec!["  |", "  \"a\" | \"b\"", "  ## doc", "  # c", "  @"]).prop_map(str::to_string),
+    ];
+    let block = (
+        select(vec!["A", "B", "C"]),
+        any::<bool>(),
+        proptest::collection::vec(line, 0..5),
+    )
+        .prop_map(|(name, relative, lines)| {
+            format!(
+                "## {name} doc\n{name}{} {{\n{}\n}}\n",
+                if relative { " relative" } else { "" },
+                lines.join("\n")
+            )
+        });
+    (
+        select(vec![
+            "",
+            "start A\n",
+            "start B\n",
+            "start A\nstart C\n",
+            "grammar g\nstart A\n",
+        ]),
+        proptest::collection::vec(block, 0..5),
+        select(vec![
+            "",
+            "test \"t\" {\n  accept \"x\" as (A \"x\")\n  reject \"y\"\n}\n",
+            "}\n",
+        ]),
+    )
+        .prop_map(|(head, blocks, tail)| format!("{head}{}{tail}", blocks.concat()))
+}
+
+/// The facts that survive printing any lowered model: names, right-hand
+/// sides and exact probabilities (a weight may be written differently, e.g.
+/// an unweighted rule left without mass is written with weight 0).
+fn probabilities(g: &Grammar) -> BTreeMap<String, Vec<(Vec<String>, Ratio)>> {
+    facts(g)
+        .blocks
+        .into_iter()
+        .map(|(name, (_, _, rules))| {
+            let rules = rules.into_iter().map(|(rhs, p, _, _)| (rhs, p)).collect();
+            (name, rules)
+        })
+        .collect()
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(256))]
+
+    #[test]
+    fn any_lowered_grammar_prints_to_text_with_the_same_probabilities(text in grammar_soup()) {
+        let first = analyze_text(&text).grammar;
+        let printed = print_grammar(&first);
+        let second = analyze_text(&printed);
+        prop_assert_eq!(
+            probabilities(&second.grammar),
+            probabilities(&first),
+            "source:\n{}\nprinted:\n{}",
+            text,
+            printed
+        );
+        prop_assert_eq!(facts(&second.grammar).tests, facts(&first).tests);
+    }
+}
