@@ -61,6 +61,16 @@ fn lower_using(
         weights: HashMap::new(),
     };
     lowerer.load(root, text, loader);
+    let alternatives: usize = lowerer
+        .syntax
+        .iter()
+        .flat_map(|file| &file.decls)
+        .map(|decl| match decl {
+            Decl::Block(b) => b.alternatives.len(),
+            _ => 0,
+        })
+        .sum();
+    lowerer.grammar.rules.reserve(alternatives);
     for index in 0..lowerer.syntax.len() {
         lowerer.lower_file(FileId(index as u32));
     }

@@ -162,8 +162,8 @@ pub struct Grammar {
     pub terminals: Vec<String>,
     pub rules: Vec<Rule>,
     pub tests: Vec<GrammarTest>,
-    nt_index: HashMap<String, NtId>,
-    term_index: HashMap<String, TermId>,
+    nt_index: HashMap<String, NtId, FastHash>,
+    term_index: HashMap<String, TermId, FastHash>,
     /// Blocks whose probabilities could not be resolved faithfully (a weight
     /// that could not be read, an empty alternative); see [`Grammar::is_damaged`].
     damaged: std::collections::HashSet<NtId>,
@@ -277,6 +277,47 @@ impl Grammar {
             out.push_str(&self.sym_text(sym));
         }
         out
+    }
+}
+
+/// A fast, non-cryptographic hash for maps keyed by names and ids (the multiply and
+/// rotate scheme of the Firefox/rustc "Fx" hasher; common practice). Keys
+/// come from the grammar, not from an adversary, and a collision only costs
+/// time.
+pub type FastHash = std::hash::BuildHasherDefault<FxHasher>;
+
+#[derive(Default, Clone, Copy)]
+pub struct FxHasher(u64);
+
+impl FxHasher {
+    #[inline]
+    fn add(&mut self, word: u64) {
+        self.0 = (self.0.rotate_left(5) ^ word).wrapping_mul(0x51_7c_c1_b7_27_22_0a_95);
+    }
+}
+
+impl std::hash::Hasher for FxHasher {
+    fn write(&mut self, bytes: &[u8]) {
+        for chunk in bytes.chunks(8) {
+            let mut word = [0u8; 8];
+            word[..chunk.len()].copy_from_slice(chunk);
+            self.add(u64::from_le_bytes(word));
+        }
+    }
+    fn write_u8(&mut self, i: u8) {
+        self.add(u64::from(i));
+    }
+    fn write_u32(&mut self, i: u32) {
+        self.add(u64::from(i));
+    }
+    fn write_u64(&mut self, i: u64) {
+        self.add(i);
+    }
+    fn write_usize(&mut self, i: usize) {
+        self.add(i as u64);
+    }
+    fn finish(&self) -> u64 {
+        self.0
     }
 }
 

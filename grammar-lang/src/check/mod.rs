@@ -19,6 +19,8 @@ pub mod names;
 pub mod suggest;
 pub mod weights;
 
+pub use crate::model::FastHash;
+
 use crate::config::Config;
 use crate::diagnostic::Diagnostic;
 use crate::model::{fraction, Decimal, Grammar, Ratio};
@@ -36,47 +38,6 @@ pub fn run_checks(
     names::check(grammar, sources, out);
     graph::check(grammar, out);
     arity::check(grammar, config, out);
-}
-
-/// A fast, non-cryptographic hash for maps keyed by ids (the multiply and
-/// rotate scheme of the Firefox/rustc "Fx" hasher; common practice). Keys
-/// come from the grammar, not from an adversary, and a collision only costs
-/// time.
-pub type FastHash = std::hash::BuildHasherDefault<FxHasher>;
-
-#[derive(Default, Clone, Copy)]
-pub struct FxHasher(u64);
-
-impl FxHasher {
-    #[inline]
-    fn add(&mut self, word: u64) {
-        self.0 = (self.0.rotate_left(5) ^ word).wrapping_mul(0x51_7c_c1_b7_27_22_0a_95);
-    }
-}
-
-impl std::hash::Hasher for FxHasher {
-    fn write(&mut self, bytes: &[u8]) {
-        for chunk in bytes.chunks(8) {
-            let mut word = [0u8; 8];
-            word[..chunk.len()].copy_from_slice(chunk);
-            self.add(u64::from_le_bytes(word));
-        }
-    }
-    fn write_u8(&mut self, i: u8) {
-        self.add(u64::from(i));
-    }
-    fn write_u32(&mut self, i: u32) {
-        self.add(u64::from(i));
-    }
-    fn write_u64(&mut self, i: u64) {
-        self.add(i);
-    }
-    fn write_usize(&mut self, i: usize) {
-        self.add(i as u64);
-    }
-    fn finish(&self) -> u64 {
-        self.0
-    }
 }
 
 /// An exact number for a message: `99/100 (0.99)`, `4/3 (≈1.3333333333)`,
