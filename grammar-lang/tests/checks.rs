@@ -724,3 +724,79 @@ fn a_unary_cycle_through_fifty_thousand_symbols_is_found_without_deep_recursion(
         .message
         .starts_with("unary rules form a cycle: N0 → N1 → N2"));
 }
+
+// ---------------------------------------------------------------------------
+// Details of the model and of locations
+// ---------------------------------------------------------------------------
+
+#[test]
+fn alternatives_keep_their_doc_comments() {
+    let text =
+        "start Kind\nKind {\n  ## The cheapest fare.\n  0.5 \"single\"\n  0.5 \"return\"\n}\n";
+    let a = analyze_text(text);
+    assert_clean(&a);
+    let docs: Vec<Option<&str>> = a.grammar.rules.iter().map(|r| r.doc.as_deref()).collect();
+    assert_eq!(docs, [Some("The cheapest fare."), None]);
+}
+
+#[test]
+fn columns_count_characters_in_names_beyond_ascii() {
+    // `Fähre` is five characters but six bytes; the column of the
+    // undefined `Bötchen` after it counts characters.
+    let text = "start Fähre\nFähre { \"ü\" Bötchen }\n";
+    let a = analyze_text(text);
+    let d = the_one(&a, Code::Undefined);
+    assert_eq!(pos(&a, d), (2, 13));
+    assert_eq!(span_text(&a, d), "Bötchen");
+}
+
+#[test]
+fn findings_in_a_used_file_point_into_that_file() {
+    let loader = MemoryLoader::new().with(
+        "lex.trellis",
+        "Word {\n  0.5 \"ferry\"\n  0.4 \"boat\"\n}\nWord2 { Wrd }\n",
+    );
+    let main = "start S\nuse \"lex.trellis\"\nS { Word | Word2 }\n";
+    let a = analyze(Path::new("main.trellis"), main, &loader, &Config::default());
+    let sum = the_one(&a, Code::SumNotOne);
+    assert_eq!(
+        a.sources.get(sum.location.file).path,
+        Path::new("lex.trellis")
+    );
+    assert_eq!(pos(&a, sum), (1, 1));
+    let undefined = the_one(&a, Code::Undefined);
+    assert_eq!(
+        a.sources.get(undefined.location.file).path,
+        Path::new("lex.trellis")
+    );
+    assert_eq!(pos(&a, undefined), (5, 9));
+    assert!(
+        undefined.message.ends_with("did you mean `Word`?"),
+        "{}",
+        undefined.message
+    );
+}
+
+#[test]
+fn syntax_errors_of_used_files_are_reported_in_those_files() {
+    let loader = MemoryLoader::new().with("lex.trellis", "Word = \"ferry\"\n");
+    let main = "start S\nuse \"lex.trellis\"\nS { \"x\" }\n";
+    let a = analyze(Path::new("main.trellis"), main, &loader, &Config::default());
+    let d = &with_code(&a, Code::Syntax)[0];
+    assert_eq!(d.location.file.0, 1);
+    assert_eq!(pos(&a, d), (1, 6));
+}
+
+#[test]
+fn diagnostics_come_sorted_by_file_and_position() {
+    let a = analyze_text("start S\nS { B | A }\nA { \"a\" | \"a\" }\nB { C }\n");
+    let places: Vec<(u32, u32)> = a.diagnostics.iter().map(|d| pos(&a, d)).collect();
+    let mut sorted = places.clone();
+    sorted.sort();
+    assert_eq!(places, sorted);
+    // Line 3 the repeated "a"; line 4 `B` (unproductive) then `C` (undefined).
+    assert_eq!(
+        codes(&a),
+        [Code::DuplicateRule, Code::Unproductive, Code::Undefined]
+    );
+}
