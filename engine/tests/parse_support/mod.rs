@@ -1,46 +1,50 @@
-//! Shared helpers of the parse tests: grammars written as rule lists, a
+//! Shared helpers of the parse tests: grammars written as rule lists and
+//! read by the grammar-language front end, a
 //! seeded generator of random grammars, and brute-force references that
 //! follow the definitions directly (no chart, no binarization).
 #![allow(dead_code)]
 
-use grammar_lang::model::{Grammar, Rule, Sym};
+use grammar_lang::model::{Grammar, Sym};
 use grammar_lang::tree::Tree;
-use grammar_lang::weight::parse_weight;
-use grammar_lang::{FileId, Location, Span};
 use std::collections::HashMap;
 
-/// Builds a grammar from `(lhs, rhs, weight)` triples; the right-hand side is
-/// space separated with terminals in double quotes; weights are exact
-/// probabilities (`0.4`, `1/3`, `25%`).
-pub fn grammar(start: &str, rules: &[(&str, &str, &str)]) -> Grammar {
-    let mut g = Grammar::new();
-    let loc = Location::new(FileId(0), Span::new(0, 0));
-    let s = g.intern_nt(start);
-    g.start = Some(s);
-    for &(lhs, rhs, weight) in rules {
-        let lhs = g.intern_nt(lhs);
-        let rhs: Vec<Sym> = rhs
-            .split_whitespace()
-            .map(
-                |item| match item.strip_prefix('"').and_then(|i| i.strip_suffix('"')) {
-                    Some(word) => Sym::T(g.intern_term(word)),
-                    None => Sym::N(g.intern_nt(item)),
-                },
-            )
-            .collect();
-        let (probability, _) = parse_weight(weight).expect("test weights are well formed");
-        g.push_rule(Rule {
-            lhs,
-            rhs_locations: vec![loc; rhs.len()],
-            rhs,
-            weight: None,
-            p: grammar_lang::model::to_f64(&probability),
-            probability,
-            location: loc,
-            doc: None,
-        });
+/// The grammar-language text of `(lhs, rhs, weight)` triples: one block per
+/// left-hand side (in order of first appearance); the right-hand side is
+/// written as in the language (terminals in double quotes); weights are
+/// exact probabilities (`0.4`, `1/3`, `25%`).
+pub fn grammar_text(start: &str, rules: &[(&str, &str, &str)]) -> String {
+    let mut order: Vec<&str> = Vec::new();
+    for &(lhs, _, _) in rules {
+        if !order.contains(&lhs) {
+            order.push(lhs);
+        }
     }
-    g
+    let mut text = format!("start {start}\n");
+    for lhs in order {
+        text.push_str(&format!("\n{lhs} {{\n"));
+        for &(l, rhs, weight) in rules {
+            if l == lhs {
+                text.push_str(&format!("  {weight}  {rhs}\n"));
+            }
+        }
+        text.push_str("}\n");
+    }
+    text
+}
+
+/// Analyses the grammar of `grammar_text` with the front end; it must have
+/// no errors.
+pub fn grammar(start: &str, rules: &[(&str, &str, &str)]) -> Grammar {
+    let text = grammar_text(start, rules);
+    let analysis = grammar_lang::analyze_text(&text);
+    assert!(!analysis.has_errors(), "{text}\n{:?}", analysis.diagnostics);
+    analysis.grammar
+}
+
+/// Like [`grammar`], for grammars that the checks reject (the parser must
+/// still refuse or handle them cleanly).
+pub fn grammar_with_errors(start: &str, rules: &[(&str, &str, &str)]) -> Grammar {
+    grammar_lang::analyze_text(&grammar_text(start, rules)).grammar
 }
 
 /// Relative difference, 0 when both are 0.
