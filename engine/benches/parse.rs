@@ -7,7 +7,10 @@
 //!     children present — counted once in the setup by
 //!     `Parser::binary_evaluations`, never in the timed loop) and sentences
 //!     per second, for the Viterbi pass alone and for a full parse
-//!     (Viterbi + inside; no parse count, which uses big integers).
+//!     (Viterbi + inside; no parse count, which uses big integers). Run
+//!     twice: with a nearly unambiguous lexicon (most cells hold few
+//!     symbols, so index look-ups weigh more than evaluations) and with every
+//!     word in about five word classes (denser cells).
 //! (b) The ferry-kiosk example grammar (`examples/ferry_kiosk.trellis`) with
 //!     15-word sentences sampled from it: full parse including the parse count.
 
@@ -54,7 +57,9 @@ const PHRASES: usize = 250;
 const BINARY_RULES: usize = 30_000;
 const WORDS: usize = 2_000;
 
-fn generated_grammar() -> Grammar {
+/// `ambiguity`: extra word classes per word (0 keeps the lexicon nearly
+/// unambiguous, which leaves most chart cells with few symbols).
+fn generated_grammar(ambiguity: usize) -> Grammar {
     let mut rng = Rng(0x5eed);
     let mut g = Grammar::new();
     let names: Vec<String> = (0..CLASSES)
@@ -91,6 +96,9 @@ fn generated_grammar() -> Grammar {
         if rng.below(3) == 0 {
             by_class[rng.below(CLASSES)].push(w);
         }
+        for _ in 0..ambiguity {
+            by_class[rng.below(CLASSES)].push(w);
+        }
     }
     for (c, words) in by_class.iter().enumerate() {
         let sum = words.len() as u64;
@@ -103,7 +111,12 @@ fn generated_grammar() -> Grammar {
 }
 
 fn bench_generated(c: &mut Criterion) {
-    let g = generated_grammar();
+    bench_generated_with(c, 0, "generated_300nt_30k_rules_40_words");
+    bench_generated_with(c, 4, "generated_ambiguous_lexicon_40_words");
+}
+
+fn bench_generated_with(c: &mut Criterion, ambiguity: usize, name: &str) {
+    let g = generated_grammar(ambiguity);
     let parser = Parser::new(&g).expect("the generated grammar compiles");
     let mut rng = Rng(40);
     let sentences: Vec<Vec<String>> = (0..4)
@@ -118,7 +131,7 @@ fn bench_generated(c: &mut Criterion) {
         })
         .sum();
     eprintln!(
-        "generated grammar: {} compiled symbols, {} binary rules; {} binary-rule evaluations per 40-word sentence",
+        "{name}: {} compiled symbols, {} binary rules; {} binary-rule evaluations per 40-word sentence",
         parser.compiled().symbol_count(),
         parser.compiled().binary_rule_count(),
         evals / sentences.len() as u64
@@ -129,7 +142,31 @@ fn bench_generated(c: &mut Criterion) {
         explain: false,
         ..ParseOptions::default()
     };
-    let mut group = c.benchmark_group("generated_300nt_30k_rules_40_words");
+    // The machine is shared, so wall-clock figures vary with the load; the
+    // thread's own CPU time gives a steadier figure next to criterion's.
+    if let Some(ns) = cpu_time_ns(|| {
+        for s in &sentences {
+            black_box(parser.best_tree(s, DEFAULT_MAX_CHART_BYTES).expect("fits"));
+        }
+    }) {
+        eprintln!(
+            "{name}: Viterbi on CPU time: {:.1} ms per sentence, {:.0} M evaluations/s",
+            ns / 1e6 / sentences.len() as f64,
+            evals as f64 / ns * 1e3
+        );
+    }
+    if let Some(ns) = cpu_time_ns(|| {
+        for s in &sentences {
+            black_box(parser.parse(s, &options).expect("fits"));
+        }
+    }) {
+        eprintln!(
+            "{name}: full parse on CPU time: {:.1} ms per sentence ({:.1} sentences/s)",
+            ns / 1e6 / sentences.len() as f64,
+            sentences.len() as f64 / ns * 1e9
+        );
+    }
+    let mut group = c.benchmark_group(name);
     group.sample_size(10);
     group.throughput(Throughput::Elements(evals));
     group.bench_function("viterbi_evaluations", |b| {
@@ -159,6 +196,18 @@ fn bench_generated(c: &mut Criterion) {
         })
     });
     group.finish();
+}
+
+/// CPU time of this thread while running `f`, in nanoseconds (Linux
+/// `/proc/thread-self/schedstat`; `None` elsewhere).
+fn cpu_time_ns(f: impl FnOnce()) -> Option<f64> {
+    let read = || -> Option<f64> {
+        let text = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
+        text.split_whitespace().next()?.parse().ok()
+    };
+    let before = read()?;
+    f();
+    Some(read()? - before)
 }
 
 /// Samples a sentence top-down; `None` past `limit` words.
@@ -226,6 +275,18 @@ fn bench_ferry(c: &mut Criterion) {
         assert!(
             parser.parse(s, &options).expect("fits").parsed(),
             "sampled sentence must parse"
+        );
+    }
+    if let Some(ns) = cpu_time_ns(|| {
+        for _ in 0..10 {
+            for s in &sentences {
+                black_box(parser.parse(s, &options).expect("fits"));
+            }
+        }
+    }) {
+        eprintln!(
+            "ferry kiosk: full parse with count on CPU time: {:.3} ms per 15-word sentence",
+            ns / 1e6 / (10 * sentences.len()) as f64
         );
     }
     let mut group = c.benchmark_group("ferry_kiosk_15_words");

@@ -69,3 +69,126 @@ mod tests {
         assert_eq!(log_add(f64::NEG_INFINITY, -3.0), -3.0);
     }
 }
+
+/// The inner loops. Every compiled rule names symbols below `n_sym`
+/// (symbols are only ever created by `CompiledGrammar::new`, which numbers
+/// them densely), every cell row and the scratch row have exactly `n_sym`
+/// entries, and the pair table has `n_sym² + 1`; the kernels check the
+/// lengths once per call and index without per-rule bounds checks.
+pub(crate) mod kernels {
+    use crate::compile::{BinRule, LinRule};
+
+    /// `pre[A] = max(pre[A], lp + lb + right[C])` for every rule `A → b C`.
+    #[inline]
+    pub fn max_scan(rules: &[BinRule], lb: f64, right: &[f64], pre: &mut [f64]) {
+        let n = right.len();
+        assert_eq!(pre.len(), n);
+        for rule in rules {
+            let (r, a) = (rule.right as usize, rule.parent as usize);
+            debug_assert!(r < n && a < n);
+            // SAFETY: r, a < n_sym = right.len() = pre.len() (see module doc).
+            unsafe {
+                let cand = rule.lp + lb + *right.get_unchecked(r);
+                let slot = pre.get_unchecked_mut(a);
+                // A select, not a branch: which rule wins is unpredictable.
+                *slot = if cand > *slot { cand } else { *slot };
+            }
+        }
+    }
+
+    /// The same over the right cell's present symbols `rp`, looking up the
+    /// rules of each `(b, c)` pair in `table` (row `b` starts at `base`).
+    #[inline]
+    #[allow(clippy::too_many_arguments)]
+    pub fn max_pairs(
+        rules: &[BinRule],
+        table: &[u32],
+        base: usize,
+        rp: &[u32],
+        lb: f64,
+        right: &[f64],
+        pre: &mut [f64],
+    ) {
+        let n = right.len();
+        assert_eq!(pre.len(), n);
+        assert!(base + n < table.len());
+        for &c in rp {
+            let c = c as usize;
+            assert!(c < n);
+            // SAFETY: base + c + 1 ≤ base + n < table.len() (asserted above).
+            let (s, e) = unsafe {
+                (
+                    *table.get_unchecked(base + c) as usize,
+                    *table.get_unchecked(base + c + 1) as usize,
+                )
+            };
+            if s < e {
+                let lbc = lb + right[c];
+                for rule in &rules[s..e] {
+                    let a = rule.parent as usize;
+                    debug_assert!(a < n);
+                    // SAFETY: a < n_sym = pre.len() (see module doc).
+                    unsafe {
+                        let cand = rule.lp + lbc;
+                        let slot = pre.get_unchecked_mut(a);
+                        *slot = if cand > *slot { cand } else { *slot };
+                    }
+                }
+            }
+        }
+    }
+
+    /// `acc[A] += p · lb · right[C]` for every rule `A → b C`.
+    #[inline]
+    pub fn sum_scan(rules: &[LinRule], lb: f64, right: &[f64], acc: &mut [f64]) {
+        let n = right.len();
+        assert_eq!(acc.len(), n);
+        for rule in rules {
+            let (r, a) = (rule.right as usize, rule.parent as usize);
+            debug_assert!(r < n && a < n);
+            // SAFETY: r, a < n_sym = right.len() = acc.len() (see module doc).
+            unsafe {
+                *acc.get_unchecked_mut(a) += rule.p * lb * *right.get_unchecked(r);
+            }
+        }
+    }
+
+    /// The same by `(b, c)` pair lookups, as [`max_pairs`].
+    #[inline]
+    #[allow(clippy::too_many_arguments)]
+    pub fn sum_pairs(
+        rules: &[LinRule],
+        table: &[u32],
+        base: usize,
+        rp: &[u32],
+        lb: f64,
+        right: &[f64],
+        acc: &mut [f64],
+    ) {
+        let n = right.len();
+        assert_eq!(acc.len(), n);
+        assert!(base + n < table.len());
+        for &c in rp {
+            let c = c as usize;
+            assert!(c < n);
+            // SAFETY: base + c + 1 ≤ base + n < table.len() (asserted above).
+            let (s, e) = unsafe {
+                (
+                    *table.get_unchecked(base + c) as usize,
+                    *table.get_unchecked(base + c + 1) as usize,
+                )
+            };
+            if s < e {
+                let lbc = lb * right[c];
+                for rule in &rules[s..e] {
+                    let a = rule.parent as usize;
+                    debug_assert!(a < n);
+                    // SAFETY: a < n_sym = acc.len() (see module doc).
+                    unsafe {
+                        *acc.get_unchecked_mut(a) += rule.p * lbc;
+                    }
+                }
+            }
+        }
+    }
+}

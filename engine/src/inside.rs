@@ -9,7 +9,7 @@
 //! best one, or a grammar with a rule below `e^−RANGE`), that split is
 //! combined with exact log-sum-exp instead. Both paths meet in log space.
 
-use crate::chart::{log_add, Layout};
+use crate::chart::{kernels, log_add, Layout};
 use crate::compile::CompiledGrammar;
 use crate::viterbi::ViterbiChart;
 
@@ -79,22 +79,22 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str], vit: &ViterbiChart) -> I
                         for &b in vit.present(l) {
                             let lb = left[b as usize] * f;
                             if let Some(table) = g.use_pairs(b, rp.len()) {
-                                let base = b as usize * n_sym;
-                                for &c in rp {
-                                    let s = table[base + c as usize] as usize;
-                                    let e = table[base + c as usize + 1] as usize;
-                                    if s < e {
-                                        let lbc = lb * right[c as usize];
-                                        for rule in &g.bin_lin[s..e] {
-                                            acc[rule.parent as usize] += rule.p * lbc;
-                                        }
-                                    }
-                                }
+                                kernels::sum_pairs(
+                                    &g.bin_lin,
+                                    table,
+                                    b as usize * n_sym,
+                                    rp,
+                                    lb,
+                                    right,
+                                    &mut acc,
+                                );
                             } else {
-                                for rule in &g.bin_lin[g.binary_rule_range(b)] {
-                                    let rc = right[rule.right as usize];
-                                    acc[rule.parent as usize] += rule.p * lb * rc;
-                                }
+                                kernels::sum_scan(
+                                    &g.bin_lin[g.binary_rule_range(b)],
+                                    lb,
+                                    right,
+                                    &mut acc,
+                                );
                             }
                         }
                     } else {

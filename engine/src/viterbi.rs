@@ -7,7 +7,7 @@
 //! re-deriving the arg-max at each item from the finished chart, which keeps
 //! the inner loop to one add, one add and one compare per rule.
 
-use crate::chart::Layout;
+use crate::chart::{kernels, Layout};
 use crate::compile::{CompiledGrammar, Origin};
 
 /// A derivation in the compiled grammar.
@@ -83,24 +83,17 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str]) -> ViterbiChart {
                     for &b in &present[lp_start..lp_end] {
                         let lb = left[b as usize];
                         if let Some(table) = g.use_pairs(b, rp.len()) {
-                            let base = b as usize * n_sym;
-                            for &c in rp {
-                                let s = table[base + c as usize] as usize;
-                                let e = table[base + c as usize + 1] as usize;
-                                if s < e {
-                                    let lbc = lb + right[c as usize];
-                                    for rule in &g.bin[s..e] {
-                                        let cand = rule.lp + lbc;
-                                        let slot = &mut pre[rule.parent as usize];
-                                        if cand > *slot {
-                                            *slot = cand;
-                                        }
-                                    }
-                                }
-                            }
+                            kernels::max_pairs(
+                                &g.bin,
+                                table,
+                                b as usize * n_sym,
+                                rp,
+                                lb,
+                                right,
+                                &mut pre,
+                            );
                         } else {
-                            let rules = &g.bin[g.binary_rule_range(b)];
-                            combine_max(rules, lb, right, &mut pre);
+                            kernels::max_scan(&g.bin[g.binary_rule_range(b)], lb, right, &mut pre);
                         }
                     }
                 }
@@ -132,20 +125,6 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str]) -> ViterbiChart {
         score,
         present_start,
         present,
-    }
-}
-
-/// The inner loop: every rule with left child score `lb`.
-#[inline(always)]
-fn combine_max(rules: &[crate::compile::BinRule], lb: f64, right: &[f64], pre: &mut [f64]) {
-    for rule in rules {
-        // Indices come from the compiled grammar and are < n_sym.
-        let rc = right[rule.right as usize];
-        let cand = rule.lp + lb + rc;
-        let slot = &mut pre[rule.parent as usize];
-        if cand > *slot {
-            *slot = cand;
-        }
     }
 }
 
