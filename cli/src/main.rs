@@ -42,6 +42,10 @@ enum Command {
     /// sentence length and how often each symbol is used.
     #[command(long_about = commands::stats::LONG_ABOUT)]
     Stats(commands::stats::StatsArgs),
+    /// Run the language server (LSP over standard input and output) for
+    /// editors.
+    #[command(long_about = commands::lsp::LONG_ABOUT)]
+    Lsp(commands::lsp::LspArgs),
 }
 
 fn main() -> ExitCode {
@@ -50,6 +54,7 @@ fn main() -> ExitCode {
         Command::Check(args) => commands::check::run(&args),
         Command::Sample(args) => commands::sample::run(&args),
         Command::Stats(args) => commands::stats::run(&args),
+        Command::Lsp(args) => commands::lsp::run(&args),
     };
     outcome.into()
 }

@@ -2,6 +2,7 @@
 //! and how output is shaped.
 
 pub mod check;
+pub mod lsp;
 pub mod sample;
 pub mod stats;
 

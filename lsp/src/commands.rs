@@ -1,0 +1,208 @@
+//! `workspace/executeCommand`: the engine's parser and sampler for the
+//! grammar of an open document.
+//!
+//! * `trellis.parse` — arguments `[{"uri": U, "sentences": ["…", …],
+//!   "kbest": K}]` (or `"sentence": "…"` for one). Returns
+//!   `{"results": [{"sentence", "parsed", "tree", "probability",
+//!   "logProbability", "sentenceProbability", "parseCount", "kbest",
+//!   "explanation", "error"}]}`; trees are labelled brackets.
+//! * `trellis.sample` — arguments `[{"uri": U, "count": N, "seed": S,
+//!   "trees": bool}]`. Returns `{"samples": [{"sentence", "tree"?}]}`.
+//!
+//! Both refuse a grammar with errors (the diagnostics say what to fix) and
+//! stop between sentences when the request is cancelled.
+
+use crate::guard::CancelFlag;
+use crate::server::{request_failed, Backend, Options, DEBUG_PANIC};
+use serde::Deserialize;
+use serde_json::{json, Value};
+use tower_lsp::jsonrpc;
+use tower_lsp::lsp_types::{ExecuteCommandParams, Url};
+use trellis_engine::parser::{ParseOptions, Parser};
+use trellis_engine::rng::Xoshiro256StarStar;
+use trellis_engine::sample::{Sampler, DEFAULT_LIMIT};
+
+pub const PARSE: &str = "trellis.parse";
+pub const SAMPLE: &str = "trellis.sample";
+
+/// The commands advertised in the server's capabilities.
+pub const NAMES: &[&str] = &[PARSE, SAMPLE];
+
+/// The most sentences one `trellis.sample` call produces.
+pub const MAX_SAMPLES: usize = 10_000;
+
+#[derive(Debug, Deserialize)]
+#[serde(rename_all = "camelCase", deny_unknown_fields)]
+struct ParseArgs {
+    uri: Url,
+    #[serde(default)]
+    sentences: Vec<String>,
+    sentence: Option<String>,
+    kbest: Option<usize>,
+}
+
+#[derive(Debug, Deserialize)]
+#[serde(rename_all = "camelCase", deny_unknown_fields)]
+struct SampleArgs {
+    uri: Url,
+    count: Option<usize>,
+    seed: Option<u64>,
+    #[serde(default)]
+    trees: bool,
+}
+
+fn one_argument<T: for<'de> Deserialize<'de>>(
+    command: &str,
+    arguments: Vec<Value>,
+) -> jsonrpc::Result<T> {
+    let mut arguments = arguments.into_iter();
+    let (Some(first), None) = (arguments.next(), arguments.next()) else {
+        return Err(jsonrpc::Error::invalid_params(format!(
+            "{command} takes exactly one argument, an object"
+        )));
+    };
+    serde_json::from_value(first)
+        .map_err(|e| jsonrpc::Error::invalid_params(format!("{command}: {e}")))
+}
+
+pub async fn execute(
+    backend: &Backend,
+    options: &Options,
+    params: ExecuteCommandParams,
+) -> jsonrpc::Result<Option<Value>> {
+    match params.command.as_str() {
+        PARSE => parse(backend, one_argument(PARSE, params.arguments)?).await,
+        SAMPLE => sample(backend, one_argument(SAMPLE, params.arguments)?).await,
+        DEBUG_PANIC if options.debug_commands => {
+            backend
+                .run("running the debug command", || -> Option<Value> {
+                    panic!("deliberate panic from {DEBUG_PANIC}")
+                })
+                .await
+        }
+        other => Err(jsonrpc::Error::invalid_params(format!(
+            "unknown command `{other}`; trellis knows {}",
+            NAMES.join(", ")
+        ))),
+    }
+}
+
+/// The grammar of `uri`, refusing one with errors.
+async fn grammar_of(backend: &Backend, uri: &Url) -> jsonrpc::Result<crate::server::Target> {
+    let Some(target) = backend.target(uri).await? else {
+        return Err(jsonrpc::Error::invalid_params(format!(
+            "{uri} is not open in the editor"
+        )));
+    };
+    let errors = target.analysis().count(grammar_lang::Severity::Error);
+    if errors > 0 {
+        return Err(request_failed(format!(
+            "the grammar has {errors} error{}; fix {} first (see the diagnostics)",
+            if errors == 1 { "" } else { "s" },
+            if errors == 1 { "it" } else { "them" },
+        )));
+    }
+    Ok(target)
+}
+
+async fn parse(backend: &Backend, args: ParseArgs) -> jsonrpc::Result<Option<Value>> {
+    let mut sentences = args.sentences;
+    sentences.extend(args.sentence);
+    if sentences.is_empty() {
+        return Err(jsonrpc::Error::invalid_params(
+            "trellis.parse needs `sentence` or `sentences`",
+        ));
+    }
+    let target = grammar_of(backend, &args.uri).await?;
+    let options = ParseOptions {
+        kbest: args.kbest.unwrap_or(1).max(1),
+        ..ParseOptions::default()
+    };
+    let cancel = CancelFlag::default();
+    let guard = cancel.guard();
+    let outcome: Result<Option<Value>, String> = backend
+        .run("parsing", move || {
+            let parser = Parser::new(&target.result.analysis.grammar)
+                .map_err(|e| format!("the grammar cannot be parsed with: {e}"))?;
+            let mut results = Vec::new();
+            for sentence in &sentences {
+                if cancel.is_cancelled() {
+                    return Ok(None);
+                }
+                results.push(match parser.parse_line(sentence, &options) {
+                    Err(e) => {
+                        json!({"sentence": sentence, "parsed": false, "error": e.to_string()})
+                    }
+                    Ok(out) => json!({
+                        "sentence": sentence,
+                        "parsed": out.parsed(),
+                        "tree": out.best.as_ref().map(|t| t.tree.to_brackets()),
+                        "probability": out.best.as_ref().map(|t| t.probability),
+                        "logProbability": out.best.as_ref().map(|t| t.log_probability),
+                        "sentenceProbability": out.sentence_probability,
+                        "parseCount": out.parse_count.as_ref().map(|c| c.to_string()),
+                        "kbest": out.kbest.iter().map(|t| json!({
+                            "tree": t.tree.to_brackets(),
+                            "probability": t.probability,
+                        })).collect::<Vec<_>>(),
+                        "explanation": out.explanation.as_ref().map(|e| e.to_string()),
+                    }),
+                });
+            }
+            Ok(Some(json!({ "results": results })))
+        })
+        .await?;
+    guard.disarm();
+    match outcome {
+        Ok(Some(value)) => Ok(Some(value)),
+        Ok(None) => Err(jsonrpc::Error::request_cancelled()),
+        Err(message) => Err(request_failed(message)),
+    }
+}
+
+async fn sample(backend: &Backend, args: SampleArgs) -> jsonrpc::Result<Option<Value>> {
+    let count = args.count.unwrap_or(10);
+    if count > MAX_SAMPLES {
+        return Err(jsonrpc::Error::invalid_params(format!(
+            "trellis.sample makes at most {MAX_SAMPLES} sentences per call, not {count}"
+        )));
+    }
+    let target = grammar_of(backend, &args.uri).await?;
+    let seed = args.seed.unwrap_or(0);
+    let trees = args.trees;
+    let cancel = CancelFlag::default();
+    let guard = cancel.guard();
+    let outcome: Result<Option<Value>, String> = backend
+        .run("sampling", move || {
+            let grammar = &target.result.analysis.grammar;
+            let sampler = Sampler::new(grammar).map_err(|e| e.to_string())?;
+            let start = sampler.start().map_err(|e| e.to_string())?;
+            let mut rng = Xoshiro256StarStar::seed_from_u64(seed);
+            let mut samples = Vec::with_capacity(count);
+            for _ in 0..count {
+                if cancel.is_cancelled() {
+                    return Ok(None);
+                }
+                let sample = if trees {
+                    let tree = sampler
+                        .tree(&mut rng, start, DEFAULT_LIMIT)
+                        .map_err(|e| e.to_string())?;
+                    json!({"sentence": tree.words().join(" "), "tree": tree.to_brackets()})
+                } else {
+                    let words = sampler
+                        .words(&mut rng, start, DEFAULT_LIMIT)
+                        .map_err(|e| e.to_string())?;
+                    json!({"sentence": words.join(" ")})
+                };
+                samples.push(sample);
+            }
+            Ok(Some(json!({ "seed": seed, "samples": samples })))
+        })
+        .await?;
+    guard.disarm();
+    match outcome {
+        Ok(Some(value)) => Ok(Some(value)),
+        Ok(None) => Err(jsonrpc::Error::request_cancelled()),
+        Err(message) => Err(request_failed(message)),
+    }
+}

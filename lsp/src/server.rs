@@ -1,0 +1,460 @@
+//! The language server: LSP messages in, core calls, LSP messages out.
+//!
+//! Document notifications only record text and wake the analysis worker;
+//! the worker analyses off the protocol loop (on the blocking pool), drops
+//! results that newer edits have overtaken, and publishes diagnostics for
+//! every open file and every file an open file `use`s.
+
+use crate::commands;
+use crate::convert;
+use crate::guard::{run_blocking, Failure};
+use crate::workspace::{analyze_root, Doc, RootResult, Workspace};
+use grammar_lang::{Analysis, FileId};
+use serde_json::Value;
+use std::collections::HashSet;
+use std::path::{Path, PathBuf};
+use std::sync::{Arc, Mutex, MutexGuard};
+use std::time::{Duration, Instant};
+use tokio::sync::Notify;
+use tower_lsp::jsonrpc::{self, ErrorCode};
+use tower_lsp::lsp_types::*;
+use tower_lsp::{Client, LanguageServer, LspService};
+
+/// Settings that are not part of the protocol.
+#[derive(Clone, Debug, Default)]
+pub struct Options {
+    /// Accept the hidden command `trellis.debug.panic`, which panics inside
+    /// core work on purpose (to test that the server survives it).
+    pub debug_commands: bool,
+}
+
+/// The hidden command that panics, accepted only with
+/// [`Options::debug_commands`].
+pub const DEBUG_PANIC: &str = "trellis.debug.panic";
+
+/// The longest pause between an edit and the analysis it starts: when an
+/// analysis takes long, the worker waits a quarter of that time (at most
+/// this) for more edits, so a burst of keystrokes is analysed once.
+const MAX_DEBOUNCE: Duration = Duration::from_millis(100);
+
+/// State shared by the handlers and the analysis worker.
+#[derive(Debug, Default)]
+struct Shared {
+    workspace: Mutex<Workspace>,
+    wake: Notify,
+    worker_started: std::sync::atomic::AtomicBool,
+}
+
+impl Shared {
+    fn lock(&self) -> MutexGuard<'_, Workspace> {
+        // A panic while the lock was held leaves a workspace whose fields
+        // are each still valid; keep serving rather than poisoning forever.
+        self.workspace
+            .lock()
+            .unwrap_or_else(|poisoned| poisoned.into_inner())
+    }
+}
+
+/// The `LanguageServer` implementation.
+#[derive(Debug)]
+pub struct Backend {
+    client: Client,
+    shared: Arc<Shared>,
+    options: Options,
+}
+
+/// Builds the service for any transport (stdio in `trellis lsp`, in-memory
+/// streams in tests).
+pub fn service(options: Options) -> (LspService<Backend>, tower_lsp::ClientSocket) {
+    LspService::new(move |client| Backend {
+        client,
+        shared: Arc::new(Shared::default()),
+        options,
+    })
+}
+
+/// An LSP error response for core work that failed.
+fn failure_error(what: &str, failure: &Failure) -> jsonrpc::Error {
+    match failure {
+        Failure::Cancelled => jsonrpc::Error::request_cancelled(),
+        Failure::Panicked(msg) => jsonrpc::Error {
+            code: ErrorCode::InternalError,
+            message: format!("trellis failed while {what}: {msg}").into(),
+            data: None,
+        },
+    }
+}
+
+/// LSP's `RequestFailed` (-32803): the request was valid but could not be done.
+pub fn request_failed(message: impl Into<String>) -> jsonrpc::Error {
+    jsonrpc::Error {
+        code: ErrorCode::ServerError(-32803),
+        message: message.into().into(),
+        data: None,
+    }
+}
+
+/// What a feature request works on: one file inside one analysis.
+#[derive(Clone, Debug)]
+pub struct Target {
+    pub result: Arc<RootResult>,
+    pub file: FileId,
+}
+
+impl Target {
+    pub fn analysis(&self) -> &Analysis {
+        &self.result.analysis
+    }
+
+    pub fn source(&self) -> &grammar_lang::source::SourceFile {
+        self.result.analysis.sources.get(self.file)
+    }
+
+    /// The byte offset of an LSP position in the target file.
+    pub fn offset(&self, pos: Position) -> usize {
+        convert::offset(self.source(), pos)
+    }
+
+    /// The LSP location of a span in any file of the analysis.
+    pub fn location(&self, file: FileId, span: grammar_lang::Span) -> Option<Location> {
+        let uri = self.result.uri_of(file)?;
+        Some(Location::new(
+            uri,
+            convert::range(self.result.analysis.sources.get(file), span),
+        ))
+    }
+}
+
+impl Backend {
+    /// Logs an internal failure to the client and turns it into an error
+    /// response.
+    async fn report(&self, what: &str, failure: Failure) -> jsonrpc::Error {
+        if let Failure::Panicked(msg) = &failure {
+            self.client
+                .log_message(
+                    MessageType::ERROR,
+                    format!("trellis: internal error while {what}: {msg}"),
+                )
+                .await;
+        }
+        failure_error(what, &failure)
+    }
+
+    fn start_worker(&self) {
+        use std::sync::atomic::Ordering;
+        if self.shared.worker_started.swap(true, Ordering::SeqCst) {
+            return;
+        }
+        let shared = self.shared.clone();
+        let client = self.client.clone();
+        tokio::spawn(async move { worker(shared, client).await });
+    }
+
+    fn changed(&self, path: &Path) {
+        self.shared.lock().touch(path);
+        self.shared.wake.notify_one();
+    }
+
+    /// The current analysis for a request about `uri`: the stored one if
+    /// nothing it read has changed since, else a fresh one (run on the
+    /// blocking pool). `Ok(None)` when the document is not open.
+    pub async fn target(&self, uri: &Url) -> jsonrpc::Result<Option<Target>> {
+        let path = convert::uri_to_path(uri);
+        let (root, snapshot, seq) = {
+            let mut ws = self.shared.lock();
+            let Some(root) = ws.context_root(&path) else {
+                return Ok(None);
+            };
+            if let Some(result) = ws.results.get(&root) {
+                if result.is_current(&ws.docs) {
+                    let result = result.clone();
+                    return Ok(result
+                        .analysis
+                        .sources
+                        .find(&path)
+                        .map(|file| Target { result, file }));
+                }
+            }
+            let seq = ws.next_seq();
+            (root, ws.snapshot(), seq)
+        };
+        let job_root = root.clone();
+        let outcome = run_blocking(move || analyze_root(&job_root, &snapshot, seq)).await;
+        let result = match outcome {
+            Ok(Some(result)) => Arc::new(result),
+            Ok(None) => return Ok(None),
+            Err(failure) => return Err(self.report("analysing the grammar", failure).await),
+        };
+        self.shared.lock().store(&root, result.clone());
+        Ok(result
+            .analysis
+            .sources
+            .find(&path)
+            .map(|file| Target { result, file }))
+    }
+}
+
+/// The analysis loop: waits for edits, analyses the roots they touched and
+/// publishes diagnostics. One analysis runs at a time; edits that arrive
+/// meanwhile are coalesced into the next round.
+async fn worker(shared: Arc<Shared>, client: Client) {
+    loop {
+        shared.wake.notified().await;
+        let debounce = (shared.lock().last_duration / 4).min(MAX_DEBOUNCE);
+        if !debounce.is_zero() {
+            tokio::time::sleep(debounce).await;
+        }
+        let (roots, snapshot, seq, mut affected) = {
+            let mut ws = shared.lock();
+            let mut roots: Vec<PathBuf> = ws.dirty.drain().collect();
+            roots.retain(|r| ws.docs.contains_key(r));
+            roots.sort();
+            let affected: HashSet<PathBuf> = ws.republish.drain().collect();
+            let seq = ws.next_seq();
+            (roots, Arc::new(ws.snapshot()), seq, affected)
+        };
+        let mut problems = Vec::new();
+        for root in roots {
+            let started = Instant::now();
+            let job_root = root.clone();
+            let job_snapshot = snapshot.clone();
+            let outcome = run_blocking(move || analyze_root(&job_root, &job_snapshot, seq)).await;
+            let result = match outcome {
+                Ok(Some(result)) => Arc::new(result),
+                Ok(None) => continue,
+                Err(failure) => {
+                    let message = format!(
+                        "trellis: internal error while analysing {}: {failure}",
+                        root.display()
+                    );
+                    client.log_message(MessageType::ERROR, message).await;
+                    continue;
+                }
+            };
+            let mut ws = shared.lock();
+            ws.last_duration = started.elapsed();
+            if let Some(old) = ws.results.get(&root) {
+                affected.extend(old.paths().map(Path::to_path_buf));
+            }
+            affected.extend(result.paths().map(Path::to_path_buf));
+            if let Some(problem) = &result.config_problem {
+                problems.push(problem.clone());
+            }
+            ws.store(&root, result);
+        }
+        for problem in problems {
+            client.log_message(MessageType::WARNING, problem).await;
+        }
+        publish(&shared, &client, affected).await;
+    }
+}
+
+/// Publishes the diagnostics of every file in `affected` from the stored
+/// results, skipping files whose open buffer has moved on since (a newer
+/// analysis is queued for them) and never going back to an older version.
+async fn publish(shared: &Shared, client: &Client, affected: HashSet<PathBuf>) {
+    let mut paths: Vec<PathBuf> = affected.into_iter().collect();
+    paths.sort();
+    let mut batch = Vec::new();
+    {
+        let mut ws = shared.lock();
+        for path in paths {
+            let publishers = ws.publishers(&path);
+            let open = ws.docs.get(&path).map(|d| (d.uri.clone(), d.version));
+            // The version of this file the diagnostics were computed from.
+            let version = publishers.iter().find_map(|r| {
+                let file = r.analysis.sources.find(&path)?;
+                r.inputs.get(file.0 as usize).copied().flatten()
+            });
+            if let Some((_, current)) = &open {
+                if !publishers.is_empty() && version != Some(*current) {
+                    continue;
+                }
+            }
+            if let (Some(Some(previous)), Some(v)) = (ws.published.get(&path), version) {
+                if v < *previous {
+                    continue;
+                }
+            }
+            let uri = open.map(|(uri, _)| uri).or_else(|| {
+                publishers.iter().find_map(|r| {
+                    r.analysis
+                        .sources
+                        .find(&path)
+                        .and_then(|file| r.uri_of(file))
+                })
+            });
+            let Some(uri) = uri.or_else(|| convert::path_to_uri(&path)) else {
+                continue;
+            };
+            ws.published.insert(path.clone(), version);
+            batch.push((path, uri, version, publishers));
+        }
+    }
+    for (path, uri, version, publishers) in batch {
+        let diagnostics = diagnostics_for(&path, &publishers);
+        client.publish_diagnostics(uri, diagnostics, version).await;
+    }
+}
+
+/// The LSP diagnostics located in `path` from all of `results`, without
+/// repeats (two grammars using one file report its problems once).
+fn diagnostics_for(path: &Path, results: &[Arc<RootResult>]) -> Vec<Diagnostic> {
+    let mut out: Vec<Diagnostic> = Vec::new();
+    for r in results {
+        let Some(file) = r.analysis.sources.find(path) else {
+            continue;
+        };
+        let uri_of = |f: FileId| r.uri_of(f);
+        for d in r
+            .analysis
+            .diagnostics
+            .iter()
+            .filter(|d| d.location.file == file)
+        {
+            let converted = convert::diagnostic(&r.analysis, d, &uri_of);
+            let seen = out.iter().any(|o| {
+                o.range == converted.range
+                    && o.code == converted.code
+                    && o.message == converted.message
+            });
+            if !seen {
+                out.push(converted);
+            }
+        }
+    }
+    out
+}
+
+/// The server's capabilities: what is wired to the core so far.
+pub fn capabilities() -> ServerCapabilities {
+    ServerCapabilities {
+        position_encoding: Some(PositionEncodingKind::UTF16),
+        text_document_sync: Some(TextDocumentSyncCapability::Options(
+            TextDocumentSyncOptions {
+                open_close: Some(true),
+                change: Some(TextDocumentSyncKind::FULL),
+                will_save: None,
+                will_save_wait_until: None,
+                save: Some(TextDocumentSyncSaveOptions::Supported(true)),
+            },
+        )),
+        execute_command_provider: Some(ExecuteCommandOptions {
+            commands: commands::NAMES.iter().map(|s| s.to_string()).collect(),
+            work_done_progress_options: Default::default(),
+        }),
+        ..ServerCapabilities::default()
+    }
+}
+
+#[tower_lsp::async_trait]
+impl LanguageServer for Backend {
+    async fn initialize(&self, _: InitializeParams) -> jsonrpc::Result<InitializeResult> {
+        self.start_worker();
+        Ok(InitializeResult {
+            capabilities: capabilities(),
+            server_info: Some(ServerInfo {
+                name: "trellis".to_string(),
+                version: Some(env!("CARGO_PKG_VERSION").to_string()),
+            }),
+        })
+    }
+
+    async fn initialized(&self, _: InitializedParams) {
+        self.client
+            .log_message(MessageType::INFO, "trellis language server ready")
+            .await;
+    }
+
+    async fn shutdown(&self) -> jsonrpc::Result<()> {
+        Ok(())
+    }
+
+    async fn did_open(&self, params: DidOpenTextDocumentParams) {
+        let doc = params.text_document;
+        let path = convert::uri_to_path(&doc.uri);
+        {
+            let mut ws = self.shared.lock();
+            ws.docs.insert(
+                path.clone(),
+                Doc {
+                    uri: doc.uri,
+                    version: doc.version,
+                    text: Arc::new(doc.text),
+                },
+            );
+            // Any grammar may `use` this file, even one whose `use` failed
+            // before it existed on disk.
+            ws.touch_all();
+        }
+        self.changed(&path);
+    }
+
+    async fn did_change(&self, params: DidChangeTextDocumentParams) {
+        let path = convert::uri_to_path(&params.text_document.uri);
+        let version = params.text_document.version;
+        // Full sync: the last change holds the whole text.
+        let Some(change) = params.content_changes.into_iter().last() else {
+            return;
+        };
+        {
+            let mut ws = self.shared.lock();
+            let Some(doc) = ws.docs.get_mut(&path) else {
+                return;
+            };
+            if version <= doc.version {
+                // Out of order or repeated: the text we have is newer.
+                return;
+            }
+            doc.version = version;
+            doc.text = Arc::new(change.text);
+        }
+        self.changed(&path);
+    }
+
+    async fn did_save(&self, params: DidSaveTextDocumentParams) {
+        // Other grammars may read this file from disk: analyse them again.
+        let path = convert::uri_to_path(&params.text_document.uri);
+        self.changed(&path);
+    }
+
+    async fn did_close(&self, params: DidCloseTextDocumentParams) {
+        let path = convert::uri_to_path(&params.text_document.uri);
+        {
+            let mut ws = self.shared.lock();
+            ws.docs.remove(&path);
+            if let Some(old) = ws.results.remove(&path) {
+                let read: Vec<PathBuf> = old.paths().map(Path::to_path_buf).collect();
+                ws.republish.extend(read);
+            }
+            ws.republish.insert(path.clone());
+            ws.published.remove(&path);
+            // Grammars that used the buffer now read the file from disk.
+            ws.touch(&path);
+            ws.touch_all();
+        }
+        self.shared.wake.notify_one();
+    }
+
+    async fn execute_command(
+        &self,
+        params: ExecuteCommandParams,
+    ) -> jsonrpc::Result<Option<Value>> {
+        commands::execute(self, &self.options, params).await
+    }
+}
+
+impl Backend {
+    /// Runs core work for a request on the blocking pool; a panic is logged
+    /// and becomes an error response.
+    pub async fn run<T, F>(&self, what: &str, work: F) -> jsonrpc::Result<T>
+    where
+        T: Send + 'static,
+        F: FnOnce() -> T + Send + 'static,
+    {
+        match run_blocking(work).await {
+            Ok(value) => Ok(value),
+            Err(failure) => Err(self.report(what, failure).await),
+        }
+    }
+}

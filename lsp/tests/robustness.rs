@@ -1,0 +1,171 @@
+//! The server survives bad input and its own failures, and answers them as
+//! the JSON-RPC 2.0 and LSP specifications say.
+
+mod common;
+
+use common::{codes, frame, TestClient};
+use serde_json::{json, Value};
+
+const MAIN: &str = "file:///grammars/kiosk.trellis";
+
+// Error codes from the JSON-RPC 2.0 specification, section 5.1, and the LSP
+// 3.17 specification ("ErrorCodes", "LSPErrorCodes").
+const PARSE_ERROR: i64 = -32700;
+const INVALID_REQUEST: i64 = -32600;
+const METHOD_NOT_FOUND: i64 = -32601;
+const INVALID_PARAMS: i64 = -32602;
+const INTERNAL_ERROR: i64 = -32603;
+const SERVER_NOT_INITIALIZED: i64 = -32002;
+const REQUEST_CANCELLED: i64 = -32800;
+
+fn error_code(response: &Value) -> i64 {
+    response["error"]["code"]
+        .as_i64()
+        .unwrap_or_else(|| panic!("expected an error response, got {response}"))
+}
+
+#[tokio::test]
+async fn a_request_before_initialize_is_refused_as_not_initialized() {
+    let mut client = TestClient::start();
+    let response = client
+        .call(
+            "workspace/executeCommand",
+            json!({"command": "trellis.parse", "arguments": []}),
+        )
+        .await;
+    assert_eq!(error_code(&response), SERVER_NOT_INITIALIZED);
+    client.initialize().await;
+    client.shutdown().await;
+}
+
+#[tokio::test]
+async fn malformed_json_gets_a_parse_error_with_a_null_id_and_the_server_goes_on() {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    client
+        .send_raw(&frame("{\"jsonrpc\": \"2.0\", \"id\": 3, \"method\": "))
+        .await;
+    let response = client
+        .wait_for(|m| m.get("error").is_some() && m["id"].is_null())
+        .await;
+    assert_eq!(error_code(&response), PARSE_ERROR);
+    // Still serving.
+    client.open(MAIN, 1, "start S\nS { T | \"t\" }\n").await;
+    assert_eq!(codes(&client.diagnostics(MAIN).await), ["undefined"]);
+    client.shutdown().await;
+}
+
+#[tokio::test]
+async fn a_message_that_is_json_but_not_a_request_gets_invalid_request() {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    // Valid JSON, but neither a request, a notification nor a response.
+    client
+        .send_raw(&frame("{\"jsonrpc\": \"2.0\", \"id\": 4}"))
+        .await;
+    let response = client.response(4).await;
+    assert_eq!(error_code(&response), INVALID_REQUEST);
+    // A header block without Content-Length cannot be read as a message.
+    client.send_raw(b"Content-Type: text/plain\r\n\r\n").await;
+    let response = client
+        .wait_for(|m| m.get("error").is_some() && m["id"].is_null())
+        .await;
+    assert_eq!(error_code(&response), PARSE_ERROR);
+    // Still serving.
+    client.open(MAIN, 1, "start S\nS { \"t\" }\n").await;
+    assert_eq!(client.diagnostics(MAIN).await["diagnostics"], json!([]));
+    client.shutdown().await;
+}
+
+#[tokio::test]
+async fn unknown_methods_and_bad_parameters_get_their_error_codes() {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    let response = client.call("trellis/noSuchMethod", json!({})).await;
+    assert_eq!(error_code(&response), METHOD_NOT_FOUND);
+    let response = client
+        .call("workspace/executeCommand", json!({"command": 42}))
+        .await;
+    assert_eq!(error_code(&response), INVALID_PARAMS);
+    let response = client
+        .call(
+            "workspace/executeCommand",
+            json!({"command": "trellis.noSuchCommand", "arguments": []}),
+        )
+        .await;
+    assert_eq!(error_code(&response), INVALID_PARAMS);
+    client.shutdown().await;
+}
+
+#[tokio::test]
+async fn a_panic_in_core_work_is_logged_answered_with_an_error_and_survived() {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    let response = client
+        .call(
+            "workspace/executeCommand",
+            json!({"command": "trellis.debug.panic", "arguments": []}),
+        )
+        .await;
+    assert_eq!(error_code(&response), INTERNAL_ERROR);
+    assert!(
+        response["error"]["message"]
+            .as_str()
+            .unwrap()
+            .contains("deliberate panic"),
+        "{response}"
+    );
+    let log = client
+        .wait_for(|m| m["method"] == "window/logMessage" && m["params"]["type"] == 1)
+        .await;
+    assert!(
+        log["params"]["message"]
+            .as_str()
+            .unwrap()
+            .contains("deliberate panic"),
+        "{log}"
+    );
+    // The server keeps serving: analysis and commands still work.
+    client.open(MAIN, 1, "start S\nS { \"ferry\" }\n").await;
+    assert_eq!(client.diagnostics(MAIN).await["diagnostics"], json!([]));
+    let result = client
+        .request(
+            "workspace/executeCommand",
+            json!({"command": "trellis.parse", "arguments": [{"uri": MAIN, "sentence": "ferry"}]}),
+        )
+        .await;
+    assert_eq!(result["results"][0]["parsed"], true);
+    client.shutdown().await;
+}
+
+#[tokio::test]
+async fn a_cancelled_parse_is_answered_with_request_cancelled() {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    // A small ambiguous grammar; many long sentences keep the parser busy
+    // far longer than the cancellation takes to arrive.
+    client
+        .open(MAIN, 1, "start S\nS relative {\n  1 S S\n  1 \"a\"\n}\n")
+        .await;
+    client.diagnostics(MAIN).await;
+    let sentence = vec!["a"; 40].join(" ");
+    let sentences = vec![sentence; 5_000];
+    let id = client
+        .send_request(
+            "workspace/executeCommand",
+            json!({"command": "trellis.parse", "arguments": [{"uri": MAIN, "sentences": sentences}]}),
+        )
+        .await;
+    client.notify("$/cancelRequest", json!({"id": id})).await;
+    let response = client.response(id).await;
+    assert_eq!(error_code(&response), REQUEST_CANCELLED);
+    // The server answers the next request.
+    let result = client
+        .request(
+            "workspace/executeCommand",
+            json!({"command": "trellis.parse", "arguments": [{"uri": MAIN, "sentence": "a a"}]}),
+        )
+        .await;
+    assert_eq!(result["results"][0]["parsed"], true);
+    client.shutdown().await;
+}
