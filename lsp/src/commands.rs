@@ -17,7 +17,7 @@ use crate::server::{request_failed, Backend, Options, DEBUG_PANIC};
 use serde::Deserialize;
 use serde_json::{json, Value};
 use tower_lsp::jsonrpc;
-use tower_lsp::lsp_types::{ExecuteCommandParams, Url};
+use tower_lsp::lsp_types::{ExecuteCommandParams, MessageType, Url};
 use trellis_engine::parser::{ParseOptions, Parser};
 use trellis_engine::rng::Xoshiro256StarStar;
 use trellis_engine::sample::{Sampler, DEFAULT_LIMIT};
@@ -39,6 +39,10 @@ struct ParseArgs {
     sentences: Vec<String>,
     sentence: Option<String>,
     kbest: Option<usize>,
+    /// Also show the outcome to the user (`window/showMessage`), for
+    /// commands started from a code lens, whose result no one reads.
+    #[serde(default)]
+    show: bool,
 }
 
 #[derive(Debug, Deserialize)]
@@ -49,6 +53,8 @@ struct SampleArgs {
     seed: Option<u64>,
     #[serde(default)]
     trees: bool,
+    #[serde(default)]
+    show: bool,
 }
 
 fn one_argument<T: for<'de> Deserialize<'de>>(
@@ -88,7 +94,21 @@ pub async fn execute(
 }
 
 /// The grammar of `uri`, refusing one with errors.
-async fn grammar_of(backend: &Backend, uri: &Url) -> jsonrpc::Result<crate::server::Target> {
+async fn grammar_of(
+    backend: &Backend,
+    uri: &Url,
+    show: bool,
+) -> jsonrpc::Result<crate::server::Target> {
+    let found = usable_grammar(backend, uri).await;
+    if let (Err(e), true) = (&found, show) {
+        backend
+            .show(MessageType::ERROR, e.message.to_string())
+            .await;
+    }
+    found
+}
+
+async fn usable_grammar(backend: &Backend, uri: &Url) -> jsonrpc::Result<crate::server::Target> {
     let Some(target) = backend.target(uri).await? else {
         return Err(jsonrpc::Error::invalid_params(format!(
             "{uri} is not open in the editor"
@@ -109,11 +129,16 @@ async fn parse(backend: &Backend, args: ParseArgs) -> jsonrpc::Result<Option<Val
     let mut sentences = args.sentences;
     sentences.extend(args.sentence);
     if sentences.is_empty() {
-        return Err(jsonrpc::Error::invalid_params(
-            "trellis.parse needs `sentence` or `sentences`",
-        ));
+        let message = "trellis.parse needs a sentence (`sentence` or `sentences`); \
+                       the editor asks for one when it supports it";
+        if args.show {
+            backend
+                .show(MessageType::WARNING, message.to_string())
+                .await;
+        }
+        return Err(jsonrpc::Error::invalid_params(message));
     }
-    let target = grammar_of(backend, &args.uri).await?;
+    let target = grammar_of(backend, &args.uri, args.show).await?;
     let options = ParseOptions {
         kbest: args.kbest.unwrap_or(1).max(1),
         ..ParseOptions::default()
@@ -153,10 +178,61 @@ async fn parse(backend: &Backend, args: ParseArgs) -> jsonrpc::Result<Option<Val
         })
         .await?;
     guard.disarm();
+    finish(backend, args.show, outcome, parse_summary).await
+}
+
+/// A short text for the user about a `trellis.parse` result.
+fn parse_summary(value: &Value) -> String {
+    let mut lines = Vec::new();
+    for r in value["results"].as_array().into_iter().flatten() {
+        let sentence = r["sentence"].as_str().unwrap_or_default();
+        lines.push(match (r["tree"].as_str(), r["probability"].as_f64()) {
+            (Some(tree), Some(p)) => format!("{sentence}: {tree}  p = {p:.6e}"),
+            _ => {
+                let why = r["error"]
+                    .as_str()
+                    .or(r["explanation"].as_str())
+                    .unwrap_or("no parse");
+                format!("{sentence}: no parse — {why}")
+            }
+        });
+    }
+    lines.join("\n")
+}
+
+/// A short text for the user about a `trellis.sample` result.
+fn sample_summary(value: &Value) -> String {
+    value["samples"]
+        .as_array()
+        .into_iter()
+        .flatten()
+        .filter_map(|s| s["tree"].as_str().or(s["sentence"].as_str()))
+        .collect::<Vec<_>>()
+        .join("\n")
+}
+
+/// Turns the outcome of a command into its response, showing it to the
+/// user when asked.
+async fn finish(
+    backend: &Backend,
+    show: bool,
+    outcome: Result<Option<Value>, String>,
+    summary: fn(&Value) -> String,
+) -> jsonrpc::Result<Option<Value>> {
     match outcome {
-        Ok(Some(value)) => Ok(Some(value)),
+        Ok(Some(value)) => {
+            if show {
+                backend.show(MessageType::INFO, summary(&value)).await;
+            }
+            Ok(Some(value))
+        }
         Ok(None) => Err(jsonrpc::Error::request_cancelled()),
-        Err(message) => Err(request_failed(message)),
+        Err(message) => {
+            if show {
+                backend.show(MessageType::ERROR, message.clone()).await;
+            }
+            Err(request_failed(message))
+        }
     }
 }
 
@@ -167,7 +243,7 @@ async fn sample(backend: &Backend, args: SampleArgs) -> jsonrpc::Result<Option<V
             "trellis.sample makes at most {MAX_SAMPLES} sentences per call, not {count}"
         )));
     }
-    let target = grammar_of(backend, &args.uri).await?;
+    let target = grammar_of(backend, &args.uri, args.show).await?;
     let seed = args.seed.unwrap_or(0);
     let trees = args.trees;
     let cancel = CancelFlag::default();
@@ -200,9 +276,5 @@ async fn sample(backend: &Backend, args: SampleArgs) -> jsonrpc::Result<Option<V
         })
         .await?;
     guard.disarm();
-    match outcome {
-        Ok(Some(value)) => Ok(Some(value)),
-        Ok(None) => Err(jsonrpc::Error::request_cancelled()),
-        Err(message) => Err(request_failed(message)),
-    }
+    finish(backend, args.show, outcome, sample_summary).await
 }

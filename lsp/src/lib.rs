@@ -10,6 +10,7 @@
 
 pub mod commands;
 pub mod convert;
+pub mod features;
 pub mod guard;
 pub mod server;
 pub mod transport;

@@ -7,6 +7,7 @@
 
 use crate::commands;
 use crate::convert;
+use crate::features;
 use crate::guard::{run_blocking, Failure};
 use crate::workspace::{analyze_root, Doc, RootResult, Workspace};
 use grammar_lang::{Analysis, FileId};
@@ -339,6 +340,33 @@ pub fn capabilities() -> ServerCapabilities {
                 save: Some(TextDocumentSyncSaveOptions::Supported(true)),
             },
         )),
+        hover_provider: Some(HoverProviderCapability::Simple(true)),
+        definition_provider: Some(OneOf::Left(true)),
+        references_provider: Some(OneOf::Left(true)),
+        rename_provider: Some(OneOf::Right(RenameOptions {
+            prepare_provider: Some(true),
+            work_done_progress_options: Default::default(),
+        })),
+        document_symbol_provider: Some(OneOf::Left(true)),
+        workspace_symbol_provider: Some(OneOf::Left(true)),
+        completion_provider: Some(CompletionOptions::default()),
+        semantic_tokens_provider: Some(SemanticTokensServerCapabilities::SemanticTokensOptions(
+            SemanticTokensOptions {
+                legend: features::semantic_tokens_legend(),
+                full: Some(SemanticTokensFullOptions::Bool(true)),
+                range: None,
+                work_done_progress_options: Default::default(),
+            },
+        )),
+        code_action_provider: Some(CodeActionProviderCapability::Options(CodeActionOptions {
+            code_action_kinds: Some(vec![CodeActionKind::QUICKFIX, CodeActionKind::REFACTOR]),
+            work_done_progress_options: Default::default(),
+            resolve_provider: None,
+        })),
+        inlay_hint_provider: Some(OneOf::Left(true)),
+        code_lens_provider: Some(CodeLensOptions {
+            resolve_provider: Some(false),
+        }),
         execute_command_provider: Some(ExecuteCommandOptions {
             commands: commands::NAMES.iter().map(|s| s.to_string()).collect(),
             work_done_progress_options: Default::default(),
@@ -436,6 +464,75 @@ impl LanguageServer for Backend {
         self.shared.wake.notify_one();
     }
 
+    async fn hover(&self, params: HoverParams) -> jsonrpc::Result<Option<Hover>> {
+        features::hover(self, params).await
+    }
+
+    async fn goto_definition(
+        &self,
+        params: GotoDefinitionParams,
+    ) -> jsonrpc::Result<Option<GotoDefinitionResponse>> {
+        features::definition(self, params).await
+    }
+
+    async fn references(&self, params: ReferenceParams) -> jsonrpc::Result<Option<Vec<Location>>> {
+        features::references(self, params).await
+    }
+
+    async fn prepare_rename(
+        &self,
+        params: TextDocumentPositionParams,
+    ) -> jsonrpc::Result<Option<PrepareRenameResponse>> {
+        features::prepare_rename(self, params).await
+    }
+
+    async fn rename(&self, params: RenameParams) -> jsonrpc::Result<Option<WorkspaceEdit>> {
+        features::rename(self, params).await
+    }
+
+    async fn document_symbol(
+        &self,
+        params: DocumentSymbolParams,
+    ) -> jsonrpc::Result<Option<DocumentSymbolResponse>> {
+        features::document_symbols(self, params).await
+    }
+
+    async fn symbol(
+        &self,
+        params: WorkspaceSymbolParams,
+    ) -> jsonrpc::Result<Option<Vec<SymbolInformation>>> {
+        features::workspace_symbols(self, params).await
+    }
+
+    async fn completion(
+        &self,
+        params: CompletionParams,
+    ) -> jsonrpc::Result<Option<CompletionResponse>> {
+        features::completion(self, params).await
+    }
+
+    async fn semantic_tokens_full(
+        &self,
+        params: SemanticTokensParams,
+    ) -> jsonrpc::Result<Option<SemanticTokensResult>> {
+        features::semantic_tokens(self, params).await
+    }
+
+    async fn code_action(
+        &self,
+        params: CodeActionParams,
+    ) -> jsonrpc::Result<Option<CodeActionResponse>> {
+        features::code_actions(self, params).await
+    }
+
+    async fn inlay_hint(&self, params: InlayHintParams) -> jsonrpc::Result<Option<Vec<InlayHint>>> {
+        features::inlay_hints(self, params).await
+    }
+
+    async fn code_lens(&self, params: CodeLensParams) -> jsonrpc::Result<Option<Vec<CodeLens>>> {
+        features::code_lenses(self, params).await
+    }
+
     async fn execute_command(
         &self,
         params: ExecuteCommandParams,
@@ -445,6 +542,17 @@ impl LanguageServer for Backend {
 }
 
 impl Backend {
+    /// The latest analysis of every open document (for searches across
+    /// the workspace).
+    pub fn latest_results(&self) -> Vec<Arc<RootResult>> {
+        self.shared.lock().results.values().cloned().collect()
+    }
+
+    /// Sends `window/showMessage`.
+    pub async fn show(&self, typ: MessageType, message: String) {
+        self.client.show_message(typ, message).await;
+    }
+
     /// Runs core work for a request on the blocking pool; a panic is logged
     /// and becomes an error response.
     pub async fn run<T, F>(&self, what: &str, work: F) -> jsonrpc::Result<T>

@@ -8,10 +8,11 @@
 
 use crate::convert;
 use grammar_lang::config::Config;
+use grammar_lang::ide::{EngineFacts, IdeIndex};
 use grammar_lang::{analyze, Analysis, FileId, FileLoader};
 use std::collections::{BTreeMap, HashMap, HashSet};
 use std::path::{Path, PathBuf};
-use std::sync::Arc;
+use std::sync::{Arc, OnceLock};
 use std::time::Duration;
 use tower_lsp::lsp_types::Url;
 
@@ -109,9 +110,44 @@ pub struct RootResult {
     pub uris: Vec<Option<Url>>,
     /// A problem with `trellis.toml`, if any.
     pub config_problem: Option<String>,
+    /// The editor services' index, built on first use.
+    index: OnceLock<IdeIndex>,
+    /// The engine's numbers for hover, computed on first use (`None` when
+    /// the grammar has errors or no start symbol: the numbers would describe
+    /// a grammar other than the one meant).
+    facts: OnceLock<Option<EngineFacts>>,
 }
 
 impl RootResult {
+    /// The index of the editor services for this analysis.
+    pub fn index(&self) -> &IdeIndex {
+        self.index.get_or_init(|| IdeIndex::new(&self.analysis))
+    }
+
+    /// Termination probabilities and expected rule uses from the engine.
+    pub fn facts(&self) -> Option<&EngineFacts> {
+        self.facts
+            .get_or_init(|| {
+                if self.analysis.has_errors() {
+                    return None;
+                }
+                let report = trellis_engine::consistency::analyze(&self.analysis.grammar).ok()?;
+                Some(EngineFacts {
+                    termination: report
+                        .symbols
+                        .iter()
+                        .map(|s| s.termination_probability)
+                        .collect(),
+                    rule_expected_uses: report
+                        .rule_expected_uses
+                        .iter()
+                        .map(|u| u.unwrap_or(f64::INFINITY))
+                        .collect(),
+                })
+            })
+            .as_ref()
+    }
+
     /// The version of the root document this result was computed from.
     pub fn root_version(&self) -> Option<i32> {
         self.inputs.first().copied().flatten()
@@ -164,6 +200,8 @@ pub fn analyze_root(root: &Path, snapshot: &Snapshot, seq: u64) -> Option<RootRe
         inputs,
         uris,
         config_problem,
+        index: OnceLock::new(),
+        facts: OnceLock::new(),
     })
 }
 
