@@ -7,6 +7,7 @@ use crate::render::HumanRenderer;
 use grammar_lang::model::NtId;
 use grammar_lang::{Analysis, Severity};
 use serde::Serialize;
+use std::io::Write;
 use std::path::{Path, PathBuf};
 use trellis_engine::rng::Xoshiro256StarStar;
 use trellis_engine::sample::{SampleError, Sampler, DEFAULT_LIMIT};
@@ -183,7 +184,11 @@ pub fn run(args: &SampleArgs) -> Outcome {
     };
     let seed = args.seed.unwrap_or_else(clock_seed);
     let mut rng = Xoshiro256StarStar::seed_from_u64(seed);
-    let mut samples = Vec::with_capacity(args.count.min(1 << 20));
+    // Text is written as it is drawn (a corpus of millions of sentences
+    // needs no memory), JSON is collected into one document.
+    let mut samples = Vec::new();
+    let mut text = Vec::with_capacity(1 << 16);
+    let mut stdout = std::io::stdout().lock();
     let mut abandoned = 0usize;
     let mut last_error = None;
     for _ in 0..args.count {
@@ -203,6 +208,23 @@ pub fn run(args: &SampleArgs) -> Outcome {
                 })
         };
         match drawn {
+            Ok(sample) if args.format == SampleFormat::Text => {
+                text.extend_from_slice(
+                    sample
+                        .tree
+                        .as_deref()
+                        .unwrap_or(&sample.sentence)
+                        .as_bytes(),
+                );
+                text.push(b'\n');
+                if text.len() >= 1 << 16 {
+                    if stdout.write_all(&text).is_err() {
+                        // The reader went away (`trellis sample … | head`).
+                        return Outcome::Clean;
+                    }
+                    text.clear();
+                }
+            }
             Ok(sample) => samples.push(sample),
             Err(e @ (SampleError::LimitExceeded { .. } | SampleError::TreeTooDeep { .. })) => {
                 abandoned += 1;
@@ -216,12 +238,7 @@ pub fn run(args: &SampleArgs) -> Outcome {
     }
     match args.format {
         SampleFormat::Text => {
-            let mut out = String::new();
-            for s in &samples {
-                out.push_str(s.tree.as_deref().unwrap_or(&s.sentence));
-                out.push('\n');
-            }
-            emit(Stream::Stdout, &out);
+            let _ = stdout.write_all(&text).and_then(|()| stdout.flush());
         }
         SampleFormat::Json => {
             let doc = JsonOutput {
@@ -233,9 +250,12 @@ pub fn run(args: &SampleArgs) -> Outcome {
             let mut out =
                 serde_json::to_string(&doc).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"));
             out.push('\n');
-            emit(Stream::Stdout, &out);
+            let _ = stdout
+                .write_all(out.as_bytes())
+                .and_then(|()| stdout.flush());
         }
     }
+    drop(stdout);
     if let Some(e) = last_error {
         emit(
             Stream::Stderr,
