@@ -58,7 +58,7 @@ fn lower_using(
         grammar: Grammar::new(),
         diagnostics: Vec::new(),
         grammar_name: None,
-        weights: HashMap::new(),
+        weights: HashMap::default(),
     };
     lowerer.load(root, text, loader);
     let alternatives: usize = lowerer
@@ -137,7 +137,7 @@ pub fn resolve_block(relative: bool, shares: &[Share<'_>]) -> Vec<Ratio> {
             .iter()
             .map(|s| match counted(*s, relative, &zero, &one) {
                 Some(w) if sum.is_one() => w.clone(),
-                Some(w) => w / &sum,
+                Some(w) => exact_div(w, &sum),
                 None => Ratio::zero(),
             })
             .collect();
@@ -148,7 +148,7 @@ pub fn resolve_block(relative: bool, shares: &[Share<'_>]) -> Vec<Ratio> {
         .count();
     let remainder = Ratio::one() - sum;
     let each = if unweighted > 0 && remainder.is_positive() {
-        remainder / Ratio::from_integer(unweighted.into())
+        exact_div(&remainder, &Ratio::from_integer(unweighted.into()))
     } else {
         Ratio::zero()
     };
@@ -192,6 +192,23 @@ pub fn exact_sum<'a>(terms: impl IntoIterator<Item = &'a Ratio>) -> Ratio {
     Ratio::new_raw(BigInt::from(n), BigInt::from(d))
 }
 
+/// `a / b` for `b ≠ 0`, exactly; in 128-bit integers when both fit in 64 bits.
+pub fn exact_div(a: &Ratio, b: &Ratio) -> Ratio {
+    let small = |r: &Ratio| Some((r.numer().to_i64()?, r.denom().to_i64()?));
+    if let (Some((an, ad)), Some((bn, bd))) = (small(a), small(b)) {
+        if bn != 0 {
+            let mut num = i128::from(an) * i128::from(bd);
+            let mut den = i128::from(ad) * i128::from(bn);
+            if den < 0 {
+                (num, den) = (-num, -den);
+            }
+            let g = gcd(num.unsigned_abs(), den.unsigned_abs()) as i128;
+            return Ratio::new_raw(BigInt::from(num / g), BigInt::from(den / g));
+        }
+    }
+    a / b
+}
+
 fn gcd(mut a: u128, mut b: u128) -> u128 {
     while b != 0 {
         (a, b) = (b, a % b);
@@ -208,7 +225,7 @@ struct Lowerer<'p> {
     /// The first `grammar NAME` declaration.
     grammar_name: Option<Location>,
     /// Weights already read, by spelling.
-    weights: HashMap<String, (Ratio, model::Notation)>,
+    weights: HashMap<String, (Ratio, model::Notation), model::FastHash>,
 }
 
 /// A file whose `use` declarations are being followed.
@@ -690,6 +707,29 @@ mod tests {
         }
         let huge = Ratio::new(BigInt::from(1), BigInt::from(1) << 100);
         assert_eq!(exact_sum([&r(1, 2), &huge, &r(1, 2)]), r(1, 1) + &huge);
+    }
+
+    #[test]
+    fn exact_division_agrees_with_big_rationals() {
+        let values = [
+            r(6, 1),
+            r(-3, 10),
+            r(1, 3),
+            r(i64::MAX, 7),
+            r(-5, i64::MAX),
+            r(0, 1),
+        ];
+        for a in &values {
+            for b in values.iter().filter(|b| !b.is_zero()) {
+                let got = exact_div(a, b);
+                let expected = a / b;
+                assert_eq!(
+                    (got.numer(), got.denom()),
+                    (expected.numer(), expected.denom()),
+                    "{a} / {b}"
+                );
+            }
+        }
     }
 
     // A hand-written syntax tree, so lowering is tested on its own.

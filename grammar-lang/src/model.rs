@@ -280,10 +280,10 @@ impl Grammar {
     }
 }
 
-/// A fast, non-cryptographic hash for maps keyed by names and ids (the multiply and
-/// rotate scheme of the Firefox/rustc "Fx" hasher; common practice). Keys
-/// come from the grammar, not from an adversary, and a collision only costs
-/// time.
+/// A fast, non-cryptographic hash for maps keyed by names and ids: the
+/// multiply and rotate scheme of the Firefox/rustc "Fx" hasher with a final
+/// mix (common practice). Keys come from the grammar, not from an
+/// adversary, and a collision only costs time.
 pub type FastHash = std::hash::BuildHasherDefault<FxHasher>;
 
 #[derive(Default, Clone, Copy)]
@@ -317,7 +317,15 @@ impl std::hash::Hasher for FxHasher {
         self.add(i as u64);
     }
     fn finish(&self) -> u64 {
-        self.0
+        // The multiply leaves the low bits, which pick the bucket, depending
+        // only on the low bits of the input (e.g. the first letters of a
+        // name); fold the high bits down (the 64-bit finaliser of
+        // MurmurHash3, recalled from memory).
+        let mut h = self.0;
+        h ^= h >> 33;
+        h = h.wrapping_mul(0xff51_afd7_ed55_8ccd);
+        h ^= h >> 33;
+        h
     }
 }
 

@@ -87,6 +87,20 @@ mod tests {
     use num_bigint::BigInt;
 
     #[test]
+    fn the_fast_hash_spreads_similar_names_over_buckets() {
+        use std::hash::BuildHasher;
+        // Names that differ only after a common first letter, as generated
+        // vocabularies do: the low 12 bits (which pick a bucket in a table
+        // of 4096) must still take many values. A uniform hash of 3000 keys
+        // into 4096 buckets fills about 4096·(1 − e^(−3000/4096)) ≈ 2129.
+        let hasher = FastHash::default();
+        let buckets: std::collections::HashSet<u64> = (0..3000)
+            .map(|i| hasher.hash_one(format!("w{i}")) & 0xfff)
+            .collect();
+        assert!(buckets.len() > 1800, "only {} buckets used", buckets.len());
+    }
+
+    #[test]
     fn numbers_are_exact_when_short_and_approximate_when_huge() {
         let r = |n: i64, d: i64| Ratio::new(BigInt::from(n), BigInt::from(d));
         assert_eq!(number_text(&r(99, 100)), "99/100 (0.99)");
