@@ -46,6 +46,10 @@ enum Command {
     /// editors.
     #[command(long_about = commands::lsp::LONG_ABOUT)]
     Lsp(commands::lsp::LspArgs),
+    /// Parse sentences: the most probable trees, their probabilities, and
+    /// why a sentence does not parse.
+    #[command(long_about = commands::parse::LONG_ABOUT)]
+    Parse(commands::parse::ParseArgs),
 }
 
 fn main() -> ExitCode {
@@ -55,6 +59,7 @@ fn main() -> ExitCode {
         Command::Sample(args) => commands::sample::run(&args),
         Command::Stats(args) => commands::stats::run(&args),
         Command::Lsp(args) => commands::lsp::run(&args),
+        Command::Parse(args) => commands::parse::run(&args),
     };
     outcome.into()
 }

@@ -135,13 +135,13 @@ impl Explanation {
                 .iter()
                 .map(|c| format!("{} (p ≈ {:.3e})", c.symbol, c.log_probability.exp()))
                 .collect();
-            let range = if f.end - f.start == 1 {
-                format!("word {}", f.start + 1)
+            let (range, verb) = if f.end - f.start == 1 {
+                (format!("word {}", f.start + 1), "analyses")
             } else {
-                format!("words {}–{}", f.start + 1, f.end)
+                (format!("words {}–{}", f.start + 1, f.end), "analyse")
             };
             lines.push(format!(
-                "{range} {} analyse as {}",
+                "{range} {} {verb} as {}",
                 quote(&f.text),
                 cats.join(", ")
             ));

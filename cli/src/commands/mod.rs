@@ -3,6 +3,7 @@
 
 pub mod check;
 pub mod lsp;
+pub mod parse;
 pub mod sample;
 pub mod stats;
 

@@ -1,0 +1,160 @@
+//! `trellis parse` as a user runs it: the built binary on grammar files in
+//! temporary directories.
+
+use serde_json::Value;
+use std::fs;
+use std::path::Path;
+use std::process::Command;
+
+struct Run {
+    code: i32,
+    stdout: String,
+    stderr: String,
+}
+
+fn trellis(dir: &Path, args: &[&str]) -> Run {
+    let out = Command::new(env!("CARGO_BIN_EXE_trellis"))
+        .args(args)
+        .current_dir(dir)
+        .output()
+        .expect("the trellis binary runs");
+    Run {
+        code: out.status.code().expect("trellis exits normally"),
+        stdout: String::from_utf8(out.stdout).expect("stdout is UTF-8"),
+        stderr: String::from_utf8(out.stderr).expect("stderr is UTF-8"),
+    }
+}
+
+/// "a day ticket" has two trees: the article can belong to the ticket or
+/// to the request (probabilities worked by hand below).
+const KIOSK: &str = r#"
+start Request
+
+Request {
+  1/2  Ticket
+  1/2  "a" Ticket
+}
+
+Ticket {
+  1/2  Kind "ticket"
+  1/2  "a" Kind "ticket"
+}
+
+Kind { "day" | "single" | "return" }
+"#;
+
+fn setup() -> tempfile::TempDir {
+    let dir = tempfile::tempdir().unwrap();
+    fs::write(dir.path().join("g.trellis"), KIOSK).unwrap();
+    dir
+}
+
+#[test]
+fn ambiguous_sentence_lists_both_trees_with_their_probabilities() {
+    let dir = setup();
+    let run = trellis(
+        dir.path(),
+        &["parse", "g.trellis", "a day ticket", "--kbest", "2"],
+    );
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    // Each tree: 1/2 · 1/2 · 1/3 = 1/12; together 1/6.
+    assert!(run.stdout.contains("p = 8.333333e-2"), "{}", run.stdout);
+    assert!(
+        run.stdout.contains("P(sentence) = 1.666667e-1"),
+        "{}",
+        run.stdout
+    );
+    assert!(run.stdout.contains("trees: 2"), "{}", run.stdout);
+    assert!(
+        run.stdout
+            .contains(r#"(Request "a" (Ticket (Kind "day") "ticket"))"#),
+        "{}",
+        run.stdout
+    );
+    assert!(
+        run.stdout
+            .contains(r#"(Request (Ticket "a" (Kind "day") "ticket"))"#),
+        "{}",
+        run.stdout
+    );
+}
+
+#[test]
+fn sentence_without_parse_is_explained_and_sets_the_exit_status() {
+    let dir = setup();
+    let run = trellis(dir.path(), &["parse", "g.trellis", "a dya ticket"]);
+    assert_eq!(run.code, 1);
+    assert!(run.stdout.contains("no parse"), "{}", run.stdout);
+    assert!(
+        run.stdout
+            .contains(r#"unknown word "dya" (word 2); did you mean "day"?"#),
+        "{}",
+        run.stdout
+    );
+}
+
+#[test]
+fn batch_input_gives_one_json_line_per_sentence_in_input_order() {
+    let dir = setup();
+    let lines: Vec<String> = (0..40)
+        .map(|n| {
+            if n % 3 == 0 {
+                "ticket day".to_string()
+            } else {
+                "day ticket".to_string()
+            }
+        })
+        .collect();
+    fs::write(dir.path().join("in.txt"), lines.join("\n\n")).unwrap();
+    let run = trellis(
+        dir.path(),
+        &[
+            "parse",
+            "g.trellis",
+            "--input",
+            "in.txt",
+            "--format",
+            "json",
+        ],
+    );
+    assert_eq!(run.code, 1, "some sentences do not parse");
+    let docs: Vec<Value> = run
+        .stdout
+        .lines()
+        .map(|l| serde_json::from_str(l).unwrap())
+        .collect();
+    assert_eq!(docs.len(), 40);
+    for (n, doc) in docs.iter().enumerate() {
+        assert_eq!(doc["sentence"], lines[n].as_str());
+        assert_eq!(doc["parsed"], n % 3 != 0);
+    }
+    assert_eq!(docs[1]["parse_count"], "1");
+    assert_eq!(
+        docs[1]["best"]["tree"],
+        r#"(Request (Ticket (Kind "day") "ticket"))"#
+    );
+    assert_eq!(docs[0]["explanation"]["breakdown"]["prefix_words"], 0);
+}
+
+#[test]
+fn brackets_format_prints_bare_treebank_trees_and_a_blank_line_for_failures() {
+    let dir = setup();
+    let run = trellis(
+        dir.path(),
+        &[
+            "parse",
+            "g.trellis",
+            "return ticket",
+            "ticket",
+            "--format",
+            "brackets",
+        ],
+    );
+    assert_eq!(run.code, 1);
+    assert_eq!(run.stdout, "(Request (Ticket (Kind return) ticket))\n\n");
+    assert!(
+        run.stderr.contains("1 of 2 sentences did not parse"),
+        "{}",
+        run.stderr
+    );
+}
