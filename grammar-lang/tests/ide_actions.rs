@@ -259,3 +259,37 @@ fn no_renormalization_is_offered_when_every_weight_is_zero() {
         vec!["Mark `S` relative (divide its weights by their sum)"]
     );
 }
+
+#[test]
+fn writing_out_a_relative_block_gives_plain_probabilities_and_the_same_model() {
+    let text = "start Zahl\nZahl relative {  # gewichtet\n  6  \"eins\"\n  3  \"zwei\"\n     \"drei\"  # zählt als 1\n}\n";
+    let a = analyze_text(text);
+    assert!(a.diagnostics.is_empty());
+    // Offered on the block's head only.
+    assert!(ide::code_actions(&a, M, at(text, "\"eins\"")).is_empty());
+    let fix = action(&a, M, at(text, "relative"), "Write out");
+    assert_eq!(fix.kind, CodeActionKind::Refactor);
+    assert_eq!(fix.diagnostic_code, None);
+    assert_eq!(
+        fix.title,
+        "Write out the probabilities of `Zahl` and drop `relative`"
+    );
+    let fixed = apply(text, M, &fix.edits);
+    // 6 : 3 : 1 (the unweighted alternative counts as 1), divided by 10.
+    assert_eq!(
+        fixed,
+        "start Zahl\nZahl {  # gewichtet\n  0.6  \"eins\"\n  0.3  \"zwei\"\n     0.1 \"drei\"  # zählt als 1\n}\n"
+    );
+    assert_eq!(comments(&fixed), comments(text));
+    let b = analyze_text(&fixed);
+    assert!(b.diagnostics.is_empty(), "{:#?}", b.diagnostics);
+    assert_eq!(probabilities(&b, "Zahl"), probabilities(&a, "Zahl"));
+    // Thirds have no decimal: fractions.
+    let text = "start S\nS relative { \"a\" | \"b\" | \"c\" }\n";
+    let a = analyze_text(text);
+    let fix = action(&a, M, at(text, "S relative"), "Write out");
+    assert_eq!(
+        apply(text, M, &fix.edits),
+        "start S\nS { 1/3 \"a\" | 1/3 \"b\" | 1/3 \"c\" }\n"
+    );
+}

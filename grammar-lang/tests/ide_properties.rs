@@ -11,6 +11,7 @@
 //!   the removed lines), and the result analyses without a panic; a fix
 //!   removes the diagnostic it was offered for (a removed block's name may
 //!   stay unreachable when a second block of that name takes its place).
+//! * Refactors keep the model: the same rules with the same probabilities.
 //! * Rename is faithful: renaming a symbol and analysing again gives a
 //!   grammar with the same number of rules, and the old name is gone.
 //!
@@ -175,7 +176,10 @@ fn services_are_total(a: &Analysis) -> Result<(), TestCaseError> {
             let list = ide::completions(a, file, offset);
             prop_assert!(in_text(text, list.replace) || offset > text.len());
             for action in ide::code_actions(a, file, Span::point(offset.min(text.len()))) {
-                prop_assert!(action.kind == CodeActionKind::QuickFix);
+                prop_assert_eq!(
+                    action.kind == CodeActionKind::QuickFix,
+                    action.diagnostic_code.is_some()
+                );
                 apply(a, &action.edits)?;
             }
         }
@@ -240,6 +244,14 @@ fn fixes_are_safe(a: &Analysis, file: FileId) -> Result<(), TestCaseError> {
         }
         let b = reanalyse(a, &new_texts);
         let (Some(code), Some(at)) = (action.diagnostic_code, action.diagnostic_location) else {
+            // A refactor keeps the model: the same rules with the same
+            // probabilities.
+            let rules = |g: &grammar_lang::Grammar| -> Vec<(String, grammar_lang::model::Ratio)> {
+                g.rule_ids()
+                    .map(|id| (g.rule_text(id), g.rule(id).probability.clone()))
+                    .collect()
+            };
+            prop_assert_eq!(rules(&b.grammar), rules(&a.grammar), "{}", &action.title);
             continue;
         };
         // The same name no longer carries the same finding (unless it has a

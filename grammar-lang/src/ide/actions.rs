@@ -56,6 +56,13 @@ pub struct CodeAction {
 /// * `unreachable` — **remove the block**: deletes its lines, the `##` doc
 ///   lines above it and one adjacent blank line; nothing else.
 ///
+/// Besides the fixes, one refactor is offered when `span` lies on the head
+/// of a `relative` block (its name or the keyword): **write out the
+/// probabilities**, which replaces every weight by the alternative's exact
+/// probability (inserting one before unweighted alternatives, in the style
+/// chosen as for renormalizing) and removes `relative`; the model is
+/// unchanged.
+///
 /// Cost: a pass over the file's diagnostics plus the size of the blocks
 /// concerned.
 pub fn code_actions(analysis: &Analysis, file: FileId, span: Span) -> Vec<CodeAction> {
@@ -87,7 +94,91 @@ pub fn code_actions(analysis: &Analysis, file: FileId, span: Span) -> Vec<CodeAc
             }
         }
     }
+    if let Some(action) = write_out_relative(analysis, file, span) {
+        out.push(action);
+    }
     out
+}
+
+/// Writes exact values in the style of a block whose weights were written
+/// in `notations`: percentages when every weight was a percentage, else
+/// decimals when none was a fraction, provided every value has a short
+/// terminating decimal expansion; exact fractions otherwise.
+fn write_values(values: &[Ratio], notations: &[Notation]) -> Vec<String> {
+    let no_fraction = notations.iter().all(|n| *n != Notation::Fraction);
+    let all_percent = !notations.is_empty() && notations.iter().all(|n| *n == Notation::Percent);
+    let hundred = Ratio::from_integer(BigInt::from(100));
+    let styled: Option<Vec<String>> = if no_fraction && all_percent {
+        values
+            .iter()
+            .map(|r| exact_decimal(&(r * &hundred), SHORT_DECIMAL).map(|d| format!("{d}%")))
+            .collect()
+    } else if no_fraction {
+        values
+            .iter()
+            .map(|r| exact_decimal(r, SHORT_DECIMAL))
+            .collect()
+    } else {
+        None
+    };
+    styled.unwrap_or_else(|| values.iter().map(fraction).collect())
+}
+
+/// Refactor offered on the head of a `relative` block: write every
+/// alternative's probability as its weight and drop `relative`, so the
+/// block reads as plain probabilities that sum to 1.
+fn write_out_relative(analysis: &Analysis, file: FileId, span: Span) -> Option<CodeAction> {
+    let syntax = locate::syntax(analysis, file)?;
+    let Decl::Block(block) = locate::decl_at(syntax, span.start as usize)? else {
+        return None;
+    };
+    let relative = block.relative?;
+    if span.end > relative.end.max(block.name.span.end) {
+        return None;
+    }
+    let grammar = &analysis.grammar;
+    let nt = locate::is_model_block(analysis, file, block)?;
+    let info = grammar.nonterminal(nt).block.as_ref()?;
+    if grammar.is_damaged(nt) || info.mass.is_zero() {
+        return None;
+    }
+    let rules: Vec<_> = grammar.rules_of(nt).map(|(_, r)| r).collect();
+    if rules.len() != block.alternatives.len() {
+        return None;
+    }
+    let notations: Vec<Notation> = rules
+        .iter()
+        .filter_map(|r| r.weight.as_ref().map(|w| w.notation))
+        .collect();
+    let values: Vec<Ratio> = rules.iter().map(|r| r.probability.clone()).collect();
+    let texts = write_values(&values, &notations);
+    let mut edits = vec![TextEdit {
+        file,
+        span: Span::new(block.name.span.end as usize, relative.end as usize),
+        new_text: String::new(),
+    }];
+    for ((alt, rule), text) in block.alternatives.iter().zip(&rules).zip(texts) {
+        edits.push(match (&rule.weight, alt.weight) {
+            (Some(_), Some(w)) => TextEdit {
+                file,
+                span: w,
+                new_text: text,
+            },
+            _ => TextEdit {
+                file,
+                span: Span::point(alt.span.start as usize),
+                new_text: format!("{text} "),
+            },
+        });
+    }
+    let name = grammar.nt_name(nt);
+    Some(CodeAction {
+        title: format!("Write out the probabilities of `{name}` and drop `relative`"),
+        kind: CodeActionKind::Refactor,
+        diagnostic_code: None,
+        diagnostic_location: None,
+        edits,
+    })
 }
 
 fn quick_fix(title: String, d: &Diagnostic, edits: Vec<TextEdit>) -> CodeAction {
@@ -133,24 +224,8 @@ fn renormalize(
         return None;
     }
     let new: Vec<Ratio> = weights.iter().map(|w| &w.value / &sum).collect();
-    let no_fraction = weights.iter().all(|w| w.notation != Notation::Fraction);
-    let all_percent = weights.iter().all(|w| w.notation == Notation::Percent);
-    let hundred = Ratio::from_integer(BigInt::from(100));
-    let texts: Vec<String> = if no_fraction && all_percent {
-        let percents: Option<Vec<String>> = new
-            .iter()
-            .map(|r| exact_decimal(&(r * &hundred), SHORT_DECIMAL).map(|d| format!("{d}%")))
-            .collect();
-        percents.unwrap_or_else(|| new.iter().map(fraction).collect())
-    } else if no_fraction {
-        let decimals: Option<Vec<String>> = new
-            .iter()
-            .map(|r| exact_decimal(r, SHORT_DECIMAL))
-            .collect();
-        decimals.unwrap_or_else(|| new.iter().map(fraction).collect())
-    } else {
-        new.iter().map(fraction).collect()
-    };
+    let notations: Vec<Notation> = weights.iter().map(|w| w.notation).collect();
+    let texts = write_values(&new, &notations);
     let edits: Vec<TextEdit> = weights
         .iter()
         .zip(texts)

@@ -10,6 +10,9 @@ const LONGEST_FRACTION: usize = 24;
 
 /// `11/20 = 0.55`, `1/3 ≈ 0.333333`, `1`. Exact as long as that is readable.
 pub(crate) fn exact(r: &Ratio) -> String {
+    if let (Some(n), Some(d)) = (r.numer().to_u64(), r.denom().to_u64()) {
+        return exact_small(n, d);
+    }
     if r.is_integer() {
         return r.to_integer().to_string();
     }
@@ -19,6 +22,38 @@ pub(crate) fn exact(r: &Ratio) -> String {
         Some(d) => d,
         None if f.len() <= LONGEST_FRACTION => format!("{f} ≈ {}", float(ratio_f64(r))),
         None => format!("≈ {}", float(ratio_f64(r))),
+    }
+}
+
+/// [`exact`] for a non-negative ratio `n/d` in lowest terms that fits in
+/// machine words: the same text without big-integer arithmetic.
+fn exact_small(n: u64, d: u64) -> String {
+    if d == 1 {
+        return n.to_string();
+    }
+    let f = format!("{n}/{d}");
+    let (mut rest, mut twos, mut fives) = (d, 0u32, 0u32);
+    while rest % 2 == 0 {
+        rest /= 2;
+        twos += 1;
+    }
+    while rest % 5 == 0 {
+        rest /= 5;
+        fives += 1;
+    }
+    let digits = twos.max(fives);
+    let decimal = (rest == 1 && digits <= 12).then(|| {
+        // n/d = n · (10^digits / d) / 10^digits, all exact in 128 bits.
+        let scaled = u128::from(n) * (10u128.pow(digits) / u128::from(d));
+        let s = format!("{scaled:0>width$}", width = digits as usize + 1);
+        let (int, frac) = s.split_at(s.len() - digits as usize);
+        format!("{int}.{frac}")
+    });
+    match decimal {
+        Some(d) if f.len() <= LONGEST_FRACTION => format!("{f} = {d}"),
+        Some(d) => d,
+        None if f.len() <= LONGEST_FRACTION => format!("{f} ≈ {}", float(n as f64 / d as f64)),
+        None => format!("≈ {}", float(n as f64 / d as f64)),
     }
 }
 
@@ -97,6 +132,34 @@ mod tests {
         assert_eq!(exact(&r(0, 1)), "0");
         assert_eq!(percent(&r(11, 20)), "55%");
         assert_eq!(percent(&r(1, 3)), "≈ 33.3333%");
+    }
+
+    #[test]
+    fn the_machine_word_path_writes_what_the_exact_path_writes() {
+        let big = |n: i64, d: i64| {
+            let r = r(n, d);
+            let f = fraction(&r);
+            match exact_decimal(&r, 12) {
+                _ if r.is_integer() => f,
+                Some(d) => format!("{f} = {d}"),
+                None => format!("{f} ≈ {}", float(ratio_f64(&r))),
+            }
+        };
+        for (n, d) in [
+            (11, 20),
+            (1, 3),
+            (3, 8),
+            (1, 1024),
+            (7, 1),
+            (0, 1),
+            (1, 8192),
+            (5, 6),
+        ] {
+            assert_eq!(exact(&r(n, d)), big(n, d), "{n}/{d}");
+        }
+        assert_eq!(exact(&r(1, 1024)), "1/1024 = 0.0009765625");
+        assert_eq!(exact(&r(1, 4096)), "1/4096 = 0.000244140625");
+        assert_eq!(exact(&r(1, 8192)), "1/8192 ≈ 0.00012207");
     }
 
     #[test]
