@@ -798,3 +798,101 @@ fn code_lenses_sit_on_start_and_on_each_test() {
     );
     assert_eq!(ide::code_lenses(&a, L), Vec::new());
 }
+
+// ── folding, links, highlights ──────────────────────────────────────────
+
+#[test]
+fn folding_ranges_cover_multi_line_blocks_tests_and_comment_runs() {
+    use grammar_lang::ide::{FoldKind, FoldingRange};
+    let a = analysis();
+    let folds = ide::folding_ranges(&a, M);
+    let fold = |span: Span, kind| FoldingRange { span, kind };
+    assert_eq!(
+        folds,
+        vec![
+            fold(
+                Span::new(
+                    at(MAIN, "Anfrage {", 0).start as usize,
+                    at(MAIN, "}", 0).end as usize
+                ),
+                FoldKind::Declaration
+            ),
+            fold(
+                Span::new(
+                    at(MAIN, "Fahrkarte {", 0).start as usize,
+                    at(MAIN, "}", 1).end as usize
+                ),
+                FoldKind::Declaration
+            ),
+            // `Wunsch { … }` fits on one line: no fold.
+            fold(
+                Span::new(at(MAIN, "test", 0).start as usize, MAIN.len() - 1),
+                FoldKind::Declaration
+            ),
+        ]
+    );
+    // Comment lines in a row fold; a comment after code does not count, and
+    // a blank line ends a run.
+    let text =
+        "# eins\n## zwei\n### drei\nstart S # nach Code\n# allein\n\n# a\n# b\nS { \"s\" }\n";
+    let a = grammar_lang::analyze_text(text);
+    assert_eq!(
+        ide::folding_ranges(&a, M),
+        vec![
+            fold(
+                Span::new(0, at(text, "### drei", 0).end as usize),
+                FoldKind::Comment
+            ),
+            fold(
+                Span::new(
+                    at(text, "# a\n", 0).start as usize,
+                    at(text, "# b", 0).end as usize
+                ),
+                FoldKind::Comment
+            ),
+        ]
+    );
+}
+
+#[test]
+fn document_links_lead_from_use_paths_to_loaded_files() {
+    use grammar_lang::ide::DocumentLink;
+    let a = analysis();
+    assert_eq!(
+        ide::document_links(&a, M),
+        vec![DocumentLink {
+            span: at(MAIN, "\"lexikon.trellis\"", 0),
+            target: L
+        }]
+    );
+    let a = grammar_lang::analyze_text("use \"fehlt.trellis\"\n");
+    assert_eq!(ide::document_links(&a, M), Vec::new());
+}
+
+#[test]
+fn document_highlights_mark_definitions_and_uses_in_one_file() {
+    use grammar_lang::ide::Highlight;
+    let a = analysis();
+    let got = ide::document_highlights(&a, M, inside(MAIN, "Fahrkarte", 2, 0));
+    let h = |span, definition| Highlight { span, definition };
+    assert_eq!(
+        got,
+        vec![
+            h(at(MAIN, "Fahrkarte", 0), false),
+            h(at(MAIN, "Fahrkarte", 1), false),
+            h(at(MAIN, "Fahrkarte", 2), false),
+            h(at(MAIN, "Fahrkarte", 3), true),
+            h(at(MAIN, "Fahrkarte", 8), false),
+        ]
+    );
+    // A word: the same quoted word everywhere in the file.
+    let got = ide::document_highlights(&a, M, inside(MAIN, "\"Fahrkarte\"", 0, 2));
+    assert_eq!(
+        got,
+        vec![
+            h(at(MAIN, "\"Fahrkarte\"", 0), false),
+            h(at(MAIN, "\"Fahrkarte\"", 1), false),
+            h(at(MAIN, "\"Fahrkarte\"", 2), false),
+        ]
+    );
+}

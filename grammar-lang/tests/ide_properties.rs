@@ -173,6 +173,9 @@ fn services_are_total(a: &Analysis) -> Result<(), TestCaseError> {
                     }
                 }
             }
+            for h in ide::document_highlights(a, file, offset) {
+                prop_assert!(in_text(text, h.span));
+            }
             let list = ide::completions(a, file, offset);
             prop_assert!(in_text(text, list.replace) || offset > text.len());
             for action in ide::code_actions(a, file, Span::point(offset.min(text.len()))) {
@@ -198,6 +201,13 @@ fn services_are_total(a: &Analysis) -> Result<(), TestCaseError> {
         }
         for h in ide::inlay_hints(a, file, whole) {
             prop_assert!(h.offset <= text.len() && text.is_char_boundary(h.offset));
+        }
+        for fold in ide::folding_ranges(a, file) {
+            prop_assert!(in_text(text, fold.span));
+        }
+        for link in ide::document_links(a, file) {
+            prop_assert!(in_text(text, link.span));
+            prop_assert!((link.target.0 as usize) < a.sources.len());
         }
         for lens in ide::code_lenses(a, file) {
             prop_assert!(in_text(text, lens.span));

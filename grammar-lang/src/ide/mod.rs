@@ -43,6 +43,9 @@
 //! | quick fixes | [`code_actions`] → `Vec<CodeAction>` | no |
 //! | inlay hints | [`inlay_hints`] → `Vec<InlayHint>` | no |
 //! | code lenses | [`code_lenses`] → `Vec<CodeLens>` | no |
+//! | folding | [`folding_ranges`] → `Vec<FoldingRange>` | no |
+//! | links on `use` paths | [`document_links`] → `Vec<DocumentLink>` | no |
+//! | highlight occurrences | [`document_highlights`] → `Vec<Highlight>` | no |
 //!
 //! Numbers that only the probabilistic engine knows (termination
 //! probabilities, expected rule uses) are handed to [`hover`] in an
@@ -56,6 +59,7 @@ mod locate;
 mod lookup;
 mod navigation;
 mod numbers;
+mod structure;
 mod symbols;
 mod tokens;
 mod walk;
@@ -66,6 +70,10 @@ pub use hints::{code_lenses, inlay_hints, CodeLens, CodeLensKind, InlayHint};
 pub use hover::{hover, EngineFacts, Hover};
 pub use lookup::{lookup, Lookup, NtRole};
 pub use navigation::{definition, prepare_rename, references, rename, RenameError};
+pub use structure::{
+    document_highlights, document_links, folding_ranges, DocumentLink, FoldKind, FoldingRange,
+    Highlight,
+};
 pub use symbols::{
     document_symbols, workspace_symbols, DocumentSymbol, SymbolKind, WorkspaceSymbol,
 };

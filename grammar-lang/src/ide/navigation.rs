@@ -56,13 +56,10 @@ pub fn references(
             });
         }
         Some(Lookup::Terminal { value, .. }) => {
-            for (id, syntax) in analysis.syntax.iter().enumerate() {
+            for id in 0..analysis.syntax.len() {
                 let file = FileId(id as u32);
-                walk(&syntax.decls, &mut |node| match node {
-                    Node::Terminal(s) | Node::Leaf(s) if s.value == value => {
-                        out.push(Location::new(file, s.span));
-                    }
-                    _ => {}
+                words_in_file(analysis, file, &value, |span| {
+                    out.push(Location::new(file, span))
                 });
             }
         }
@@ -74,18 +71,51 @@ pub fn references(
 /// Calls `f` with every place `name` is written as a non-terminal (and
 /// whether it is a block head), file by file in source order.
 fn for_each_name(analysis: &Analysis, name: &str, mut f: impl FnMut(Location, bool)) {
-    for (id, syntax) in analysis.syntax.iter().enumerate() {
+    for id in 0..analysis.syntax.len() {
         let file = FileId(id as u32);
-        let text = locate::text(analysis, file);
-        let is_name = |span: Span| span.len() == name.len() && span.text(text) == name;
-        walk(&syntax.decls, &mut |node| match node {
-            Node::BlockName(span) if is_name(span) => f(Location::new(file, span), true),
-            Node::StartName(span) | Node::NtUse(span) | Node::TreeLabel(span) if is_name(span) => {
-                f(Location::new(file, span), false)
-            }
-            _ => {}
+        names_in_file(analysis, file, name, |span, def| {
+            f(Location::new(file, span), def)
         });
     }
+}
+
+/// Calls `f` with every place in `file` where `name` is written as a
+/// non-terminal, and whether it is a block head, in source order.
+pub(crate) fn names_in_file(
+    analysis: &Analysis,
+    file: FileId,
+    name: &str,
+    mut f: impl FnMut(Span, bool),
+) {
+    let Some(syntax) = locate::syntax(analysis, file) else {
+        return;
+    };
+    let text = locate::text(analysis, file);
+    let is_name = |span: Span| span.len() == name.len() && span.text(text) == name;
+    walk(&syntax.decls, &mut |node| match node {
+        Node::BlockName(span) if is_name(span) => f(span, true),
+        Node::StartName(span) | Node::NtUse(span) | Node::TreeLabel(span) if is_name(span) => {
+            f(span, false)
+        }
+        _ => {}
+    });
+}
+
+/// Calls `f` with every quoted `word` in `file` (right-hand sides and
+/// test-tree leaves), in source order.
+pub(crate) fn words_in_file(
+    analysis: &Analysis,
+    file: FileId,
+    word: &str,
+    mut f: impl FnMut(Span),
+) {
+    let Some(syntax) = locate::syntax(analysis, file) else {
+        return;
+    };
+    walk(&syntax.decls, &mut |node| match node {
+        Node::Terminal(s) | Node::Leaf(s) if s.value == word => f(s.span),
+        _ => {}
+    });
 }
 
 /// Why a rename is refused.
