@@ -138,6 +138,89 @@ pub(crate) mod kernels {
         }
     }
 
+    /// The same over the set bits of `bmask & rmask` (the right children of
+    /// `b` present in the right cell), looking each pair up in `table`.
+    #[inline]
+    #[allow(clippy::too_many_arguments)]
+    pub fn max_mask(
+        rules: &[BinRule],
+        table: &[u32],
+        base: usize,
+        bmask: &[u64],
+        rmask: &[u64],
+        lb: f64,
+        right: &[f64],
+        pre: &mut [f64],
+    ) {
+        let n = right.len();
+        assert_eq!(pre.len(), n);
+        assert!(base + n < table.len() && bmask.len() == rmask.len() && bmask.len() * 64 >= n);
+        for (w, (&bm, &rm)) in bmask.iter().zip(rmask).enumerate() {
+            let mut m = bm & rm;
+            while m != 0 {
+                let c = w * 64 + m.trailing_zeros() as usize;
+                m &= m - 1;
+                // Bits are only set for symbols < n.
+                let (s, e) = (table[base + c] as usize, table[base + c + 1] as usize);
+                let lbc = lb + right[c];
+                for rule in &rules[s..e] {
+                    let a = rule.parent as usize;
+                    debug_assert!(a < n);
+                    // SAFETY: a < n_sym = pre.len() (see module doc).
+                    unsafe {
+                        let cand = rule.lp + lbc;
+                        let slot = pre.get_unchecked_mut(a);
+                        *slot = if cand > *slot { cand } else { *slot };
+                    }
+                }
+            }
+        }
+    }
+
+    /// The sum version of [`max_mask`].
+    #[inline]
+    #[allow(clippy::too_many_arguments)]
+    pub fn sum_mask(
+        rules: &[LinRule],
+        table: &[u32],
+        base: usize,
+        bmask: &[u64],
+        rmask: &[u64],
+        lb: f64,
+        right: &[f64],
+        acc: &mut [f64],
+    ) {
+        let n = right.len();
+        assert_eq!(acc.len(), n);
+        assert!(base + n < table.len() && bmask.len() == rmask.len() && bmask.len() * 64 >= n);
+        for (w, (&bm, &rm)) in bmask.iter().zip(rmask).enumerate() {
+            let mut m = bm & rm;
+            while m != 0 {
+                let c = w * 64 + m.trailing_zeros() as usize;
+                m &= m - 1;
+                let (s, e) = (table[base + c] as usize, table[base + c + 1] as usize);
+                let lbc = lb * right[c];
+                for rule in &rules[s..e] {
+                    let a = rule.parent as usize;
+                    debug_assert!(a < n);
+                    // SAFETY: a < n_sym = acc.len() (see module doc).
+                    unsafe {
+                        *acc.get_unchecked_mut(a) += rule.p * lbc;
+                    }
+                }
+            }
+        }
+    }
+
+    /// Sets `mask` to the bit set of `present`.
+    #[inline]
+    pub fn fill_mask(mask: &mut [u64], present: &[u32]) {
+        mask.fill(0);
+        for &c in present {
+            mask[c as usize / 64] |= 1u64 << (c % 64);
+        }
+    }
+
     /// `acc[A] += p · lb · right[C]` for every rule `A → b C`.
     #[inline]
     pub fn sum_scan(rules: &[LinRule], lb: f64, right: &[f64], acc: &mut [f64]) {

@@ -140,6 +140,10 @@ pub struct CompiledGrammar {
     /// When the grammar is small enough: rules with left child `b` and right
     /// child `c` are `bin[pair_offsets[b·n + c]..pair_offsets[b·n + c + 1]]`.
     pub(crate) pair_offsets: Option<Vec<u32>>,
+    /// With the pair table: bit `c` of row `b` (`mask_words` words per row)
+    /// is set when some rule has left child `b` and right child `c`.
+    pub(crate) right_masks: Vec<u64>,
+    pub(crate) mask_words: usize,
     /// Left child, probability and origin of each binary rule (cold data).
     pub(crate) bin_left: Vec<u32>,
     pub(crate) bin_p: Vec<f64>,
@@ -236,6 +240,12 @@ impl CompiledGrammar {
         let mut left_offsets = vec![0u32; n_sym + 1];
         let mut bin = Vec::with_capacity(order.len());
         let mut bin_lin = Vec::with_capacity(order.len());
+        let mask_words = n_sym.div_ceil(64);
+        let mut right_masks = if n_sym <= MAX_PAIR_TABLE_SYMBOLS {
+            vec![0u64; n_sym * mask_words]
+        } else {
+            Vec::new()
+        };
         let mut pair_counts =
             (n_sym <= MAX_PAIR_TABLE_SYMBOLS).then(|| vec![0u32; n_sym * n_sym + 1]);
         let mut bin_left = Vec::with_capacity(order.len());
@@ -255,6 +265,8 @@ impl CompiledGrammar {
             bin_lin.push(LinRule { p, parent, right });
             if let Some(counts) = pair_counts.as_mut() {
                 counts[left as usize * n_sym + right as usize + 1] += 1;
+                right_masks[left as usize * mask_words + right as usize / 64] |=
+                    1u64 << (right % 64);
             }
             min_lp = min_lp.min(p.ln());
             bin_left.push(left);
@@ -308,6 +320,8 @@ impl CompiledGrammar {
             bin,
             bin_lin,
             pair_offsets: pair_counts,
+            right_masks,
+            mask_words,
             bin_left,
             bin_p,
             bin_origin,
@@ -395,14 +409,40 @@ impl CompiledGrammar {
     }
 
     /// How to visit the rules of left child `b` against a right cell with
-    /// `right_present` symbols: by looking up each (b, c) pair when that is
-    /// fewer steps than scanning all of `b`'s rules.
+    /// `right_present` symbols, whichever takes fewest steps: scan all of
+    /// `b`'s rules, look up each `(b, c)` pair, or intersect `b`'s bit mask of
+    /// right children with the right cell's (`mask_words` word operations).
     #[inline]
-    pub(crate) fn use_pairs(&self, b: u32, right_present: usize) -> Option<&[u32]> {
-        let table = self.pair_offsets.as_deref()?;
-        let rules = self.left_offsets[b as usize + 1] - self.left_offsets[b as usize];
-        (2 * right_present < rules as usize).then_some(table)
+    pub(crate) fn visit(&self, b: u32, right_present: usize) -> Visit<'_> {
+        let Some(table) = self.pair_offsets.as_deref() else {
+            return Visit::Scan;
+        };
+        let rules = (self.left_offsets[b as usize + 1] - self.left_offsets[b as usize]) as usize;
+        let w = self.mask_words;
+        let row = &self.right_masks[b as usize * w..(b as usize + 1) * w];
+        // Rough cost estimates in units of one scanned rule (a random
+        // look-up costs a few sequential steps): a pair look-up ~3, a mask
+        // word ~1, each expected (b, c) match found through the mask ~4.
+        let rights: usize = row.iter().map(|m| m.count_ones() as usize).sum();
+        let matches = rights * right_present / self.kinds.len().max(1);
+        let scan = rules;
+        let pairs = 3 * right_present;
+        let mask = w + 4 * matches;
+        if scan <= pairs.min(mask) {
+            Visit::Scan
+        } else if mask < pairs {
+            Visit::Mask(table, row)
+        } else {
+            Visit::Pairs(table)
+        }
     }
+}
+
+/// See [`CompiledGrammar::visit`].
+pub(crate) enum Visit<'a> {
+    Scan,
+    Pairs(&'a [u32]),
+    Mask(&'a [u32], &'a [u64]),
 }
 
 struct Builder {

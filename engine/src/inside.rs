@@ -10,7 +10,7 @@
 //! combined with exact log-sum-exp instead. Both paths meet in log space.
 
 use crate::chart::{kernels, log_add, Layout};
-use crate::compile::CompiledGrammar;
+use crate::compile::{CompiledGrammar, Visit};
 use crate::viterbi::ViterbiChart;
 
 /// Dynamic range, in nats, that the scaled path handles: four factors of at
@@ -43,6 +43,7 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str], vit: &ViterbiChart) -> I
     let mut acc = vec![0.0f64; n_sym];
     let mut acc_log = vec![f64::NEG_INFINITY; n_sym];
     let mut pre = vec![f64::NEG_INFINITY; n_sym];
+    let mut rmask = vec![0u64; g.mask_words];
     for len in 1..=layout.n {
         for i in 0..=layout.n - len {
             let j = i + len;
@@ -76,25 +77,29 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str], vit: &ViterbiChart) -> I
                         let left = &lin_done[l * n_sym..(l + 1) * n_sym];
                         let right = &lin_done[r * n_sym..(r + 1) * n_sym];
                         let rp = vit.present(r);
+                        let mut rmask_ready = false;
                         for &b in vit.present(l) {
                             let lb = left[b as usize] * f;
-                            if let Some(table) = g.use_pairs(b, rp.len()) {
-                                kernels::sum_pairs(
-                                    &g.bin_lin,
-                                    table,
-                                    b as usize * n_sym,
-                                    rp,
-                                    lb,
-                                    right,
-                                    &mut acc,
-                                );
-                            } else {
-                                kernels::sum_scan(
+                            let base = b as usize * n_sym;
+                            match g.visit(b, rp.len()) {
+                                Visit::Scan => kernels::sum_scan(
                                     &g.bin_lin[g.binary_rule_range(b)],
                                     lb,
                                     right,
                                     &mut acc,
-                                );
+                                ),
+                                Visit::Pairs(table) => kernels::sum_pairs(
+                                    &g.bin_lin, table, base, rp, lb, right, &mut acc,
+                                ),
+                                Visit::Mask(table, bmask) => {
+                                    if !rmask_ready {
+                                        kernels::fill_mask(&mut rmask, rp);
+                                        rmask_ready = true;
+                                    }
+                                    kernels::sum_mask(
+                                        &g.bin_lin, table, base, bmask, &rmask, lb, right, &mut acc,
+                                    )
+                                }
                             }
                         }
                     } else {

@@ -8,7 +8,7 @@
 //! the inner loop to one add, one add and one compare per rule.
 
 use crate::chart::{kernels, Layout};
-use crate::compile::{CompiledGrammar, Origin};
+use crate::compile::{CompiledGrammar, Origin, Visit};
 
 /// A derivation in the compiled grammar.
 #[derive(Clone, Debug, PartialEq)]
@@ -56,6 +56,7 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str]) -> ViterbiChart {
     present_start.push(0u32);
     let mut present: Vec<u32> = Vec::new();
     let mut pre = vec![f64::NEG_INFINITY; n_sym];
+    let mut rmask = vec![0u64; g.mask_words];
     for len in 1..=layout.n {
         for i in 0..=layout.n - len {
             let j = i + len;
@@ -80,20 +81,29 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str]) -> ViterbiChart {
                     let lp_start = present_start[l] as usize;
                     let lp_end = present_start[l + 1] as usize;
                     let rp = &present[present_start[r] as usize..present_start[r + 1] as usize];
+                    let mut rmask_ready = false;
                     for &b in &present[lp_start..lp_end] {
                         let lb = left[b as usize];
-                        if let Some(table) = g.use_pairs(b, rp.len()) {
-                            kernels::max_pairs(
-                                &g.bin,
-                                table,
-                                b as usize * n_sym,
-                                rp,
+                        let base = b as usize * n_sym;
+                        match g.visit(b, rp.len()) {
+                            Visit::Scan => kernels::max_scan(
+                                &g.bin[g.binary_rule_range(b)],
                                 lb,
                                 right,
                                 &mut pre,
-                            );
-                        } else {
-                            kernels::max_scan(&g.bin[g.binary_rule_range(b)], lb, right, &mut pre);
+                            ),
+                            Visit::Pairs(table) => {
+                                kernels::max_pairs(&g.bin, table, base, rp, lb, right, &mut pre)
+                            }
+                            Visit::Mask(table, bmask) => {
+                                if !rmask_ready {
+                                    kernels::fill_mask(&mut rmask, rp);
+                                    rmask_ready = true;
+                                }
+                                kernels::max_mask(
+                                    &g.bin, table, base, bmask, &rmask, lb, right, &mut pre,
+                                )
+                            }
                         }
                     }
                 }
