@@ -293,3 +293,19 @@ fn writing_out_a_relative_block_gives_plain_probabilities_and_the_same_model() {
         "start S\nS { 1/3 \"a\" | 1/3 \"b\" | 1/3 \"c\" }\n"
     );
 }
+
+#[test]
+fn an_unknown_start_symbol_gets_a_stub_block_after_the_start_line() {
+    let text = "start Anfang\n# Rest folgt\nS { \"s\" }\n";
+    let a = analyze_text(text);
+    assert!(codes(&a).contains(&Code::UnknownStart));
+    let fix = action(&a, M, at(text, "Anfang"), "Define");
+    assert_eq!(fix.diagnostic_code, Some(Code::UnknownStart));
+    let fixed = apply(text, M, &fix.edits);
+    assert_eq!(
+        fixed,
+        "start Anfang\n\nAnfang {\n  \"Anfang\"  # TODO: the words or symbols `Anfang` stands for\n}\n# Rest folgt\nS { \"s\" }\n"
+    );
+    let b = analyze_text(&fixed);
+    assert_eq!(codes(&b), vec![Code::Unreachable]);
+}

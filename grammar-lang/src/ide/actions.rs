@@ -52,7 +52,8 @@ pub struct CodeAction {
 ///   block `relative`**, which inserts ` relative` after its name.
 /// * `undefined` — **define the symbol** with a stub block
 ///   `Name {\n  "Name"  # TODO: …\n}` inserted on the line after the block
-///   that uses it, separated by a blank line.
+///   that uses it, separated by a blank line. The same for
+///   `unknown-start`, after the `start` declaration.
 /// * `unreachable` — **remove the block**: deletes its lines, the `##` doc
 ///   lines above it and one adjacent blank line; nothing else.
 ///
@@ -81,7 +82,7 @@ pub fn code_actions(analysis: &Analysis, file: FileId, span: Span) -> Vec<CodeAc
                 }
                 v
             }
-            Code::Undefined => define_stub(analysis, d).into_iter().collect(),
+            Code::Undefined | Code::UnknownStart => define_stub(analysis, d).into_iter().collect(),
             Code::Unreachable => block_named_at(analysis, d.location)
                 .map(|block| remove_block(analysis, file, block, d))
                 .into_iter()
@@ -267,20 +268,20 @@ fn define_stub(analysis: &Analysis, d: &Diagnostic) -> Option<CodeAction> {
     let syntax = locate::syntax(analysis, file)?;
     let text = locate::text(analysis, file);
     let name = d.location.span.text(text);
-    let Decl::Block(block) = locate::decl_at(syntax, d.location.span.start as usize)? else {
-        return None;
+    let (after, first_alt) = match locate::decl_at(syntax, d.location.span.start as usize)? {
+        Decl::Block(block) => (block.span, block.alternatives.first()),
+        Decl::Start(start) => (start.span, None),
+        _ => return None,
     };
     // Indent like the block's first alternative when it starts its line.
-    let indent = block
-        .alternatives
-        .first()
+    let indent = first_alt
         .map(|alt| {
             let start = line_start(text, alt.span.start as usize);
             &text[start..alt.span.start as usize]
         })
         .filter(|s| !s.is_empty() && s.chars().all(|c| c == ' ' || c == '\t'))
         .unwrap_or("  ");
-    let at = next_line_start(text, block.span.end as usize);
+    let at = next_line_start(text, after.end as usize);
     let lead = if text[..at].ends_with('\n') {
         "\n"
     } else {
