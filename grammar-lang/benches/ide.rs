@@ -3,6 +3,13 @@
 //! cost a binary search plus the size of its answer, or at most one linear
 //! scan (references, rename, completion lists, whole-file semantic tokens),
 //! never a re-analysis. Building the index is measured on its own.
+//!
+//! Measured once (release build, a 2-core machine shared with other
+//! builds, so only the orders of magnitude matter): definition ≈ 1 µs,
+//! hover on a symbol ≈ 3 µs, on a rule ≈ 20 µs, on a word ≈ 60 µs; one
+//! screen of semantic tokens ≈ 70 µs and of inlay hints ≈ 90 µs; workspace
+//! symbols ≈ 5 ms, completion ≈ 7 ms, references ≈ 10 ms; index ≈ 33 ms,
+//! whole-file semantic tokens ≈ 35 ms, the 56,000-entry outline ≈ 140 ms.
 
 use criterion::{criterion_group, criterion_main, Criterion};
 use grammar_lang::ide::{self, IdeIndex};
