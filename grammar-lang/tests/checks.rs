@@ -800,3 +800,24 @@ fn diagnostics_come_sorted_by_file_and_position() {
         [Code::DuplicateRule, Code::Unproductive, Code::Undefined]
     );
 }
+
+#[test]
+fn a_limit_set_below_two_in_code_does_not_break_the_arity_message() {
+    // `trellis.toml` refuses limits below 2, but a program may build any Config.
+    let config = Config {
+        max_arity: 1,
+        ..Config::default()
+    };
+    let a = analyze(
+        Path::new("g.trellis"),
+        "start S\nS { \"a\" \"b\" }\n",
+        &MemoryLoader::new(),
+        &config,
+    );
+    let d = the_one(&a, Code::Arity);
+    assert!(
+        d.message.contains("2 items, more than the limit of 1"),
+        "{}",
+        d.message
+    );
+}

@@ -21,7 +21,7 @@ pub fn check(grammar: &Grammar, config: &Config, out: &mut Vec<Diagnostic>) {
                      splits it into binary rules with {} intermediate symbols, and parsing time \
                      grows with the number of binary rules",
                     grammar.nt_name(rule.lhs),
-                    len - 2
+                    len.saturating_sub(2)
                 ),
             )
             .with_label(format!("{len} items"))
