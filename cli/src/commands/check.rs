@@ -285,7 +285,8 @@ pub fn run(args: &CheckArgs) -> Outcome {
     for (root, config) in roots.into_iter().zip(configs) {
         match fs_loader::read_text(&root.path) {
             Ok(text) => {
-                let analysis = grammar_lang::analyze(&root.path, &text, &DiskLoader, &config);
+                let mut analysis = grammar_lang::analyze(&root.path, &text, &DiskLoader, &config);
+                trellis_engine::consistency::add_leak_finding(&mut analysis, &config);
                 checked.push(Checked { root, analysis });
             }
             Err(reason) => failures.push(format!("cannot read {}: {reason}", root.path.display())),
