@@ -58,6 +58,35 @@ impl Tree {
         out
     }
 
+    /// Labelled brackets spread over lines for reading: a node whose
+    /// children are all words stays on one line, any other node puts each
+    /// child on a line of its own, indented by two spaces under it. Every
+    /// line starts with `margin`.
+    pub fn to_indented(&self, margin: &str) -> String {
+        let mut out = String::new();
+        self.write_indented(&mut out, margin, 0);
+        out
+    }
+
+    fn write_indented(&self, out: &mut String, margin: &str, depth: usize) {
+        out.push_str(margin);
+        for _ in 0..depth {
+            out.push_str("  ");
+        }
+        match self {
+            Tree::Node { label, children } if children.iter().any(|c| c.label().is_some()) => {
+                out.push('(');
+                out.push_str(label);
+                for c in children {
+                    out.push('\n');
+                    c.write_indented(out, margin, depth + 1);
+                }
+                out.push(')');
+            }
+            _ => self.write(out, true),
+        }
+    }
+
     fn write(&self, out: &mut String, quoted: bool) {
         match self {
             Tree::Leaf(w) if quoted => out.push_str(&quote(w)),
@@ -84,6 +113,22 @@ impl fmt::Display for Tree {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn indented_trees_keep_word_only_nodes_on_one_line() {
+        let t = Tree::node(
+            "Ticket",
+            vec![
+                Tree::node("Kind", vec![Tree::leaf("day")]),
+                Tree::leaf("ticket"),
+            ],
+        );
+        assert_eq!(
+            t.to_indented("> "),
+            "> (Ticket\n>   (Kind \"day\")\n>   \"ticket\")"
+        );
+        assert_eq!(Tree::leaf("x").to_indented(""), "\"x\"");
+    }
 
     #[test]
     fn brackets_quote_terminals_only_in_the_language_form() {

@@ -142,18 +142,18 @@ fn text_report(sentence: &str, result: &Result<ParseOutcome, ParseError>) -> Str
         Ok(o) => match &o.best {
             Some(best) => {
                 out.push_str(&format!(
-                    "  best tree (p = {:.6e}, log p = {:.4}):\n    {}\n",
+                    "  best tree (p = {:.6e}, log p = {:.4}):\n{}\n",
                     best.probability,
                     best.log_probability,
-                    best.tree.to_brackets()
+                    best.tree.to_indented("    ")
                 ));
                 for (rank, t) in o.kbest.iter().enumerate().skip(1) {
                     out.push_str(&format!(
-                        "  tree {} (p = {:.6e}, log p = {:.4}):\n    {}\n",
+                        "  tree {} (p = {:.6e}, log p = {:.4}):\n{}\n",
                         rank + 1,
                         t.probability,
                         t.log_probability,
-                        t.tree.to_brackets()
+                        t.tree.to_indented("    ")
                     ));
                 }
                 out.push_str(&format!(
