@@ -33,9 +33,11 @@ pub struct Options {
 /// [`Options::debug_commands`].
 pub const DEBUG_PANIC: &str = "trellis.debug.panic";
 
-/// The longest pause between an edit and the analysis it starts: when an
-/// analysis takes long, the worker waits a quarter of that time (at most
-/// this) for more edits, so a burst of keystrokes is analysed once.
+/// The longest pause before analysing during a burst of edits. An edit
+/// that arrives while nothing is being analysed starts an analysis at once;
+/// edits that arrive while one runs are coalesced, and if they keep coming
+/// (a burst of keystrokes) the worker waits half the last analysis time, at
+/// most this, for the burst to end before analysing the newest text once.
 const MAX_DEBOUNCE: Duration = Duration::from_millis(100);
 
 /// State shared by the handlers and the analysis worker.
@@ -43,6 +45,8 @@ const MAX_DEBOUNCE: Duration = Duration::from_millis(100);
 struct Shared {
     workspace: Mutex<Workspace>,
     wake: Notify,
+    /// Signalled after every round of the worker.
+    stored: Notify,
     worker_started: std::sync::atomic::AtomicBool,
 }
 
@@ -156,28 +160,52 @@ impl Backend {
         self.shared.wake.notify_one();
     }
 
+    /// What is known now about requests on `path`.
+    fn lookup(&self, path: &Path) -> Lookup {
+        let ws = self.shared.lock();
+        let Some(root) = ws.context_root(path) else {
+            return Lookup::NotOpen;
+        };
+        if let Some(result) = ws.results.get(&root) {
+            if result.is_current(&ws.docs) {
+                return match result.analysis.sources.find(path) {
+                    Some(file) => Lookup::Current(Target {
+                        result: result.clone(),
+                        file,
+                    }),
+                    None => Lookup::NotOpen,
+                };
+            }
+        }
+        if ws.dirty.contains(&root) || ws.in_flight.contains(&root) {
+            Lookup::Coming
+        } else {
+            Lookup::Missing(root)
+        }
+    }
+
     /// The current analysis for a request about `uri`: the stored one if
-    /// nothing it read has changed since, else a fresh one (run on the
-    /// blocking pool). `Ok(None)` when the document is not open.
+    /// nothing it read has changed since; else the worker's next one when
+    /// the worker has it queued (so a burst of requests during an edit does
+    /// not start analyses of its own); else a fresh one. `Ok(None)` when the
+    /// document is not open.
     pub async fn target(&self, uri: &Url) -> jsonrpc::Result<Option<Target>> {
         let path = convert::uri_to_path(uri);
-        let (root, snapshot, seq) = {
-            let mut ws = self.shared.lock();
-            let Some(root) = ws.context_root(&path) else {
-                return Ok(None);
-            };
-            if let Some(result) = ws.results.get(&root) {
-                if result.is_current(&ws.docs) {
-                    let result = result.clone();
-                    return Ok(result
-                        .analysis
-                        .sources
-                        .find(&path)
-                        .map(|file| Target { result, file }));
-                }
+        let root = loop {
+            let stored = self.shared.stored.notified();
+            tokio::pin!(stored);
+            stored.as_mut().enable();
+            match self.lookup(&path) {
+                Lookup::NotOpen => return Ok(None),
+                Lookup::Current(target) => return Ok(Some(target)),
+                Lookup::Missing(root) => break root,
+                Lookup::Coming => stored.await,
             }
+        };
+        let (snapshot, seq) = {
+            let mut ws = self.shared.lock();
             let seq = ws.next_seq();
-            (root, ws.snapshot(), seq)
+            (ws.snapshot(), seq)
         };
         let job_root = root.clone();
         let outcome = run_blocking(move || analyze_root(&job_root, &snapshot, seq)).await;
@@ -195,14 +223,25 @@ impl Backend {
     }
 }
 
+/// See [`Backend::lookup`].
+enum Lookup {
+    NotOpen,
+    Current(Target),
+    /// Out of date, and the worker will analyse it.
+    Coming,
+    /// Out of date and nothing queued: analyse this root.
+    Missing(PathBuf),
+}
+
 /// The analysis loop: waits for edits, analyses the roots they touched and
 /// publishes diagnostics. One analysis runs at a time; edits that arrive
 /// meanwhile are coalesced into the next round.
 async fn worker(shared: Arc<Shared>, client: Client) {
+    let mut in_burst = false;
     loop {
         shared.wake.notified().await;
-        let debounce = (shared.lock().last_duration / 4).min(MAX_DEBOUNCE);
-        if !debounce.is_zero() {
+        if in_burst {
+            let debounce = (shared.lock().last_duration / 2).min(MAX_DEBOUNCE);
             tokio::time::sleep(debounce).await;
         }
         let (roots, snapshot, seq, mut affected) = {
@@ -210,6 +249,7 @@ async fn worker(shared: Arc<Shared>, client: Client) {
             let mut roots: Vec<PathBuf> = ws.dirty.drain().collect();
             roots.retain(|r| ws.docs.contains_key(r));
             roots.sort();
+            ws.in_flight = roots.iter().cloned().collect();
             let affected: HashSet<PathBuf> = ws.republish.drain().collect();
             let seq = ws.next_seq();
             (roots, Arc::new(ws.snapshot()), seq, affected)
@@ -246,6 +286,13 @@ async fn worker(shared: Arc<Shared>, client: Client) {
         for problem in problems {
             client.log_message(MessageType::WARNING, problem).await;
         }
+        {
+            let mut ws = shared.lock();
+            ws.in_flight.clear();
+            // Edits arrived while this round ran: more are likely to follow.
+            in_burst = !ws.dirty.is_empty();
+        }
+        shared.stored.notify_waiters();
         publish(&shared, &client, affected).await;
     }
 }

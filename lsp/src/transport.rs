@@ -10,6 +10,7 @@
 //! from both go through one writer, whole frames at a time.
 
 use crate::server::{service, Options};
+use serde::de::{Deserialize, Deserializer, IgnoredAny, MapAccess, SeqAccess, Visitor};
 use serde_json::{json, Value};
 use tokio::io::{AsyncBufRead, AsyncBufReadExt, AsyncRead, AsyncReadExt, AsyncWrite};
 use tokio::io::{AsyncWriteExt, BufReader};
@@ -94,11 +95,97 @@ pub const PARSE_ERROR: i64 = -32700;
 /// JSON-RPC 2.0, section 5.1: JSON that is not a valid request object.
 pub const INVALID_REQUEST: i64 = -32600;
 
-/// `Ok` for a well-formed JSON-RPC 2.0 request, notification or response;
-/// otherwise the error response to send back.
-pub fn validate(body: &[u8]) -> Result<(), Value> {
-    let value: Value = match serde_json::from_slice(body) {
-        Ok(v) => v,
+/// The JSON type of a value, read without keeping the value (a large
+/// `params` is scanned once and not copied).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Shape {
+    Null,
+    Scalar,
+    Array,
+    Object,
+}
+
+impl<'de> Deserialize<'de> for Shape {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Shape, D::Error> {
+        struct ShapeVisitor;
+        impl<'de> Visitor<'de> for ShapeVisitor {
+            type Value = Shape;
+            fn expecting(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+                f.write_str("any JSON value")
+            }
+            fn visit_unit<E>(self) -> Result<Shape, E> {
+                Ok(Shape::Null)
+            }
+            fn visit_none<E>(self) -> Result<Shape, E> {
+                Ok(Shape::Null)
+            }
+            fn visit_bool<E>(self, _: bool) -> Result<Shape, E> {
+                Ok(Shape::Scalar)
+            }
+            fn visit_i64<E>(self, _: i64) -> Result<Shape, E> {
+                Ok(Shape::Scalar)
+            }
+            fn visit_u64<E>(self, _: u64) -> Result<Shape, E> {
+                Ok(Shape::Scalar)
+            }
+            fn visit_f64<E>(self, _: f64) -> Result<Shape, E> {
+                Ok(Shape::Scalar)
+            }
+            fn visit_str<E>(self, _: &str) -> Result<Shape, E> {
+                Ok(Shape::Scalar)
+            }
+            fn visit_seq<A: SeqAccess<'de>>(self, mut seq: A) -> Result<Shape, A::Error> {
+                while seq.next_element::<IgnoredAny>()?.is_some() {}
+                Ok(Shape::Array)
+            }
+            fn visit_map<A: MapAccess<'de>>(self, mut map: A) -> Result<Shape, A::Error> {
+                while map.next_entry::<IgnoredAny, IgnoredAny>()?.is_some() {}
+                Ok(Shape::Object)
+            }
+        }
+        d.deserialize_any(ShapeVisitor)
+    }
+}
+
+/// Marks a member as present even when its value is `null`.
+fn present<'de, D: Deserializer<'de>, T: Deserialize<'de>>(d: D) -> Result<Option<T>, D::Error> {
+    T::deserialize(d).map(Some)
+}
+
+/// The members of a JSON-RPC message that validation looks at.
+#[derive(serde::Deserialize)]
+struct Envelope {
+    #[serde(default)]
+    jsonrpc: Option<Value>,
+    #[serde(default, deserialize_with = "present")]
+    id: Option<Value>,
+    #[serde(default)]
+    method: Option<Value>,
+    #[serde(default)]
+    params: Option<Shape>,
+    #[serde(default, deserialize_with = "present")]
+    result: Option<Shape>,
+    #[serde(default, deserialize_with = "present")]
+    error: Option<Shape>,
+}
+
+/// For a well-formed JSON-RPC 2.0 request, notification or response: its
+/// method (`None` for a response). Otherwise the error response to send.
+pub fn validate(body: &[u8]) -> Result<Option<String>, Value> {
+    let invalid = |id: Value, why: &str| {
+        Err(error_response(
+            id,
+            INVALID_REQUEST,
+            &format!("invalid request: {why}"),
+        ))
+    };
+    let message: Envelope = match serde_json::from_slice(body) {
+        Ok(m) => m,
+        // Valid JSON of the wrong shape (not an object, a member of the
+        // wrong type, a repeated member).
+        Err(e) if e.classify() == serde_json::error::Category::Data => {
+            return invalid(Value::Null, &format!("not a JSON-RPC message ({e})"))
+        }
         Err(e) => {
             return Err(error_response(
                 Value::Null,
@@ -107,35 +194,23 @@ pub fn validate(body: &[u8]) -> Result<(), Value> {
             ))
         }
     };
-    let invalid = |id: Value, why: &str| {
-        Err(error_response(
-            id,
-            INVALID_REQUEST,
-            &format!("invalid request: {why}"),
-        ))
-    };
-    let Some(object) = value.as_object() else {
-        return invalid(Value::Null, "a message must be a JSON object");
-    };
     // An id that is not a string, number or null cannot be echoed back.
-    let id = match object.get("id") {
+    let id = match &message.id {
         Some(id @ (Value::String(_) | Value::Number(_))) => id.clone(),
         Some(Value::Null) | None => Value::Null,
         Some(_) => return invalid(Value::Null, "`id` must be a string or a number"),
     };
-    if object.get("jsonrpc") != Some(&json!("2.0")) {
+    if message.jsonrpc != Some(json!("2.0")) {
         return invalid(id, "`jsonrpc` must be \"2.0\"");
     }
-    match object.get("method") {
-        Some(Value::String(_)) => match object.get("params") {
-            None | Some(Value::Array(_) | Value::Object(_)) => Ok(()),
+    match message.method {
+        Some(Value::String(method)) => match message.params {
+            None | Some(Shape::Array | Shape::Object) => Ok(Some(method)),
             Some(_) => invalid(id, "`params` must be an array or an object"),
         },
         Some(_) => invalid(id, "`method` must be a string"),
-        None if object.contains_key("id")
-            && (object.contains_key("result") || object.contains_key("error")) =>
-        {
-            Ok(())
+        None if message.id.is_some() && (message.result.is_some() || message.error.is_some()) => {
+            Ok(None)
         }
         None => invalid(
             id,
@@ -150,12 +225,6 @@ pub struct Ending {
     /// The client asked for `shutdown` before leaving. The LSP specification
     /// (3.17, "exit Notification") wants exit status 0 then, 1 otherwise.
     pub after_shutdown: bool,
-}
-
-/// The method of a well-formed message, if it has one.
-fn method_of(body: &[u8]) -> Option<String> {
-    let value: Value = serde_json::from_slice(body).ok()?;
-    value.get("method")?.as_str().map(str::to_string)
 }
 
 /// Serves LSP over any byte streams until the client sends `exit` or closes
@@ -200,8 +269,7 @@ where
                     let _ = out_tx.send(encode(response.to_string().as_bytes()));
                 }
                 Frame::Message(body) => match validate(&body) {
-                    Ok(()) => {
-                        let method = method_of(&body);
+                    Ok(method) => {
                         if to_server.write_all(&encode(&body)).await.is_err() {
                             return after_shutdown;
                         }

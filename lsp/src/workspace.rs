@@ -214,6 +214,8 @@ pub struct Workspace {
     pub results: BTreeMap<PathBuf, Arc<RootResult>>,
     /// Roots to analyse again.
     pub dirty: HashSet<PathBuf>,
+    /// Roots the worker is analysing right now.
+    pub in_flight: HashSet<PathBuf>,
     /// Files whose published diagnostics must be recomputed even if no
     /// root of theirs is analysed again (a closed document).
     pub republish: HashSet<PathBuf>,

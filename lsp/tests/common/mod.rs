@@ -12,7 +12,7 @@ use trellis_lsp::{serve, Options};
 
 /// How long a test waits for a message before failing (a guard against
 /// hanging, not a measurement).
-pub const PATIENCE: Duration = Duration::from_secs(30);
+pub const PATIENCE: Duration = Duration::from_secs(180);
 
 pub struct TestClient {
     writer: DuplexStream,
@@ -271,4 +271,44 @@ pub fn codes(params: &Value) -> Vec<String> {
         .iter()
         .map(|d| d["code"].as_str().unwrap_or("").to_string())
         .collect()
+}
+
+/// A clean generated grammar of at least `bytes` bytes: blocks of four
+/// alternatives in a binary-heap layout (all reachable and productive, no
+/// cycles), weights summing to exactly 1.
+pub fn generated_grammar(bytes: usize) -> String {
+    let mut blocks = bytes / 100 + 1;
+    loop {
+        let text = grammar_of_blocks(blocks);
+        if text.len() >= bytes {
+            return text;
+        }
+        blocks = blocks * bytes / text.len() + 16;
+    }
+}
+
+fn grammar_of_blocks(blocks: usize) -> String {
+    use std::fmt::Write;
+    let mut out = String::with_capacity(blocks * 100);
+    out.push_str("grammar generated\nstart S0\n");
+    let child = |c: usize, w: usize| {
+        if c < blocks {
+            format!("S{c}")
+        } else {
+            format!("\"w{w}\"")
+        }
+    };
+    for b in 0..blocks {
+        let _ = writeln!(
+            out,
+            "S{b} {{\n  0.25 \"w{}\" \"fähre\"\n  1/4 {} \"w{}\"\n  25% \"w{}\" {}\n  0.25 \"w{}\"\n}}",
+            b % 997,
+            child(2 * b + 1, b % 89),
+            b % 991,
+            b % 983,
+            child(2 * b + 2, b % 83),
+            b % 977
+        );
+    }
+    out
 }
