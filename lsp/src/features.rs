@@ -462,3 +462,86 @@ pub async fn code_lenses(
         })
         .await
 }
+
+pub async fn folding_ranges(
+    backend: &Backend,
+    params: FoldingRangeParams,
+) -> jsonrpc::Result<Option<Vec<FoldingRange>>> {
+    let Some(t) = target(backend, &params.text_document.uri).await? else {
+        return Ok(None);
+    };
+    backend
+        .run("finding folding ranges", move || {
+            let file = t.source();
+            let ranges = ide::folding_ranges(t.analysis(), t.file)
+                .into_iter()
+                .map(|f| {
+                    let range = convert::range(file, f.span);
+                    FoldingRange {
+                        start_line: range.start.line,
+                        start_character: None,
+                        end_line: range.end.line,
+                        end_character: None,
+                        kind: Some(match f.kind {
+                            ide::FoldKind::Declaration => FoldingRangeKind::Region,
+                            ide::FoldKind::Comment => FoldingRangeKind::Comment,
+                        }),
+                        collapsed_text: None,
+                    }
+                })
+                .collect();
+            Some(ranges)
+        })
+        .await
+}
+
+pub async fn document_links(
+    backend: &Backend,
+    params: DocumentLinkParams,
+) -> jsonrpc::Result<Option<Vec<DocumentLink>>> {
+    let Some(t) = target(backend, &params.text_document.uri).await? else {
+        return Ok(None);
+    };
+    backend
+        .run("finding document links", move || {
+            let links = ide::document_links(t.analysis(), t.file)
+                .into_iter()
+                .filter_map(|l| {
+                    Some(DocumentLink {
+                        range: convert::range(t.source(), l.span),
+                        target: Some(t.result.uri_of(l.target)?),
+                        tooltip: None,
+                        data: None,
+                    })
+                })
+                .collect();
+            Some(links)
+        })
+        .await
+}
+
+pub async fn document_highlights(
+    backend: &Backend,
+    params: DocumentHighlightParams,
+) -> jsonrpc::Result<Option<Vec<DocumentHighlight>>> {
+    let at = params.text_document_position_params;
+    let Some(t) = target(backend, &at.text_document.uri).await? else {
+        return Ok(None);
+    };
+    backend
+        .run("highlighting occurrences", move || {
+            let found = ide::document_highlights(t.analysis(), t.file, t.offset(at.position))
+                .into_iter()
+                .map(|h| DocumentHighlight {
+                    range: convert::range(t.source(), h.span),
+                    kind: Some(if h.definition {
+                        DocumentHighlightKind::WRITE
+                    } else {
+                        DocumentHighlightKind::READ
+                    }),
+                })
+                .collect();
+            Some(found)
+        })
+        .await
+}

@@ -180,7 +180,10 @@ pub fn analyze_root(root: &Path, snapshot: &Snapshot, seq: u64) -> Option<RootRe
     let doc = snapshot.docs.get(root)?;
     let loader = Overlay(snapshot);
     let (config, config_problem) = config_for(root, &loader);
-    let analysis = analyze(root, &doc.text, &loader, &config);
+    let mut analysis = analyze(root, &doc.text, &loader, &config);
+    // What `trellis check` reports, the editor reports: the engine's
+    // `leaky` finding joins the static ones (on grammars without errors).
+    trellis_engine::consistency::add_leak_finding(&mut analysis, &config);
     let inputs = analysis
         .sources
         .iter()

@@ -78,6 +78,9 @@ async fn capabilities_cover_every_wired_feature() {
         "codeActionProvider",
         "inlayHintProvider",
         "codeLensProvider",
+        "foldingRangeProvider",
+        "documentLinkProvider",
+        "documentHighlightProvider",
     ] {
         assert!(!caps[key].is_null(), "{key} missing in {caps}");
     }
@@ -484,6 +487,101 @@ async fn code_lenses_above_start_parse_and_sample_through_the_commands() {
     assert_eq!(
         shown["params"]["message"].as_str().unwrap().lines().count(),
         10
+    );
+    client.shutdown().await;
+}
+
+#[tokio::test]
+async fn folding_ranges_cover_multi_line_blocks() {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    let ws = workspace(&mut client).await;
+    let ranges = client
+        .request(
+            "textDocument/foldingRange",
+            json!({"textDocument": {"uri": ws.main}}),
+        )
+        .await;
+    let ranges = ranges.as_array().unwrap();
+    assert!(
+        ranges
+            .iter()
+            .any(|r| r["startLine"] == 5 && r["endLine"] == 8 && r["kind"] == "region"),
+        "{ranges:?}"
+    );
+    client.shutdown().await;
+}
+
+#[tokio::test]
+async fn use_paths_are_links_to_the_used_file() {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    let ws = workspace(&mut client).await;
+    let links = client
+        .request(
+            "textDocument/documentLink",
+            json!({"textDocument": {"uri": ws.main}}),
+        )
+        .await;
+    assert_eq!(links.as_array().unwrap().len(), 1);
+    assert_eq!(links[0]["target"], ws.lexicon);
+    assert_eq!(
+        links[0]["range"],
+        json!({"start": {"line": 2, "character": 4}, "end": {"line": 2, "character": 21}})
+    );
+    client.shutdown().await;
+}
+
+#[tokio::test]
+async fn highlights_mark_every_occurrence_in_the_file() {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    let ws = workspace(&mut client).await;
+    let found = client
+        .request(
+            "textDocument/documentHighlight",
+            at(&ws.main, ISLAND_LINE, ISLAND_COL),
+        )
+        .await;
+    let mut lines: Vec<(u64, u64)> = found
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|h| {
+            (
+                h["range"]["start"]["line"].as_u64().unwrap(),
+                h["range"]["start"]["character"].as_u64().unwrap(),
+            )
+        })
+        .collect();
+    lines.sort();
+    assert_eq!(lines, [(6, u64::from(ISLAND_COL)), (7, 7)]);
+    // DocumentHighlightKind.Read = 2 (LSP 3.17): both are uses.
+    assert!(found.as_array().unwrap().iter().all(|h| h["kind"] == 2));
+    client.shutdown().await;
+}
+
+#[tokio::test]
+async fn a_leaky_grammar_gets_the_engines_leaky_warning() {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    // S → S S (0.6) | "a" (0.4): the termination probability q solves
+    // q = 0.4 + 0.6 q², whose least root is 2/3 (a supercritical branching
+    // process; T. E. Harris, "The Theory of Branching Processes", 1963), so
+    // 1/3 of the mass leaks.
+    let uri = "file:///grammars/leaky.trellis";
+    client
+        .open(uri, 1, "start S\nS {\n  0.6 S S\n  0.4 \"a\"\n}\n")
+        .await;
+    let published = client.diagnostics(uri).await;
+    assert_eq!(codes(&published), ["leaky"]);
+    let d = &published["diagnostics"][0];
+    // DiagnosticSeverity.Warning = 2: `leaky` is a warning by default.
+    assert_eq!(d["severity"], 2);
+    let message = d["message"].as_str().unwrap();
+    assert!(
+        message.contains("0.333") || message.contains("1/3"),
+        "{message}"
     );
     client.shutdown().await;
 }
