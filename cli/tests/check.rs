@@ -2,34 +2,12 @@
 //! temporary directories. Expectations follow the language specification
 //! (docs: design/language.md) and the diagnostic codes of `grammar-lang`.
 
+mod common;
+use common::{trellis, Run};
+
 use serde_json::Value;
 use std::fs;
 use std::path::Path;
-use std::process::Command;
-
-struct Run {
-    code: i32,
-    stdout: String,
-    stderr: String,
-}
-
-/// Runs `trellis <args>` in `dir`.
-fn trellis(dir: &Path, args: &[&str]) -> Run {
-    let out = Command::new(env!("CARGO_BIN_EXE_trellis"))
-        .args(args)
-        .current_dir(dir)
-        .env_remove("NO_COLOR")
-        .output()
-        .expect("the trellis binary runs");
-    Run {
-        code: out
-            .status
-            .code()
-            .expect("trellis exits normally, not by a signal"),
-        stdout: String::from_utf8(out.stdout).expect("stdout is UTF-8"),
-        stderr: String::from_utf8(out.stderr).expect("stderr is UTF-8"),
-    }
-}
 
 fn write(dir: &Path, name: &str, text: &str) {
     let path = dir.join(name);

@@ -1,29 +1,11 @@
 //! `trellis sample` as a user runs it: the built binary on grammar files in
 //! temporary directories.
 
+mod common;
+use common::trellis;
+
 use serde_json::Value;
 use std::fs;
-use std::path::Path;
-use std::process::Command;
-
-struct Run {
-    code: i32,
-    stdout: String,
-    stderr: String,
-}
-
-fn trellis(dir: &Path, args: &[&str]) -> Run {
-    let out = Command::new(env!("CARGO_BIN_EXE_trellis"))
-        .args(args)
-        .current_dir(dir)
-        .output()
-        .expect("the trellis binary runs");
-    Run {
-        code: out.status.code().expect("trellis exits normally"),
-        stdout: String::from_utf8(out.stdout).expect("stdout is UTF-8"),
-        stderr: String::from_utf8(out.stderr).expect("stderr is UTF-8"),
-    }
-}
 
 const KIOSK: &str = r#"
 grammar kiosk
