@@ -71,7 +71,7 @@ impl ProbModel {
             s.sort_unstable();
             s.dedup();
         }
-        let productive = productive(g, &p);
+        let productive = grammar_lang::check::graph::productive_with(g, |r| p[r.index()] > 0.0);
         ProbModel {
             p,
             rescaled,
@@ -97,45 +97,6 @@ impl ProbModel {
         }
         seen
     }
-}
-
-/// The non-terminals that derive a finite sentence through rules of
-/// positive probability (the usual worklist fixpoint).
-fn productive(g: &Grammar, p: &[f64]) -> Vec<bool> {
-    let n = g.nonterminals.len();
-    let mut productive = vec![false; n];
-    // For each rule, how many non-terminal occurrences are not yet known
-    // to be productive; for each non-terminal, the rules it occurs in.
-    let mut pending = vec![0usize; g.rules.len()];
-    let mut occurs: Vec<Vec<u32>> = vec![Vec::new(); n];
-    let mut work = Vec::new();
-    for (i, rule) in g.rules.iter().enumerate() {
-        if p[i] <= 0.0 {
-            continue;
-        }
-        for sym in &rule.rhs {
-            if let Sym::N(b) = sym {
-                pending[i] += 1;
-                occurs[b.index()].push(i as u32);
-            }
-        }
-        if pending[i] == 0 && !productive[rule.lhs.index()] {
-            productive[rule.lhs.index()] = true;
-            work.push(rule.lhs.0);
-        }
-    }
-    while let Some(b) = work.pop() {
-        for &r in &occurs[b as usize] {
-            let r = r as usize;
-            pending[r] -= 1;
-            let lhs = g.rules[r].lhs.index();
-            if pending[r] == 0 && !productive[lhs] {
-                productive[lhs] = true;
-                work.push(lhs as u32);
-            }
-        }
-    }
-    productive
 }
 
 /// Strongly connected components of the graph `succ` (Tarjan's algorithm

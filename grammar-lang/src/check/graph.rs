@@ -74,13 +74,24 @@ fn unreachable(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
 
 /// Which non-terminals derive at least one string of terminals.
 pub fn productive(grammar: &Grammar) -> Vec<bool> {
+    productive_with(grammar, |_| true)
+}
+
+/// Which non-terminals derive at least one string of terminals using only
+/// the rules that `keep` accepts (the engine keeps rules of positive
+/// probability).
+pub fn productive_with(grammar: &Grammar, keep: impl Fn(RuleId) -> bool) -> Vec<bool> {
     let n = grammar.nonterminals.len();
     // For each rule: how many right-hand-side non-terminals are not yet
     // known to be productive. For each non-terminal: the rules it occurs in
     // (once per occurrence), as a compressed adjacency list.
+    let kept: Vec<bool> = grammar.rule_ids().map(&keep).collect();
     let mut pending = vec![0u32; grammar.rules.len()];
     let mut offsets = vec![0usize; n + 1];
     for (i, rule) in grammar.rules.iter().enumerate() {
+        if !kept[i] {
+            continue;
+        }
         for &sym in &rule.rhs {
             if let Sym::N(nt) = sym {
                 pending[i] += 1;
@@ -94,6 +105,9 @@ pub fn productive(grammar: &Grammar) -> Vec<bool> {
     let mut fill = offsets.clone();
     let mut occurrences = vec![0u32; offsets[n]];
     for (i, rule) in grammar.rules.iter().enumerate() {
+        if !kept[i] {
+            continue;
+        }
         for &sym in &rule.rhs {
             if let Sym::N(nt) = sym {
                 occurrences[fill[nt.index()]] = i as u32;
@@ -104,7 +118,7 @@ pub fn productive(grammar: &Grammar) -> Vec<bool> {
     let mut productive = vec![false; n];
     let mut queue = Vec::new();
     for (i, rule) in grammar.rules.iter().enumerate() {
-        if pending[i] == 0 && !productive[rule.lhs.index()] {
+        if kept[i] && pending[i] == 0 && !productive[rule.lhs.index()] {
             productive[rule.lhs.index()] = true;
             queue.push(rule.lhs);
         }
