@@ -10,6 +10,7 @@ pub(crate) mod kbest;
 pub mod parser;
 pub mod rng;
 pub mod sample;
+pub mod testing;
 pub(crate) mod viterbi;
 
 mod linalg;
