@@ -42,6 +42,10 @@ enum Command {
     /// sentence length and how often each symbol is used.
     #[command(long_about = commands::stats::LONG_ABOUT)]
     Stats(commands::stats::StatsArgs),
+    /// Run the `test` blocks written in grammars: sentences to accept or
+    /// reject, and expected most probable trees.
+    #[command(long_about = commands::test::LONG_ABOUT)]
+    Test(commands::test::TestArgs),
     /// Run the language server (LSP over standard input and output) for
     /// editors.
     #[command(long_about = commands::lsp::LONG_ABOUT)]
@@ -58,6 +62,7 @@ fn main() -> ExitCode {
         Command::Check(args) => commands::check::run(&args),
         Command::Sample(args) => commands::sample::run(&args),
         Command::Stats(args) => commands::stats::run(&args),
+        Command::Test(args) => commands::test::run(&args),
         Command::Lsp(args) => commands::lsp::run(&args),
         Command::Parse(args) => commands::parse::run(&args),
     };

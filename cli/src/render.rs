@@ -14,8 +14,8 @@ use std::collections::HashMap;
 use std::fmt;
 use std::ops::Range;
 
-/// The file `id` of `sources`, if it is one of them.
-fn file(sources: &SourceMap, id: FileId) -> Option<&SourceFile> {
+/// The file `id` of `sources`, if there is one.
+pub fn file(sources: &SourceMap, id: FileId) -> Option<&SourceFile> {
     ((id.0 as usize) < sources.len()).then(|| sources.get(id))
 }
 

@@ -171,7 +171,7 @@ fn walk(dir: &Path, files: &mut Vec<PathBuf>, failures: &mut Vec<String>) {
 
 /// The identity of a file for "same file" questions: its canonical path, or
 /// its absolute path if it cannot be resolved.
-fn identity(path: &Path) -> PathBuf {
+pub fn identity(path: &Path) -> PathBuf {
     std::fs::canonicalize(path).unwrap_or_else(|_| {
         normalize(&std::path::absolute(path).unwrap_or_else(|_| path.to_path_buf()))
     })
@@ -190,15 +190,9 @@ pub struct Selection<'a> {
     pub files: usize,
 }
 
-/// Chooses what to report from the analyses of all roots:
-///
-/// * A root found in a directory whose file another root `use`s (and which
-///   does not `use` that root back) is reported only as part of that
-///   grammar: a lexicon file without `start` is not a grammar of its own.
-/// * A finding is reported once per file, span and code, however many
-///   grammars include the file.
-pub fn select<'a>(checked: &'a [Checked], identity: impl Fn(&Path) -> PathBuf) -> Selection<'a> {
-    let files: Vec<Vec<PathBuf>> = checked
+/// The files of each analysed root's grammar, as identities: the root first.
+fn grammar_files(checked: &[Checked], identity: &impl Fn(&Path) -> PathBuf) -> Vec<Vec<PathBuf>> {
+    checked
         .iter()
         .map(|c| {
             let mut ids: Vec<PathBuf> = c
@@ -212,14 +206,33 @@ pub fn select<'a>(checked: &'a [Checked], identity: impl Fn(&Path) -> PathBuf) -
             }
             ids
         })
-        .collect();
+        .collect()
+}
+
+/// Which roots stand as grammars of their own (indices into `checked`): a
+/// root found in a directory whose file another root `use`s (and which does
+/// not `use` that root back) is only part of that grammar — a lexicon file
+/// without `start` is not a grammar of its own.
+pub fn grammar_roots(checked: &[Checked], identity: impl Fn(&Path) -> PathBuf) -> Vec<usize> {
+    kept(checked, &grammar_files(checked, &identity))
+}
+
+fn kept(checked: &[Checked], files: &[Vec<PathBuf>]) -> Vec<usize> {
     let uses = |user: usize, used: usize| files[user][1..].contains(&files[used][0]);
-    let kept: Vec<usize> = (0..checked.len())
+    (0..checked.len())
         .filter(|&i| {
             checked[i].root.named
                 || !(0..checked.len()).any(|j| j != i && uses(j, i) && !uses(i, j))
         })
-        .collect();
+        .collect()
+}
+
+/// Chooses what to report from the analyses of all roots: the findings of
+/// the [`grammar_roots`], each reported once per file, span and code,
+/// however many grammars include the file.
+pub fn select<'a>(checked: &'a [Checked], identity: impl Fn(&Path) -> PathBuf) -> Selection<'a> {
+    let files = grammar_files(checked, &identity);
+    let kept = kept(checked, &files);
 
     let mut seen: HashSet<(&Path, Span, Code)> = HashSet::new();
     let mut all_files: HashSet<&Path> = HashSet::new();
@@ -252,14 +265,19 @@ pub fn outcome(counts: Counts, deny_warnings: bool, failed: bool) -> Outcome {
     }
 }
 
-/// Runs `trellis check`.
-pub fn run(args: &CheckArgs) -> Outcome {
-    let paths = if args.paths.is_empty() {
-        vec![PathBuf::from(".")]
-    } else {
-        args.paths.clone()
-    };
-    let (roots, mut failures) = discover(&paths);
+/// Every root grammar found for the command-line paths, analysed, and a
+/// message for every path or file that could not be used.
+pub struct Analysed {
+    pub checked: Vec<Checked>,
+    pub failures: Vec<String>,
+}
+
+/// Finds the grammar files for `paths`, reads each one's trellis.toml and
+/// analyses it (the engine's leak finding included). An invalid trellis.toml
+/// stops everything: it is reported (on stdout as JSON too, for
+/// `--format json`) and the run ends with [`Outcome::Failure`].
+pub fn analyse(paths: &[PathBuf], format: OutputFormat) -> Result<Analysed, Outcome> {
+    let (roots, mut failures) = discover(paths);
 
     // Configuration first: with a broken trellis.toml, nothing is checked.
     let mut resolver = Resolver::new();
@@ -276,9 +294,9 @@ pub fn run(args: &CheckArgs) -> Outcome {
         }
     }
     if !problems.is_empty() {
-        report_config_problems(&problems, args.format);
+        report_config_problems(&problems, format);
         report_failures(&failures);
-        return Outcome::Failure;
+        return Err(Outcome::Failure);
     }
 
     let mut checked = Vec::with_capacity(roots.len());
@@ -292,6 +310,20 @@ pub fn run(args: &CheckArgs) -> Outcome {
             Err(reason) => failures.push(format!("cannot read {}: {reason}", root.path.display())),
         }
     }
+    Ok(Analysed { checked, failures })
+}
+
+/// Runs `trellis check`.
+pub fn run(args: &CheckArgs) -> Outcome {
+    let paths = if args.paths.is_empty() {
+        vec![PathBuf::from(".")]
+    } else {
+        args.paths.clone()
+    };
+    let Analysed { checked, failures } = match analyse(&paths, args.format) {
+        Ok(analysed) => analysed,
+        Err(outcome) => return outcome,
+    };
 
     let selection = select(&checked, identity);
     let mut counts = Counts::default();
@@ -338,7 +370,7 @@ pub fn run(args: &CheckArgs) -> Outcome {
     outcome(counts, args.deny_warnings, !failures.is_empty())
 }
 
-fn report_failures(failures: &[String]) {
+pub fn report_failures(failures: &[String]) {
     let text: String = failures.iter().map(|f| format!("error: {f}\n")).collect();
     emit(Stream::Stderr, &text);
 }

@@ -6,6 +6,7 @@ pub mod lsp;
 pub mod parse;
 pub mod sample;
 pub mod stats;
+pub mod test;
 
 use std::io::IsTerminal;
 use std::process::ExitCode;

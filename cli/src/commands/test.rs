@@ -1,0 +1,579 @@
+//! `trellis test`: run the `test` blocks written in grammars.
+
+use super::check::{analyse, grammar_roots, identity, report_failures, Analysed};
+use super::{emit, use_color, Outcome, OutputFormat, Stream};
+use crate::render::{self, position, HumanRenderer, JsonDiagnostic, Position};
+use grammar_lang::model::{Expectation, GrammarTest, TestCase};
+use grammar_lang::syntax::lexer::quote;
+use grammar_lang::{Analysis, Location, Severity};
+use rayon::prelude::*;
+use serde::Serialize;
+use std::path::PathBuf;
+use trellis_engine::parser::Parser;
+use trellis_engine::testing::{run_case, CaseOutcome};
+
+pub const LONG_ABOUT: &str = "Run the tests written in grammars.\n\n\
+    A `test \"name\" { ... }` block lists sentences the grammar must accept \
+    (`accept \"...\"`), must refuse (`reject \"...\"`), or must give a \
+    particular most probable tree (`accept \"...\" as (Label ...)`). An expected \
+    tree holds when no tree of the sentence is more probable, compared \
+    exactly; a tie holds. Each failing case is shown with its place in the \
+    file and why it failed: the explanation of a missing parse, the tree that \
+    should not exist, or where the expected and the found tree part and how \
+    probable each is.\n\n\
+    Paths are found as by `trellis check`: files, or every .trellis file under \
+    a directory, each file that another one `use`s being tested as part of \
+    that grammar. A grammar with errors is not run (its errors are shown).\n\n\
+    Exit status: 0 when every case holds; 1 when some case fails or a grammar \
+    has errors; 2 when a path cannot be read, trellis.toml is invalid, or \
+    --filter matches no test.";
+
+/// Arguments of `trellis test`.
+#[derive(clap::Args, Debug, Clone)]
+pub struct TestArgs {
+    /// Grammar files or directories [default: the current directory]
+    #[arg(value_name = "PATH")]
+    pub paths: Vec<PathBuf>,
+
+    /// Run only tests whose name contains TEXT (repeat for several)
+    #[arg(long, short = 'f', value_name = "TEXT")]
+    pub filter: Vec<String>,
+
+    /// List every case, not only the failing ones
+    #[arg(long, short = 'v')]
+    pub verbose: bool,
+
+    /// List every case with the most probable tree of each accepted
+    /// sentence, written as `accept … as` takes it
+    #[arg(long)]
+    pub trees: bool,
+
+    /// Fail a case whose chart would need more memory than this (MiB)
+    #[arg(long, value_name = "MIB", default_value_t = 1024)]
+    pub max_chart_mib: u64,
+
+    /// `human` for people; `json` prints one object with every grammar,
+    /// test and case
+    #[arg(long, value_enum, default_value_t = OutputFormat::Human)]
+    pub format: OutputFormat,
+}
+
+/// One grammar's run.
+struct GrammarRun<'a> {
+    analysis: &'a Analysis,
+    path: PathBuf,
+    /// Why the tests were not run, if they were not.
+    blocked: Option<Blocked>,
+    /// The selected tests with the outcome of each case.
+    tests: Vec<(&'a GrammarTest, Vec<CaseOutcome>)>,
+}
+
+enum Blocked {
+    /// The grammar has errors (rendered from the analysis).
+    Errors(usize),
+    /// The engine cannot compile it.
+    Engine(String),
+}
+
+impl GrammarRun<'_> {
+    fn selected_tests(&self) -> usize {
+        self.tests.len()
+    }
+}
+
+fn selected(test: &GrammarTest, filters: &[String]) -> bool {
+    filters.is_empty() || filters.iter().any(|f| test.name.contains(f.as_str()))
+}
+
+/// Runs `trellis test`.
+pub fn run(args: &TestArgs) -> Outcome {
+    let paths = if args.paths.is_empty() {
+        vec![PathBuf::from(".")]
+    } else {
+        args.paths.clone()
+    };
+    let Analysed { checked, failures } = match analyse(&paths, args.format) {
+        Ok(analysed) => analysed,
+        Err(outcome) => return outcome,
+    };
+    let max_chart_bytes = args.max_chart_mib.saturating_mul(1 << 20);
+
+    let mut runs = Vec::new();
+    let mut available: Vec<&str> = Vec::new();
+    for i in grammar_roots(&checked, identity) {
+        let analysis = &checked[i].analysis;
+        let grammar = &analysis.grammar;
+        available.extend(grammar.tests.iter().map(|t| t.name.as_str()));
+        let tests: Vec<&GrammarTest> = grammar
+            .tests
+            .iter()
+            .filter(|t| selected(t, &args.filter))
+            .collect();
+        if tests.is_empty() {
+            continue;
+        }
+        let mut run = GrammarRun {
+            analysis,
+            path: checked[i].root.path.clone(),
+            blocked: None,
+            tests: Vec::new(),
+        };
+        let errors = analysis.count(Severity::Error);
+        if errors > 0 {
+            run.blocked = Some(Blocked::Errors(errors));
+            run.tests = tests.into_iter().map(|t| (t, Vec::new())).collect();
+        } else {
+            match Parser::new(grammar) {
+                Err(e) => {
+                    run.blocked = Some(Blocked::Engine(e.to_string()));
+                    run.tests = tests.into_iter().map(|t| (t, Vec::new())).collect();
+                }
+                Ok(parser) => {
+                    // Every case of every selected test, spread over the cores.
+                    let cases: Vec<(usize, &TestCase)> = tests
+                        .iter()
+                        .enumerate()
+                        .flat_map(|(t, test)| test.cases.iter().map(move |c| (t, c)))
+                        .collect();
+                    let outcomes: Vec<CaseOutcome> = cases
+                        .par_iter()
+                        .map(|(_, case)| run_case(&parser, grammar, case, max_chart_bytes))
+                        .collect();
+                    run.tests = tests.into_iter().map(|t| (t, Vec::new())).collect();
+                    for ((t, _), outcome) in cases.iter().zip(outcomes) {
+                        run.tests[*t].1.push(outcome);
+                    }
+                }
+            }
+        }
+        runs.push(run);
+    }
+
+    if runs.is_empty() && !args.filter.is_empty() {
+        report_failures(&failures);
+        let mut message = format!(
+            "error: no test name contains {}",
+            args.filter
+                .iter()
+                .map(|f| quote(f))
+                .collect::<Vec<_>>()
+                .join(" or ")
+        );
+        if available.is_empty() {
+            message.push_str("; the grammars have no tests\n");
+        } else {
+            available.sort_unstable();
+            available.dedup();
+            let names: Vec<String> = available.iter().map(|n| quote(n)).collect();
+            message.push_str(&format!("; the tests are {}\n", names.join(", ")));
+        }
+        emit(Stream::Stderr, &message);
+        return Outcome::Failure;
+    }
+
+    let tally = Tally::of(&runs);
+    match args.format {
+        OutputFormat::Human => {
+            let color = use_color(Stream::Stdout);
+            let mut out = String::new();
+            for run in &runs {
+                out.push_str(&human_grammar(run, args, color));
+            }
+            out.push_str(&tally.summary());
+            out.push('\n');
+            emit(Stream::Stdout, &out);
+            if checked.is_empty() && failures.is_empty() {
+                let shown: Vec<String> = paths.iter().map(|p| p.display().to_string()).collect();
+                emit(
+                    Stream::Stderr,
+                    &format!("note: no .trellis files found in {}\n", shown.join(", ")),
+                );
+            }
+        }
+        OutputFormat::Json => {
+            let grammars: Vec<JsonGrammar> = runs.iter().map(json_grammar).collect();
+            let doc = JsonRun {
+                grammars,
+                tests: JsonCount {
+                    passed: tally.tests_passed,
+                    failed: tally.tests_failed,
+                },
+                cases: JsonCount {
+                    passed: tally.cases_passed,
+                    failed: tally.cases_failed,
+                },
+            };
+            let mut text =
+                serde_json::to_string(&doc).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"));
+            text.push('\n');
+            emit(Stream::Stdout, &text);
+        }
+    }
+    report_failures(&failures);
+    if !failures.is_empty() {
+        Outcome::Failure
+    } else if tally.tests_failed > 0 || tally.grammars_blocked > 0 {
+        Outcome::Findings
+    } else {
+        Outcome::Clean
+    }
+}
+
+/// Counts over a whole run.
+#[derive(Default)]
+struct Tally {
+    grammars: usize,
+    grammars_blocked: usize,
+    tests_passed: usize,
+    tests_failed: usize,
+    tests_not_run: usize,
+    cases_passed: usize,
+    cases_failed: usize,
+}
+
+impl Tally {
+    fn of(runs: &[GrammarRun]) -> Tally {
+        let mut t = Tally {
+            grammars: runs.len(),
+            ..Tally::default()
+        };
+        for run in runs {
+            if run.blocked.is_some() {
+                t.grammars_blocked += 1;
+                t.tests_not_run += run.selected_tests();
+                continue;
+            }
+            for (_, outcomes) in &run.tests {
+                let failed = outcomes.iter().filter(|o| !o.passed()).count();
+                t.cases_failed += failed;
+                t.cases_passed += outcomes.len() - failed;
+                if failed > 0 {
+                    t.tests_failed += 1;
+                } else {
+                    t.tests_passed += 1;
+                }
+            }
+        }
+        t
+    }
+
+    fn summary(&self) -> String {
+        let total = self.tests_passed + self.tests_failed + self.tests_not_run;
+        if total == 0 {
+            return "no tests found".to_string();
+        }
+        let mut out = format!(
+            "{} in {}: {} passed, {} failed",
+            plural(total, "test", "tests"),
+            plural(self.grammars, "grammar", "grammars"),
+            self.tests_passed,
+            self.tests_failed
+        );
+        if self.tests_not_run > 0 {
+            out.push_str(&format!(", {} not run", self.tests_not_run));
+        }
+        let cases = self.cases_passed + self.cases_failed;
+        if cases > 0 {
+            out.push_str(&format!(
+                " ({} of {} held)",
+                self.cases_passed,
+                plural(cases, "case", "cases")
+            ));
+        }
+        out
+    }
+}
+
+fn plural(n: usize, one: &str, many: &str) -> String {
+    format!("{n} {}", if n == 1 { one } else { many })
+}
+
+fn paint(text: &str, code: &str, color: bool) -> String {
+    if color {
+        format!("\x1b[{code}m{text}\x1b[0m")
+    } else {
+        text.to_string()
+    }
+}
+
+/// `file:line:column` of a location in the grammar's sources.
+fn place(analysis: &Analysis, location: Location) -> (String, Position) {
+    match render::file(&analysis.sources, location.file) {
+        Some(f) => (
+            f.path.display().to_string(),
+            position(f, render::clamp(&f.text, location.span).start),
+        ),
+        None => (String::new(), Position { line: 1, column: 1 }),
+    }
+}
+
+/// How a case is written in the grammar: `accept "…"` / `accept "…" as (…)`.
+fn case_text(case: &TestCase) -> String {
+    let verb = match case.expect {
+        Expectation::Accept => "accept",
+        Expectation::Reject => "reject",
+    };
+    match &case.tree {
+        Some(tree) => format!("{verb} {} as {}", quote(&case.sentence), tree.to_brackets()),
+        None => format!("{verb} {}", quote(&case.sentence)),
+    }
+}
+
+fn human_grammar(run: &GrammarRun, args: &TestArgs, color: bool) -> String {
+    let mut out = format!("{}\n", run.path.display());
+    match &run.blocked {
+        Some(Blocked::Errors(errors)) => {
+            let mut renderer = HumanRenderer::new(&run.analysis.sources, color);
+            for d in run
+                .analysis
+                .diagnostics
+                .iter()
+                .filter(|d| d.severity == Severity::Error)
+            {
+                out.push_str(&renderer.render(d));
+                out.push('\n');
+            }
+            out.push_str(&format!(
+                "  {} {} not run: the grammar has {}; fix {} first\n\n",
+                paint("not run", "33", color),
+                plural(run.selected_tests(), "test", "tests"),
+                plural(*errors, "error", "errors"),
+                if *errors == 1 { "it" } else { "them" }
+            ));
+            return out;
+        }
+        Some(Blocked::Engine(reason)) => {
+            out.push_str(&format!(
+                "  {} {} not run: {reason}\n\n",
+                paint("not run", "33", color),
+                plural(run.selected_tests(), "test", "tests"),
+            ));
+            return out;
+        }
+        None => {}
+    }
+    let list_all = args.verbose || args.trees;
+    for (test, outcomes) in &run.tests {
+        let failed = outcomes.iter().filter(|o| !o.passed()).count();
+        let (file, at) = place(run.analysis, test.location);
+        let status = if failed == 0 {
+            paint("passed", "32", color)
+        } else {
+            paint("FAILED", "31;1", color)
+        };
+        let count = if failed == 0 {
+            plural(outcomes.len(), "case", "cases")
+        } else {
+            format!(
+                "{failed} of {} failed",
+                plural(outcomes.len(), "case", "cases")
+            )
+        };
+        out.push_str(&format!(
+            "  {status}  test {} ({count})  {file}:{}\n",
+            quote(&test.name),
+            at.line
+        ));
+        for (case, outcome) in test.cases.iter().zip(outcomes) {
+            match outcome {
+                CaseOutcome::Passed { best, tied } => {
+                    if !list_all {
+                        continue;
+                    }
+                    out.push_str(&format!("      ok  {}\n", case_text(case)));
+                    if *tied {
+                        out.push_str(
+                            "          (holds by a tie: another tree is exactly as probable)\n",
+                        );
+                    }
+                    if let (true, Some(best)) = (args.trees, best) {
+                        out.push_str(&format!(
+                            "          as {}  (p ≈ {:.6e})\n",
+                            best.tree.to_brackets(),
+                            best.probability
+                        ));
+                    }
+                }
+                CaseOutcome::Failed(failure) => {
+                    let (file, at) = place(run.analysis, case.location);
+                    out.push_str(&format!(
+                        "    {}  {file}:{}:{}  {}\n",
+                        paint("fail", "31", color),
+                        at.line,
+                        at.column,
+                        case_text(case)
+                    ));
+                    for line in failure.render() {
+                        out.push_str(&format!("          {line}\n"));
+                    }
+                }
+            }
+        }
+    }
+    out.push('\n');
+    out
+}
+
+#[derive(Serialize)]
+struct JsonRun {
+    grammars: Vec<JsonGrammar>,
+    tests: JsonCount,
+    cases: JsonCount,
+}
+
+#[derive(Serialize)]
+struct JsonCount {
+    passed: usize,
+    failed: usize,
+}
+
+#[derive(Serialize)]
+struct JsonGrammar {
+    file: String,
+    /// Whether the tests ran.
+    ran: bool,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    reason: Option<String>,
+    /// The errors that kept the tests from running.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    diagnostics: Vec<JsonDiagnostic>,
+    tests: Vec<JsonTest>,
+}
+
+#[derive(Serialize)]
+struct JsonTest {
+    name: String,
+    file: String,
+    line: u32,
+    column: u32,
+    /// `null` when not run.
+    passed: Option<bool>,
+    cases: Vec<JsonCase>,
+}
+
+#[derive(Serialize)]
+struct JsonCase {
+    expect: &'static str,
+    sentence: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    expected_tree: Option<String>,
+    file: String,
+    line: u32,
+    column: u32,
+    passed: bool,
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    tied: bool,
+    /// The most probable tree, when the sentence parses.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    tree: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    probability: Option<f64>,
+    /// Why the case failed, as readable lines.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    failure: Vec<String>,
+}
+
+fn json_grammar(run: &GrammarRun) -> JsonGrammar {
+    let (reason, diagnostics) = match &run.blocked {
+        Some(Blocked::Errors(n)) => (
+            Some(format!("the grammar has {}", plural(*n, "error", "errors"))),
+            run.analysis
+                .diagnostics
+                .iter()
+                .filter(|d| d.severity == Severity::Error)
+                .map(|d| render::json_diagnostic(d, &run.analysis.sources))
+                .collect(),
+        ),
+        Some(Blocked::Engine(reason)) => (Some(reason.clone()), Vec::new()),
+        None => (None, Vec::new()),
+    };
+    let tests = run
+        .tests
+        .iter()
+        .map(|(test, outcomes)| {
+            let (file, at) = place(run.analysis, test.location);
+            let ran = run.blocked.is_none();
+            JsonTest {
+                name: test.name.clone(),
+                file,
+                line: at.line,
+                column: at.column,
+                passed: ran.then(|| outcomes.iter().all(CaseOutcome::passed)),
+                cases: test
+                    .cases
+                    .iter()
+                    .zip(outcomes)
+                    .map(|(case, outcome)| json_case(run.analysis, case, outcome))
+                    .collect(),
+            }
+        })
+        .collect();
+    JsonGrammar {
+        file: run.path.display().to_string(),
+        ran: run.blocked.is_none(),
+        reason,
+        diagnostics,
+        tests,
+    }
+}
+
+fn json_case(analysis: &Analysis, case: &TestCase, outcome: &CaseOutcome) -> JsonCase {
+    let (file, at) = place(analysis, case.location);
+    let (best, tied, failure) = match outcome {
+        CaseOutcome::Passed { best, tied } => (best.as_ref(), *tied, Vec::new()),
+        CaseOutcome::Failed(failure) => (failure.found(), false, failure.render()),
+    };
+    JsonCase {
+        expect: match case.expect {
+            Expectation::Accept => "accept",
+            Expectation::Reject => "reject",
+        },
+        sentence: case.sentence.clone(),
+        expected_tree: case.tree.as_ref().map(|t| t.to_brackets()),
+        file,
+        line: at.line,
+        column: at.column,
+        passed: outcome.passed(),
+        tied,
+        tree: best.map(|b| b.tree.to_brackets()),
+        probability: best.map(|b| b.probability),
+        failure,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_filter_selects_tests_whose_name_contains_it() {
+        let test = GrammarTest {
+            name: "buying tickets".to_string(),
+            location: Location::new(grammar_lang::FileId(0), grammar_lang::Span::new(0, 0)),
+            doc: None,
+            cases: Vec::new(),
+        };
+        assert!(selected(&test, &[]));
+        assert!(selected(&test, &["tick".to_string()]));
+        assert!(selected(&test, &["nope".to_string(), "buying".to_string()]));
+        assert!(!selected(&test, &["Buying".to_string()]));
+    }
+
+    #[test]
+    fn the_summary_counts_tests_grammars_and_cases() {
+        let tally = Tally {
+            grammars: 2,
+            tests_passed: 3,
+            tests_failed: 1,
+            tests_not_run: 2,
+            cases_passed: 20,
+            cases_failed: 1,
+            ..Tally::default()
+        };
+        assert_eq!(
+            tally.summary(),
+            "6 tests in 2 grammars: 3 passed, 1 failed, 2 not run (20 of 21 cases held)"
+        );
+        assert_eq!(Tally::default().summary(), "no tests found");
+    }
+}
