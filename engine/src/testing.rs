@@ -309,6 +309,15 @@ fn probability_text(p: &Ratio) -> String {
 }
 
 impl Failure {
+    /// The most probable tree the parser found, when the sentence parses.
+    pub fn found(&self) -> Option<&ParsedTree> {
+        match self {
+            Failure::UnexpectedParse { best } => Some(best),
+            Failure::OtherTree { found, .. } => Some(found),
+            Failure::NoParse { .. } | Failure::NotAnalysed(_) => None,
+        }
+    }
+
     /// The failure as readable lines (no trailing newlines).
     pub fn render(&self) -> Vec<String> {
         match self {
