@@ -774,6 +774,7 @@ fn inlay_hints_approximate_long_fractions() {
 
 #[test]
 fn code_lenses_sit_on_start_and_on_each_test() {
+    // Parse, sample and run every test above `start`; run one above each test.
     use grammar_lang::ide::{CodeLens, CodeLensKind};
     let a = analysis();
     assert_eq!(
@@ -786,6 +787,10 @@ fn code_lenses_sit_on_start_and_on_each_test() {
             CodeLens {
                 span: at(MAIN, "start Anfrage", 0),
                 kind: CodeLensKind::Sample
+            },
+            CodeLens {
+                span: at(MAIN, "start Anfrage", 0),
+                kind: CodeLensKind::RunAllTests { tests: 1 }
             },
             CodeLens {
                 span: Span::new(at(MAIN, "test", 0).start as usize, MAIN.len() - 1),

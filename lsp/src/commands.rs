@@ -8,25 +8,35 @@
 //!   "explanation", "error"}]}`; trees are labelled brackets.
 //! * `trellis.sample` — arguments `[{"uri": U, "count": N, "seed": S,
 //!   "trees": bool}]`. Returns `{"samples": [{"sentence", "tree"?}]}`.
+//! * `trellis.runTest` — arguments `[{"uri": U, "test": NAME?}]`: the test
+//!   block named NAME in that document, or without a name every test of the
+//!   grammar. Returns `{"passed", "failed", "tests": [{"name", "location",
+//!   "passed", "cases": [{"expect", "sentence", "location", "passed",
+//!   "tied", "tree", "probability", "failure"}]}]}` (counts are of cases;
+//!   `failure` is a list of readable lines).
 //!
-//! Both refuse a grammar with errors (the diagnostics say what to fix) and
+//! All refuse a grammar with errors (the diagnostics say what to fix) and
 //! stop between sentences when the request is cancelled.
 
 use crate::guard::CancelFlag;
 use crate::server::{request_failed, Backend, Options, DEBUG_PANIC};
+use grammar_lang::model::Expectation;
+use grammar_lang::syntax::lexer::quote;
 use serde::Deserialize;
 use serde_json::{json, Value};
 use tower_lsp::jsonrpc;
 use tower_lsp::lsp_types::{ExecuteCommandParams, MessageType, Url};
-use trellis_engine::parser::{ParseOptions, Parser};
+use trellis_engine::parser::{ParseOptions, Parser, DEFAULT_MAX_CHART_BYTES};
 use trellis_engine::rng::Xoshiro256StarStar;
 use trellis_engine::sample::{Sampler, DEFAULT_LIMIT};
+use trellis_engine::testing::{run_case, CaseOutcome};
 
 pub const PARSE: &str = "trellis.parse";
 pub const SAMPLE: &str = "trellis.sample";
+pub const RUN_TEST: &str = "trellis.runTest";
 
 /// The commands advertised in the server's capabilities.
-pub const NAMES: &[&str] = &[PARSE, SAMPLE];
+pub const NAMES: &[&str] = &[PARSE, SAMPLE, RUN_TEST];
 
 /// The most sentences one `trellis.sample` call produces.
 pub const MAX_SAMPLES: usize = 10_000;
@@ -57,6 +67,16 @@ struct SampleArgs {
     show: bool,
 }
 
+#[derive(Debug, Deserialize)]
+#[serde(rename_all = "camelCase", deny_unknown_fields)]
+struct RunTestArgs {
+    uri: Url,
+    /// The test block to run; every test of the grammar when absent.
+    test: Option<String>,
+    #[serde(default)]
+    show: bool,
+}
+
 fn one_argument<T: for<'de> Deserialize<'de>>(
     command: &str,
     arguments: Vec<Value>,
@@ -79,6 +99,7 @@ pub async fn execute(
     match params.command.as_str() {
         PARSE => parse(backend, one_argument(PARSE, params.arguments)?).await,
         SAMPLE => sample(backend, one_argument(SAMPLE, params.arguments)?).await,
+        RUN_TEST => run_test(backend, one_argument(RUN_TEST, params.arguments)?).await,
         DEBUG_PANIC if options.debug_commands => {
             backend
                 .run("running the debug command", || -> Option<Value> {
@@ -277,4 +298,115 @@ async fn sample(backend: &Backend, args: SampleArgs) -> jsonrpc::Result<Option<V
         .await?;
     guard.disarm();
     finish(backend, args.show, outcome, sample_summary).await
+}
+
+async fn run_test(backend: &Backend, args: RunTestArgs) -> jsonrpc::Result<Option<Value>> {
+    let target = grammar_of(backend, &args.uri, args.show).await?;
+    let name = args.test;
+    let cancel = CancelFlag::default();
+    let guard = cancel.guard();
+    let outcome: Result<Option<Value>, String> = backend
+        .run("running tests", move || {
+            let grammar = &target.result.analysis.grammar;
+            let tests: Vec<_> = grammar
+                .tests
+                .iter()
+                .filter(|t| match &name {
+                    Some(name) => t.name == *name && t.location.file == target.file,
+                    None => true,
+                })
+                .collect();
+            if tests.is_empty() {
+                return Err(match &name {
+                    Some(name) => format!("this document has no test named {}", quote(name)),
+                    None => "the grammar has no test blocks".to_string(),
+                });
+            }
+            let parser = Parser::new(grammar)
+                .map_err(|e| format!("the grammar cannot be parsed with: {e}"))?;
+            let (mut passed, mut failed) = (0, 0);
+            let mut results = Vec::new();
+            for test in tests {
+                let mut cases = Vec::new();
+                for case in &test.cases {
+                    if cancel.is_cancelled() {
+                        return Ok(None);
+                    }
+                    let outcome = run_case(&parser, grammar, case, DEFAULT_MAX_CHART_BYTES);
+                    if outcome.passed() {
+                        passed += 1;
+                    } else {
+                        failed += 1;
+                    }
+                    let (best, tied, failure) = match &outcome {
+                        CaseOutcome::Passed { best, tied } => (best.as_ref(), *tied, Vec::new()),
+                        CaseOutcome::Failed(f) => (f.found(), false, f.render()),
+                    };
+                    cases.push(json!({
+                        "expect": match case.expect {
+                            Expectation::Accept => "accept",
+                            Expectation::Reject => "reject",
+                        },
+                        "sentence": case.sentence,
+                        "location": target.location(case.location.file, case.location.span),
+                        "passed": outcome.passed(),
+                        "tied": tied,
+                        "tree": best.map(|b| b.tree.to_brackets()),
+                        "probability": best.map(|b| b.probability),
+                        "failure": failure,
+                    }));
+                }
+                let all = cases.iter().all(|c| c["passed"] == true);
+                results.push(json!({
+                    "name": test.name,
+                    "location": target.location(test.location.file, test.location.span),
+                    "passed": all,
+                    "cases": cases,
+                }));
+            }
+            Ok(Some(
+                json!({"passed": passed, "failed": failed, "tests": results}),
+            ))
+        })
+        .await?;
+    guard.disarm();
+    finish(backend, args.show, outcome, test_summary).await
+}
+
+/// A short text for the user about a `trellis.runTest` result: a line per
+/// test, and the reasons of each failing case.
+fn test_summary(value: &Value) -> String {
+    let mut lines = Vec::new();
+    for test in value["tests"].as_array().into_iter().flatten() {
+        let cases = test["cases"].as_array().map_or(0, Vec::len);
+        let failing: Vec<&Value> = test["cases"]
+            .as_array()
+            .into_iter()
+            .flatten()
+            .filter(|c| c["passed"] == false)
+            .collect();
+        let name = quote(test["name"].as_str().unwrap_or_default());
+        if failing.is_empty() {
+            lines.push(format!(
+                "test {name}: all {cases} case{} held",
+                if cases == 1 { "" } else { "s" }
+            ));
+            continue;
+        }
+        lines.push(format!("test {name}: {} of {cases} failed", failing.len()));
+        for case in failing {
+            let line = case["location"]["range"]["start"]["line"]
+                .as_u64()
+                .map_or(String::new(), |l| format!("line {}: ", l + 1));
+            lines.push(format!(
+                "  {line}{} {}",
+                case["expect"].as_str().unwrap_or_default(),
+                quote(case["sentence"].as_str().unwrap_or_default())
+            ));
+            for reason in case["failure"].as_array().into_iter().flatten() {
+                lines.push(format!("    {}", reason.as_str().unwrap_or_default()));
+            }
+        }
+    }
+    lines.join("\n")
 }

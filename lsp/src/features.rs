@@ -436,7 +436,7 @@ pub async fn code_lenses(
         .run("placing code lenses", move || {
             let lenses = ide::code_lenses(t.analysis(), t.file)
                 .into_iter()
-                .filter_map(|lens| {
+                .map(|lens| {
                     let command = match lens.kind {
                         CodeLensKind::ParseSentence => Command::new(
                             "▶ parse a sentence".to_string(),
@@ -448,14 +448,32 @@ pub async fn code_lenses(
                             commands::SAMPLE.to_string(),
                             Some(vec![json!({"uri": uri, "count": 10, "show": true})]),
                         ),
-                        // Running a test needs the grammar test runner.
-                        CodeLensKind::RunTest { .. } => return None,
+                        CodeLensKind::RunAllTests { tests } => Command::new(
+                            format!(
+                                "▶ run all {tests} test{}",
+                                if tests == 1 { "" } else { "s" }
+                            ),
+                            commands::RUN_TEST.to_string(),
+                            Some(vec![json!({"uri": uri, "show": true})]),
+                        ),
+                        CodeLensKind::RunTest { test, name } => {
+                            let tests = &t.analysis().grammar.tests;
+                            let cases = tests.get(test).map_or(0, |t| t.cases.len());
+                            Command::new(
+                                format!(
+                                    "▶ run test ({cases} case{})",
+                                    if cases == 1 { "" } else { "s" }
+                                ),
+                                commands::RUN_TEST.to_string(),
+                                Some(vec![json!({"uri": uri, "test": name, "show": true})]),
+                            )
+                        }
                     };
-                    Some(CodeLens {
+                    CodeLens {
                         range: convert::range(t.source(), lens.span),
                         command: Some(command),
                         data: None,
-                    })
+                    }
                 })
                 .collect();
             Some(lenses)

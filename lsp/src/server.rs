@@ -9,7 +9,9 @@ use crate::commands;
 use crate::convert;
 use crate::features;
 use crate::guard::{run_blocking, Failure};
-use crate::workspace::{analyze_root, Doc, RootResult, Workspace};
+use crate::workspace::{
+    analyze_root, config_stamps, ConfigStamps, Doc, RootResult, Workspace, CONFIG_FILE,
+};
 use grammar_lang::{Analysis, FileId};
 use serde_json::Value;
 use std::collections::HashSet;
@@ -22,11 +24,23 @@ use tower_lsp::lsp_types::*;
 use tower_lsp::{Client, LanguageServer, LspService};
 
 /// Settings that are not part of the protocol.
-#[derive(Clone, Debug, Default)]
+#[derive(Clone, Debug)]
 pub struct Options {
     /// Accept the hidden command `trellis.debug.panic`, which panics inside
     /// core work on purpose (to test that the server survives it).
     pub debug_commands: bool,
+    /// How often to look for edits of `trellis.toml` files when the client
+    /// cannot watch files for the server.
+    pub config_poll: Duration,
+}
+
+impl Default for Options {
+    fn default() -> Self {
+        Options {
+            debug_commands: false,
+            config_poll: Duration::from_secs(2),
+        }
+    }
 }
 
 /// The hidden command that panics, accepted only with
@@ -48,6 +62,9 @@ struct Shared {
     /// Signalled after every round of the worker.
     stored: Notify,
     worker_started: std::sync::atomic::AtomicBool,
+    /// The client can watch files for the server (dynamic registration of
+    /// `workspace/didChangeWatchedFiles`).
+    client_watches: std::sync::atomic::AtomicBool,
 }
 
 impl Shared {
@@ -297,6 +314,37 @@ async fn worker(shared: Arc<Shared>, client: Client) {
     }
 }
 
+/// Looks every `every` at the `trellis.toml` files that could configure
+/// each open grammar and has a grammar analysed again when one of them
+/// appeared, vanished or changed since its last analysis read them.
+async fn poll_configs(shared: Arc<Shared>, every: Duration) {
+    loop {
+        tokio::time::sleep(every).await;
+        let seen: Vec<(PathBuf, ConfigStamps)> = shared
+            .lock()
+            .results
+            .iter()
+            .map(|(root, r)| (root.clone(), r.config_stamps.clone()))
+            .collect();
+        let stale = tokio::task::spawn_blocking(move || {
+            seen.into_iter()
+                .filter(|(root, stamps)| config_stamps(root) != *stamps)
+                .map(|(root, _)| root)
+                .collect::<Vec<PathBuf>>()
+        })
+        .await;
+        let Ok(stale) = stale else { continue };
+        if !stale.is_empty() {
+            let mut ws = shared.lock();
+            for root in &stale {
+                ws.touch(root);
+            }
+            drop(ws);
+            shared.wake.notify_one();
+        }
+    }
+}
+
 /// Publishes the diagnostics of every file in `affected` from the stored
 /// results, skipping files whose open buffer has moved on since (a newer
 /// analysis is queued for them) and never going back to an older version.
@@ -430,7 +478,16 @@ pub fn capabilities() -> ServerCapabilities {
 
 #[tower_lsp::async_trait]
 impl LanguageServer for Backend {
-    async fn initialize(&self, _: InitializeParams) -> jsonrpc::Result<InitializeResult> {
+    async fn initialize(&self, params: InitializeParams) -> jsonrpc::Result<InitializeResult> {
+        let watches = params
+            .capabilities
+            .workspace
+            .and_then(|w| w.did_change_watched_files)
+            .and_then(|w| w.dynamic_registration)
+            .unwrap_or(false);
+        self.shared
+            .client_watches
+            .store(watches, std::sync::atomic::Ordering::SeqCst);
         self.start_worker();
         Ok(InitializeResult {
             capabilities: capabilities(),
@@ -445,6 +502,26 @@ impl LanguageServer for Backend {
         self.client
             .log_message(MessageType::INFO, "trellis language server ready")
             .await;
+        self.watch_files().await;
+    }
+
+    async fn did_change_watched_files(&self, params: DidChangeWatchedFilesParams) {
+        {
+            let mut ws = self.shared.lock();
+            for change in params.changes {
+                let path = convert::uri_to_path(&change.uri);
+                if path.file_name() == Some(std::ffi::OsStr::new(CONFIG_FILE))
+                    || change.typ != FileChangeType::CHANGED
+                {
+                    // A configuration decides every grammar below it; a file
+                    // that appears or vanishes may change how `use`s resolve.
+                    ws.touch_all();
+                } else {
+                    ws.touch(&path);
+                }
+            }
+        }
+        self.shared.wake.notify_one();
     }
 
     async fn shutdown(&self) -> jsonrpc::Result<()> {
@@ -616,6 +693,41 @@ impl LanguageServer for Backend {
 }
 
 impl Backend {
+    /// Arranges to hear of edits made outside the editor's buffers: to
+    /// `trellis.toml` files (which decide the checks' levels) and to grammar
+    /// files read from disk. Clients that can watch files are asked to;
+    /// for the others the server looks at the configuration files itself
+    /// every [`Options::config_poll`].
+    async fn watch_files(&self) {
+        use std::sync::atomic::Ordering;
+        if self.shared.client_watches.load(Ordering::SeqCst) {
+            let watchers = [format!("**/{CONFIG_FILE}"), "**/*.trellis".to_string()]
+                .into_iter()
+                .map(|glob| FileSystemWatcher {
+                    glob_pattern: GlobPattern::String(glob),
+                    kind: None,
+                })
+                .collect();
+            let options = DidChangeWatchedFilesRegistrationOptions { watchers };
+            let registration = Registration {
+                id: "trellis-files".to_string(),
+                method: "workspace/didChangeWatchedFiles".to_string(),
+                register_options: serde_json::to_value(options).ok(),
+            };
+            if self
+                .client
+                .register_capability(vec![registration])
+                .await
+                .is_ok()
+            {
+                return;
+            }
+        }
+        let shared = self.shared.clone();
+        let every = self.options.config_poll;
+        tokio::spawn(async move { poll_configs(shared, every).await });
+    }
+
     /// The latest analysis of every open document (for searches across
     /// the workspace).
     pub fn latest_results(&self) -> Vec<Arc<RootResult>> {

@@ -97,6 +97,29 @@ pub fn config_for(root: &Path, loader: &dyn FileLoader) -> (Config, Option<Strin
     }
 }
 
+/// What identifies a version of a file on disk: its modification time and
+/// length.
+pub type ConfigStamp = (Option<std::time::SystemTime>, u64);
+
+/// Each place a configuration file could be, with its stamp (`None`: none there).
+pub type ConfigStamps = Vec<(PathBuf, Option<ConfigStamp>)>;
+
+/// The stamp of every place a `trellis.toml` could configure the grammar
+/// at `root` (its directory and each one above it); `None` where there is
+/// no such file.
+pub fn config_stamps(root: &Path) -> ConfigStamps {
+    root.ancestors()
+        .skip(1)
+        .map(|dir| {
+            let candidate = dir.join(CONFIG_FILE);
+            let stamp = std::fs::metadata(&candidate)
+                .ok()
+                .map(|m| (m.modified().ok(), m.len()));
+            (candidate, stamp)
+        })
+        .collect()
+}
+
 /// One finished analysis of a root document.
 #[derive(Debug)]
 pub struct RootResult {
@@ -110,6 +133,9 @@ pub struct RootResult {
     pub uris: Vec<Option<Url>>,
     /// A problem with `trellis.toml`, if any.
     pub config_problem: Option<String>,
+    /// The configuration files as they were when the analysis read its
+    /// configuration (see [`config_stamps`]).
+    pub config_stamps: ConfigStamps,
     /// The editor services' index, built on first use.
     index: OnceLock<IdeIndex>,
     /// The engine's numbers for hover, computed on first use (`None` when
@@ -179,6 +205,8 @@ impl RootResult {
 pub fn analyze_root(root: &Path, snapshot: &Snapshot, seq: u64) -> Option<RootResult> {
     let doc = snapshot.docs.get(root)?;
     let loader = Overlay(snapshot);
+    // Taken before reading: an edit in between only costs one more analysis.
+    let config_stamps = config_stamps(root);
     let (config, config_problem) = config_for(root, &loader);
     let mut analysis = analyze(root, &doc.text, &loader, &config);
     // What `trellis check` reports, the editor reports: the engine's
@@ -203,6 +231,7 @@ pub fn analyze_root(root: &Path, snapshot: &Snapshot, seq: u64) -> Option<RootRe
         inputs,
         uris,
         config_problem,
+        config_stamps,
         index: OnceLock::new(),
         facts: OnceLock::new(),
     })

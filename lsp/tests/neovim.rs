@@ -91,7 +91,7 @@ fn copy_examples(dir: &Path, names: &[&str]) {
 }
 
 #[test]
-fn neovim_shows_diagnostics_hover_definition_fixes_and_parses_through_trellis_lsp() {
+fn neovim_shows_diagnostics_hover_definition_fixes_parses_and_runs_tests_through_trellis_lsp() {
     if !nvim_available() {
         if std::env::var_os("CI").is_some() {
             panic!("nvim is not installed, and CI must run the editor test (.ci/run installs it)");
@@ -253,5 +253,24 @@ fn neovim_shows_diagnostics_hover_definition_fixes_and_parses_through_trellis_ls
         .iter()
         .map(|l| l["command"]["command"].as_str().unwrap())
         .collect();
-    assert_eq!(lenses, ["trellis.parse", "trellis.sample"]);
+    // Above `start`: parse, sample, run every test; then one per test block
+    // (the kiosk has four).
+    assert_eq!(
+        lenses,
+        [
+            "trellis.parse",
+            "trellis.sample",
+            "trellis.runTest",
+            "trellis.runTest",
+            "trellis.runTest",
+            "trellis.runTest",
+            "trellis.runTest"
+        ]
+    );
+    // The kiosk's own tests all hold (their expectations were written by
+    // hand; `engine/tests/parse_examples.rs` checks them case by case).
+    let run = &steps["run_tests"]["result"];
+    assert_eq!(run["failed"], 0, "{run}");
+    assert!(run["passed"].as_u64().unwrap() >= 20, "{run}");
+    assert_eq!(run["tests"].as_array().unwrap().len(), 4);
 }

@@ -134,6 +134,8 @@ pub enum CodeLensKind {
     ParseSentence,
     /// Sample sentences from the start symbol.
     Sample,
+    /// Run every test block of the grammar (`tests` of them).
+    RunAllTests { tests: usize },
 }
 
 /// A place for a code lens (shown above the line where `span` starts).
@@ -143,9 +145,10 @@ pub struct CodeLens {
     pub kind: CodeLensKind,
 }
 
-/// One lens above each `test` block of `file` (run it), and two above its
-/// `start` declaration if it is the grammar's start (parse a sentence,
-/// sample). The caller attaches commands.
+/// One lens above each `test` block of `file` (run it), and above its
+/// `start` declaration, if it is the grammar's start: parse a sentence,
+/// sample, and run every test of the grammar (when it has any). The caller
+/// attaches commands.
 ///
 /// Cost: linear in the declarations of the file.
 pub fn code_lenses(analysis: &Analysis, file: FileId) -> Vec<CodeLens> {
@@ -176,6 +179,14 @@ pub fn code_lenses(analysis: &Analysis, file: FileId) -> Vec<CodeLens> {
                     span: d.span,
                     kind: CodeLensKind::Sample,
                 });
+                if !grammar.tests.is_empty() {
+                    out.push(CodeLens {
+                        span: d.span,
+                        kind: CodeLensKind::RunAllTests {
+                            tests: grammar.tests.len(),
+                        },
+                    });
+                }
             }
             Decl::Test(t) => {
                 while tests

@@ -63,16 +63,18 @@ async fn read_messages(reader: DuplexStream, tx: mpsc::UnboundedSender<Value>) {
 impl TestClient {
     /// Starts a server (with the debug commands enabled) and a client for it.
     pub fn start() -> TestClient {
+        TestClient::start_with(Options {
+            debug_commands: true,
+            ..Options::default()
+        })
+    }
+
+    /// Starts a server with `options` and a client for it.
+    pub fn start_with(options: Options) -> TestClient {
         // Bytes written to one end of a duplex pipe are read at the other.
         let (to_server, server_input) = tokio::io::duplex(1 << 22);
         let (server_output, from_server) = tokio::io::duplex(1 << 22);
-        tokio::spawn(serve(
-            server_input,
-            server_output,
-            Options {
-                debug_commands: true,
-            },
-        ));
+        tokio::spawn(serve(server_input, server_output, options));
         let (tx, rx) = mpsc::unbounded_channel();
         tokio::spawn(read_messages(from_server, tx));
         TestClient {

@@ -149,6 +149,11 @@ local function run()
     arguments = { { uri = good_uri, sentences = { "two return tickets to tolsey", "tickets tickets" } } },
   }))
   step("lenses", request(good, "textDocument/codeLens", { textDocument = { uri = good_uri } }))
+  -- 6. Run the grammar's test blocks.
+  step("run_tests", request(good, "workspace/executeCommand", {
+    command = "trellis.runTest",
+    arguments = { { uri = good_uri } },
+  }))
 end
 
 local ok, err = pcall(run)
