@@ -13,7 +13,7 @@
 
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
 use grammar_lang::syntax::{self, lexer::lex};
-use grammar_lang::{analyze_text, lower, MemoryLoader};
+use grammar_lang::{analyze_text, check, lower, Config, MemoryLoader};
 use std::collections::HashSet;
 use std::fmt::Write;
 use std::hint::black_box;
@@ -195,7 +195,8 @@ fn bench_check(c: &mut Criterion) {
 }
 
 /// The phases of the 50,000-rule case on their own, to see where the time
-/// goes: syntax only, syntax + lowering, and the whole analysis (above).
+/// goes: lexing, syntax (lexing + parsing), syntax + lowering, and the
+/// model checks alone on the lowered grammar; the whole analysis is above.
 fn bench_phases(c: &mut Criterion) {
     let text = generate(50_000);
     let mut group = c.benchmark_group("phases_50000");
@@ -210,6 +211,20 @@ fn bench_phases(c: &mut Criterion) {
                 black_box(&text),
                 &MemoryLoader::new(),
             )
+        })
+    });
+    let lowered = lower::lower(Path::new("generated.trellis"), &text, &MemoryLoader::new());
+    let config = Config::default();
+    group.bench_function("checks", |b| {
+        b.iter(|| {
+            let mut out = Vec::new();
+            check::run_checks(
+                black_box(&lowered.grammar),
+                &lowered.sources,
+                &config,
+                &mut out,
+            );
+            out
         })
     });
     group.finish();

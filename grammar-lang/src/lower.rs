@@ -253,7 +253,7 @@ impl Lowerer<'_> {
                 Decl::Use(u) => Some((
                     resolve_use(from, &u.path.value),
                     u.span,
-                    u.path.value.clone(),
+                    u.path.value.to_string(),
                 )),
                 _ => None,
             })
@@ -576,13 +576,13 @@ impl Lowerer<'_> {
                     ast::Expectation::Accept => Expectation::Accept,
                     ast::Expectation::Reject => Expectation::Reject,
                 },
-                sentence: case.sentence.value.clone(),
+                sentence: case.sentence.value.to_string(),
                 tree: case.tree.as_ref().map(|t| self.tree(file, t)),
                 location: Location::new(file, case.span),
             })
             .collect();
         self.grammar.tests.push(GrammarTest {
-            name: test.name.value.clone(),
+            name: test.name.value.to_string(),
             location: Location::new(file, test.span),
             doc: test.doc.as_ref().map(|d| d.text()),
             cases,
@@ -596,7 +596,7 @@ impl Lowerer<'_> {
                 .iter()
                 .map(|c| match c {
                     TreeChild::Node(n) => self.tree(file, n),
-                    TreeChild::Leaf(s) => Tree::leaf(s.value.clone()),
+                    TreeChild::Leaf(s) => Tree::leaf(s.value.to_string()),
                 })
                 .collect(),
         )
@@ -748,7 +748,7 @@ mod tests {
     fn terminal(text: &str, quoted: &str) -> Item {
         Item::Terminal(Str {
             span: at(text, quoted),
-            value: crate::syntax::lexer::unquote(quoted),
+            value: crate::syntax::lexer::unquote_small(quoted),
         })
     }
 

@@ -146,7 +146,7 @@ fn in_block(analysis: &Analysis, file: FileId, block: &Block, at: usize) -> Opti
             }
             Item::Terminal(s) => Some(Lookup::Terminal {
                 term: grammar.term(&s.value),
-                value: s.value.clone(),
+                value: s.value.to_string(),
                 span: s.span,
             }),
         };
@@ -204,7 +204,7 @@ fn in_tree(analysis: &Analysis, file: FileId, tree: &TreeSyntax, at: usize) -> O
                 TreeChild::Leaf(s) if touches(s.span, at) => {
                     return Some(Lookup::Terminal {
                         term: grammar.term(&s.value),
-                        value: s.value.clone(),
+                        value: s.value.to_string(),
                         span: s.span,
                     })
                 }

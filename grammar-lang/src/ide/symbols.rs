@@ -72,7 +72,7 @@ pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol
                 d.name.span,
             ),
             Decl::Use(d) => leaf(
-                d.path.value.clone(),
+                d.path.value.to_string(),
                 Some("use".to_string()),
                 SymbolKind::Use,
                 d.span,
@@ -116,7 +116,7 @@ pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol
                 }
             }
             Decl::Test(t) => DocumentSymbol {
-                name: t.name.value.clone(),
+                name: t.name.value.to_string(),
                 detail: Some(format!(
                     "test · {} {}",
                     t.cases.len(),
@@ -130,7 +130,7 @@ pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol
                     .iter()
                     .map(|c| {
                         leaf(
-                            c.sentence.value.clone(),
+                            c.sentence.value.to_string(),
                             Some(
                                 match (c.expect, c.tree.is_some()) {
                                     (Expectation::Accept, false) => "accept",

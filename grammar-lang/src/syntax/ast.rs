@@ -6,6 +6,7 @@
 //! replacements that leave everything else untouched.
 
 use crate::span::Span;
+use smol_str::SmolStr;
 
 /// A parsed file: its full token list, its declarations and its syntax errors.
 #[derive(Clone, Debug, Default)]
@@ -58,10 +59,11 @@ pub struct Name {
 }
 
 /// A quoted string: its token span and its value with escapes resolved.
+/// Short values (most terminals) are stored inline, without an allocation.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Str {
     pub span: Span,
-    pub value: String,
+    pub value: SmolStr,
 }
 
 #[derive(Clone, Debug, PartialEq)]

@@ -7,6 +7,7 @@
 
 use crate::span::Span;
 use logos::Logos;
+use smol_str::SmolStr;
 use std::fmt;
 
 #[derive(Logos, Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -189,8 +190,28 @@ pub fn quote(text: &str) -> String {
 /// The contents of a quoted string token, escapes resolved. Other escaped
 /// characters stand for themselves.
 pub fn unquote(token_text: &str) -> String {
+    unescape(inner_text(token_text))
+}
+
+/// [`unquote`] into a string that keeps short values inline: no allocation
+/// for the usual short terminal without escapes.
+pub fn unquote_small(token_text: &str) -> SmolStr {
+    let inner = inner_text(token_text);
+    if inner.contains('\\') {
+        SmolStr::from(unescape(inner))
+    } else {
+        SmolStr::new(inner)
+    }
+}
+
+/// A string token's text without its quotes.
+fn inner_text(token_text: &str) -> &str {
     let inner = token_text.strip_prefix('"').unwrap_or(token_text);
-    let inner = inner.strip_suffix('"').unwrap_or(inner);
+    inner.strip_suffix('"').unwrap_or(inner)
+}
+
+/// Resolves `\\x` escapes to `x`.
+fn unescape(inner: &str) -> String {
     let mut out = String::with_capacity(inner.len());
     let mut chars = inner.chars();
     while let Some(c) = chars.next() {
@@ -263,6 +284,8 @@ mod tests {
         let raw = r#""say \"hi\" \\ now""#;
         assert_eq!(unquote(raw), r#"say "hi" \ now"#);
         assert_eq!(quote(&unquote(raw)), raw);
+        assert_eq!(unquote_small(raw), unquote(raw));
+        assert_eq!(unquote_small(r#""plain""#), "plain");
         assert_eq!(kinds(r#""open"#), vec![TokenKind::UnterminatedString]);
     }
 }

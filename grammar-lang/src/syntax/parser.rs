@@ -8,10 +8,9 @@
 //! begins. Every error is reported; every intact declaration is kept.
 
 use super::ast::*;
-use super::lexer::{lex, unquote, Token, TokenKind};
+use super::lexer::{lex, unquote_small, Token, TokenKind};
 use crate::span::Span;
 use chumsky::error::EmptyErr;
-use chumsky::input::Input as _;
 use chumsky::prelude::*;
 
 type Rich_<'a> = Rich<'a, TokenKind, SimpleSpan>;
@@ -38,8 +37,76 @@ impl<'a> ParseError<'a> for EmptyErr {
     }
 }
 
-type TokenSlice<'a> =
-    chumsky::input::MappedInput<'a, TokenKind, SimpleSpan, &'a [(TokenKind, SimpleSpan)]>;
+/// The parser's input: the kinds of the significant tokens, with their
+/// byte spans alongside. Cursors are token indices; a span runs from the
+/// start of its first token to the end of its last (as chumsky's mapped
+/// slice input computes it), so chumsky never copies `(kind, span)` pairs.
+#[derive(Clone, Copy)]
+struct TokenSlice<'a> {
+    kinds: &'a [TokenKind],
+    spans: &'a [Span],
+    /// The length of the text: the span of the end of input.
+    eoi: usize,
+}
+
+impl<'a> chumsky::input::Input<'a> for TokenSlice<'a> {
+    type Span = SimpleSpan;
+    type Token = TokenKind;
+    type MaybeToken = TokenKind;
+    type Cursor = usize;
+    type Cache = Self;
+
+    #[inline]
+    fn begin(self) -> (usize, Self) {
+        (0, self)
+    }
+
+    #[inline]
+    fn cursor_location(cursor: &usize) -> usize {
+        *cursor
+    }
+
+    #[inline(always)]
+    unsafe fn next_maybe(this: &mut Self, cursor: &mut usize) -> Option<TokenKind> {
+        let kind = this.kinds.get(*cursor).copied()?;
+        *cursor += 1;
+        Some(kind)
+    }
+
+    #[inline]
+    unsafe fn span(this: &mut Self, range: std::ops::Range<&usize>) -> SimpleSpan {
+        match this.spans.get(*range.start) {
+            Some(first) => {
+                let end = match range.end.checked_sub(1).and_then(|i| this.spans.get(i)) {
+                    Some(last) => last.end as usize,
+                    None => this.eoi,
+                };
+                SimpleSpan::from(first.start as usize..end)
+            }
+            None => SimpleSpan::from(this.eoi..this.eoi),
+        }
+    }
+}
+
+impl<'a> chumsky::input::ValueInput<'a> for TokenSlice<'a> {
+    #[inline(always)]
+    unsafe fn next(this: &mut Self, cursor: &mut usize) -> Option<TokenKind> {
+        let kind = this.kinds.get(*cursor).copied()?;
+        *cursor += 1;
+        Some(kind)
+    }
+}
+
+impl<'a> chumsky::input::ExactSizeInput<'a> for TokenSlice<'a> {
+    #[inline]
+    unsafe fn span_from(this: &mut Self, range: std::ops::RangeFrom<&usize>) -> SimpleSpan {
+        let start = this
+            .spans
+            .get(*range.start)
+            .map_or(this.eoi, |first| first.start as usize);
+        SimpleSpan::from(start..this.eoi)
+    }
+}
 
 /// Separates a message from its help text inside a chumsky custom error.
 const HELP_SEP: char = '\u{1f}';
@@ -49,22 +116,25 @@ const EMPTY_MARK: char = '\u{1e}';
 /// Parses `text` into its lossless syntax. Never fails: errors are collected.
 pub fn parse(text: &str) -> SyntaxFile {
     let tokens = lex(text);
-    let significant: Vec<(TokenKind, SimpleSpan)> = tokens
-        .iter()
-        .filter(|t| !t.kind.is_trivia())
-        .map(|t| (t.kind, SimpleSpan::from(t.span.range())))
-        .collect();
-    let eoi = SimpleSpan::from(text.len()..text.len());
+    let mut kinds = Vec::with_capacity(tokens.len() / 2);
+    let mut spans = Vec::with_capacity(tokens.len() / 2);
+    for t in tokens.iter().filter(|t| !t.kind.is_trivia()) {
+        kinds.push(t.kind);
+        spans.push(t.span);
+    }
+    let input = TokenSlice {
+        kinds: &kinds,
+        spans: &spans,
+        eoi: text.len(),
+    };
     // Fast pass without error bookkeeping; most files being edited or checked
     // are correct. Only when it fails does the reporting pass run.
     let fast = file_parser::<EmptyErr>(text)
-        .parse(significant.as_slice().split_token_span(eoi))
+        .parse(input)
         .into_output_errors();
     let (decls, errs) = match fast {
         (Some(decls), errs) if errs.is_empty() => (Some(decls), Vec::new()),
-        _ => file_parser::<Rich_>(text)
-            .parse(significant.as_slice().split_token_span(eoi))
-            .into_output_errors(),
+        _ => file_parser::<Rich_>(text).parse(input).into_output_errors(),
     };
     let mut decls = decls.unwrap_or_default();
     let mut errors: Vec<SyntaxError> = errs.into_iter().map(|e| convert_error(e, text)).collect();
@@ -209,7 +279,7 @@ fn file_parser<'a, Er: ParseError<'a>>(
         let span = sp(e.span());
         Str {
             span,
-            value: unquote(span.text(src)),
+            value: unquote_small(span.text(src)),
         }
     });
     // A string missing its closing quote is reported and kept as a terminal.
@@ -222,7 +292,7 @@ fn file_parser<'a, Er: ParseError<'a>>(
         let span = sp(e.span());
         Str {
             span,
-            value: unquote(span.text(src)),
+            value: unquote_small(span.text(src)),
         }
     });
     let terminal = string.or(unterminated);
@@ -277,21 +347,25 @@ fn file_parser<'a, Er: ParseError<'a>>(
         .repeated()
         .at_least(1)
         .to(BodyElem::Junk);
-    let body_elem = next_decl.clone().not().ignore_then(choice((
+    // A newline or `|` never starts a declaration: only look ahead for one
+    // where an alternative could start.
+    let body_elem = choice((
         just(T::Newline).to(BodyElem::Newline),
         just(T::Pipe).map_with(|_, e| BodyElem::Pipe(sp(e.span()))),
-        alternative
-            .then_ignore(alt_end)
-            .map(BodyElem::Alt)
-            .recover_with(via_parser(rest_of_alt)),
-    )));
+        next_decl.clone().not().ignore_then(
+            alternative
+                .then_ignore(alt_end)
+                .map(BodyElem::Alt)
+                .recover_with(via_parser(rest_of_alt)),
+        ),
+    ));
     let close = just(T::RBrace)
         .map_with(|_, e| Some(sp(e.span())))
         .or(empty().to(None));
     let block = name
         .then(just(T::KwRelative).map_with(|_, e| sp(e.span())).or_not())
         .then(just(T::LBrace).map_with(|_, e| sp(e.span())))
-        .then(body_elem.repeated().collect::<Vec<_>>())
+        .then(body_elem.repeated().collect::<Body>())
         .then(close)
         .map_with(|((((name, relative), open), body), close), e| {
             (name, relative, open, body, close, sp(e.span()))
@@ -305,7 +379,7 @@ fn file_parser<'a, Er: ParseError<'a>>(
                         "add `}` after its last alternative",
                     ));
                 }
-                let alternatives = sort_body(body, src, &mut |span, msg| {
+                let alternatives = check_body(body, src, &mut |span, msg| {
                     emitter.emit(Er::custom(
                         SimpleSpan::from(span.range()),
                         format!("{EMPTY_MARK}{msg}{HELP_SEP}{EPSILON_HELP}"),
@@ -432,70 +506,117 @@ fn file_parser<'a, Er: ParseError<'a>>(
 
 const EPSILON_HELP: &str = "factor the optional part out: instead of `A { B | <nothing> }` write the rules that use `A` twice, once with `B` and once without";
 
-/// Turns body elements into alternatives, reporting empty ones: two `|`
-/// with nothing between them, a `|` with no alternative on either side, and
-/// empty terminals `""`.
-fn sort_body(
-    body: Vec<BodyElem>,
-    src: &str,
-    report: &mut dyn FnMut(Span, &str),
-) -> Vec<Alternative> {
-    let is_alt = |e: Option<&BodyElem>| matches!(e, Some(BodyElem::Alt(_)) | Some(BodyElem::Junk));
-    for (i, elem) in body.iter().enumerate() {
-        if let BodyElem::Pipe(span) = elem {
-            let before = i.checked_sub(1).and_then(|j| body.get(j));
-            let after = body.get(i + 1);
-            let doubled = matches!(after, Some(BodyElem::Pipe(_)));
-            if doubled || (!is_alt(before) && !is_alt(after)) {
-                report(*span, "empty alternative: epsilon rules are not supported");
-            }
-        }
-    }
-    let mut alternatives = Vec::new();
-    for elem in body {
-        if let BodyElem::Alt(alt) = elem {
-            for item in &alt.items {
-                if let Item::Terminal(s) = item {
-                    if s.value.is_empty() && s.span.text(src).ends_with('"') {
-                        report(s.span, "empty terminal `\"\"`: it matches no word, and epsilon rules are not supported");
-                    }
+/// A block body as read: its alternatives, and every `|` that separates
+/// nothing (an empty alternative). Collected element by element, so the
+/// body's elements never make a list of their own.
+#[derive(Default)]
+struct Body {
+    alternatives: Vec<Alternative>,
+    /// Each `|` directly followed by another `|`, or with no alternative on
+    /// either side.
+    empty_pipes: Vec<Span>,
+}
+
+impl FromIterator<BodyElem> for Body {
+    fn from_iter<I: IntoIterator<Item = BodyElem>>(elems: I) -> Self {
+        let mut body = Body::default();
+        // Whether the element before the current one is an alternative (or
+        // an unreadable stretch, which stands for one).
+        let mut before_is_alt = false;
+        // The last `|`, whose next element is not known yet, and whether an
+        // alternative precedes it.
+        let mut pending: Option<(Span, bool)> = None;
+        for elem in elems {
+            let is_alt = matches!(elem, BodyElem::Alt(_) | BodyElem::Junk);
+            if let Some((span, after_alt)) = pending.take() {
+                let doubled = matches!(elem, BodyElem::Pipe(_));
+                if doubled || (!after_alt && !is_alt) {
+                    body.empty_pipes.push(span);
                 }
             }
-            alternatives.push(alt);
+            match elem {
+                BodyElem::Alt(alt) => body.alternatives.push(alt),
+                BodyElem::Pipe(span) => pending = Some((span, before_is_alt)),
+                BodyElem::Newline | BodyElem::Junk => {}
+            }
+            before_is_alt = is_alt;
+        }
+        if let Some((span, false)) = pending {
+            body.empty_pipes.push(span);
+        }
+        body
+    }
+}
+
+/// Reports the empty alternatives of a body: two `|` with nothing between
+/// them, a `|` with no alternative on either side, and empty terminals `""`.
+fn check_body(body: Body, src: &str, report: &mut dyn FnMut(Span, &str)) -> Vec<Alternative> {
+    for &span in &body.empty_pipes {
+        report(span, "empty alternative: epsilon rules are not supported");
+    }
+    for alt in &body.alternatives {
+        for item in &alt.items {
+            if let Item::Terminal(s) = item {
+                if s.value.is_empty() && s.span.text(src).ends_with('"') {
+                    report(s.span, "empty terminal `\"\"`: it matches no word, and epsilon rules are not supported");
+                }
+            }
         }
     }
-    alternatives
+    body.alternatives
 }
 
 /// Attaches `##` lines directly above each block, test and alternative.
 fn attach_docs(decls: &mut [Decl], tokens: &[Token], src: &str) {
+    // Declarations and alternatives come in source order, so the token at
+    // each one's offset is found by moving one cursor forward.
+    let mut cursor = Cursor { tokens, next: 0 };
     for decl in decls {
         match decl {
             Decl::Block(block) => {
-                block.doc = doc_before(tokens, src, block.span.start);
+                block.doc =
+                    doc_before(tokens, src, block.span.start, cursor.seek(block.span.start));
                 for alt in &mut block.alternatives {
-                    alt.doc = doc_before(tokens, src, alt.span.start);
+                    alt.doc = doc_before(tokens, src, alt.span.start, cursor.seek(alt.span.start));
                 }
             }
-            Decl::Test(test) => test.doc = doc_before(tokens, src, test.span.start),
+            Decl::Test(test) => {
+                test.doc = doc_before(tokens, src, test.span.start, cursor.seek(test.span.start))
+            }
             _ => {}
         }
     }
 }
 
-/// The doc comment lines that end on the line just before `offset`'s line.
-fn doc_before(tokens: &[Token], src: &str, offset: u32) -> Option<Doc> {
-    // Cheap test on the text first: is the previous line a `##` line?
-    let before = src
-        .get(..offset as usize)?
-        .trim_end_matches([' ', '\t', '\r', '\u{FEFF}']);
-    let previous_line = before.strip_suffix('\n')?;
-    let previous_line =
-        previous_line[previous_line.rfind('\n').map_or(0, |i| i + 1)..].trim_start();
-    if !previous_line.starts_with("##") || previous_line.starts_with("###") {
-        return None;
+/// The index of the first token at or after an offset, for offsets asked
+/// in (mostly) increasing order.
+struct Cursor<'t> {
+    tokens: &'t [Token],
+    /// The answer for the last offset asked.
+    next: usize,
+}
+
+impl Cursor<'_> {
+    fn seek(&mut self, offset: u32) -> usize {
+        let behind = self.next > 0 && self.tokens[self.next - 1].span.start >= offset;
+        if behind {
+            self.next = self.tokens.partition_point(|t| t.span.start < offset);
+        }
+        while self
+            .tokens
+            .get(self.next)
+            .is_some_and(|t| t.span.start < offset)
+        {
+            self.next += 1;
+        }
+        self.next
     }
-    let mut i = tokens.partition_point(|t| t.span.start < offset);
+}
+
+/// The doc comment lines that end on the line just before `offset`'s line;
+/// `first` is the index of the first token at or after `offset`.
+fn doc_before(tokens: &[Token], src: &str, offset: u32, first: usize) -> Option<Doc> {
+    let mut i = first;
     let mut lines: Vec<Span> = Vec::new();
     loop {
         // Expect (whitespace) newline (whitespace) doc-comment, walking back.
@@ -526,6 +647,17 @@ fn doc_before(tokens: &[Token], src: &str, offset: u32) -> Option<Doc> {
         }
     }
     if lines.is_empty() {
+        return None;
+    }
+    // Only spaces, tabs, carriage returns and byte-order marks may stand
+    // before `offset` on its line, and the line above must be a `##` line.
+    let before = src
+        .get(..offset as usize)?
+        .trim_end_matches([' ', '\t', '\r', '\u{FEFF}']);
+    let previous_line = before.strip_suffix('\n')?;
+    let previous_line =
+        previous_line[previous_line.rfind('\n').map_or(0, |i| i + 1)..].trim_start();
+    if !previous_line.starts_with("##") || previous_line.starts_with("###") {
         return None;
     }
     lines.reverse();
