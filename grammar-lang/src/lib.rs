@@ -21,6 +21,7 @@ pub mod ide;
 pub mod lower;
 pub mod model;
 pub mod print;
+pub mod ratio;
 pub mod source;
 pub mod span;
 pub mod syntax;

@@ -7,14 +7,12 @@
 
 use crate::diagnostic::Location;
 use crate::tree::Tree;
-use num_bigint::BigInt;
-use num_rational::BigRational;
 use num_traits::{ToPrimitive, Zero};
 use std::collections::HashMap;
 use std::fmt;
 
 /// An exact probability or weight.
-pub type Ratio = BigRational;
+pub use crate::ratio::Ratio;
 
 /// A non-terminal.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
@@ -331,11 +329,7 @@ impl std::hash::Hasher for FxHasher {
 
 /// Formats an exact ratio as a fraction `p/q` (or an integer).
 pub fn fraction(r: &Ratio) -> String {
-    if r.denom() == &BigInt::from(1) {
-        r.numer().to_string()
-    } else {
-        format!("{}/{}", r.numer(), r.denom())
-    }
+    r.to_string()
 }
 
 /// A ratio as a float (`NaN`-free: huge values saturate).

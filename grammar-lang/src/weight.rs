@@ -52,7 +52,7 @@ fn parse_decimal(text: &str) -> Result<Ratio, String> {
 /// fractional digits (that is, the reduced denominator has only the prime
 /// factors 2 and 5).
 pub fn exact_decimal(r: &Ratio, max_digits: usize) -> Option<String> {
-    let mut den = r.denom().clone();
+    let mut den = r.denom();
     let mut twos = 0usize;
     let mut fives = 0usize;
     let two = BigInt::from(2);

@@ -676,12 +676,11 @@ fn start_declared_in_two_files_is_a_duplicate() {
 /// recurse once per symbol.
 #[test]
 fn a_unary_cycle_through_fifty_thousand_symbols_is_found_without_deep_recursion() {
-    use grammar_lang::model::{BlockInfo, Grammar, Rule, Sym};
+    use grammar_lang::model::{BlockInfo, Grammar, Ratio, Rule, Sym};
     use grammar_lang::{FileId, Location, Span};
-    use num_rational::BigRational;
     let n = 50_000;
     let here = Location::new(FileId(0), Span::point(0));
-    let half = BigRational::new(1.into(), 2.into());
+    let half = Ratio::new(1.into(), 2.into());
     let mut g = Grammar::new();
     let ids: Vec<_> = (0..n).map(|i| g.intern_nt(&format!("N{i}"))).collect();
     let word = g.intern_term("w");
@@ -691,7 +690,7 @@ fn a_unary_cycle_through_fifty_thousand_symbols_is_found_without_deep_recursion(
             location: here,
             relative: false,
             doc: None,
-            mass: BigRational::from_integer(1.into()),
+            mass: Ratio::from_integer(1.into()),
         });
         for rhs in [Sym::N(ids[(i + 1) % n]), Sym::T(word)] {
             g.push_rule(Rule {

@@ -72,8 +72,8 @@ fn approximate(r: &Ratio) -> String {
         let top = (&n >> shift).to_f64().unwrap_or(1.0);
         (top.log10(), shift as i64)
     };
-    let (ln, sn) = lead(r.numer());
-    let (ld, sd) = lead(r.denom());
+    let (ln, sn) = lead(&r.numer());
+    let (ld, sd) = lead(&r.denom());
     let log10 = ln - ld + (sn - sd) as f64 * std::f64::consts::LOG10_2;
     let exponent = log10.floor();
     let mantissa = 10f64.powf(log10 - exponent);
