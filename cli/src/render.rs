@@ -248,6 +248,22 @@ impl<'a> HumanRenderer<'a> {
     }
 }
 
+/// Every error of `analysis` rendered as by [`HumanRenderer::render`], each
+/// followed by an empty line.
+pub fn errors(analysis: &grammar_lang::Analysis, color: bool) -> String {
+    let mut renderer = HumanRenderer::new(&analysis.sources, color);
+    let mut out = String::new();
+    for d in analysis
+        .diagnostics
+        .iter()
+        .filter(|d| d.severity == Severity::Error)
+    {
+        out.push_str(&renderer.render(d));
+        out.push('\n');
+    }
+    out
+}
+
 /// `text` without ANSI escape sequences (`ESC [ ... final-byte`).
 pub fn strip_ansi(text: &str) -> String {
     let mut out = String::with_capacity(text.len());

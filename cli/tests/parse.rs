@@ -2,28 +2,10 @@
 //! temporary directories.
 
 mod common;
-use common::trellis;
+use common::{trellis, KIOSK};
 
 use serde_json::Value;
 use std::fs;
-
-/// "a day ticket" has two trees: the article can belong to the ticket or
-/// to the request (probabilities worked by hand below).
-const KIOSK: &str = r#"
-start Request
-
-Request {
-  1/2  Ticket
-  1/2  "a" Ticket
-}
-
-Ticket {
-  1/2  Kind "ticket"
-  1/2  "a" Kind "ticket"
-}
-
-Kind { "day" | "single" | "return" }
-"#;
 
 fn setup() -> tempfile::TempDir {
     let dir = tempfile::tempdir().unwrap();

@@ -2,32 +2,11 @@
 //! temporary directories and on the bundled examples.
 
 mod common;
-use common::trellis;
+use common::{trellis, KIOSK};
 
 use serde_json::Value;
 use std::fs;
 use std::path::Path;
-
-/// "a day ticket" has two trees, worked by hand:
-///   (Request (Ticket "a" (Kind "day") "ticket"))  1/2 · 1/2 · 1/3 = 1/12
-///   (Request "a" (Ticket (Kind "day") "ticket"))  1/2 · 1/2 · 1/3 = 1/12
-/// — a tie — while "a a day ticket" has the one tree
-///   (Request "a" (Ticket "a" (Kind "day") "ticket"))  1/2 · 1/2 · 1/3 = 1/12.
-const KIOSK: &str = r#"
-start Request
-
-Request {
-  1/2  Ticket
-  1/2  "a" Ticket
-}
-
-Ticket {
-  1/2  Kind "ticket"
-  1/2  "a" Kind "ticket"
-}
-
-Kind { "day" | "single" | "return" }
-"#;
 
 fn grammar_with_tests(tests: &str) -> tempfile::TempDir {
     let dir = tempfile::tempdir().unwrap();

@@ -45,30 +45,6 @@ fn ratio(n: i64, d: i64) -> Ratio {
     Ratio::new(n.into(), d.into())
 }
 
-/// The PCFG of Manning & Schütze, *Foundations of Statistical Natural
-/// Language Processing* (1999), ch. 11 (recalled from memory): "astronomers
-/// saw stars with ears" has two parses, 0.0009072 with the PP inside the
-/// object NP and 0.0006804 with the PP attached to the VP.
-fn astronomers() -> Grammar {
-    grammar(
-        "S",
-        &[
-            ("S", "NP VP", "1.0"),
-            ("PP", "P NP", "1.0"),
-            ("VP", "V NP", "0.7"),
-            ("VP", "VP PP", "0.3"),
-            ("P", "\"with\"", "1.0"),
-            ("V", "\"saw\"", "1.0"),
-            ("NP", "NP PP", "0.4"),
-            ("NP", "\"astronomers\"", "0.1"),
-            ("NP", "\"ears\"", "0.18"),
-            ("NP", "\"saw\"", "0.04"),
-            ("NP", "\"stars\"", "0.18"),
-            ("NP", "\"telescopes\"", "0.1"),
-        ],
-    )
-}
-
 const SENTENCE: &str = "astronomers saw stars with ears";
 const NP_ATTACHED: &str =
     r#"(S (NP "astronomers") (VP (V "saw") (NP (NP "stars") (PP (P "with") (NP "ears")))))"#;

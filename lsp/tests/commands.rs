@@ -17,20 +17,11 @@ VP { 0.75 \"sail\" | 0.25 \"sink\" }
 ";
 
 async fn ready(text: &str) -> TestClient {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    client.open(URI, 1, text).await;
-    client.diagnostics(URI).await;
-    client
+    TestClient::ready(URI, text).await
 }
 
 async fn command(client: &mut TestClient, name: &str, argument: Value) -> Value {
-    client
-        .call(
-            "workspace/executeCommand",
-            json!({"command": name, "arguments": [argument]}),
-        )
-        .await
+    client.execute(name, argument).await
 }
 
 fn close(a: &Value, b: f64) -> bool {

@@ -30,20 +30,11 @@ test \"bad\" {
 ";
 
 async fn ready(text: &str) -> TestClient {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    client.open(URI, 1, text).await;
-    client.diagnostics(URI).await;
-    client
+    TestClient::ready(URI, text).await
 }
 
 async fn run_test(client: &mut TestClient, argument: Value) -> Value {
-    client
-        .call(
-            "workspace/executeCommand",
-            json!({"command": "trellis.runTest", "arguments": [argument]}),
-        )
-        .await
+    client.execute("trellis.runTest", argument).await
 }
 
 #[tokio::test]

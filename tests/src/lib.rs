@@ -62,24 +62,6 @@ pub fn chi_square_critical(df: usize, z: f64) -> f64 {
 /// decimals (standard normal table).
 pub const Z_0_999: f64 = 3.0902;
 
-/// SplitMix64 (Steele, Lea & Flood 2014): a small seeded generator for
-/// building random grammars.
-pub struct SplitMix(pub u64);
-
-impl SplitMix {
-    pub fn next_u64(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-
-    pub fn below(&mut self, n: usize) -> usize {
-        (self.next_u64() % n as u64) as usize
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -14,9 +14,10 @@
 //!   extinction probability min(1, (1 − p)/p).
 
 use grammar_lang::model::{Grammar, Sym};
-use trellis_acceptance::{grammar, SplitMix};
+use trellis_acceptance::grammar;
 use trellis_engine::consistency::termination_probabilities;
 use trellis_engine::parser::{ParseOptions, Parser};
+use trellis_engine::rng::{RandomSource, SplitMix64};
 
 fn inside_options() -> ParseOptions {
     ParseOptions {
@@ -55,20 +56,20 @@ fn collapsed(g: &Grammar) -> Grammar {
 /// `recursion` is the percent chance that a right-hand-side item is a
 /// non-terminal. From 60 up, the words-only rule gets a small share of the
 /// weight, so many such grammars branch faster than they end (they leak).
-fn random_grammar(rng: &mut SplitMix, n: usize, recursion: u64) -> Grammar {
+fn random_grammar(rng: &mut SplitMix64, n: usize, recursion: u64) -> Grammar {
     let mut text = String::from("start N0\n");
     for a in 0..n {
         text.push_str(&format!("N{a} relative {{\n"));
-        let word = ["\"a\"", "\"b\""][rng.below(2)];
+        let word = ["\"a\"", "\"b\""][rng.below(2) as usize];
         let weight = if recursion >= 60 { 1 } else { 1 + rng.below(5) };
         text.push_str(&format!("  {weight} {word}\n"));
         for _ in 0..1 + rng.below(3) {
             let items: Vec<String> = (0..1 + rng.below(3))
                 .map(|_| {
                     if rng.next_u64() % 100 < recursion {
-                        format!("N{}", rng.below(n))
+                        format!("N{}", rng.below(n as u64))
                     } else {
-                        ["\"a\"", "\"b\""][rng.below(2)].to_string()
+                        ["\"a\"", "\"b\""][rng.below(2) as usize].to_string()
                     }
                 })
                 .collect();
@@ -106,7 +107,7 @@ fn sentences(n: usize) -> Vec<Vec<&'static str>> {
 
 #[test]
 fn summing_inside_over_all_sentences_of_a_length_equals_the_length_marginal() {
-    let mut rng = SplitMix(0x1e57_0001);
+    let mut rng = SplitMix64::new(0x1e57_0001);
     let mut nonzero = 0;
     for round in 0..12 {
         let g = random_grammar(&mut rng, 2 + round % 3, 40);
@@ -127,7 +128,7 @@ fn summing_inside_over_all_sentences_of_a_length_equals_the_length_marginal() {
 
 #[test]
 fn inside_probabilities_of_all_lengths_sum_to_the_termination_probability() {
-    let mut rng = SplitMix(0x1e57_0002);
+    let mut rng = SplitMix64::new(0x1e57_0002);
     let (mut tight, mut leaky) = (0, 0);
     for round in 0..30 {
         let g = random_grammar(&mut rng, 2 + round % 3, 30 + (round as u64 % 6) * 12);

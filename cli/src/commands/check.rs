@@ -265,6 +265,24 @@ pub fn outcome(counts: Counts, deny_warnings: bool, failed: bool) -> Outcome {
     }
 }
 
+/// The paths given, or the current directory when there are none.
+pub fn paths_or_here(paths: &[PathBuf]) -> Vec<PathBuf> {
+    if paths.is_empty() {
+        vec![PathBuf::from(".")]
+    } else {
+        paths.to_vec()
+    }
+}
+
+/// Says on stderr that `paths` held no grammar file.
+pub fn note_nothing_found(paths: &[PathBuf]) {
+    let shown: Vec<String> = paths.iter().map(|p| p.display().to_string()).collect();
+    emit(
+        Stream::Stderr,
+        &format!("note: no .trellis files found in {}\n", shown.join(", ")),
+    );
+}
+
 /// Every root grammar found for the command-line paths, analysed, and a
 /// message for every path or file that could not be used.
 pub struct Analysed {
@@ -315,11 +333,7 @@ pub fn analyse(paths: &[PathBuf], format: OutputFormat) -> Result<Analysed, Outc
 
 /// Runs `trellis check`.
 pub fn run(args: &CheckArgs) -> Outcome {
-    let paths = if args.paths.is_empty() {
-        vec![PathBuf::from(".")]
-    } else {
-        args.paths.clone()
-    };
+    let paths = paths_or_here(&args.paths);
     let Analysed { checked, failures } = match analyse(&paths, args.format) {
         Ok(analysed) => analysed,
         Err(outcome) => return outcome,
@@ -358,11 +372,7 @@ pub fn run(args: &CheckArgs) -> Outcome {
             out.push('\n');
             emit(Stream::Stdout, &out);
             if checked.is_empty() && failures.is_empty() {
-                let shown: Vec<String> = paths.iter().map(|p| p.display().to_string()).collect();
-                emit(
-                    Stream::Stderr,
-                    &format!("note: no .trellis files found in {}\n", shown.join(", ")),
-                );
+                note_nothing_found(&paths);
             }
         }
     }

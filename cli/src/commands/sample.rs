@@ -3,9 +3,9 @@
 use super::{emit, use_color, Outcome, Stream};
 use crate::config_file::Resolver;
 use crate::fs_loader::{self, DiskLoader};
-use crate::render::HumanRenderer;
+use crate::render;
 use grammar_lang::model::NtId;
-use grammar_lang::{Analysis, Severity};
+use grammar_lang::Analysis;
 use serde::Serialize;
 use std::io::Write;
 use std::path::{Path, PathBuf};
@@ -98,16 +98,7 @@ pub fn load_grammar(path: &Path, command: &str) -> Result<Loaded, Outcome> {
     };
     let analysis = grammar_lang::analyze(path, &text, &DiskLoader, &config);
     if analysis.has_errors() {
-        let mut renderer = HumanRenderer::new(&analysis.sources, use_color(Stream::Stderr));
-        let mut out = String::new();
-        for d in analysis
-            .diagnostics
-            .iter()
-            .filter(|d| d.severity == Severity::Error)
-        {
-            out.push_str(&renderer.render(d));
-            out.push('\n');
-        }
+        let mut out = render::errors(&analysis, use_color(Stream::Stderr));
         out.push_str(&format!(
             "error: {} has errors, so trellis {command} did not run; fix them first \
              (`trellis check` lists every finding)\n",

@@ -1,8 +1,10 @@
 //! `trellis test`: run the `test` blocks written in grammars.
 
-use super::check::{analyse, grammar_roots, identity, report_failures, Analysed};
+use super::check::{
+    analyse, grammar_roots, identity, note_nothing_found, paths_or_here, report_failures, Analysed,
+};
 use super::{emit, use_color, Outcome, OutputFormat, Stream};
-use crate::render::{self, position, HumanRenderer, JsonDiagnostic, Position};
+use crate::render::{self, position, JsonDiagnostic, Position};
 use grammar_lang::model::{Expectation, GrammarTest, TestCase};
 use grammar_lang::syntax::lexer::quote;
 use grammar_lang::{Analysis, Location, Severity};
@@ -87,11 +89,7 @@ fn selected(test: &GrammarTest, filters: &[String]) -> bool {
 
 /// Runs `trellis test`.
 pub fn run(args: &TestArgs) -> Outcome {
-    let paths = if args.paths.is_empty() {
-        vec![PathBuf::from(".")]
-    } else {
-        args.paths.clone()
-    };
+    let paths = paths_or_here(&args.paths);
     let Analysed { checked, failures } = match analyse(&paths, args.format) {
         Ok(analysed) => analysed,
         Err(outcome) => return outcome,
@@ -183,11 +181,7 @@ pub fn run(args: &TestArgs) -> Outcome {
             out.push('\n');
             emit(Stream::Stdout, &out);
             if checked.is_empty() && failures.is_empty() {
-                let shown: Vec<String> = paths.iter().map(|p| p.display().to_string()).collect();
-                emit(
-                    Stream::Stderr,
-                    &format!("note: no .trellis files found in {}\n", shown.join(", ")),
-                );
+                note_nothing_found(&paths);
             }
         }
         OutputFormat::Json => {
@@ -323,16 +317,7 @@ fn human_grammar(run: &GrammarRun, args: &TestArgs, color: bool) -> String {
     let mut out = format!("{}\n", run.path.display());
     match &run.blocked {
         Some(Blocked::Errors(errors)) => {
-            let mut renderer = HumanRenderer::new(&run.analysis.sources, color);
-            for d in run
-                .analysis
-                .diagnostics
-                .iter()
-                .filter(|d| d.severity == Severity::Error)
-            {
-                out.push_str(&renderer.render(d));
-                out.push('\n');
-            }
+            out.push_str(&render::errors(run.analysis, color));
             out.push_str(&format!(
                 "  {} {} not run: the grammar has {}; fix {} first\n\n",
                 paint("not run", "33", color),

@@ -28,3 +28,26 @@ pub fn trellis(dir: &Path, args: &[&str]) -> Run {
         stderr: String::from_utf8(out.stderr).expect("stderr is UTF-8"),
     }
 }
+
+/// A small kiosk grammar in which "a day ticket" has two trees, worked by
+/// hand: the article can belong to the ticket or to the request,
+///   (Request (Ticket "a" (Kind "day") "ticket"))  1/2 · 1/2 · 1/3 = 1/12
+///   (Request "a" (Ticket (Kind "day") "ticket"))  1/2 · 1/2 · 1/3 = 1/12
+/// — a tie — while "a a day ticket" has the one tree
+///   (Request "a" (Ticket "a" (Kind "day") "ticket"))  1/2 · 1/2 · 1/3 = 1/12.
+#[allow(dead_code)]
+pub const KIOSK: &str = r#"
+start Request
+
+Request {
+  1/2  Ticket
+  1/2  "a" Ticket
+}
+
+Ticket {
+  1/2  Kind "ticket"
+  1/2  "a" Kind "ticket"
+}
+
+Kind { "day" | "single" | "return" }
+"#;

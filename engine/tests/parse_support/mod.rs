@@ -47,6 +47,31 @@ pub fn grammar_with_errors(start: &str, rules: &[(&str, &str, &str)]) -> Grammar
     grammar_lang::analyze_text(&grammar_text(start, rules)).grammar
 }
 
+/// The PCFG of Manning & Schütze, *Foundations of Statistical Natural
+/// Language Processing* (1999), ch. 11, "astronomers saw stars with ears".
+/// Rules, probabilities and results are recalled from memory: the two
+/// parses have probabilities 0.0009072 (PP attached to the object NP) and
+/// 0.0006804 (PP attached to the VP); P(sentence) = 0.0015876.
+pub fn astronomers() -> Grammar {
+    grammar(
+        "S",
+        &[
+            ("S", "NP VP", "1.0"),
+            ("PP", "P NP", "1.0"),
+            ("VP", "V NP", "0.7"),
+            ("VP", "VP PP", "0.3"),
+            ("P", "\"with\"", "1.0"),
+            ("V", "\"saw\"", "1.0"),
+            ("NP", "NP PP", "0.4"),
+            ("NP", "\"astronomers\"", "0.1"),
+            ("NP", "\"ears\"", "0.18"),
+            ("NP", "\"saw\"", "0.04"),
+            ("NP", "\"stars\"", "0.18"),
+            ("NP", "\"telescopes\"", "0.1"),
+        ],
+    )
+}
+
 /// Relative difference, 0 when both are 0.
 pub fn rel(a: f64, b: f64) -> f64 {
     if a == b {

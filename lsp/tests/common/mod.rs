@@ -177,6 +177,26 @@ impl TestClient {
         response["result"].clone()
     }
 
+    /// A started, initialized server with `text` open at `uri` and its
+    /// first diagnostics received.
+    pub async fn ready(uri: &str, text: &str) -> TestClient {
+        let mut client = TestClient::start();
+        client.initialize().await;
+        client.open(uri, 1, text).await;
+        client.diagnostics(uri).await;
+        client
+    }
+
+    /// `workspace/executeCommand` of `command` with one argument; the whole
+    /// response.
+    pub async fn execute(&mut self, command: &str, argument: Value) -> Value {
+        self.call(
+            "workspace/executeCommand",
+            json!({"command": command, "arguments": [argument]}),
+        )
+        .await
+    }
+
     /// `initialize` + `initialized`; returns the server's capabilities.
     pub async fn initialize(&mut self) -> Value {
         let result = self
