@@ -306,6 +306,31 @@ fn solve_termination(g: &Grammar, model: &ProbModel) -> Vec<f64> {
         if !model.productive[comp[0] as usize] {
             continue;
         }
+        if let [a] = comp[..] {
+            if succ[a as usize].binary_search(&a).is_err() {
+                // Not recursive: every value it needs is known already, so
+                // its equation is its solution (the usual case, and the
+                // bulk of a large grammar).
+                x[a as usize] = g.nonterminals[a as usize]
+                    .rules
+                    .iter()
+                    .filter(|r| clean[r.index()])
+                    .map(|r| {
+                        g.rules[r.index()]
+                            .rhs
+                            .iter()
+                            .fold(model.p[r.index()], |acc, s| {
+                                acc * match *s {
+                                    Sym::T(_) => 1.0,
+                                    Sym::N(b) => x[b.index()],
+                                }
+                            })
+                    })
+                    .sum::<f64>()
+                    .min(1.0);
+                continue;
+            }
+        }
         for (i, &a) in comp.iter().enumerate() {
             local[a as usize] = i;
         }
@@ -677,6 +702,20 @@ pub fn leaky_diagnostic(g: &Grammar, report: &ConsistencyReport) -> Option<Diagn
     Some(d)
 }
 
+/// The `leaky` diagnostic of the grammar from its start symbol, if it leaks.
+/// Same as [`leaky_diagnostic`] of the full [`analyze`] report, but a tight
+/// grammar (the usual case, checked on every edit in the editor) costs only
+/// the termination probabilities.
+pub fn leak_finding(g: &Grammar) -> Option<Diagnostic> {
+    let root = g.start.filter(|r| r.index() < g.nonterminals.len())?;
+    let x = solve_termination(g, &ProbModel::new(g));
+    if (1.0 - x[root.index()]).max(0.0) <= TIGHT_TOLERANCE {
+        return None;
+    }
+    let report = analyze_from(g, root).ok()?;
+    leaky_diagnostic(g, &report)
+}
+
 /// Where a symbol is best shown: the name of its block, else its first use.
 fn symbol_location(g: &Grammar, a: NtId) -> Option<Location> {
     let nt = g.nonterminals.get(a.index())?;
@@ -700,10 +739,7 @@ pub fn add_leak_finding(
     if analysis.has_errors() {
         return false;
     }
-    let Ok(report) = analyze(&analysis.grammar) else {
-        return false;
-    };
-    let Some(mut finding) = leaky_diagnostic(&analysis.grammar, &report) else {
+    let Some(mut finding) = leak_finding(&analysis.grammar) else {
         return false;
     };
     finding.severity = severity;

@@ -5,7 +5,7 @@ mod consistency_support;
 
 use grammar_lang::model::{Grammar, Sym};
 use nalgebra::DMatrix;
-use trellis_engine::consistency::analyze;
+use trellis_engine::consistency::{analyze, leak_finding, leaky_diagnostic};
 use trellis_engine::rng::{RandomSource, Xoshiro256StarStar};
 
 /// A random grammar over `n` non-terminals N0…: each gets 1–4 rules of
@@ -214,4 +214,29 @@ fn spectral_radius_of_a_large_component_is_invariant_under_diagonal_similarity()
         report.spectral_radius
     );
     assert!(report.tight);
+}
+
+#[test]
+fn the_quick_leak_check_agrees_with_the_full_report_on_random_grammars() {
+    // `leak_finding` skips the full report for tight grammars; on leaky and
+    // tight grammars alike it must say exactly what the full report says.
+    let mut rng = Xoshiro256StarStar::seed_from_u64(17);
+    let (mut leaky, mut tight) = (0, 0);
+    for _ in 0..200 {
+        let n = 2 + rng.below(7) as usize;
+        let recursion = 0.2 + 0.6 * rng.next_f64();
+        let g = random_grammar(&mut rng, n, recursion);
+        let full = leaky_diagnostic(&g, &analyze(&g).unwrap());
+        let quick = leak_finding(&g);
+        assert_eq!(quick, full);
+        if full.is_some() {
+            leaky += 1;
+        } else {
+            tight += 1;
+        }
+    }
+    assert!(
+        leaky >= 20 && tight >= 20,
+        "coverage: {leaky} leaky, {tight} tight"
+    );
 }
