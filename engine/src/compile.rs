@@ -23,6 +23,7 @@
 
 use crate::count::Count;
 use grammar_lang::model::{Grammar, NtId, RuleId, Sym, TermId};
+use grammar_lang::scc::strongly_connected;
 use std::collections::HashMap;
 use std::fmt;
 
@@ -521,12 +522,11 @@ fn unary_closures(
         v.dedup();
         v
     };
-    let sccs = tarjan(&nodes, n_sym, |a| {
-        out_edges[a as usize]
-            .iter()
-            .map(|&e| unary[e as usize].child)
-            .collect()
-    });
+    let children: Vec<Vec<u32>> = out_edges
+        .iter()
+        .map(|edges| edges.iter().map(|&e| unary[e as usize].child).collect())
+        .collect();
+    let sccs = strongly_connected(n_sym, nodes.iter().copied(), |a| &children[a as usize]);
     let mut comp_of = vec![u32::MAX; n_sym];
     for (c, members) in sccs.iter().enumerate() {
         for &m in members {
@@ -733,65 +733,4 @@ fn invert_m_matrix(m: &[Vec<f64>]) -> Option<Vec<Vec<f64>>> {
         *v = v.max(0.0);
     }
     Some(inv)
-}
-
-/// Strongly connected components of the graph on `nodes`, in Tarjan's
-/// order (every component after all components it reaches).
-fn tarjan(nodes: &[u32], n: usize, succ: impl Fn(u32) -> Vec<u32>) -> Vec<Vec<u32>> {
-    let mut index = vec![u32::MAX; n];
-    let mut low = vec![0u32; n];
-    let mut on_stack = vec![false; n];
-    let mut stack = Vec::new();
-    let mut out = Vec::new();
-    let mut counter = 0u32;
-    for &root in nodes {
-        if index[root as usize] != u32::MAX {
-            continue;
-        }
-        // Iterative DFS: (node, successors, next successor position).
-        let mut work: Vec<(u32, Vec<u32>, usize)> = Vec::new();
-        index[root as usize] = counter;
-        low[root as usize] = counter;
-        counter += 1;
-        stack.push(root);
-        on_stack[root as usize] = true;
-        work.push((root, succ(root), 0));
-        while let Some((v, succs, pos)) = work.last_mut() {
-            let v = *v;
-            if *pos < succs.len() {
-                let w = succs[*pos];
-                *pos += 1;
-                if index[w as usize] == u32::MAX {
-                    index[w as usize] = counter;
-                    low[w as usize] = counter;
-                    counter += 1;
-                    stack.push(w);
-                    on_stack[w as usize] = true;
-                    let s = succ(w);
-                    work.push((w, s, 0));
-                } else if on_stack[w as usize] {
-                    low[v as usize] = low[v as usize].min(index[w as usize]);
-                }
-            } else {
-                work.pop();
-                if let Some((parent, _, _)) = work.last() {
-                    let p = *parent as usize;
-                    low[p] = low[p].min(low[v as usize]);
-                }
-                if low[v as usize] == index[v as usize] {
-                    let mut comp = Vec::new();
-                    while let Some(w) = stack.pop() {
-                        on_stack[w as usize] = false;
-                        comp.push(w);
-                        if w == v {
-                            break;
-                        }
-                    }
-                    comp.sort_unstable();
-                    out.push(comp);
-                }
-            }
-        }
-    }
-    out
 }

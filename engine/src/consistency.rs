@@ -34,9 +34,10 @@
 //! `ρ ≥ 1`, and everything below it, has infinite expected counts.
 
 use crate::linalg::{perron_root, solve_in_place, SparseRows};
-use crate::prob_model::{sccs, ProbModel};
+use crate::prob_model::ProbModel;
 use grammar_lang::diagnostic::{Code, Diagnostic, Location};
 use grammar_lang::model::{Grammar, NtId, Sym};
+use grammar_lang::scc::all_components;
 use std::fmt;
 
 /// A grammar whose start symbol terminates with probability within this of
@@ -166,7 +167,7 @@ pub fn analyze_from(g: &Grammar, root: NtId) -> Result<ConsistencyReport, Consis
     let reachable = model.reachable_from(root);
 
     // Components of the usage graph, sinks first, and their spectral radii.
-    let comps = sccs(&model.succ);
+    let comps = all_components(n, &model.succ);
     let mut comp_of = vec![0usize; n];
     for (c, comp) in comps.iter().enumerate() {
         for &a in comp {
@@ -302,7 +303,7 @@ fn solve_termination(g: &Grammar, model: &ProbModel) -> Vec<f64> {
         s.dedup();
     }
     let mut local = vec![usize::MAX; n];
-    for comp in sccs(&succ) {
+    for comp in all_components(n, &succ) {
         if !model.productive[comp[0] as usize] {
             continue;
         }

@@ -22,6 +22,7 @@ pub mod lower;
 pub mod model;
 pub mod print;
 pub mod ratio;
+pub mod scc;
 pub mod source;
 pub mod span;
 pub mod syntax;
