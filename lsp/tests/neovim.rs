@@ -273,4 +273,17 @@ fn neovim_shows_diagnostics_hover_definition_fixes_parses_and_runs_tests_through
     assert_eq!(run["failed"], 0, "{run}");
     assert!(run["passed"].as_u64().unwrap() >= 20, "{run}");
     assert_eq!(run["tests"].as_array().unwrap().len(), 4);
+    // The case added in the editor fails, and `:TrellisTest`'s quickfix
+    // list points at it.
+    let quickfix = &steps["quickfix"];
+    let items = quickfix["items"].as_array().unwrap();
+    assert_eq!(items.len(), 1, "{quickfix}");
+    assert_eq!(items[0]["lnum"], quickfix["failing_line"]);
+    assert_eq!(items[0]["col"], 3);
+    let text = items[0]["text"].as_str().unwrap();
+    assert!(
+        text.starts_with("test \"added in the editor\": reject \"two return tickets to tolsey\""),
+        "{text}"
+    );
+    assert!(text.contains("expected no parse"), "{text}");
 }

@@ -52,6 +52,84 @@ local function parse_command(command, ctx)
   end
 end
 
+-- The trellis client attached to buffer `bufnr`, if any.
+local function client_of(bufnr)
+  for _, client in pairs(vim.lsp.buf_get_clients(bufnr)) do
+    if client.name == "trellis" then
+      return client
+    end
+  end
+  return nil
+end
+
+-- The 1-based byte column of an LSP position (UTF-16 units) in `fname`.
+local function byte_column(fname, position)
+  local bufnr = vim.fn.bufnr(fname)
+  if bufnr ~= -1 and vim.api.nvim_buf_is_loaded(bufnr) then
+    local line = vim.api.nvim_buf_get_lines(bufnr, position.line, position.line + 1, false)[1]
+    if line then
+      local ok, byte = pcall(vim.str_byteindex, line, position.character, true)
+      if ok then
+        return byte + 1
+      end
+    end
+  end
+  return position.character + 1
+end
+
+--- Runs the grammar's test blocks through the server (only the block named
+--- `name` when given) and puts every failing case in the quickfix list.
+--- `done(result, err)` is called with the server's answer.
+function M.run_tests(bufnr, name, done)
+  if bufnr == nil or bufnr == 0 then
+    bufnr = vim.api.nvim_get_current_buf()
+  end
+  local client = client_of(bufnr)
+  if not client then
+    vim.notify("trellis: no language server attached to this buffer", vim.log.levels.ERROR)
+    return
+  end
+  local args = { uri = vim.uri_from_bufnr(bufnr), test = name }
+  client.request("workspace/executeCommand", { command = "trellis.runTest", arguments = { args } }, function(err, result)
+    if err then
+      vim.notify("trellis: " .. err.message, vim.log.levels.ERROR)
+      if done then
+        done(nil, err)
+      end
+      return
+    end
+    local items = {}
+    for _, test in ipairs(result.tests or {}) do
+      for _, case in ipairs(test.cases or {}) do
+        if not case.passed and case.location then
+          local fname = vim.uri_to_fname(case.location.uri)
+          local start = case.location.range.start
+          table.insert(items, {
+            filename = fname,
+            lnum = start.line + 1,
+            col = byte_column(fname, start),
+            text = string.format('test "%s": %s "%s" — %s', test.name, case.expect, case.sentence,
+              (case.failure or {})[1] or "failed"),
+          })
+        end
+      end
+    end
+    vim.fn.setqflist({}, " ", { title = "trellis tests", items = items })
+    local level = result.failed > 0 and vim.log.levels.WARN or vim.log.levels.INFO
+    vim.notify(string.format("trellis: %d cases held, %d failed%s", result.passed, result.failed,
+      result.failed > 0 and " (see the quickfix list)" or ""), level)
+    if done then
+      done(result, nil)
+    end
+  end, bufnr)
+end
+
+-- A test lens runs the tests here, so failures land in the quickfix list.
+local function test_command(command, ctx)
+  local args = (command.arguments or {})[1] or {}
+  M.run_tests(ctx.bufnr, args.test)
+end
+
 --- Starts (or reuses) the server for buffer `bufnr` and attaches it.
 function M.attach(bufnr, opts)
   local path = vim.api.nvim_buf_get_name(bufnr)
@@ -63,7 +141,7 @@ function M.attach(bufnr, opts)
       cmd = opts.cmd,
       root_dir = root,
       workspace_folders = { { uri = vim.uri_from_fname(root), name = root } },
-      commands = { ["trellis.parse"] = parse_command },
+      commands = { ["trellis.parse"] = parse_command, ["trellis.runTest"] = test_command },
       handlers = opts.handlers,
       on_attach = opts.on_attach,
     })
@@ -90,6 +168,10 @@ function M.setup(opts)
     pattern = "*.trellis",
     command = "setfiletype trellis",
   })
+  -- :TrellisTest [name] runs the grammar's tests (or one test block).
+  vim.api.nvim_create_user_command("TrellisTest", function(command)
+    M.run_tests(0, command.args ~= "" and command.args or nil)
+  end, { nargs = "?", desc = "Run the trellis test blocks; failures go to the quickfix list" })
   vim.api.nvim_create_autocmd("FileType", {
     group = group,
     pattern = "trellis",

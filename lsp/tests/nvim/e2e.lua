@@ -154,6 +154,31 @@ local function run()
     command = "trellis.runTest",
     arguments = { { uri = good_uri } },
   }))
+
+  -- 7. Add a failing case and run the tests through the plugin's command:
+  -- the failure lands in the quickfix list at the case's line.
+  local last = vim.api.nvim_buf_line_count(good)
+  vim.api.nvim_buf_set_lines(good, last, last, false, {
+    'test "added in the editor" {',
+    '  reject "two return tickets to tolsey"',
+    "}",
+  })
+  wait_for("diagnostics of the edited grammar", function()
+    local d = latest(good_uri)
+    return d and d.version == vim.lsp.util.buf_versions[good]
+  end)
+  local finished = false
+  trellis.run_tests(good, nil, function()
+    finished = true
+  end)
+  wait_for("the test run", function()
+    return finished
+  end)
+  local qf = {}
+  for _, item in ipairs(vim.fn.getqflist()) do
+    table.insert(qf, { lnum = item.lnum, col = item.col, text = item.text })
+  end
+  step("quickfix", { items = qf, failing_line = last + 2 })
 end
 
 local ok, err = pcall(run)
