@@ -433,7 +433,9 @@ impl Lowerer<'_> {
             doc: block.doc.as_ref().map(|d| d.text()),
             mass: Ratio::zero(),
         });
-        let mut rules = Vec::with_capacity(block.alternatives.len());
+        // The rules go straight into the grammar (in order, as ids are
+        // given); their probabilities are filled in once the block is read.
+        let first = self.grammar.rules.len();
         let mut broken = Vec::with_capacity(block.alternatives.len());
         for alt in &block.alternatives {
             if alt.items.is_empty() {
@@ -469,7 +471,7 @@ impl Lowerer<'_> {
                 }
             }
             let (rhs, rhs_locations) = self.rhs(file, alt);
-            rules.push(Rule {
+            self.grammar.push_rule(Rule {
                 lhs: nt,
                 rhs,
                 rhs_locations,
@@ -481,7 +483,7 @@ impl Lowerer<'_> {
             });
             broken.push(is_broken);
         }
-        let shares: Vec<Share<'_>> = rules
+        let shares: Vec<Share<'_>> = self.grammar.rules[first..]
             .iter()
             .zip(&broken)
             .map(|(rule, &broken)| match &rule.weight {
@@ -492,10 +494,9 @@ impl Lowerer<'_> {
             .collect();
         let probabilities = resolve_block(relative, &shares);
         let mass = exact_sum(&probabilities);
-        for (mut rule, probability) in rules.into_iter().zip(probabilities) {
+        for (rule, probability) in self.grammar.rules[first..].iter_mut().zip(probabilities) {
             rule.p = model::to_f64(&probability);
             rule.probability = probability;
-            self.grammar.push_rule(rule);
         }
         if let Some(info) = &mut self.grammar.nonterminals[nt.index()].block {
             info.mass = mass;

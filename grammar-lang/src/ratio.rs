@@ -56,6 +56,11 @@ impl Ratio {
     /// `n / d` for `d ≠ 0`, reduced.
     fn from_i128(n: i128, d: i128) -> Ratio {
         debug_assert!(d != 0);
+        if let (Ok(n), Ok(d)) = (i64::try_from(n), i64::try_from(d)) {
+            if n != i64::MIN && d != i64::MIN {
+                return Ratio::from_i64(n, d);
+            }
+        }
         let g = gcd(n.unsigned_abs(), d.unsigned_abs());
         // g divides both, so the quotients of the magnitudes fit in u128
         // and, being at most the magnitudes, the signed quotients fit i128
@@ -72,6 +77,19 @@ impl Ratio {
                 BigInt::from(d),
             )))),
         }
+    }
+
+    /// `n / d` for `d ≠ 0` and neither `i64::MIN`, reduced, in 64-bit
+    /// arithmetic.
+    fn from_i64(n: i64, d: i64) -> Ratio {
+        let (n, d) = if d < 0 { (-n, -d) } else { (n, d) };
+        if d == 1 {
+            return Ratio(Repr::Small(n, 1));
+        }
+        let g = gcd64(n.unsigned_abs(), d.unsigned_abs());
+        // 1 ≤ g ≤ d ≤ i64::MAX.
+        let g = g as i64;
+        Ratio(Repr::Small(n / g, d / g))
     }
 
     /// The numerator and denominator as machine integers, when they fit.
@@ -199,6 +217,9 @@ fn gcd(a: u128, b: u128) -> u128 {
 }
 
 fn gcd64(a: u64, b: u64) -> u64 {
+    if a == 0 || b == 0 {
+        return (a | b).max(1);
+    }
     let shift = (a | b).trailing_zeros();
     let (mut a, mut b) = (a >> a.trailing_zeros(), b);
     loop {
@@ -599,6 +620,9 @@ mod tests {
         for &a in &values {
             for &b in &values {
                 assert_eq!(gcd(a, b), euclid(a, b), "gcd({a}, {b})");
+                if let (Ok(a64), Ok(b64)) = (u64::try_from(a), u64::try_from(b)) {
+                    assert_eq!(u128::from(gcd64(a64, b64)), euclid(a, b));
+                }
             }
         }
     }
