@@ -354,6 +354,29 @@ fn the_same_right_hand_side_twice_in_a_block_is_a_duplicate_rule() {
 }
 
 #[test]
+fn duplicates_in_long_blocks_point_at_the_first_writing() {
+    // Thirty alternatives, where the 11th and 26th repeat the 4th and the
+    // 30th repeats the 26th (so also the 4th): each repeat points at the
+    // first writing, in small and in large blocks alike.
+    let mut body = String::new();
+    for i in 1..=30 {
+        let word = match i {
+            11 | 26 | 30 => 4,
+            other => other,
+        };
+        body.push_str(&format!("  \"w{word}\"\n"));
+    }
+    let a = analyze_text(&format!("start S\nS relative {{\n{body}}}\n"));
+    let found = with_code(&a, Code::DuplicateRule);
+    let lines: Vec<(u32, u32)> = found
+        .iter()
+        .map(|d| (pos(&a, d).0, related_pos(&a, d, 0).0))
+        .collect();
+    // Alternative i is on line i + 2.
+    assert_eq!(lines, [(13, 6), (28, 6), (32, 6)]);
+}
+
+#[test]
 fn the_same_right_hand_side_in_two_blocks_is_fine() {
     assert_clean(&analyze_text(
         "start S\nS { A | B }\nA { \"x\" }\nB { \"x\" }\n",

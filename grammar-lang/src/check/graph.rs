@@ -16,24 +16,68 @@ use num_traits::One;
 use std::collections::VecDeque;
 
 pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
-    unreachable(grammar, out);
-    unproductive(grammar, out);
-    unary_cycles(grammar, out);
+    let flat = FlatRules::new(grammar);
+    unreachable(grammar, &flat, out);
+    unproductive(grammar, &flat, out);
+    unary_cycles(grammar, &flat, out);
+}
+
+/// What the graph analyses need of each rule, read from the rules once and
+/// kept in flat arrays: the non-terminals on its right-hand side (rule
+/// `r`'s are `nts[offsets[r]..offsets[r + 1]]`, once per occurrence) and,
+/// for a unary rule `A → B`, its target `B`.
+struct FlatRules {
+    offsets: Vec<u32>,
+    nts: Vec<u32>,
+    /// `NONE` for rules that are not unary.
+    unary_target: Vec<u32>,
+}
+
+impl FlatRules {
+    fn new(grammar: &Grammar) -> FlatRules {
+        let mut offsets = Vec::with_capacity(grammar.rules.len() + 1);
+        let mut nts = Vec::with_capacity(grammar.rules.len() * 2);
+        let mut unary_target = Vec::with_capacity(grammar.rules.len());
+        offsets.push(0);
+        for rule in &grammar.rules {
+            for &sym in &rule.rhs {
+                if let Sym::N(nt) = sym {
+                    nts.push(nt.0);
+                }
+            }
+            offsets.push(nts.len() as u32);
+            unary_target.push(match rule.rhs.as_slice() {
+                [Sym::N(target)] => target.0,
+                _ => NONE,
+            });
+        }
+        FlatRules {
+            offsets,
+            nts,
+            unary_target,
+        }
+    }
+
+    fn nts_of(&self, rule: usize) -> &[u32] {
+        &self.nts[self.offsets[rule] as usize..self.offsets[rule + 1] as usize]
+    }
 }
 
 /// The non-terminals reachable from `start` (including it).
 pub fn reachable_from(grammar: &Grammar, start: NtId) -> Vec<bool> {
+    reachable_in(grammar, &FlatRules::new(grammar), start)
+}
+
+fn reachable_in(grammar: &Grammar, flat: &FlatRules, start: NtId) -> Vec<bool> {
     let mut seen = vec![false; grammar.nonterminals.len()];
     seen[start.index()] = true;
-    let mut queue = VecDeque::from([start]);
+    let mut queue = VecDeque::from([start.0]);
     while let Some(nt) = queue.pop_front() {
-        for (_, rule) in grammar.rules_of(nt) {
-            for &sym in &rule.rhs {
-                if let Sym::N(next) = sym {
-                    if !seen[next.index()] {
-                        seen[next.index()] = true;
-                        queue.push_back(next);
-                    }
+        for rule in &grammar.nonterminals[nt as usize].rules {
+            for &next in flat.nts_of(rule.index()) {
+                if !seen[next as usize] {
+                    seen[next as usize] = true;
+                    queue.push_back(next);
                 }
             }
         }
@@ -41,13 +85,13 @@ pub fn reachable_from(grammar: &Grammar, start: NtId) -> Vec<bool> {
     seen
 }
 
-fn unreachable(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
+fn unreachable(grammar: &Grammar, flat: &FlatRules, out: &mut Vec<Diagnostic>) {
     let Some(start) = grammar.start else { return };
     if !grammar.nonterminal(start).is_defined() {
         return;
     }
     let start_name = grammar.nt_name(start);
-    let seen = reachable_from(grammar, start);
+    let seen = reachable_in(grammar, flat, start);
     for nt in grammar.nt_ids() {
         let Some(block) = &grammar.nonterminal(nt).block else {
             continue;
@@ -74,29 +118,33 @@ fn unreachable(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
 
 /// Which non-terminals derive at least one string of terminals.
 pub fn productive(grammar: &Grammar) -> Vec<bool> {
-    productive_with(grammar, |_| true)
+    productive_in(grammar, &FlatRules::new(grammar), |_| true)
 }
 
 /// Which non-terminals derive at least one string of terminals using only
 /// the rules that `keep` accepts (the engine keeps rules of positive
 /// probability).
 pub fn productive_with(grammar: &Grammar, keep: impl Fn(RuleId) -> bool) -> Vec<bool> {
+    productive_in(grammar, &FlatRules::new(grammar), keep)
+}
+
+fn productive_in(grammar: &Grammar, flat: &FlatRules, keep: impl Fn(RuleId) -> bool) -> Vec<bool> {
     let n = grammar.nonterminals.len();
+    let rules = grammar.rules.len();
     // For each rule: how many right-hand-side non-terminals are not yet
     // known to be productive. For each non-terminal: the rules it occurs in
     // (once per occurrence), as a compressed adjacency list.
     let kept: Vec<bool> = grammar.rule_ids().map(&keep).collect();
-    let mut pending = vec![0u32; grammar.rules.len()];
+    let mut pending = vec![0u32; rules];
     let mut offsets = vec![0usize; n + 1];
-    for (i, rule) in grammar.rules.iter().enumerate() {
-        if !kept[i] {
+    for r in 0..rules {
+        if !kept[r] {
             continue;
         }
-        for &sym in &rule.rhs {
-            if let Sym::N(nt) = sym {
-                pending[i] += 1;
-                offsets[nt.index() + 1] += 1;
-            }
+        let nts = flat.nts_of(r);
+        pending[r] = nts.len() as u32;
+        for &nt in nts {
+            offsets[nt as usize + 1] += 1;
         }
     }
     for i in 0..n {
@@ -104,21 +152,16 @@ pub fn productive_with(grammar: &Grammar, keep: impl Fn(RuleId) -> bool) -> Vec<
     }
     let mut fill = offsets.clone();
     let mut occurrences = vec![0u32; offsets[n]];
-    for (i, rule) in grammar.rules.iter().enumerate() {
-        if !kept[i] {
-            continue;
-        }
-        for &sym in &rule.rhs {
-            if let Sym::N(nt) = sym {
-                occurrences[fill[nt.index()]] = i as u32;
-                fill[nt.index()] += 1;
-            }
+    for (r, _) in kept.iter().enumerate().filter(|(_, &kept)| kept) {
+        for &nt in flat.nts_of(r) {
+            occurrences[fill[nt as usize]] = r as u32;
+            fill[nt as usize] += 1;
         }
     }
     let mut productive = vec![false; n];
     let mut queue = Vec::new();
-    for (i, rule) in grammar.rules.iter().enumerate() {
-        if kept[i] && pending[i] == 0 && !productive[rule.lhs.index()] {
+    for (r, rule) in grammar.rules.iter().enumerate() {
+        if kept[r] && pending[r] == 0 && !productive[rule.lhs.index()] {
             productive[rule.lhs.index()] = true;
             queue.push(rule.lhs);
         }
@@ -140,8 +183,8 @@ pub fn productive_with(grammar: &Grammar, keep: impl Fn(RuleId) -> bool) -> Vec<
 /// How many failing rules the message spells out (all are related locations).
 const LISTED_RULES: usize = 4;
 
-fn unproductive(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
-    let productive = productive(grammar);
+fn unproductive(grammar: &Grammar, flat: &FlatRules, out: &mut Vec<Diagnostic>) {
+    let productive = productive_in(grammar, flat, |_| true);
     for nt in grammar.nt_ids() {
         let Some(block) = &grammar.nonterminal(nt).block else {
             continue;
@@ -216,19 +259,18 @@ impl Graph {
 }
 
 /// The graph of unary rules `A → B`, restricted to the edges `keep` accepts.
-fn unary_graph(grammar: &Grammar, keep: impl Fn(RuleId) -> bool) -> Graph {
+fn unary_graph(grammar: &Grammar, flat: &FlatRules, keep: impl Fn(RuleId) -> bool) -> Graph {
     let n = grammar.nonterminals.len();
     let mut offsets = vec![0usize; n + 1];
     let mut edges = Vec::new();
-    for nt in grammar.nt_ids() {
-        for (id, rule) in grammar.rules_of(nt) {
-            if let [Sym::N(target)] = rule.rhs.as_slice() {
-                if keep(id) {
-                    edges.push((target.0, id));
-                }
+    for (nt, symbol) in grammar.nonterminals.iter().enumerate() {
+        for &id in &symbol.rules {
+            let target = flat.unary_target[id.index()];
+            if target != NONE && keep(id) {
+                edges.push((target, id));
             }
         }
-        offsets[nt.index() + 1] = edges.len();
+        offsets[nt + 1] = edges.len();
     }
     Graph { offsets, edges }
 }
@@ -377,8 +419,8 @@ fn first_in_source(grammar: &Grammar, members: &[u32]) -> u32 {
         .unwrap_or(0)
 }
 
-fn unary_cycles(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
-    let all = unary_graph(grammar, |_| true);
+fn unary_cycles(grammar: &Grammar, flat: &FlatRules, out: &mut Vec<Diagnostic>) {
+    let all = unary_graph(grammar, flat, |_| true);
     let all_components = components(&all);
     let cyclic = cyclic_components(&all, &all_components);
     if cyclic.is_empty() {
@@ -386,7 +428,7 @@ fn unary_cycles(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
     }
     // Cycles whose every rule has probability exactly 1: a derivation that
     // enters one never leaves. They lie inside the components above.
-    let certain = unary_graph(grammar, |id| grammar.rule(id).probability.is_one());
+    let certain = unary_graph(grammar, flat, |id| grammar.rule(id).probability.is_one());
     let certain_components = components(&certain);
     let mut certain_in: Vec<Option<u32>> = vec![None; grammar.nonterminals.len()];
     for members in cyclic_components(&certain, &certain_components) {

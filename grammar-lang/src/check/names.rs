@@ -145,16 +145,34 @@ fn start(grammar: &Grammar, sources: &SourceMap, suggester: &mut Lazy, out: &mut
     }
 }
 
+/// Blocks up to this many rules are searched for duplicates pair by pair,
+/// which is cheaper than hashing every right-hand side.
+const PAIRWISE_LIMIT: usize = 16;
+
 fn duplicate_rules(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
     let mut seen: HashMap<&[Sym], RuleId, FastHash> = HashMap::default();
     for nt in grammar.nt_ids() {
+        let ids = &grammar.nonterminal(nt).rules;
+        let small = ids.len() <= PAIRWISE_LIMIT;
         seen.clear();
-        for (id, rule) in grammar.rules_of(nt) {
-            match seen.get(rule.rhs.as_slice()) {
-                None => {
+        for (i, &id) in ids.iter().enumerate() {
+            let rule = grammar.rule(id);
+            // The first earlier rule with the same right-hand side.
+            let earlier = if small {
+                ids[..i]
+                    .iter()
+                    .copied()
+                    .find(|&other| grammar.rule(other).rhs == rule.rhs)
+            } else {
+                let earlier = seen.get(rule.rhs.as_slice()).copied();
+                if earlier.is_none() {
                     seen.insert(&rule.rhs, id);
                 }
-                Some(&first) => out.push(
+                earlier
+            };
+            match earlier {
+                None => {}
+                Some(first) => out.push(
                     Diagnostic::new(
                         Code::DuplicateRule,
                         rule.location,

@@ -20,14 +20,17 @@ use crate::model::{fraction, Grammar, Ratio};
 use num_traits::{One, Signed, Zero};
 
 pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
+    // One pair of lists for all blocks.
+    let mut weights = Vec::new();
+    let mut unweighted = Vec::new();
     for nt in grammar.nt_ids() {
         let Some(block) = &grammar.nonterminal(nt).block else {
             continue;
         };
         let name = grammar.nt_name(nt);
         let mut has_negative = false;
-        let mut weights = Vec::new();
-        let mut unweighted = Vec::new();
+        weights.clear();
+        unweighted.clear();
         for (id, rule) in grammar.rules_of(nt) {
             let Some(weight) = &rule.weight else {
                 unweighted.push(rule);
@@ -73,7 +76,7 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
             continue;
         }
         if let Some((first, rest)) = unweighted.split_first() {
-            let weighted = exact_sum(weights);
+            let weighted = exact_sum(weights.iter().copied());
             if weighted >= Ratio::one() {
                 let how_much = if weighted.is_one() {
                     "sum to 1, the whole probability of the block".to_string()
