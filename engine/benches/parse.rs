@@ -42,7 +42,6 @@ fn push(g: &mut Grammar, lhs: NtId, rhs: Vec<Sym>, weight: u64, sum: u64) {
     let probability = grammar_lang::model::Ratio::new(BigInt::from(weight), BigInt::from(sum));
     g.push_rule(Rule {
         lhs,
-        rhs_locations: vec![loc; rhs.len()],
         rhs,
         weight: None,
         p: weight as f64 / sum as f64,

@@ -9,7 +9,7 @@
 //! # let w = g.intern_term("hello");
 //! # let loc = Location::new(FileId(0), Span::new(0, 0));
 //! # g.start = Some(s);
-//! # g.push_rule(Rule { lhs: s, rhs: vec![Sym::T(w)], rhs_locations: vec![loc], weight: None,
+//! # g.push_rule(Rule { lhs: s, rhs: vec![Sym::T(w)], weight: None,
 //! #     probability: Ratio::from_integer(1.into()), p: 1.0, location: loc, doc: None });
 //! use trellis_engine::parser::{ParseOptions, Parser};
 //! let parser = Parser::new(&g).unwrap();

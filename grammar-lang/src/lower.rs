@@ -26,6 +26,7 @@ use crate::span::Span;
 use crate::syntax::ast::{self, Decl, Item, SyntaxFile, TreeChild, TreeSyntax};
 use crate::tree::Tree;
 use num_traits::{One, Signed, Zero};
+use smol_str::SmolStr;
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
@@ -177,7 +178,7 @@ struct Lowerer<'p> {
     /// The first `grammar NAME` declaration.
     grammar_name: Option<Location>,
     /// Weights already read, by spelling.
-    weights: HashMap<String, (Ratio, model::Notation), model::FastHash>,
+    weights: HashMap<SmolStr, (Ratio, model::Notation), model::FastHash>,
 }
 
 /// A file whose `use` declarations are being followed.
@@ -379,32 +380,33 @@ impl Lowerer<'_> {
     }
 
     /// The right-hand side of an alternative, recording every reference.
-    fn rhs(&mut self, file: FileId, alt: &ast::Alternative) -> (Vec<Sym>, Vec<Location>) {
+    fn rhs(&mut self, file: FileId, alt: &ast::Alternative) -> Vec<Sym> {
         let mut rhs = Vec::with_capacity(alt.items.len());
-        let mut locations = Vec::with_capacity(alt.items.len());
         for item in &alt.items {
-            let at = Location::new(file, item.span());
             let sym = match item {
                 Item::NonTerminal(name) => {
                     let text = name.span.text(&self.sources.get(file).text);
                     let nt = self.grammar.intern_nt(text);
-                    self.grammar.nonterminals[nt.index()].references.push(at);
+                    self.grammar.nonterminals[nt.index()]
+                        .references
+                        .push(Location::new(file, name.span));
                     Sym::N(nt)
                 }
                 Item::Terminal(s) => Sym::T(self.grammar.intern_term(&s.value)),
             };
             rhs.push(sym);
-            locations.push(at);
         }
-        (rhs, locations)
+        rhs
     }
 
     fn block(&mut self, file: FileId, block: &ast::Block) {
         let name_at = Location::new(file, block.name.span);
-        let name = self.text(file, block.name.span).to_string();
-        let nt = self.grammar.intern_nt(&name);
+        let nt = self
+            .grammar
+            .intern_nt(block.name.span.text(&self.sources.get(file).text));
         if let Some(first) = &self.grammar.nonterminals[nt.index()].block {
             let first = first.name;
+            let name = self.grammar.nt_name(nt);
             self.diagnostics.push(
                 Diagnostic::new(
                     Code::DuplicateBlock,
@@ -470,11 +472,10 @@ impl Lowerer<'_> {
                     }
                 }
             }
-            let (rhs, rhs_locations) = self.rhs(file, alt);
+            let rhs = self.rhs(file, alt);
             self.grammar.push_rule(Rule {
                 lhs: nt,
                 rhs,
-                rhs_locations,
                 weight,
                 probability: Ratio::zero(),
                 p: 0.0,
@@ -509,15 +510,15 @@ impl Lowerer<'_> {
         &mut self,
         file: FileId,
         span: Span,
-    ) -> Result<(String, Ratio, model::Notation), String> {
+    ) -> Result<(SmolStr, Ratio, model::Notation), String> {
         let text = span.text(&self.sources.get(file).text);
         if let Some((value, notation)) = self.weights.get(text) {
-            return Ok((text.to_string(), value.clone(), *notation));
+            return Ok((SmolStr::new(text), value.clone(), *notation));
         }
         let (value, notation) = crate::weight::parse_weight(text)?;
         self.weights
-            .insert(text.to_string(), (value.clone(), notation));
-        Ok((text.to_string(), value, notation))
+            .insert(SmolStr::new(text), (value.clone(), notation));
+        Ok((SmolStr::new(text), value, notation))
     }
 
     fn test(&mut self, file: FileId, test: &ast::TestBlock) {

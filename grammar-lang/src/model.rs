@@ -61,7 +61,8 @@ pub enum Notation {
 /// A weight as the user wrote it.
 #[derive(Clone, Debug, PartialEq, Eq)]
 pub struct Weight {
-    pub text: String,
+    /// The spelling (stored inline: weights are short).
+    pub text: SmolStr,
     pub value: Ratio,
     pub notation: Notation,
     pub location: Location,
@@ -71,8 +72,6 @@ pub struct Weight {
 pub struct Rule {
     pub lhs: NtId,
     pub rhs: Vec<Sym>,
-    /// Where each right-hand-side item is written.
-    pub rhs_locations: Vec<Location>,
     /// The weight as written; `None` for an alternative that shares the remainder.
     pub weight: Option<Weight>,
     /// The resolved exact probability of the rule given its left-hand side.

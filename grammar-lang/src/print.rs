@@ -126,7 +126,7 @@ fn weight_texts(rules: &[&Rule], relative: bool) -> Vec<Option<String>> {
         let text_still_true =
             matches!(parse_weight(&weight.text), Ok((value, _)) if value == weight.value);
         Some(if text_still_true {
-            weight.text.clone()
+            weight.text.to_string()
         } else {
             fraction(&weight.value)
         })
@@ -209,7 +209,7 @@ mod tests {
     fn weight(text: &str) -> Weight {
         let (value, notation) = parse_weight(text).expect("test weights are well formed");
         Weight {
-            text: text.to_string(),
+            text: text.into(),
             value,
             notation,
             location: here(),
@@ -227,7 +227,6 @@ mod tests {
             .collect();
         g.push_rule(Rule {
             lhs,
-            rhs_locations: vec![here(); rhs.len()],
             rhs,
             weight: w,
             p: crate::model::to_f64(&p),

@@ -719,7 +719,6 @@ fn a_unary_cycle_through_fifty_thousand_symbols_is_found_without_deep_recursion(
             g.push_rule(Rule {
                 lhs: ids[i],
                 rhs: vec![rhs],
-                rhs_locations: vec![here],
                 weight: None,
                 probability: half.clone(),
                 p: 0.5,

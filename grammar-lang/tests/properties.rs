@@ -414,7 +414,7 @@ fn written(value: &Ratio, style: Style) -> Weight {
             .unwrap_or_else(fraction),
     };
     Weight {
-        text,
+        text: text.into(),
         value: value.clone(),
         notation,
         location: nowhere(),
@@ -476,7 +476,6 @@ fn build(spec: &ModelSpec) -> Grammar {
             };
             g.push_rule(Rule {
                 lhs: ids[b],
-                rhs_locations: vec![nowhere(); rhs.len()],
                 rhs,
                 weight,
                 p: grammar_lang::model::to_f64(&probability),
