@@ -4,13 +4,13 @@
 //! a breadth-first search, productivity the classic worklist computation of
 //! the least fixed point (each rule keeps a count of right-hand-side
 //! non-terminals not yet known to be productive), and unary cycles come from
-//! the strongly connected components of the unary-rule graph (Tarjan's
-//! algorithm, written with an explicit stack so that long chains of
-//! symbols cannot overflow the call stack).
+//! the strongly connected components of the unary-rule graph
+//! ([`crate::scc`]).
 
 use super::number_text;
 use crate::diagnostic::{Code, Diagnostic, Severity};
 use crate::model::{Grammar, NtId, Ratio, RuleId, Sym};
+use crate::scc::strongly_connected;
 use num_bigint::BigInt;
 use num_traits::One;
 use std::collections::VecDeque;
@@ -245,16 +245,31 @@ fn unproductive(grammar: &Grammar, flat: &FlatRules, out: &mut Vec<Diagnostic>) 
     }
 }
 
-/// A directed graph in compressed form: the edges leaving node `v` are
-/// `edges[offsets[v]..offsets[v + 1]]`, each a (target, rule) pair.
+/// A directed graph in compressed form: the edges leaving node `v` go to
+/// `targets[offsets[v]..offsets[v + 1]]` by the rules at the same positions
+/// of `rules`.
 struct Graph {
     offsets: Vec<usize>,
-    edges: Vec<(u32, RuleId)>,
+    targets: Vec<u32>,
+    rules: Vec<RuleId>,
 }
 
 impl Graph {
     fn out(&self, v: usize) -> std::ops::Range<usize> {
         self.offsets[v]..self.offsets[v + 1]
+    }
+
+    fn successors(&self, v: u32) -> &[u32] {
+        &self.targets[self.out(v as usize)]
+    }
+
+    /// The edges leaving `v` as (target, rule) pairs.
+    fn edges(&self, v: u32) -> impl Iterator<Item = (u32, RuleId)> + '_ {
+        let range = self.out(v as usize);
+        self.targets[range.clone()]
+            .iter()
+            .copied()
+            .zip(self.rules[range].iter().copied())
     }
 }
 
@@ -262,74 +277,38 @@ impl Graph {
 fn unary_graph(grammar: &Grammar, flat: &FlatRules, keep: impl Fn(RuleId) -> bool) -> Graph {
     let n = grammar.nonterminals.len();
     let mut offsets = vec![0usize; n + 1];
-    let mut edges = Vec::new();
+    let (mut targets, mut rules) = (Vec::new(), Vec::new());
     for (nt, symbol) in grammar.nonterminals.iter().enumerate() {
         for &id in &symbol.rules {
             let target = flat.unary_target[id.index()];
             if target != NONE && keep(id) {
-                edges.push((target, id));
+                targets.push(target);
+                rules.push(id);
             }
         }
-        offsets[nt + 1] = edges.len();
+        offsets[nt + 1] = targets.len();
     }
-    Graph { offsets, edges }
+    Graph {
+        offsets,
+        targets,
+        rules,
+    }
 }
 
 const NONE: u32 = u32::MAX;
 
-/// Strongly connected components (Tarjan's algorithm, iterative). Returns
-/// the component number of each node.
+/// The component number of each node that lies on an edge (see
+/// [`strongly_connected`]; `NONE` for the others, which are on no cycle).
 fn components(graph: &Graph) -> Vec<u32> {
     let n = graph.offsets.len() - 1;
-    let mut index = vec![NONE; n];
-    let mut low = vec![0u32; n];
-    let mut on_stack = vec![false; n];
+    let roots = (0..n as u32).filter(|&v| !graph.out(v as usize).is_empty());
     let mut component = vec![NONE; n];
-    let mut stack: Vec<u32> = Vec::new();
-    let mut calls: Vec<(u32, usize)> = Vec::new();
-    let mut counter = 0u32;
-    let mut components = 0u32;
-    for root in 0..n {
-        if index[root] != NONE {
-            continue;
-        }
-        index[root] = counter;
-        low[root] = counter;
-        counter += 1;
-        stack.push(root as u32);
-        on_stack[root] = true;
-        calls.push((root as u32, graph.offsets[root]));
-        while let Some(&mut (v, ref mut next)) = calls.last_mut() {
-            let v = v as usize;
-            if *next < graph.offsets[v + 1] {
-                let w = graph.edges[*next].0 as usize;
-                *next += 1;
-                if index[w] == NONE {
-                    index[w] = counter;
-                    low[w] = counter;
-                    counter += 1;
-                    stack.push(w as u32);
-                    on_stack[w] = true;
-                    calls.push((w as u32, graph.offsets[w]));
-                } else if on_stack[w] {
-                    low[v] = low[v].min(index[w]);
-                }
-                continue;
-            }
-            calls.pop();
-            if let Some(&(u, _)) = calls.last() {
-                low[u as usize] = low[u as usize].min(low[v]);
-            }
-            if low[v] == index[v] {
-                while let Some(w) = stack.pop() {
-                    on_stack[w as usize] = false;
-                    component[w as usize] = components;
-                    if w as usize == v {
-                        break;
-                    }
-                }
-                components += 1;
-            }
+    for (c, members) in strongly_connected(n, roots, |v| graph.successors(v))
+        .iter()
+        .enumerate()
+    {
+        for &v in members {
+            component[v as usize] = c as u32;
         }
     }
     component
@@ -338,18 +317,23 @@ fn components(graph: &Graph) -> Vec<u32> {
 /// The members of each component that contains a cycle (more than one
 /// node, or one node with an edge to itself), in order of first member.
 fn cyclic_components(graph: &Graph, component: &[u32]) -> Vec<Vec<u32>> {
-    let count = component.iter().map(|&c| c as usize + 1).max().unwrap_or(0);
+    let count = component
+        .iter()
+        .filter(|&&c| c != NONE)
+        .map(|&c| c as usize + 1)
+        .max()
+        .unwrap_or(0);
     let mut members: Vec<Vec<u32>> = vec![Vec::new(); count];
     for (v, &c) in component.iter().enumerate() {
-        members[c as usize].push(v as u32);
+        if c != NONE {
+            members[c as usize].push(v as u32);
+        }
     }
     members
         .into_iter()
         .filter(|m| match m.as_slice() {
             [] => false,
-            [v] => graph.edges[graph.out(*v as usize)]
-                .iter()
-                .any(|&(w, _)| w == *v),
+            [v] => graph.successors(*v).contains(v),
             _ => true,
         })
         .collect()
@@ -369,7 +353,7 @@ fn cycle_through(
     let mut queue = VecDeque::from([from]);
     let mut found = None;
     'search: while let Some(u) = queue.pop_front() {
-        for &(w, rule) in &graph.edges[graph.out(u as usize)] {
+        for (w, rule) in graph.edges(u) {
             if component[w as usize] != c {
                 continue;
             }
