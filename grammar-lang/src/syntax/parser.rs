@@ -118,9 +118,14 @@ pub fn parse(text: &str) -> SyntaxFile {
     let tokens = lex(text);
     let mut kinds = Vec::with_capacity(tokens.len() / 2);
     let mut spans = Vec::with_capacity(tokens.len() / 2);
-    for t in tokens.iter().filter(|t| !t.kind.is_trivia()) {
-        kinds.push(t.kind);
-        spans.push(t.span);
+    let mut doc_comments = Vec::new();
+    for (i, t) in tokens.iter().enumerate() {
+        if !t.kind.is_trivia() {
+            kinds.push(t.kind);
+            spans.push(t.span);
+        } else if t.kind == TokenKind::DocComment {
+            doc_comments.push(i);
+        }
     }
     let input = TokenSlice {
         kinds: &kinds,
@@ -138,7 +143,7 @@ pub fn parse(text: &str) -> SyntaxFile {
     };
     let mut decls = decls.unwrap_or_default();
     let mut errors: Vec<SyntaxError> = errs.into_iter().map(|e| convert_error(e, text)).collect();
-    attach_docs(&mut decls, &tokens, text);
+    attach_docs(&mut decls, &tokens, &doc_comments, text);
     errors.sort_by_key(|e| (e.span.start, e.span.end));
     errors.dedup();
     SyntaxFile {
@@ -567,49 +572,59 @@ fn check_body(body: Body, src: &str, report: &mut dyn FnMut(Span, &str)) -> Vec<
 }
 
 /// Attaches `##` lines directly above each block, test and alternative.
-fn attach_docs(decls: &mut [Decl], tokens: &[Token], src: &str) {
-    // Declarations and alternatives come in source order, so the token at
-    // each one's offset is found by moving one cursor forward.
-    let mut cursor = Cursor { tokens, next: 0 };
-    for decl in decls {
+/// Only the places right below a doc comment (`doc_comments` holds their
+/// token indices) can have one, so only those are looked up.
+fn attach_docs(decls: &mut [Decl], tokens: &[Token], doc_comments: &[usize], src: &str) {
+    for &doc in doc_comments {
+        // The token that starts the line below: (whitespace) newline
+        // (whitespace) token.
+        let mut j = doc + 1;
+        while tokens
+            .get(j)
+            .is_some_and(|t| t.kind == TokenKind::Whitespace)
+        {
+            j += 1;
+        }
+        if tokens.get(j).is_none_or(|t| t.kind != TokenKind::Newline) {
+            continue;
+        }
+        j += 1;
+        while tokens
+            .get(j)
+            .is_some_and(|t| t.kind == TokenKind::Whitespace)
+        {
+            j += 1;
+        }
+        let Some(target) = tokens.get(j) else {
+            continue;
+        };
+        let offset = target.span.start;
+        // Declarations and the alternatives of a block are in source order.
+        let at = decls.partition_point(|d| d.span().start <= offset);
+        let Some(decl) = at.checked_sub(1).and_then(|i| decls.get_mut(i)) else {
+            continue;
+        };
         match decl {
+            Decl::Block(block) if block.span.start == offset => {
+                block.doc = doc_before(tokens, src, offset, j);
+            }
             Decl::Block(block) => {
-                block.doc =
-                    doc_before(tokens, src, block.span.start, cursor.seek(block.span.start));
-                for alt in &mut block.alternatives {
-                    alt.doc = doc_before(tokens, src, alt.span.start, cursor.seek(alt.span.start));
+                let k = block
+                    .alternatives
+                    .partition_point(|a| a.span.start < offset);
+                if let Some(alt) = block
+                    .alternatives
+                    .get_mut(k)
+                    .filter(|a| a.span.start == offset)
+                {
+                    alt.doc = doc_before(tokens, src, offset, j);
                 }
             }
-            Decl::Test(test) => {
-                test.doc = doc_before(tokens, src, test.span.start, cursor.seek(test.span.start))
+            Decl::Test(test) if test.span.start == offset => {
+                test.doc = doc_before(tokens, src, offset, j);
             }
             _ => {}
         }
-    }
-}
-
-/// The index of the first token at or after an offset, for offsets asked
-/// in (mostly) increasing order.
-struct Cursor<'t> {
-    tokens: &'t [Token],
-    /// The answer for the last offset asked.
-    next: usize,
-}
-
-impl Cursor<'_> {
-    fn seek(&mut self, offset: u32) -> usize {
-        let behind = self.next > 0 && self.tokens[self.next - 1].span.start >= offset;
-        if behind {
-            self.next = self.tokens.partition_point(|t| t.span.start < offset);
-        }
-        while self
-            .tokens
-            .get(self.next)
-            .is_some_and(|t| t.span.start < offset)
-        {
-            self.next += 1;
-        }
-        self.next
     }
 }
 
