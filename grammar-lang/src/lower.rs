@@ -59,6 +59,7 @@ fn lower_using(
         diagnostics: Vec::new(),
         grammar_name: None,
         weights: HashMap::default(),
+        broken: Vec::new(),
     };
     lowerer.load(root, text, loader);
     let alternatives: usize = lowerer
@@ -107,6 +108,14 @@ pub enum Share<'a> {
 /// counts as 0 so that the other numbers stay probabilities, and a
 /// [`Share::Broken`] weight counts as 0 as well.
 pub fn resolve_block(relative: bool, shares: &[Share<'_>]) -> Vec<Ratio> {
+    resolve_shares(relative, shares.iter().copied())
+}
+
+/// [`resolve_block`] over any list of shares that can be read more than once.
+fn resolve_shares<'a>(
+    relative: bool,
+    shares: impl Iterator<Item = Share<'a>> + Clone,
+) -> Vec<Ratio> {
     let zero = Ratio::zero();
     let one = Ratio::one();
     // The weight each alternative counts with (`None`: a share of the rest).
@@ -126,16 +135,15 @@ pub fn resolve_block(relative: bool, shares: &[Share<'_>]) -> Vec<Ratio> {
     }
     let sum = exact_sum(
         shares
-            .iter()
-            .filter_map(|s| counted(*s, relative, &zero, &one)),
+            .clone()
+            .filter_map(|s| counted(s, relative, &zero, &one)),
     );
     if relative {
         if sum.is_zero() {
-            return vec![Ratio::zero(); shares.len()];
+            return shares.map(|_| Ratio::zero()).collect();
         }
         return shares
-            .iter()
-            .map(|s| match counted(*s, relative, &zero, &one) {
+            .map(|s| match counted(s, relative, &zero, &one) {
                 Some(w) if sum.is_one() => w.clone(),
                 Some(w) => exact_div(w, &sum),
                 None => Ratio::zero(),
@@ -143,18 +151,17 @@ pub fn resolve_block(relative: bool, shares: &[Share<'_>]) -> Vec<Ratio> {
             .collect();
     }
     let unweighted = shares
-        .iter()
+        .clone()
         .filter(|s| matches!(s, Share::Unweighted))
         .count();
     let remainder = Ratio::one() - sum;
     let each = if unweighted > 0 && remainder.is_positive() {
-        exact_div(&remainder, &Ratio::from_integer(unweighted.into()))
+        exact_div(&remainder, &Ratio::from(unweighted as i64))
     } else {
         Ratio::zero()
     };
     shares
-        .iter()
-        .map(|s| counted(*s, relative, &zero, &one).unwrap_or(&each).clone())
+        .map(|s| counted(s, relative, &zero, &one).unwrap_or(&each).clone())
         .collect()
 }
 
@@ -177,6 +184,9 @@ struct Lowerer<'p> {
     diagnostics: Vec<Diagnostic>,
     /// The first `grammar NAME` declaration.
     grammar_name: Option<Location>,
+    /// Per alternative of the block being lowered: whether its weight is
+    /// unreadable (kept between blocks to save allocations).
+    broken: Vec<bool>,
     /// Weights already read, by spelling.
     weights: HashMap<SmolStr, (Ratio, model::Notation), model::FastHash>,
 }
@@ -438,7 +448,11 @@ impl Lowerer<'_> {
         // The rules go straight into the grammar (in order, as ids are
         // given); their probabilities are filled in once the block is read.
         let first = self.grammar.rules.len();
-        let mut broken = Vec::with_capacity(block.alternatives.len());
+        self.grammar.nonterminals[nt.index()]
+            .rules
+            .reserve_exact(block.alternatives.len());
+        let mut broken = std::mem::take(&mut self.broken);
+        broken.clear();
         for alt in &block.alternatives {
             if alt.items.is_empty() {
                 // The parser reported the empty alternative (`empty-rule`).
@@ -484,16 +498,16 @@ impl Lowerer<'_> {
             });
             broken.push(is_broken);
         }
-        let shares: Vec<Share<'_>> = self.grammar.rules[first..]
+        let shares = self.grammar.rules[first..]
             .iter()
             .zip(&broken)
             .map(|(rule, &broken)| match &rule.weight {
                 Some(w) => Share::Weighted(&w.value),
                 None if broken => Share::Broken,
                 None => Share::Unweighted,
-            })
-            .collect();
-        let probabilities = resolve_block(relative, &shares);
+            });
+        let probabilities = resolve_shares(relative, shares);
+        self.broken = broken;
         let mass = exact_sum(&probabilities);
         for (rule, probability) in self.grammar.rules[first..].iter_mut().zip(probabilities) {
             rule.p = model::to_f64(&probability);

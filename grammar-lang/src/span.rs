@@ -80,12 +80,31 @@ pub struct LineIndex {
 
 impl LineIndex {
     pub fn new(text: &str) -> Self {
-        let mut line_starts = vec![0];
-        for (i, b) in text.bytes().enumerate() {
-            if b == b'\n' {
-                line_starts.push(i as u32 + 1);
+        let bytes = text.as_bytes();
+        let mut line_starts = Vec::with_capacity(bytes.len() / 32 + 1);
+        line_starts.push(0);
+        let mut push_newlines = |chunk: &[u8], base: usize| {
+            for (k, &b) in chunk.iter().enumerate() {
+                if b == b'\n' {
+                    line_starts.push((base + k) as u32 + 1);
+                }
             }
+        };
+        // Eight bytes at a time: a word holds a newline exactly when the
+        // word XOR "\n\n\n\n\n\n\n\n" has a zero byte (the classic has-zero-byte
+        // test, which may also fire on a word without one; its bytes are then
+        // merely looked at in vain).
+        let mut chunks = bytes.chunks_exact(8);
+        let mut base = 0;
+        for chunk in &mut chunks {
+            let word = u64::from_le_bytes(chunk.try_into().unwrap_or_default());
+            let x = word ^ 0x0a0a_0a0a_0a0a_0a0a;
+            if x.wrapping_sub(0x0101_0101_0101_0101) & !x & 0x8080_8080_8080_8080 != 0 {
+                push_newlines(chunk, base);
+            }
+            base += 8;
         }
+        push_newlines(chunks.remainder(), base);
         LineIndex {
             line_starts,
             len: text.len() as u32,
@@ -190,6 +209,21 @@ mod tests {
         // U+1D11E is two UTF-16 units.
         assert_eq!(idx.utf16(text, x), LineCol { line: 1, col: 10 });
         assert_eq!(idx.offset_utf16(text, LineCol { line: 1, col: 10 }), x);
+    }
+
+    #[test]
+    fn every_newline_starts_a_line() {
+        // Newlines at every position of an 8-byte word, runs of them, and
+        // bytes that differ from a newline in one bit (0x0b, 0x8a in 'Ċ').
+        let text = "a\nbc\n\n\x0b\x0b\x0b\x0bĊĊ\nxyzxyzxyz\n1234567\n12345678\n\n\nend";
+        let expected: Vec<usize> = std::iter::once(0)
+            .chain(text.match_indices('\n').map(|(i, _)| i + 1))
+            .collect();
+        let idx = LineIndex::new(text);
+        assert_eq!(idx.line_count(), expected.len());
+        for (line, &start) in expected.iter().enumerate() {
+            assert_eq!(idx.line_start(line as u32), start);
+        }
     }
 
     #[test]
