@@ -526,8 +526,8 @@ impl Lowerer<'_> {
         span: Span,
     ) -> Result<(SmolStr, Ratio, model::Notation), String> {
         let text = span.text(&self.sources.get(file).text);
-        if let Some((value, notation)) = self.weights.get(text) {
-            return Ok((SmolStr::new(text), value.clone(), *notation));
+        if let Some((spelling, (value, notation))) = self.weights.get_key_value(text) {
+            return Ok((spelling.clone(), value.clone(), *notation));
         }
         let (value, notation) = crate::weight::parse_weight(text)?;
         self.weights

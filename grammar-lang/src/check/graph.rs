@@ -27,6 +27,8 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
 /// `r`'s are `nts[offsets[r]..offsets[r + 1]]`, once per occurrence) and,
 /// for a unary rule `A → B`, its target `B`.
 struct FlatRules {
+    /// The left-hand side of each rule.
+    lhs: Vec<u32>,
     offsets: Vec<u32>,
     nts: Vec<u32>,
     /// `NONE` for rules that are not unary.
@@ -38,8 +40,10 @@ impl FlatRules {
         let mut offsets = Vec::with_capacity(grammar.rules.len() + 1);
         let mut nts = Vec::with_capacity(grammar.rules.len() * 2);
         let mut unary_target = Vec::with_capacity(grammar.rules.len());
+        let mut lhs = Vec::with_capacity(grammar.rules.len());
         offsets.push(0);
         for rule in &grammar.rules {
+            lhs.push(rule.lhs.0);
             for &sym in &rule.rhs {
                 if let Sym::N(nt) = sym {
                     nts.push(nt.0);
@@ -52,6 +56,7 @@ impl FlatRules {
             });
         }
         FlatRules {
+            lhs,
             offsets,
             nts,
             unary_target,
@@ -160,20 +165,21 @@ fn productive_in(grammar: &Grammar, flat: &FlatRules, keep: impl Fn(RuleId) -> b
     }
     let mut productive = vec![false; n];
     let mut queue = Vec::new();
-    for (r, rule) in grammar.rules.iter().enumerate() {
-        if kept[r] && pending[r] == 0 && !productive[rule.lhs.index()] {
-            productive[rule.lhs.index()] = true;
-            queue.push(rule.lhs);
+    for (r, &lhs) in flat.lhs.iter().enumerate() {
+        if kept[r] && pending[r] == 0 && !productive[lhs as usize] {
+            productive[lhs as usize] = true;
+            queue.push(lhs);
         }
     }
     while let Some(nt) = queue.pop() {
-        for &r in &occurrences[offsets[nt.index()]..offsets[nt.index() + 1]] {
+        let nt = nt as usize;
+        for &r in &occurrences[offsets[nt]..offsets[nt + 1]] {
             let r = r as usize;
             pending[r] -= 1;
-            let lhs = grammar.rules[r].lhs;
-            if pending[r] == 0 && !productive[lhs.index()] {
-                productive[lhs.index()] = true;
-                queue.push(lhs);
+            let lhs = flat.lhs[r] as usize;
+            if pending[r] == 0 && !productive[lhs] {
+                productive[lhs] = true;
+                queue.push(lhs as u32);
             }
         }
     }

@@ -151,18 +151,23 @@ const PAIRWISE_LIMIT: usize = 16;
 
 fn duplicate_rules(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
     let mut seen: HashMap<&[Sym], RuleId, FastHash> = HashMap::default();
+    // The right-hand sides of a small block, read once.
+    let mut sides: Vec<&[Sym]> = Vec::with_capacity(PAIRWISE_LIMIT);
     for nt in grammar.nt_ids() {
         let ids = &grammar.nonterminal(nt).rules;
         let small = ids.len() <= PAIRWISE_LIMIT;
         seen.clear();
-        for (i, &id) in ids.iter().enumerate() {
+        sides.clear();
+        for &id in ids {
             let rule = grammar.rule(id);
             // The first earlier rule with the same right-hand side.
             let earlier = if small {
-                ids[..i]
+                let earlier = sides
                     .iter()
-                    .copied()
-                    .find(|&other| grammar.rule(other).rhs == rule.rhs)
+                    .position(|&side| side == rule.rhs.as_slice())
+                    .map(|k| ids[k]);
+                sides.push(&rule.rhs);
+                earlier
             } else {
                 let earlier = seen.get(rule.rhs.as_slice()).copied();
                 if earlier.is_none() {

@@ -199,6 +199,8 @@ pub fn unquote_small(token_text: &str) -> SmolStr {
     let inner = inner_text(token_text);
     if inner.contains('\\') {
         SmolStr::from(unescape(inner))
+    } else if inner.len() <= SmolStr::INLINE_CAP {
+        SmolStr::new_inline(inner)
     } else {
         SmolStr::new(inner)
     }
