@@ -17,23 +17,7 @@ use std::fmt::Write as _;
 use std::time::{Duration, Instant};
 use tokio::io::{AsyncBufReadExt, AsyncReadExt, AsyncWriteExt, BufReader, DuplexStream};
 use tokio::runtime::Runtime;
-
-/// A deterministic generator (64-bit LCG, Knuth's MMIX constants).
-struct Lcg(u64);
-
-impl Lcg {
-    fn next(&mut self) -> u64 {
-        self.0 = self
-            .0
-            .wrapping_mul(6364136223846793005)
-            .wrapping_add(1442695040888963407);
-        self.0 >> 33
-    }
-
-    fn range(&mut self, lo: usize, hi: usize) -> usize {
-        lo + (self.next() as usize) % (hi - lo + 1)
-    }
-}
+use trellis_engine::rng::{RandomSource, SplitMix64};
 
 /// A clean grammar of `rules` rules: blocks of four alternatives in a
 /// binary-heap layout (every block reachable, productive, acyclic), weights
@@ -41,7 +25,8 @@ impl Lcg {
 /// few non-ASCII words.
 fn generate(rules: usize) -> String {
     let blocks = rules / 4;
-    let mut rng = Lcg(0x5eed_f377);
+    // The engine's own seeded generator, so every run benchmarks the same text.
+    let mut rng = SplitMix64::new(0x5eed_f377);
     let mut out = String::with_capacity(rules * 32);
     out.push_str("grammar generated\nstart S0\n");
     for b in 0..blocks {
@@ -49,15 +34,15 @@ fn generate(rules: usize) -> String {
             let _ = writeln!(out, "\n## Block {b}.");
         }
         let _ = writeln!(out, "S{b} {{");
-        let word = |rng: &mut Lcg| {
-            let w = rng.range(0, 4000);
+        let word = |rng: &mut SplitMix64| {
+            let w = rng.below(4001);
             if w.is_multiple_of(50) {
                 format!("\"fähre{w}\"")
             } else {
                 format!("\"w{w}\"")
             }
         };
-        let child = |c: usize, rng: &mut Lcg| {
+        let child = |c: usize, rng: &mut SplitMix64| {
             if c < blocks {
                 format!("S{c}")
             } else {
