@@ -154,6 +154,10 @@ impl Ratio {
         }
     }
 
+    fn sub_ref(&self, other: &Ratio) -> Ratio {
+        self.add_ref(&other.neg_ref())
+    }
+
     fn mul_ref(&self, other: &Ratio) -> Ratio {
         match (&self.0, &other.0) {
             (Repr::Small(an, ad), Repr::Small(bn, bd)) => {
@@ -320,71 +324,28 @@ binary_op!(Add, add, add_ref);
 binary_op!(Mul, mul, mul_ref);
 binary_op!(Div, div, div_ref);
 
-impl Sub<&Ratio> for &Ratio {
-    type Output = Ratio;
-    fn sub(self, other: &Ratio) -> Ratio {
-        self.add_ref(&other.neg_ref())
-    }
-}
-impl Sub<Ratio> for &Ratio {
-    type Output = Ratio;
-    fn sub(self, other: Ratio) -> Ratio {
-        self - &other
-    }
-}
-impl Sub<&Ratio> for Ratio {
-    type Output = Ratio;
-    fn sub(self, other: &Ratio) -> Ratio {
-        &self - other
-    }
-}
-impl Sub<Ratio> for Ratio {
-    type Output = Ratio;
-    fn sub(self, other: Ratio) -> Ratio {
-        &self - &other
-    }
+binary_op!(Sub, sub, sub_ref);
+
+/// `a op= b` for borrowed and owned right-hand sides.
+macro_rules! assign_op {
+    ($trait:ident, $method:ident, $by_ref:ident) => {
+        impl $trait<&Ratio> for Ratio {
+            fn $method(&mut self, other: &Ratio) {
+                *self = self.$by_ref(other);
+            }
+        }
+        impl $trait<Ratio> for Ratio {
+            fn $method(&mut self, other: Ratio) {
+                *self = self.$by_ref(&other);
+            }
+        }
+    };
 }
 
-impl AddAssign<&Ratio> for Ratio {
-    fn add_assign(&mut self, other: &Ratio) {
-        *self = self.add_ref(other);
-    }
-}
-impl AddAssign<Ratio> for Ratio {
-    fn add_assign(&mut self, other: Ratio) {
-        *self = self.add_ref(&other);
-    }
-}
-impl MulAssign<&Ratio> for Ratio {
-    fn mul_assign(&mut self, other: &Ratio) {
-        *self = self.mul_ref(other);
-    }
-}
-impl MulAssign<Ratio> for Ratio {
-    fn mul_assign(&mut self, other: Ratio) {
-        *self = self.mul_ref(&other);
-    }
-}
-impl DivAssign<&Ratio> for Ratio {
-    fn div_assign(&mut self, other: &Ratio) {
-        *self = self.div_ref(other);
-    }
-}
-impl DivAssign<Ratio> for Ratio {
-    fn div_assign(&mut self, other: Ratio) {
-        *self = self.div_ref(&other);
-    }
-}
-impl SubAssign<&Ratio> for Ratio {
-    fn sub_assign(&mut self, other: &Ratio) {
-        *self = &*self - other;
-    }
-}
-impl SubAssign<Ratio> for Ratio {
-    fn sub_assign(&mut self, other: Ratio) {
-        *self = &*self - &other;
-    }
-}
+assign_op!(AddAssign, add_assign, add_ref);
+assign_op!(SubAssign, sub_assign, sub_ref);
+assign_op!(MulAssign, mul_assign, mul_ref);
+assign_op!(DivAssign, div_assign, div_ref);
 
 impl Neg for Ratio {
     type Output = Ratio;
