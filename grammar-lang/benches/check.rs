@@ -20,6 +20,11 @@ use std::hint::black_box;
 use std::path::Path;
 use std::time::Duration;
 
+/// The allocator of the `trellis` binary, so the figures are the ones a
+/// user gets (see `cli/src/main.rs`).
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 /// A small deterministic generator (64-bit LCG, Knuth's MMIX constants),
 /// so every run benchmarks the same text.
 struct Lcg(u64);

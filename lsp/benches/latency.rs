@@ -19,6 +19,11 @@ use tokio::io::{AsyncBufReadExt, AsyncReadExt, AsyncWriteExt, BufReader, DuplexS
 use tokio::runtime::Runtime;
 use trellis_engine::rng::{RandomSource, SplitMix64};
 
+/// The allocator of the `trellis` binary, which runs the server (see
+/// `cli/src/main.rs`).
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 /// A clean grammar of `rules` rules: blocks of four alternatives in a
 /// binary-heap layout (every block reachable, productive, acyclic), weights
 /// in the three notations summing to exactly 1, some doc comments, and a
