@@ -10,7 +10,7 @@
 
 use num_bigint::BigInt;
 use num_rational::BigRational;
-use num_traits::{Num, One, Signed, ToPrimitive, Zero};
+use num_traits::{Num, One, PrimInt, Signed, ToPrimitive, Zero};
 use std::cmp::Ordering;
 use std::fmt;
 use std::iter::Sum;
@@ -198,41 +198,35 @@ fn wide(an: i64, ad: i64, bn: i64, bd: i64) -> (i128, i128, i128, i128) {
 }
 
 /// Greatest common divisor by the binary method (no division), 1 for
-/// `gcd(0, 0)` so that it can always divide.
+/// `gcd(0, 0)` so that it can always divide. Values that fit 64 bits take
+/// the cheaper 64-bit path.
 fn gcd(a: u128, b: u128) -> u128 {
-    if a == 0 || b == 0 {
-        return (a | b).max(1);
-    }
-    if let (Ok(a), Ok(b)) = (u64::try_from(a), u64::try_from(b)) {
-        return u128::from(gcd64(a, b));
-    }
-    let shift = (a | b).trailing_zeros();
-    let (mut a, mut b) = (a >> a.trailing_zeros(), b);
-    loop {
-        b >>= b.trailing_zeros();
-        if a > b {
-            std::mem::swap(&mut a, &mut b);
-        }
-        b -= a;
-        if b == 0 {
-            return a << shift;
-        }
+    match (u64::try_from(a), u64::try_from(b)) {
+        (Ok(a), Ok(b)) => u128::from(gcd64(a, b)),
+        _ => binary_gcd(a, b),
     }
 }
 
 fn gcd64(a: u64, b: u64) -> u64 {
-    if a == 0 || b == 0 {
-        return (a | b).max(1);
+    binary_gcd(a, b)
+}
+
+/// Stein's binary gcd (Knuth, TAOCP vol. 2, 4.5.2, Algorithm B): strip
+/// common factors of two, then subtract the smaller odd value from the
+/// larger until they meet.
+fn binary_gcd<T: PrimInt>(a: T, b: T) -> T {
+    if a.is_zero() || b.is_zero() {
+        return (a | b).max(T::one());
     }
-    let shift = (a | b).trailing_zeros();
-    let (mut a, mut b) = (a >> a.trailing_zeros(), b);
+    let shift = (a | b).trailing_zeros() as usize;
+    let (mut a, mut b) = (a >> a.trailing_zeros() as usize, b);
     loop {
-        b >>= b.trailing_zeros();
+        b = b >> b.trailing_zeros() as usize;
         if a > b {
             std::mem::swap(&mut a, &mut b);
         }
-        b -= a;
-        if b == 0 {
+        b = b - a;
+        if b.is_zero() {
             return a << shift;
         }
     }

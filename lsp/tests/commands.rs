@@ -2,19 +2,10 @@
 
 mod common;
 
-use common::TestClient;
+use common::{TestClient, HARBOUR};
 use serde_json::{json, Value};
 
 const URI: &str = "file:///grammars/harbour.trellis";
-
-const HARBOUR: &str = "start S
-S {
-  0.6  NP VP
-  0.4  VP
-}
-NP { 1/2 \"ferries\" | 1/2 \"boats\" }
-VP { 0.75 \"sail\" | 0.25 \"sink\" }
-";
 
 async fn ready(text: &str) -> TestClient {
     TestClient::ready(URI, text).await

@@ -2,22 +2,14 @@
 
 mod common;
 
-use common::TestClient;
+use common::{TestClient, HARBOUR};
 use serde_json::{json, Value};
 
 const URI: &str = "file:///grammars/harbour.trellis";
 
-/// Tree probabilities worked by hand: "ferries sail" has the one tree
-/// 0.6 · 1/2 · 0.75 = 0.225.
-const HARBOUR: &str = "start S
-S {
-  0.6  NP VP
-  0.4  VP
-}
-NP { 1/2 \"ferries\" | 1/2 \"boats\" }
-VP { 0.75 \"sail\" | 0.25 \"sink\" }
-
-test \"good\" {
+/// Two test blocks for the harbour grammar, from line 8 (0-based) on;
+/// "ferries sail" has the one tree 0.6 · 1/2 · 0.75 = 0.225 (worked by hand).
+const TESTS: &str = "test \"good\" {
   accept \"ferries sail\" as (S (NP \"ferries\") (VP \"sail\"))
   reject \"sail ferries\"
 }
@@ -29,6 +21,10 @@ test \"bad\" {
 }
 ";
 
+fn harbour_with_tests() -> String {
+    format!("{HARBOUR}\n{TESTS}")
+}
+
 async fn ready(text: &str) -> TestClient {
     TestClient::ready(URI, text).await
 }
@@ -39,7 +35,7 @@ async fn run_test(client: &mut TestClient, argument: Value) -> Value {
 
 #[tokio::test]
 async fn run_test_runs_every_test_and_reports_each_case() {
-    let mut client = ready(HARBOUR).await;
+    let mut client = ready(&harbour_with_tests()).await;
     let result = run_test(&mut client, json!({"uri": URI})).await["result"].clone();
     assert_eq!(result["passed"], 3, "{result}");
     assert_eq!(result["failed"], 2, "{result}");
@@ -78,7 +74,7 @@ async fn run_test_runs_every_test_and_reports_each_case() {
 
 #[tokio::test]
 async fn run_test_runs_one_named_test_and_refuses_an_unknown_name() {
-    let mut client = ready(HARBOUR).await;
+    let mut client = ready(&harbour_with_tests()).await;
     let result = run_test(&mut client, json!({"uri": URI, "test": "good"})).await["result"].clone();
     assert_eq!(result["tests"].as_array().unwrap().len(), 1);
     assert_eq!(result["passed"], 2);
@@ -108,7 +104,7 @@ async fn run_test_refuses_a_grammar_with_errors() {
 
 #[tokio::test]
 async fn code_lenses_run_all_tests_above_start_and_one_test_above_each_block() {
-    let mut client = ready(HARBOUR).await;
+    let mut client = ready(&harbour_with_tests()).await;
     let lenses = client
         .request(
             "textDocument/codeLens",

@@ -10,6 +10,17 @@ use tokio::io::{AsyncBufReadExt, AsyncReadExt, AsyncWriteExt, BufReader, DuplexS
 use tokio::sync::mpsc;
 use trellis_lsp::{serve, Options};
 
+/// A small harbour grammar: every sentence has one tree, e.g. "ferries
+/// sail" with 0.6 · 1/2 · 0.75 = 0.225 (worked by hand).
+pub const HARBOUR: &str = "start S
+S {
+  0.6  NP VP
+  0.4  VP
+}
+NP { 1/2 \"ferries\" | 1/2 \"boats\" }
+VP { 0.75 \"sail\" | 0.25 \"sink\" }
+";
+
 /// How long a test waits for a message before failing (a guard against
 /// hanging, not a measurement).
 pub const PATIENCE: Duration = Duration::from_secs(180);
