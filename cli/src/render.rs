@@ -394,7 +394,8 @@ impl Counts {
     }
 }
 
-fn plural(n: usize, one: &str, many: &str) -> String {
+/// `n` with the singular or plural noun: `1 error`, `2 errors`.
+pub fn plural(n: usize, one: &str, many: &str) -> String {
     format!("{n} {}", if n == 1 { one } else { many })
 }
 

@@ -55,6 +55,25 @@ impl CaseOutcome {
             CaseOutcome::Passed { .. } => None,
         }
     }
+
+    /// The most probable tree the parser found, whether the case held or
+    /// not (`None` when the sentence does not parse).
+    pub fn best(&self) -> Option<&ParsedTree> {
+        match self {
+            CaseOutcome::Passed { best, .. } => best.as_ref(),
+            CaseOutcome::Failed(failure) => failure.found(),
+        }
+    }
+
+    /// Whether the case held only by a tie with another tree.
+    pub fn tied(&self) -> bool {
+        matches!(self, CaseOutcome::Passed { tied: true, .. })
+    }
+
+    /// Why the case failed as readable lines (none when it held).
+    pub fn reasons(&self) -> Vec<String> {
+        self.failure().map(Failure::render).unwrap_or_default()
+    }
 }
 
 /// Why a case does not hold.

@@ -133,6 +133,16 @@ pub enum Expectation {
     Reject,
 }
 
+impl Expectation {
+    /// The keyword that writes it: `accept` or `reject`.
+    pub fn keyword(self) -> &'static str {
+        match self {
+            Expectation::Accept => "accept",
+            Expectation::Reject => "reject",
+        }
+    }
+}
+
 #[derive(Clone, Debug, PartialEq)]
 pub struct TestCase {
     pub expect: Expectation,
@@ -146,6 +156,19 @@ impl TestCase {
     /// The sentence split on whitespace into words.
     pub fn words(&self) -> Vec<&str> {
         self.sentence.split_whitespace().collect()
+    }
+}
+
+/// The case as written in a test block: `accept "…"`, `reject "…"` or
+/// `accept "…" as (…)`.
+impl fmt::Display for TestCase {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let sentence = crate::syntax::lexer::quote(&self.sentence);
+        write!(f, "{} {sentence}", self.expect.keyword())?;
+        if let Some(tree) = &self.tree {
+            write!(f, " as {}", tree.to_brackets())?;
+        }
+        Ok(())
     }
 }
 

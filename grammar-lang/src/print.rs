@@ -12,7 +12,7 @@
 //! the remaining mass is still their probability; otherwise the exact
 //! probability is written as a fraction, so nothing is ever rounded.
 
-use crate::model::{fraction, Expectation, Grammar, NtId, Ratio, Rule, Sym};
+use crate::model::{fraction, Grammar, NtId, Ratio, Rule, Sym};
 use crate::syntax::lexer::quote;
 use crate::weight::parse_weight;
 use num_traits::{One, Zero};
@@ -40,15 +40,7 @@ pub fn print_grammar(grammar: &Grammar) -> String {
         print_doc(test.doc.as_deref(), "", &mut out);
         let _ = writeln!(out, "test {} {{", quote(&test.name));
         for case in &test.cases {
-            let keyword = match case.expect {
-                Expectation::Accept => "accept",
-                Expectation::Reject => "reject",
-            };
-            let _ = write!(out, "  {keyword} {}", quote(&case.sentence));
-            if let Some(tree) = &case.tree {
-                let _ = write!(out, " as {}", tree.to_brackets());
-            }
-            out.push('\n');
+            let _ = writeln!(out, "  {case}");
         }
         out.push_str("}\n");
     }

@@ -20,7 +20,6 @@
 
 use crate::guard::CancelFlag;
 use crate::server::{request_failed, Backend, Options, DEBUG_PANIC};
-use grammar_lang::model::Expectation;
 use grammar_lang::syntax::lexer::quote;
 use serde::Deserialize;
 use serde_json::{json, Value};
@@ -29,7 +28,7 @@ use tower_lsp::lsp_types::{ExecuteCommandParams, MessageType, Url};
 use trellis_engine::parser::{ParseOptions, Parser, DEFAULT_MAX_CHART_BYTES};
 use trellis_engine::rng::Xoshiro256StarStar;
 use trellis_engine::sample::{Sampler, DEFAULT_LIMIT};
-use trellis_engine::testing::{run_case, CaseOutcome};
+use trellis_engine::testing::run_case;
 
 pub const PARSE: &str = "trellis.parse";
 pub const SAMPLE: &str = "trellis.sample";
@@ -338,22 +337,16 @@ async fn run_test(backend: &Backend, args: RunTestArgs) -> jsonrpc::Result<Optio
                     } else {
                         failed += 1;
                     }
-                    let (best, tied, failure) = match &outcome {
-                        CaseOutcome::Passed { best, tied } => (best.as_ref(), *tied, Vec::new()),
-                        CaseOutcome::Failed(f) => (f.found(), false, f.render()),
-                    };
+                    let best = outcome.best();
                     cases.push(json!({
-                        "expect": match case.expect {
-                            Expectation::Accept => "accept",
-                            Expectation::Reject => "reject",
-                        },
+                        "expect": case.expect.keyword(),
                         "sentence": case.sentence,
                         "location": target.location(case.location.file, case.location.span),
                         "passed": outcome.passed(),
-                        "tied": tied,
+                        "tied": outcome.tied(),
                         "tree": best.map(|b| b.tree.to_brackets()),
                         "probability": best.map(|b| b.probability),
-                        "failure": failure,
+                        "failure": outcome.reasons(),
                     }));
                 }
                 let all = cases.iter().all(|c| c["passed"] == true);

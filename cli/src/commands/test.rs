@@ -4,8 +4,8 @@ use super::check::{
     analyse, grammar_roots, identity, note_nothing_found, paths_or_here, report_failures, Analysed,
 };
 use super::{emit, use_color, Outcome, OutputFormat, Stream};
-use crate::render::{self, position, JsonDiagnostic, Position};
-use grammar_lang::model::{Expectation, GrammarTest, TestCase};
+use crate::render::{self, plural, position, JsonDiagnostic, Position};
+use grammar_lang::model::{GrammarTest, TestCase};
 use grammar_lang::syntax::lexer::quote;
 use grammar_lang::{Analysis, Location, Severity};
 use rayon::prelude::*;
@@ -114,30 +114,26 @@ pub fn run(args: &TestArgs) -> Outcome {
             analysis,
             path: checked[i].root.path.clone(),
             blocked: None,
-            tests: Vec::new(),
+            tests: tests.into_iter().map(|t| (t, Vec::new())).collect(),
         };
         let errors = analysis.count(Severity::Error);
         if errors > 0 {
             run.blocked = Some(Blocked::Errors(errors));
-            run.tests = tests.into_iter().map(|t| (t, Vec::new())).collect();
         } else {
             match Parser::new(grammar) {
-                Err(e) => {
-                    run.blocked = Some(Blocked::Engine(e.to_string()));
-                    run.tests = tests.into_iter().map(|t| (t, Vec::new())).collect();
-                }
+                Err(e) => run.blocked = Some(Blocked::Engine(e.to_string())),
                 Ok(parser) => {
                     // Every case of every selected test, spread over the cores.
-                    let cases: Vec<(usize, &TestCase)> = tests
+                    let cases: Vec<(usize, &TestCase)> = run
+                        .tests
                         .iter()
                         .enumerate()
-                        .flat_map(|(t, test)| test.cases.iter().map(move |c| (t, c)))
+                        .flat_map(|(t, (test, _))| test.cases.iter().map(move |c| (t, c)))
                         .collect();
                     let outcomes: Vec<CaseOutcome> = cases
                         .par_iter()
                         .map(|(_, case)| run_case(&parser, grammar, case, max_chart_bytes))
                         .collect();
-                    run.tests = tests.into_iter().map(|t| (t, Vec::new())).collect();
                     for ((t, _), outcome) in cases.iter().zip(outcomes) {
                         run.tests[*t].1.push(outcome);
                     }
@@ -278,10 +274,6 @@ impl Tally {
     }
 }
 
-fn plural(n: usize, one: &str, many: &str) -> String {
-    format!("{n} {}", if n == 1 { one } else { many })
-}
-
 fn paint(text: &str, code: &str, color: bool) -> String {
     if color {
         format!("\x1b[{code}m{text}\x1b[0m")
@@ -298,18 +290,6 @@ fn place(analysis: &Analysis, location: Location) -> (String, Position) {
             position(f, render::clamp(&f.text, location.span).start),
         ),
         None => (String::new(), Position { line: 1, column: 1 }),
-    }
-}
-
-/// How a case is written in the grammar: `accept "…"` / `accept "…" as (…)`.
-fn case_text(case: &TestCase) -> String {
-    let verb = match case.expect {
-        Expectation::Accept => "accept",
-        Expectation::Reject => "reject",
-    };
-    match &case.tree {
-        Some(tree) => format!("{verb} {} as {}", quote(&case.sentence), tree.to_brackets()),
-        None => format!("{verb} {}", quote(&case.sentence)),
     }
 }
 
@@ -365,7 +345,7 @@ fn human_grammar(run: &GrammarRun, args: &TestArgs, color: bool) -> String {
                     if !list_all {
                         continue;
                     }
-                    out.push_str(&format!("      ok  {}\n", case_text(case)));
+                    out.push_str(&format!("      ok  {}\n", case));
                     if *tied {
                         out.push_str(
                             "          (holds by a tie: another tree is exactly as probable)\n",
@@ -386,7 +366,7 @@ fn human_grammar(run: &GrammarRun, args: &TestArgs, color: bool) -> String {
                         paint("fail", "31", color),
                         at.line,
                         at.column,
-                        case_text(case)
+                        case
                     ));
                     for line in failure.render() {
                         out.push_str(&format!("          {line}\n"));
@@ -504,25 +484,19 @@ fn json_grammar(run: &GrammarRun) -> JsonGrammar {
 
 fn json_case(analysis: &Analysis, case: &TestCase, outcome: &CaseOutcome) -> JsonCase {
     let (file, at) = place(analysis, case.location);
-    let (best, tied, failure) = match outcome {
-        CaseOutcome::Passed { best, tied } => (best.as_ref(), *tied, Vec::new()),
-        CaseOutcome::Failed(failure) => (failure.found(), false, failure.render()),
-    };
+    let best = outcome.best();
     JsonCase {
-        expect: match case.expect {
-            Expectation::Accept => "accept",
-            Expectation::Reject => "reject",
-        },
+        expect: case.expect.keyword(),
         sentence: case.sentence.clone(),
         expected_tree: case.tree.as_ref().map(|t| t.to_brackets()),
         file,
         line: at.line,
         column: at.column,
         passed: outcome.passed(),
-        tied,
+        tied: outcome.tied(),
         tree: best.map(|b| b.tree.to_brackets()),
         probability: best.map(|b| b.probability),
-        failure,
+        failure: outcome.reasons(),
     }
 }
 
