@@ -63,19 +63,15 @@ pub fn read_disk(path: &Path) -> Result<String, String> {
     })
 }
 
-/// The configuration for a grammar at `root`: the nearest `trellis.toml` in
-/// its directory or above. An unreadable or invalid file gives the default
-/// configuration and a message saying why.
-pub fn config_for(root: &Path, loader: &dyn FileLoader) -> (Config, Option<String>) {
-    let Some(found) = root
-        .ancestors()
-        .skip(1)
-        .map(|dir| dir.join(CONFIG_FILE))
-        .find(|candidate| candidate.is_file())
-    else {
+/// The configuration in `found`, the nearest `trellis.toml` above a
+/// grammar (see [`config_stamps`]), or the default one when there is none.
+/// An unreadable or invalid file gives the default configuration and a
+/// message saying why.
+pub fn config_for(found: Option<&Path>, loader: &dyn FileLoader) -> (Config, Option<String>) {
+    let Some(found) = found else {
         return (Config::default(), None);
     };
-    match loader.load(&found) {
+    match loader.load(found) {
         Err(reason) => (
             Config::default(),
             Some(format!("cannot read {}: {reason}", found.display())),
@@ -105,8 +101,9 @@ pub type ConfigStamp = (Option<std::time::SystemTime>, u64);
 pub type ConfigStamps = Vec<(PathBuf, Option<ConfigStamp>)>;
 
 /// The stamp of every place a `trellis.toml` could configure the grammar
-/// at `root` (its directory and each one above it); `None` where there is
-/// no such file.
+/// at `root` (its directory and each one above it, nearest first); `None`
+/// where there is no such file. The first file found is the one that
+/// configures the grammar.
 pub fn config_stamps(root: &Path) -> ConfigStamps {
     root.ancestors()
         .skip(1)
@@ -114,6 +111,7 @@ pub fn config_stamps(root: &Path) -> ConfigStamps {
             let candidate = dir.join(CONFIG_FILE);
             let stamp = std::fs::metadata(&candidate)
                 .ok()
+                .filter(|m| m.is_file())
                 .map(|m| (m.modified().ok(), m.len()));
             (candidate, stamp)
         })
@@ -207,7 +205,11 @@ pub fn analyze_root(root: &Path, snapshot: &Snapshot, seq: u64) -> Option<RootRe
     let loader = Overlay(snapshot);
     // Taken before reading: an edit in between only costs one more analysis.
     let config_stamps = config_stamps(root);
-    let (config, config_problem) = config_for(root, &loader);
+    let nearest = config_stamps
+        .iter()
+        .find(|(_, stamp)| stamp.is_some())
+        .map(|(path, _)| path.as_path());
+    let (config, config_problem) = config_for(nearest, &loader);
     let mut analysis = analyze(root, &doc.text, &loader, &config);
     // What `trellis check` reports, the editor reports: the engine's
     // `leaky` finding joins the static ones (on grammars without errors).
