@@ -2,7 +2,7 @@
 
 mod common;
 
-use common::{TestClient, HARBOUR};
+use common::{assert_request_failed, TestClient, HARBOUR};
 use serde_json::{json, Value};
 
 const URI: &str = "file:///grammars/harbour.trellis";
@@ -81,12 +81,7 @@ async fn run_test_runs_one_named_test_and_refuses_an_unknown_name() {
     assert_eq!(result["failed"], 0);
 
     let response = run_test(&mut client, json!({"uri": URI, "test": "ugly"})).await;
-    // LSP 3.17 `RequestFailed`.
-    assert_eq!(response["error"]["code"], -32803);
-    assert!(response["error"]["message"]
-        .as_str()
-        .unwrap()
-        .contains("no test named \"ugly\""));
+    assert_request_failed(&response, "no test named \"ugly\"");
     client.shutdown().await;
 }
 
@@ -94,11 +89,7 @@ async fn run_test_runs_one_named_test_and_refuses_an_unknown_name() {
 async fn run_test_refuses_a_grammar_with_errors() {
     let mut client = ready("start S\nS { 0.5 \"a\" }\ntest \"t\" { accept \"a\" }\n").await;
     let response = run_test(&mut client, json!({"uri": URI})).await;
-    assert_eq!(response["error"]["code"], -32803);
-    assert!(response["error"]["message"]
-        .as_str()
-        .unwrap()
-        .contains("1 error"));
+    assert_request_failed(&response, "1 error");
     client.shutdown().await;
 }
 

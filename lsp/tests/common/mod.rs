@@ -21,6 +21,14 @@ NP { 1/2 \"ferries\" | 1/2 \"boats\" }
 VP { 0.75 \"sail\" | 0.25 \"sink\" }
 ";
 
+/// Asserts that `response` is the error LSP 3.17 calls `RequestFailed`
+/// (-32803) and that its message contains `says`.
+pub fn assert_request_failed(response: &Value, says: &str) {
+    assert_eq!(response["error"]["code"], -32803, "{response}");
+    let message = response["error"]["message"].as_str().unwrap_or_default();
+    assert!(message.contains(says), "{message}");
+}
+
 /// How long a test waits for a message before failing (a guard against
 /// hanging, not a measurement).
 pub const PATIENCE: Duration = Duration::from_secs(180);
