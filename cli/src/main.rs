@@ -5,9 +5,8 @@
 //! variant in [`Command`] and one arm in [`main`].
 
 mod commands;
-mod config_file;
-mod fs_loader;
 mod render;
+mod shared;
 
 use clap::{Parser, Subcommand};
 

@@ -14,6 +14,9 @@
 //! (b) The ferry-kiosk example grammar (`examples/ferry_kiosk.trellis`) with
 //!     15-word sentences sampled from it: full parse including the parse count.
 
+// A benchmark reports what it measured on the terminal.
+#![allow(clippy::print_stdout, clippy::print_stderr)]
+
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
 use grammar_lang::model::{Grammar, NtId, Rule, Sym};
 use grammar_lang::{FileId, Location, MemoryLoader, Span};

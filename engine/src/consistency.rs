@@ -725,29 +725,3 @@ fn symbol_location(g: &Grammar, a: NtId) -> Option<Location> {
         .map(|b| b.name)
         .or_else(|| nt.references.first().copied())
 }
-
-/// Adds the `leaky` finding to a finished static analysis, at the level the
-/// configuration gives it. Runs only on grammars without errors (the
-/// numbers of a broken grammar mean nothing) and when `leaky` is not off.
-/// Returns whether a finding was added.
-pub fn add_leak_finding(
-    analysis: &mut grammar_lang::Analysis,
-    config: &grammar_lang::Config,
-) -> bool {
-    let Some(severity) = config.level(Code::Leaky) else {
-        return false;
-    };
-    if analysis.has_errors() {
-        return false;
-    }
-    let Some(mut finding) = leak_finding(&analysis.grammar) else {
-        return false;
-    };
-    finding.severity = severity;
-    let at = analysis.diagnostics.partition_point(|d| {
-        (d.location.file, d.location.span.start)
-            <= (finding.location.file, finding.location.span.start)
-    });
-    analysis.diagnostics.insert(at, finding);
-    true
-}

@@ -5,22 +5,16 @@ use crate::compile::CompiledGrammar;
 use crate::viterbi::ViterbiChart;
 use num_bigint::BigUint;
 use num_traits::{One, Zero};
-use serde::Serialize;
 use std::fmt;
 
 /// The number of distinct parses (derivations) of a sentence.
-#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
+#[derive(Clone, Debug, PartialEq, Eq)]
 pub enum Count {
     /// Exactly this many.
-    Finite(#[serde(serialize_with = "big_as_string")] BigUint),
+    Finite(BigUint),
     /// Without bound: some parse goes through a unary cycle, which can be
     /// repeated any number of times.
     Infinite,
-}
-
-fn big_as_string<S: serde::Serializer>(n: &BigUint, s: S) -> Result<S::Ok, S::Error> {
-    s.serialize_str(&n.to_string())
 }
 
 impl Count {

@@ -15,7 +15,6 @@
 use crate::compile::{CompiledGrammar, Item};
 use crate::viterbi::ViterbiChart;
 use grammar_lang::syntax::lexer::quote;
-use serde::Serialize;
 use std::collections::{BTreeSet, HashSet};
 use std::fmt;
 
@@ -24,7 +23,7 @@ const MAX_EXPECTED: usize = 12;
 /// How many suggestions an unknown word gets at most.
 const MAX_SUGGESTIONS: usize = 3;
 
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct Explanation {
     pub unknown_words: Vec<UnknownWord>,
     pub fragments: Vec<Fragment>,
@@ -32,7 +31,7 @@ pub struct Explanation {
 }
 
 /// A word that no rule of the grammar produces.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct UnknownWord {
     /// 0-based word position.
     pub position: usize,
@@ -42,7 +41,7 @@ pub struct UnknownWord {
 }
 
 /// A maximal span that analyses as some user category.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct Fragment {
     /// 0-based half-open word range `start..end`.
     pub start: usize,
@@ -52,7 +51,7 @@ pub struct Fragment {
     pub categories: Vec<Category>,
 }
 
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct Category {
     pub symbol: String,
     /// Log-probability of the category's best derivation of the span.
@@ -60,7 +59,7 @@ pub struct Category {
 }
 
 /// Where every analysis from the start symbol fails.
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct Breakdown {
     pub start_symbol: String,
     /// Number of leading words that some start-rooted analysis covers.
@@ -74,7 +73,7 @@ pub struct Breakdown {
     pub more_expected: usize,
 }
 
-#[derive(Clone, Debug, PartialEq, Serialize)]
+#[derive(Clone, Debug, PartialEq)]
 pub struct UnknownPosition {
     pub position: usize,
     pub word: String,

@@ -125,12 +125,3 @@ fn sentence_whose_first_word_cannot_start_a_request_lists_every_possible_first_w
     );
     assert!(e.render()[0].starts_with(r#"no analysis from Request can begin with "ticket""#));
 }
-
-#[test]
-fn explanation_serializes_to_plain_fields() {
-    let e = explain("one return ticket ticket");
-    let json = serde_json::to_value(&e).unwrap();
-    assert_eq!(json["breakdown"]["prefix_words"], 3);
-    assert_eq!(json["fragments"][0]["categories"][0]["symbol"], "Ticket");
-    assert!(json["unknown_words"].as_array().unwrap().is_empty());
-}

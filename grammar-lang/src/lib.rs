@@ -17,7 +17,6 @@ pub mod analysis;
 pub mod check;
 pub mod config;
 pub mod diagnostic;
-pub mod ide;
 pub mod lower;
 pub mod model;
 pub mod print;

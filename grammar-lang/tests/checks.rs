@@ -512,7 +512,11 @@ fn a_certain_unary_cycle_is_an_error() {
         d.message
     );
     // With an explicit level in trellis.toml the configured level wins.
-    let config = Config::from_toml("[checks]\nunary-cycle = \"warning\"\n").unwrap();
+    let mut config = Config::default();
+    config.levels.insert(
+        Code::UnaryCycle,
+        grammar_lang::config::Level::At(Severity::Warning),
+    );
     let a = analyze(Path::new("g.trellis"), text, &MemoryLoader::new(), &config);
     assert_eq!(the_one(&a, Code::UnaryCycle).severity, Severity::Warning);
 }
@@ -544,7 +548,10 @@ fn a_rule_longer_than_the_maximum_arity_explains_the_cost() {
     );
     assert!(d.help.as_ref().unwrap().contains("named block"));
     // A raised limit accepts it.
-    let config = Config::from_toml("max-arity = 9\n").unwrap();
+    let config = Config {
+        max_arity: 9,
+        ..Config::default()
+    };
     assert_clean(&analyze(
         Path::new("g.trellis"),
         long,

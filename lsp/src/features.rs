@@ -5,13 +5,13 @@
 use crate::commands;
 use crate::convert;
 use crate::server::{request_failed, Backend, Target};
-use grammar_lang::ide::{self, CodeLensKind, CompletionKind, SymbolKind as IdeSymbolKind};
-use grammar_lang::ide::{TextEdit as IdeEdit, TokenClass};
 use grammar_lang::FileId;
 use serde_json::json;
 use std::collections::HashMap;
 use tower_lsp::jsonrpc;
 use tower_lsp::lsp_types::*;
+use trellis_ide::{self as ide, CodeLensKind, CompletionKind, SymbolKind as IdeSymbolKind};
+use trellis_ide::{TextEdit as IdeEdit, TokenClass};
 
 /// Most symbols one workspace-symbol answer lists.
 pub const WORKSPACE_SYMBOL_LIMIT: usize = 256;
@@ -82,7 +82,7 @@ pub async fn hover(backend: &Backend, params: HoverParams) -> jsonrpc::Result<Op
         .run("computing hover", move || {
             let offset = t.offset(at.position);
             let r = &t.result;
-            let found = ide::hover(&r.analysis, r.index(), t.file, offset, r.facts())?;
+            let found = r.analysis.hover(t.file, offset)?;
             Some(Hover {
                 contents: HoverContents::Markup(MarkupContent {
                     kind: MarkupKind::Markdown,
@@ -104,7 +104,7 @@ pub async fn definition(
     };
     backend
         .run("finding the definition", move || {
-            let found = ide::definition(t.analysis(), t.file, t.offset(at.position))?;
+            let found = t.analysis().definition(t.file, t.offset(at.position))?;
             t.location(found.file, found.span)
                 .map(GotoDefinitionResponse::Scalar)
         })
@@ -122,7 +122,9 @@ pub async fn references(
     };
     backend
         .run("finding references", move || {
-            let found = ide::references(t.analysis(), t.file, t.offset(at.position), include);
+            let found = t
+                .analysis()
+                .references(t.file, t.offset(at.position), include);
             Some(
                 found
                     .into_iter()
@@ -142,7 +144,8 @@ pub async fn prepare_rename(
     };
     let answer = backend
         .run("preparing rename", move || {
-            ide::prepare_rename(t.analysis(), t.file, t.offset(params.position))
+            t.analysis()
+                .prepare_rename(t.file, t.offset(params.position))
                 .map(|span| convert::range(t.source(), span))
                 .map_err(|e| e.to_string())
         })
@@ -164,7 +167,8 @@ pub async fn rename(
     let new_name = params.new_name;
     let answer = backend
         .run("renaming", move || {
-            ide::rename(t.analysis(), t.file, t.offset(at.position), &new_name)
+            t.analysis()
+                .rename(t.file, t.offset(at.position), &new_name)
                 .map(|edits| workspace_edit(&t, &edits))
                 .map_err(|e| e.to_string())
         })
@@ -215,7 +219,9 @@ pub async fn document_symbols(
     };
     backend
         .run("listing symbols", move || {
-            let symbols = ide::document_symbols(t.analysis(), t.file)
+            let symbols = t
+                .analysis()
+                .document_symbols(t.file)
                 .into_iter()
                 .map(|s| document_symbol(t.source(), s))
                 .collect();
@@ -235,7 +241,7 @@ pub async fn workspace_symbols(
         .run("searching symbols", move || {
             let mut out: Vec<SymbolInformation> = Vec::new();
             for r in results {
-                for s in ide::workspace_symbols(&r.analysis, &query, WORKSPACE_SYMBOL_LIMIT) {
+                for s in r.analysis.workspace_symbols(&query, WORKSPACE_SYMBOL_LIMIT) {
                     let Some(uri) = r.uri_of(s.location.file) else {
                         continue;
                     };
@@ -271,7 +277,7 @@ pub async fn completion(
     };
     backend
         .run("completing", move || {
-            let list = ide::completions(t.analysis(), t.file, t.offset(at.position));
+            let list = t.analysis().completions(t.file, t.offset(at.position));
             let range = convert::range(t.source(), list.replace);
             let items = list
                 .items
@@ -311,7 +317,7 @@ pub async fn semantic_tokens(
     backend
         .run("classifying tokens", move || {
             let file = t.source();
-            let tokens = ide::semantic_tokens(t.analysis(), t.file, None);
+            let tokens = t.analysis().semantic_tokens(t.file, None);
             let mut data = Vec::with_capacity(tokens.len());
             let (mut line, mut start) = (0u32, 0u32);
             for token in tokens {
@@ -363,7 +369,9 @@ pub async fn code_actions(
             let span = convert::span(t.source(), range);
             let r = &t.result;
             let uri_of = |f: FileId| r.uri_of(f);
-            let actions = ide::code_actions(t.analysis(), t.file, span)
+            let actions = t
+                .analysis()
+                .code_actions(t.file, span)
                 .into_iter()
                 .map(|a| {
                     // The diagnostic it fixes, as published.
@@ -406,7 +414,9 @@ pub async fn inlay_hints(
         .run("computing inlay hints", move || {
             let file = t.source();
             let span = convert::span(file, range);
-            let hints = ide::inlay_hints(t.analysis(), t.file, span)
+            let hints = t
+                .analysis()
+                .inlay_hints(t.file, span)
                 .into_iter()
                 .map(|h| InlayHint {
                     position: convert::position(file, h.offset),
@@ -434,7 +444,9 @@ pub async fn code_lenses(
     };
     backend
         .run("placing code lenses", move || {
-            let lenses = ide::code_lenses(t.analysis(), t.file)
+            let lenses = t
+                .analysis()
+                .code_lenses(t.file)
                 .into_iter()
                 .map(|lens| {
                     let command = match lens.kind {
@@ -491,7 +503,9 @@ pub async fn folding_ranges(
     backend
         .run("finding folding ranges", move || {
             let file = t.source();
-            let ranges = ide::folding_ranges(t.analysis(), t.file)
+            let ranges = t
+                .analysis()
+                .folding_ranges(t.file)
                 .into_iter()
                 .map(|f| {
                     let range = convert::range(file, f.span);
@@ -522,7 +536,9 @@ pub async fn document_links(
     };
     backend
         .run("finding document links", move || {
-            let links = ide::document_links(t.analysis(), t.file)
+            let links = t
+                .analysis()
+                .document_links(t.file)
                 .into_iter()
                 .filter_map(|l| {
                     Some(DocumentLink {
@@ -548,7 +564,9 @@ pub async fn document_highlights(
     };
     backend
         .run("highlighting occurrences", move || {
-            let found = ide::document_highlights(t.analysis(), t.file, t.offset(at.position))
+            let found = t
+                .analysis()
+                .document_highlights(t.file, t.offset(at.position))
                 .into_iter()
                 .map(|h| DocumentHighlight {
                     range: convert::range(t.source(), h.span),

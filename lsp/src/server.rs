@@ -9,10 +9,8 @@ use crate::commands;
 use crate::convert;
 use crate::features;
 use crate::guard::{run_blocking, Failure};
-use crate::workspace::{
-    analyze_root, config_stamps, ConfigStamps, Doc, RootResult, Workspace, CONFIG_FILE,
-};
-use grammar_lang::{Analysis, FileId};
+use crate::workspace::{analyze_root, Doc, RootResult, Workspace};
+use grammar_lang::FileId;
 use serde_json::Value;
 use std::collections::HashSet;
 use std::path::{Path, PathBuf};
@@ -22,6 +20,8 @@ use tokio::sync::Notify;
 use tower_lsp::jsonrpc::{self, ErrorCode};
 use tower_lsp::lsp_types::*;
 use tower_lsp::{Client, LanguageServer, LspService};
+use trellis_ide::Analysis;
+use trellis_project::config::{Stamps, FILE_NAME as CONFIG_FILE};
 
 /// Settings that are not part of the protocol.
 #[derive(Clone, Debug)]
@@ -296,7 +296,9 @@ async fn worker(shared: Arc<Shared>, client: Client) {
             }
             affected.extend(result.paths().map(Path::to_path_buf));
             if let Some(problem) = &result.config_problem {
-                problems.push(problem.clone());
+                problems.push(format!(
+                    "{problem}; the default checks apply until it is fixed"
+                ));
             }
             ws.store(&root, result);
         }
@@ -320,7 +322,7 @@ async fn worker(shared: Arc<Shared>, client: Client) {
 async fn poll_configs(shared: Arc<Shared>, every: Duration) {
     loop {
         tokio::time::sleep(every).await;
-        let seen: Vec<(PathBuf, ConfigStamps)> = shared
+        let seen: Vec<(PathBuf, Stamps)> = shared
             .lock()
             .results
             .iter()
@@ -328,7 +330,7 @@ async fn poll_configs(shared: Arc<Shared>, every: Duration) {
             .collect();
         let stale = tokio::task::spawn_blocking(move || {
             seen.into_iter()
-                .filter(|(root, stamps)| config_stamps(root) != *stamps)
+                .filter(|(root, stamps)| Stamps::of(root) != *stamps)
                 .map(|(root, _)| root)
                 .collect::<Vec<PathBuf>>()
         })
@@ -394,28 +396,19 @@ async fn publish(shared: &Shared, client: &Client, affected: HashSet<PathBuf>) {
 }
 
 /// The LSP diagnostics located in `path` from all of `results`, without
-/// repeats (two grammars using one file report its problems once).
+/// repeats (two grammars using one file report its problems once: the
+/// project layer's rule, as `trellis check` applies it).
 fn diagnostics_for(path: &Path, results: &[Arc<RootResult>]) -> Vec<Diagnostic> {
+    let mut repeats = trellis_project::Repeats::default();
     let mut out: Vec<Diagnostic> = Vec::new();
     for r in results {
         let Some(file) = r.analysis.sources.find(path) else {
             continue;
         };
         let uri_of = |f: FileId| r.uri_of(f);
-        for d in r
-            .analysis
-            .diagnostics
-            .iter()
-            .filter(|d| d.location.file == file)
-        {
-            let converted = convert::diagnostic(&r.analysis, d, &uri_of);
-            let seen = out.iter().any(|o| {
-                o.range == converted.range
-                    && o.code == converted.code
-                    && o.message == converted.message
-            });
-            if !seen {
-                out.push(converted);
+        for d in r.analysis.diagnostics_in(file) {
+            if repeats.first(path, d) {
+                out.push(convert::diagnostic(&r.analysis, d, &uri_of));
             }
         }
     }

@@ -7,17 +7,15 @@
 //! buffers are unchanged.
 
 use crate::convert;
-use grammar_lang::config::Config;
-use grammar_lang::ide::{EngineFacts, IdeIndex};
-use grammar_lang::{analyze, Analysis, FileId, FileLoader};
+use grammar_lang::FileId;
 use std::collections::{BTreeMap, HashMap, HashSet};
 use std::path::{Path, PathBuf};
-use std::sync::{Arc, OnceLock};
+use std::sync::Arc;
 use std::time::Duration;
 use tower_lsp::lsp_types::Url;
-
-/// The name of the configuration file looked up above a grammar.
-pub const CONFIG_FILE: &str = "trellis.toml";
+use trellis_ide::Analysis;
+use trellis_project::config::{ConfigProblem, Settings, Stamps};
+use trellis_project::Overlay;
 
 /// One open document: what the editor last sent.
 #[derive(Clone, Debug)]
@@ -34,90 +32,6 @@ pub struct Snapshot {
     pub docs: HashMap<PathBuf, Doc>,
 }
 
-/// Reads files from open buffers first and from disk otherwise.
-pub struct Overlay<'a>(pub &'a Snapshot);
-
-impl FileLoader for Overlay<'_> {
-    fn load(&self, path: &Path) -> Result<String, String> {
-        let path = grammar_lang::source::normalize(path);
-        if let Some(doc) = self.0.docs.get(&path) {
-            return Ok(doc.text.as_str().to_owned());
-        }
-        read_disk(&path)
-    }
-}
-
-/// The UTF-8 text of a file on disk, or a short reason there is none.
-pub fn read_disk(path: &Path) -> Result<String, String> {
-    let bytes = std::fs::read(path).map_err(|e| match e.kind() {
-        std::io::ErrorKind::NotFound => "no such file or directory".to_string(),
-        std::io::ErrorKind::PermissionDenied => "permission denied".to_string(),
-        std::io::ErrorKind::IsADirectory => "it is a directory".to_string(),
-        _ => e.to_string(),
-    })?;
-    String::from_utf8(bytes).map_err(|e| {
-        format!(
-            "it is not UTF-8 text (invalid byte at offset {}); save it as UTF-8",
-            e.utf8_error().valid_up_to()
-        )
-    })
-}
-
-/// The configuration in `found`, the nearest `trellis.toml` above a
-/// grammar (see [`config_stamps`]), or the default one when there is none.
-/// An unreadable or invalid file gives the default configuration and a
-/// message saying why.
-pub fn config_for(found: Option<&Path>, loader: &dyn FileLoader) -> (Config, Option<String>) {
-    let Some(found) = found else {
-        return (Config::default(), None);
-    };
-    match loader.load(found) {
-        Err(reason) => (
-            Config::default(),
-            Some(format!("cannot read {}: {reason}", found.display())),
-        ),
-        Ok(text) => match Config::from_toml(&text) {
-            Ok(config) => (config, None),
-            Err(errors) => {
-                let list: Vec<String> = errors.iter().map(|e| e.message.clone()).collect();
-                (
-                    Config::default(),
-                    Some(format!(
-                        "{} is invalid, using the default checks: {}",
-                        found.display(),
-                        list.join("; ")
-                    )),
-                )
-            }
-        },
-    }
-}
-
-/// What identifies a version of a file on disk: its modification time and
-/// length.
-pub type ConfigStamp = (Option<std::time::SystemTime>, u64);
-
-/// Each place a configuration file could be, with its stamp (`None`: none there).
-pub type ConfigStamps = Vec<(PathBuf, Option<ConfigStamp>)>;
-
-/// The stamp of every place a `trellis.toml` could configure the grammar
-/// at `root` (its directory and each one above it, nearest first); `None`
-/// where there is no such file. The first file found is the one that
-/// configures the grammar.
-pub fn config_stamps(root: &Path) -> ConfigStamps {
-    root.ancestors()
-        .skip(1)
-        .map(|dir| {
-            let candidate = dir.join(CONFIG_FILE);
-            let stamp = std::fs::metadata(&candidate)
-                .ok()
-                .filter(|m| m.is_file())
-                .map(|m| (m.modified().ok(), m.len()));
-            (candidate, stamp)
-        })
-        .collect()
-}
-
 /// One finished analysis of a root document.
 #[derive(Debug)]
 pub struct RootResult {
@@ -129,49 +43,14 @@ pub struct RootResult {
     pub inputs: Vec<Option<i32>>,
     /// The URI of every file of the analysis, indexed by `FileId`.
     pub uris: Vec<Option<Url>>,
-    /// A problem with `trellis.toml`, if any.
-    pub config_problem: Option<String>,
+    /// A problem with `trellis.toml`, if any (the default levels applied).
+    pub config_problem: Option<ConfigProblem>,
     /// The configuration files as they were when the analysis read its
-    /// configuration (see [`config_stamps`]).
-    pub config_stamps: ConfigStamps,
-    /// The editor services' index, built on first use.
-    index: OnceLock<IdeIndex>,
-    /// The engine's numbers for hover, computed on first use (`None` when
-    /// the grammar has errors or no start symbol: the numbers would describe
-    /// a grammar other than the one meant).
-    facts: OnceLock<Option<EngineFacts>>,
+    /// configuration.
+    pub config_stamps: Stamps,
 }
 
 impl RootResult {
-    /// The index of the editor services for this analysis.
-    pub fn index(&self) -> &IdeIndex {
-        self.index.get_or_init(|| IdeIndex::new(&self.analysis))
-    }
-
-    /// Termination probabilities and expected rule uses from the engine.
-    pub fn facts(&self) -> Option<&EngineFacts> {
-        self.facts
-            .get_or_init(|| {
-                if self.analysis.has_errors() {
-                    return None;
-                }
-                let report = trellis_engine::consistency::analyze(&self.analysis.grammar).ok()?;
-                Some(EngineFacts {
-                    termination: report
-                        .symbols
-                        .iter()
-                        .map(|s| s.termination_probability)
-                        .collect(),
-                    rule_expected_uses: report
-                        .rule_expected_uses
-                        .iter()
-                        .map(|u| u.unwrap_or(f64::INFINITY))
-                        .collect(),
-                })
-            })
-            .as_ref()
-    }
-
     /// The version of the root document this result was computed from.
     pub fn root_version(&self) -> Option<i32> {
         self.inputs.first().copied().flatten()
@@ -202,18 +81,10 @@ impl RootResult {
 /// blocking pool.
 pub fn analyze_root(root: &Path, snapshot: &Snapshot, seq: u64) -> Option<RootResult> {
     let doc = snapshot.docs.get(root)?;
-    let loader = Overlay(snapshot);
-    // Taken before reading: an edit in between only costs one more analysis.
-    let config_stamps = config_stamps(root);
-    let nearest = config_stamps
-        .iter()
-        .find(|(_, stamp)| stamp.is_some())
-        .map(|(path, _)| path.as_path());
-    let (config, config_problem) = config_for(nearest, &loader);
-    let mut analysis = analyze(root, &doc.text, &loader, &config);
-    // What `trellis check` reports, the editor reports: the engine's
-    // `leaky` finding joins the static ones (on grammars without errors).
-    trellis_engine::consistency::add_leak_finding(&mut analysis, &config);
+    let loader = Overlay(|path: &Path| snapshot.docs.get(path).map(|d| d.text.as_str().to_owned()));
+    let settings = Settings::for_grammar(root, &loader);
+    // The façade's analysis: what `trellis check` reports, the editor reports.
+    let analysis = trellis_ide::analyze(root, &doc.text, &loader, &settings.config);
     let inputs = analysis
         .sources
         .iter()
@@ -232,10 +103,8 @@ pub fn analyze_root(root: &Path, snapshot: &Snapshot, seq: u64) -> Option<RootRe
         analysis,
         inputs,
         uris,
-        config_problem,
-        config_stamps,
-        index: OnceLock::new(),
-        facts: OnceLock::new(),
+        config_problem: settings.problem,
+        config_stamps: settings.stamps,
     })
 }
 
@@ -313,10 +182,13 @@ impl Workspace {
     /// that `use`s it (the file in the context of its grammar), else `path`
     /// itself when it is open.
     pub fn context_root(&self, path: &Path) -> Option<PathBuf> {
-        self.results
+        let roots = self
+            .results
             .iter()
-            .find(|(root, r)| root.as_path() != path && r.analysis.sources.find(path).is_some())
-            .map(|(root, _)| root.clone())
+            .map(|(r, res)| (r.as_path(), &res.analysis));
+        trellis_project::speakers(path, roots)
+            .first()
+            .and_then(|&i| self.results.keys().nth(i).cloned())
             .or_else(|| self.docs.contains_key(path).then(|| path.to_path_buf()))
     }
 
@@ -324,15 +196,14 @@ impl Workspace {
     /// open roots that `use` it, or else its own when it is an open root.
     /// Empty when the file's diagnostics should be cleared.
     pub fn publishers(&self, path: &Path) -> Vec<Arc<RootResult>> {
-        let users: Vec<Arc<RootResult>> = self
+        let results: Vec<&Arc<RootResult>> = self.results.values().collect();
+        let roots = self
             .results
             .iter()
-            .filter(|(root, r)| root.as_path() != path && r.analysis.sources.find(path).is_some())
-            .map(|(_, r)| r.clone())
-            .collect();
-        if !users.is_empty() {
-            return users;
-        }
-        self.results.get(path).cloned().into_iter().collect()
+            .map(|(r, res)| (r.as_path(), &res.analysis));
+        trellis_project::speakers(path, roots)
+            .into_iter()
+            .map(|i| results[i].clone())
+            .collect()
     }
 }

@@ -1,8 +1,8 @@
 //! `trellis parse`: the most probable trees of sentences, their
 //! probabilities, and why a sentence does not parse.
 
-use super::sample::load_grammar;
 use super::{emit, Outcome, Stream};
+use crate::shared::load_runnable;
 use rayon::prelude::*;
 use serde::Serialize;
 use std::io::Read;
@@ -101,9 +101,97 @@ struct JsonSentence<'a> {
     #[serde(skip_serializing_if = "Option::is_none")]
     parse_count: Option<String>,
     #[serde(skip_serializing_if = "Option::is_none")]
-    explanation: Option<&'a Explanation>,
+    explanation: Option<JsonExplanation<'a>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     error: Option<String>,
+}
+
+/// Why a sentence has no parse: the engine's [`Explanation`], field by field.
+#[derive(Serialize)]
+struct JsonExplanation<'a> {
+    unknown_words: Vec<JsonUnknownWord<'a>>,
+    fragments: Vec<JsonFragment<'a>>,
+    breakdown: JsonBreakdown<'a>,
+}
+
+#[derive(Serialize)]
+struct JsonUnknownWord<'a> {
+    position: usize,
+    word: &'a str,
+    suggestions: &'a [String],
+}
+
+#[derive(Serialize)]
+struct JsonFragment<'a> {
+    start: usize,
+    end: usize,
+    text: &'a str,
+    categories: Vec<JsonCategory<'a>>,
+}
+
+#[derive(Serialize)]
+struct JsonCategory<'a> {
+    symbol: &'a str,
+    log_probability: f64,
+}
+
+#[derive(Serialize)]
+struct JsonBreakdown<'a> {
+    start_symbol: &'a str,
+    prefix_words: usize,
+    stuck_at: Option<JsonWordAt<'a>>,
+    expected: &'a [String],
+    more_expected: usize,
+}
+
+#[derive(Serialize)]
+struct JsonWordAt<'a> {
+    position: usize,
+    word: &'a str,
+}
+
+impl<'a> From<&'a Explanation> for JsonExplanation<'a> {
+    fn from(e: &'a Explanation) -> Self {
+        let b = &e.breakdown;
+        JsonExplanation {
+            unknown_words: e
+                .unknown_words
+                .iter()
+                .map(|u| JsonUnknownWord {
+                    position: u.position,
+                    word: &u.word,
+                    suggestions: &u.suggestions,
+                })
+                .collect(),
+            fragments: e
+                .fragments
+                .iter()
+                .map(|f| JsonFragment {
+                    start: f.start,
+                    end: f.end,
+                    text: &f.text,
+                    categories: f
+                        .categories
+                        .iter()
+                        .map(|c| JsonCategory {
+                            symbol: &c.symbol,
+                            log_probability: c.log_probability,
+                        })
+                        .collect(),
+                })
+                .collect(),
+            breakdown: JsonBreakdown {
+                start_symbol: &b.start_symbol,
+                prefix_words: b.prefix_words,
+                stuck_at: b.stuck_at.as_ref().map(|at| JsonWordAt {
+                    position: at.position,
+                    word: &at.word,
+                }),
+                expected: &b.expected,
+                more_expected: b.more_expected,
+            },
+        }
+    }
 }
 
 fn read_sentences(args: &ParseArgs) -> Result<Vec<String>, String> {
@@ -179,11 +267,11 @@ fn text_report(sentence: &str, result: &Result<ParseOutcome, ParseError>) -> Str
 
 /// Runs `trellis parse`.
 pub fn run(args: &ParseArgs) -> Outcome {
-    let loaded = match load_grammar(&args.grammar, "parse") {
+    let analysis = match load_runnable(&args.grammar, "parse") {
         Ok(l) => l,
         Err(outcome) => return outcome,
     };
-    let parser = match Parser::new(&loaded.analysis.grammar) {
+    let parser = match Parser::new(&analysis.grammar) {
         Ok(p) => p,
         Err(e) => {
             emit(Stream::Stderr, &format!("error: {e}\n"));
@@ -252,7 +340,7 @@ pub fn run(args: &ParseArgs) -> Outcome {
                             .is_finite()
                             .then_some(o.sentence_log_probability),
                         parse_count: o.parse_count.as_ref().map(count_text),
-                        explanation: o.explanation.as_ref(),
+                        explanation: o.explanation.as_ref().map(JsonExplanation::from),
                         error: None,
                     },
                     Err(e) => JsonSentence {

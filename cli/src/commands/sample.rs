@@ -1,14 +1,10 @@
 //! `trellis sample`: draw random sentences (or trees) from a grammar.
 
-use super::{emit, use_color, Outcome, Stream};
-use crate::config_file::Resolver;
-use crate::fs_loader::{self, DiskLoader};
-use crate::render;
-use grammar_lang::model::NtId;
-use grammar_lang::Analysis;
+use super::{emit, Outcome, Stream};
+use crate::shared::{load_runnable, start_symbol};
 use serde::Serialize;
 use std::io::Write;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use trellis_engine::rng::Xoshiro256StarStar;
 use trellis_engine::sample::{SampleError, Sampler, DEFAULT_LIMIT};
 
@@ -63,77 +59,6 @@ pub struct SampleArgs {
     pub format: SampleFormat,
 }
 
-/// A grammar read and analysed for the engine commands.
-pub struct Loaded {
-    pub analysis: Analysis,
-}
-
-/// Reads and analyses the grammar at `path` with its trellis.toml. Errors in
-/// the grammar are rendered on stderr and end the command (status 1): the
-/// engine's numbers would describe a grammar other than the one meant.
-pub fn load_grammar(path: &Path, command: &str) -> Result<Loaded, Outcome> {
-    let config = match Resolver::new().for_grammar(path) {
-        Ok(config) => config,
-        Err(problem) => {
-            emit(
-                Stream::Stderr,
-                &format!(
-                    "error: {} is not a valid trellis configuration; `trellis check {}` shows why\n",
-                    problem.path.display(),
-                    path.display()
-                ),
-            );
-            return Err(Outcome::Failure);
-        }
-    };
-    let text = match fs_loader::read_text(path) {
-        Ok(text) => text,
-        Err(reason) => {
-            emit(
-                Stream::Stderr,
-                &format!("error: cannot read {}: {reason}\n", path.display()),
-            );
-            return Err(Outcome::Failure);
-        }
-    };
-    let analysis = grammar_lang::analyze(path, &text, &DiskLoader, &config);
-    if analysis.has_errors() {
-        let mut out = render::errors(&analysis, use_color(Stream::Stderr));
-        out.push_str(&format!(
-            "error: {} has errors, so trellis {command} did not run; fix them first \
-             (`trellis check` lists every finding)\n",
-            path.display()
-        ));
-        emit(Stream::Stderr, &out);
-        return Err(Outcome::Findings);
-    }
-    Ok(Loaded { analysis })
-}
-
-/// The symbol named by `--from`, or the grammar's start.
-pub fn root_symbol(analysis: &Analysis, from: Option<&str>) -> Result<NtId, Outcome> {
-    let g = &analysis.grammar;
-    match from {
-        Some(name) => match g.nt(name).filter(|&a| g.nonterminal(a).is_defined()) {
-            Some(a) => Ok(a),
-            None => {
-                emit(
-                    Stream::Stderr,
-                    &format!("error: --from {name}: the grammar has no block named `{name}`\n"),
-                );
-                Err(Outcome::Failure)
-            }
-        },
-        None => g.start.ok_or_else(|| {
-            emit(
-                Stream::Stderr,
-                "error: the grammar has no `start` declaration; name a symbol with --from\n",
-            );
-            Outcome::Failure
-        }),
-    }
-}
-
 #[derive(Serialize)]
 struct JsonSample {
     sentence: String,
@@ -157,12 +82,12 @@ fn clock_seed() -> u64 {
 
 /// Runs `trellis sample`.
 pub fn run(args: &SampleArgs) -> Outcome {
-    let loaded = match load_grammar(&args.grammar, "sample") {
+    let analysis = match load_runnable(&args.grammar, "sample") {
         Ok(l) => l,
         Err(outcome) => return outcome,
     };
-    let g = &loaded.analysis.grammar;
-    let from = match root_symbol(&loaded.analysis, args.from.as_deref()) {
+    let g = &analysis.grammar;
+    let from = match start_symbol(&analysis, args.from.as_deref()) {
         Ok(a) => a,
         Err(outcome) => return outcome,
     };

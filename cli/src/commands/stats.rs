@@ -1,9 +1,9 @@
 //! `trellis stats`: does the grammar's probability end on finite sentences,
 //! and what do its sentences look like on average?
 
-use super::sample::{load_grammar, root_symbol};
 use super::{emit, use_color, Outcome, Stream};
 use crate::render::{self, HumanRenderer};
+use crate::shared::{load_runnable, start_symbol};
 use serde::Serialize;
 use std::path::PathBuf;
 use trellis_engine::consistency::{self, ConsistencyReport};
@@ -67,13 +67,13 @@ struct JsonStats<'a> {
 
 /// Runs `trellis stats`.
 pub fn run(args: &StatsArgs) -> Outcome {
-    let loaded = match load_grammar(&args.grammar, "stats") {
-        Ok(l) => l,
+    let analysis = match load_runnable(&args.grammar, "stats") {
+        Ok(analysis) => analysis,
         Err(outcome) => return outcome,
     };
-    let analysis = &loaded.analysis;
+    let analysis = &analysis;
     let g = &analysis.grammar;
-    let from = match root_symbol(analysis, args.from.as_deref()) {
+    let from = match start_symbol(analysis, args.from.as_deref()) {
         Ok(a) => a,
         Err(outcome) => return outcome,
     };
@@ -84,7 +84,8 @@ pub fn run(args: &StatsArgs) -> Outcome {
             return Outcome::Failure;
         }
     };
-    let leaky = consistency::leaky_diagnostic(g, &report);
+    // At the level trellis.toml sets, as `check` reports it.
+    let leaky = analysis.leak_finding(&report);
     match args.format {
         StatsFormat::Json => {
             let doc = JsonStats {

@@ -1,18 +1,17 @@
 //! `trellis test`: run the `test` blocks written in grammars.
 
-use super::check::{
-    analyse, grammar_roots, identity, note_nothing_found, paths_or_here, report_failures, Analysed,
-};
+use super::check::{analyse, note_nothing_found, report_failures};
 use super::{emit, use_color, Outcome, OutputFormat, Stream};
 use crate::render::{self, plural, position, JsonDiagnostic, Position};
 use grammar_lang::model::{GrammarTest, TestCase};
 use grammar_lang::syntax::lexer::quote;
 use grammar_lang::{Analysis, Location, Severity};
-use rayon::prelude::*;
 use serde::Serialize;
 use std::path::PathBuf;
-use trellis_engine::parser::Parser;
-use trellis_engine::testing::{run_case, CaseOutcome};
+use trellis_engine::testing::CaseOutcome;
+use trellis_ide::NotRunnable;
+use trellis_project::test_run::{self, Blocked, RunOptions};
+use trellis_project::{grammar_roots, identity, paths_or_here, Analysed};
 
 pub const LONG_ABOUT: &str = "Run the tests written in grammars.\n\n\
     A `test \"name\" { ... }` block lists sentences the grammar must accept \
@@ -70,21 +69,10 @@ struct GrammarRun<'a> {
     tests: Vec<(&'a GrammarTest, Vec<CaseOutcome>)>,
 }
 
-enum Blocked {
-    /// The grammar has errors (rendered from the analysis).
-    Errors(usize),
-    /// The engine cannot compile it.
-    Engine(String),
-}
-
 impl GrammarRun<'_> {
     fn selected_tests(&self) -> usize {
         self.tests.len()
     }
-}
-
-fn selected(test: &GrammarTest, filters: &[String]) -> bool {
-    filters.is_empty() || filters.iter().any(|f| test.name.contains(f.as_str()))
 }
 
 /// Runs `trellis test`.
@@ -102,11 +90,8 @@ pub fn run(args: &TestArgs) -> Outcome {
         let analysis = &checked[i].analysis;
         let grammar = &analysis.grammar;
         available.extend(grammar.tests.iter().map(|t| t.name.as_str()));
-        let tests: Vec<&GrammarTest> = grammar
-            .tests
-            .iter()
-            .filter(|t| selected(t, &args.filter))
-            .collect();
+        let selection = test_run::Selection::NameContains(&args.filter);
+        let tests = test_run::selected(analysis, selection);
         if tests.is_empty() {
             continue;
         }
@@ -114,31 +99,19 @@ pub fn run(args: &TestArgs) -> Outcome {
             analysis,
             path: checked[i].root.path.clone(),
             blocked: None,
-            tests: tests.into_iter().map(|t| (t, Vec::new())).collect(),
+            tests: tests.iter().map(|&t| (t, Vec::new())).collect(),
         };
-        let errors = analysis.count(Severity::Error);
-        if errors > 0 {
-            run.blocked = Some(Blocked::Errors(errors));
-        } else {
-            match Parser::new(grammar) {
-                Err(e) => run.blocked = Some(Blocked::Engine(e.to_string())),
-                Ok(parser) => {
-                    // Every case of every selected test, spread over the cores.
-                    let cases: Vec<(usize, &TestCase)> = run
-                        .tests
-                        .iter()
-                        .enumerate()
-                        .flat_map(|(t, (test, _))| test.cases.iter().map(move |c| (t, c)))
-                        .collect();
-                    let outcomes: Vec<CaseOutcome> = cases
-                        .par_iter()
-                        .map(|(_, case)| run_case(&parser, grammar, case, max_chart_bytes))
-                        .collect();
-                    for ((t, _), outcome) in cases.iter().zip(outcomes) {
-                        run.tests[*t].1.push(outcome);
-                    }
-                }
+        let options = RunOptions {
+            max_chart_bytes,
+            parallel: true,
+        };
+        match test_run::run(analysis, tests, options, &|| false) {
+            Err(blocked) => run.blocked = Some(blocked),
+            Ok(Some(done)) => {
+                run.tests = done.tests.into_iter().map(|r| (r.test, r.cases)).collect();
             }
+            // Never cancelled: a command-line run goes to the end.
+            Ok(None) => {}
         }
         runs.push(run);
     }
@@ -296,18 +269,17 @@ fn place(analysis: &Analysis, location: Location) -> (String, Position) {
 fn human_grammar(run: &GrammarRun, args: &TestArgs, color: bool) -> String {
     let mut out = format!("{}\n", run.path.display());
     match &run.blocked {
-        Some(Blocked::Errors(errors)) => {
+        Some(Blocked::NotRunnable(why)) => {
             out.push_str(&render::errors(run.analysis, color));
             out.push_str(&format!(
-                "  {} {} not run: the grammar has {}; fix {} first\n\n",
+                "  {} {} not run: {why}\n\n",
                 paint("not run", "33", color),
                 plural(run.selected_tests(), "test", "tests"),
-                plural(*errors, "error", "errors"),
-                if *errors == 1 { "it" } else { "them" }
             ));
             return out;
         }
-        Some(Blocked::Engine(reason)) => {
+        Some(blocked @ Blocked::Engine(_)) => {
+            let reason = blocked.to_string();
             out.push_str(&format!(
                 "  {} {} not run: {reason}\n\n",
                 paint("not run", "33", color),
@@ -440,8 +412,8 @@ struct JsonCase {
 
 fn json_grammar(run: &GrammarRun) -> JsonGrammar {
     let (reason, diagnostics) = match &run.blocked {
-        Some(Blocked::Errors(n)) => (
-            Some(format!("the grammar has {}", plural(*n, "error", "errors"))),
+        Some(blocked @ Blocked::NotRunnable(NotRunnable::Errors(_))) => (
+            Some(blocked.to_string()),
             run.analysis
                 .diagnostics
                 .iter()
@@ -449,7 +421,7 @@ fn json_grammar(run: &GrammarRun) -> JsonGrammar {
                 .map(|d| render::json_diagnostic(d, &run.analysis.sources))
                 .collect(),
         ),
-        Some(Blocked::Engine(reason)) => (Some(reason.clone()), Vec::new()),
+        Some(blocked) => (Some(blocked.to_string()), Vec::new()),
         None => (None, Vec::new()),
     };
     let tests = run
@@ -503,20 +475,6 @@ fn json_case(analysis: &Analysis, case: &TestCase, outcome: &CaseOutcome) -> Jso
 #[cfg(test)]
 mod tests {
     use super::*;
-
-    #[test]
-    fn a_filter_selects_tests_whose_name_contains_it() {
-        let test = GrammarTest {
-            name: "buying tickets".to_string(),
-            location: Location::new(grammar_lang::FileId(0), grammar_lang::Span::new(0, 0)),
-            doc: None,
-            cases: Vec::new(),
-        };
-        assert!(selected(&test, &[]));
-        assert!(selected(&test, &["tick".to_string()]));
-        assert!(selected(&test, &["nope".to_string(), "buying".to_string()]));
-        assert!(!selected(&test, &["Buying".to_string()]));
-    }
 
     #[test]
     fn the_summary_counts_tests_grammars_and_cases() {

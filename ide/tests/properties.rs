@@ -18,13 +18,13 @@
 //! The same properties are checked on the example grammars of the
 //! repository.
 
-use grammar_lang::ide::{self, CodeActionKind, IdeIndex, TextEdit};
 use grammar_lang::source::FileId;
 use grammar_lang::syntax::lexer::{lex, TokenKind};
 use grammar_lang::{analyze, Analysis, Code, Config, MemoryLoader, Span};
 use proptest::prelude::*;
 use proptest::sample::select;
 use std::path::Path;
+use trellis_ide::{self as ide, CodeActionKind, IdeIndex, TextEdit};
 
 const ALPHABET: &[&str] = &[
     "start S",

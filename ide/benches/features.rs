@@ -12,12 +12,12 @@
 //! whole-file semantic tokens ≈ 35 ms, the 56,000-entry outline ≈ 140 ms.
 
 use criterion::{criterion_group, criterion_main, Criterion};
-use grammar_lang::ide::{self, IdeIndex};
 use grammar_lang::source::FileId;
 use grammar_lang::{analyze_text, Span};
 use std::fmt::Write;
 use std::hint::black_box;
 use std::time::Duration;
+use trellis_ide::{self as ide, IdeIndex};
 
 /// 64-bit LCG (Knuth's MMIX constants), so every run sees the same text.
 struct Lcg(u64);

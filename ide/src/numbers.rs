@@ -1,7 +1,7 @@
 //! Numbers written for people: exact fractions with their decimals.
 
-use crate::model::{fraction, Ratio};
-use crate::weight::exact_decimal;
+use grammar_lang::model::{fraction, Ratio};
+use grammar_lang::weight::exact_decimal;
 use num_bigint::BigInt;
 use num_traits::ToPrimitive;
 
@@ -67,7 +67,7 @@ pub(crate) fn percent(r: &Ratio) -> String {
 }
 
 pub(crate) fn ratio_f64(r: &Ratio) -> f64 {
-    crate::model::to_f64(r)
+    grammar_lang::model::to_f64(r)
 }
 
 /// A float with six significant digits, without trailing zeros.

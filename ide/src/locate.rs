@@ -1,12 +1,12 @@
 //! Finding things in one file's syntax by binary search, and tying syntax
 //! nodes to the ids of the semantic model.
 
-use crate::analysis::Analysis;
-use crate::model::{NtId, RuleId};
-use crate::source::FileId;
-use crate::span::Span;
-use crate::syntax::ast::{Alternative, Block, Decl, SyntaxFile};
-use crate::syntax::lexer::Token;
+use grammar_lang::analysis::Analysis;
+use grammar_lang::model::{NtId, RuleId};
+use grammar_lang::source::FileId;
+use grammar_lang::span::Span;
+use grammar_lang::syntax::ast::{Alternative, Block, Decl, SyntaxFile};
+use grammar_lang::syntax::lexer::Token;
 
 /// The syntax of `file`, if the analysis has such a file.
 pub(crate) fn syntax(analysis: &Analysis, file: FileId) -> Option<&SyntaxFile> {
@@ -70,8 +70,9 @@ pub(crate) fn decls_in(syntax: &SyntaxFile, range: Span) -> &[Decl] {
 /// one ending there.
 pub(crate) fn token_at(tokens: &[Token], offset: usize) -> Option<usize> {
     let i = tokens.partition_point(|t| (t.span.end as usize) <= offset);
-    let significant =
-        |t: &Token| !t.kind.is_trivia() && t.kind != crate::syntax::lexer::TokenKind::Newline;
+    let significant = |t: &Token| {
+        !t.kind.is_trivia() && t.kind != grammar_lang::syntax::lexer::TokenKind::Newline
+    };
     if let Some(t) = tokens.get(i) {
         if t.span.start as usize <= offset && significant(t) {
             return Some(i);

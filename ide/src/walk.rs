@@ -1,7 +1,7 @@
 //! Visiting the named things of a file's syntax in source order.
 
-use crate::span::Span;
-use crate::syntax::ast::{Decl, Item, Str, TreeChild, TreeSyntax};
+use grammar_lang::span::Span;
+use grammar_lang::syntax::ast::{Decl, Item, Str, TreeChild, TreeSyntax};
 
 /// One leaf of the syntax worth naming, in source order.
 #[derive(Clone, Copy, Debug)]

@@ -1,12 +1,12 @@
 //! What is at an offset.
 
 use super::locate::{self, find_touching, token_at, touches};
-use crate::analysis::Analysis;
-use crate::model::{NtId, RuleId, TermId};
-use crate::source::{resolve_use, FileId};
-use crate::span::Span;
-use crate::syntax::ast::{Block, Decl, Item, TestBlock, TreeChild, TreeSyntax};
-use crate::syntax::lexer::TokenKind;
+use grammar_lang::analysis::Analysis;
+use grammar_lang::model::{NtId, RuleId, TermId};
+use grammar_lang::source::{resolve_use, FileId};
+use grammar_lang::span::Span;
+use grammar_lang::syntax::ast::{Block, Decl, Item, TestBlock, TreeChild, TreeSyntax};
+use grammar_lang::syntax::lexer::TokenKind;
 
 /// How a non-terminal occurs where it was found.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]

@@ -1,11 +1,11 @@
 //! Completion: names and keywords that fit where the cursor is.
 
 use super::locate;
-use crate::analysis::Analysis;
-use crate::source::FileId;
-use crate::span::Span;
-use crate::syntax::ast::Decl;
-use crate::syntax::lexer::{Token, TokenKind};
+use grammar_lang::analysis::Analysis;
+use grammar_lang::source::FileId;
+use grammar_lang::span::Span;
+use grammar_lang::syntax::ast::Decl;
+use grammar_lang::syntax::lexer::{Token, TokenKind};
 
 /// What a completion inserts.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -118,7 +118,7 @@ pub fn completions(analysis: &Analysis, file: FileId, offset: usize) -> Completi
     };
     let names = |defined: bool, items: &mut Vec<CompletionItem>| -> bool {
         let query: Vec<char> = prefix.chars().flat_map(char::to_lowercase).collect();
-        let mut found: Vec<(u8, usize, &str, crate::model::NtId)> = grammar
+        let mut found: Vec<(u8, usize, &str, grammar_lang::model::NtId)> = grammar
             .nt_ids()
             .filter(|&nt| grammar.nonterminal(nt).is_defined() == defined)
             .filter_map(|nt| {
@@ -287,7 +287,7 @@ fn context(analysis: &Analysis, file: FileId, tokens: &[Token], before: usize) -
 }
 
 /// The `{` of a test block (the AST keeps only the whole span).
-fn body_open(test: &crate::syntax::ast::TestBlock, tokens: &[Token]) -> Option<Span> {
+fn body_open(test: &grammar_lang::syntax::ast::TestBlock, tokens: &[Token]) -> Option<Span> {
     let i = tokens.partition_point(|t| t.span.start < test.name.span.end);
     tokens[i..]
         .iter()
@@ -297,7 +297,7 @@ fn body_open(test: &crate::syntax::ast::TestBlock, tokens: &[Token]) -> Option<S
 }
 
 /// The `}` closing a test block, if its span ends with one.
-fn close_of(test: &crate::syntax::ast::TestBlock, tokens: &[Token]) -> Option<Span> {
+fn close_of(test: &grammar_lang::syntax::ast::TestBlock, tokens: &[Token]) -> Option<Span> {
     let i = tokens.partition_point(|t| t.span.end < test.span.end);
     tokens
         .get(i)

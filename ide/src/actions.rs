@@ -6,14 +6,14 @@
 
 use super::locate::{self, line_start, next_line_start};
 use super::TextEdit;
-use crate::analysis::Analysis;
-use crate::diagnostic::{Code, Diagnostic, Location};
-use crate::model::{fraction, Notation, Ratio};
-use crate::source::FileId;
-use crate::span::Span;
-use crate::syntax::ast::{Block, Decl};
-use crate::syntax::lexer::quote;
-use crate::weight::exact_decimal;
+use grammar_lang::analysis::Analysis;
+use grammar_lang::diagnostic::{Code, Diagnostic, Location};
+use grammar_lang::model::{fraction, Notation, Ratio};
+use grammar_lang::source::FileId;
+use grammar_lang::span::Span;
+use grammar_lang::syntax::ast::{Block, Decl};
+use grammar_lang::syntax::lexer::quote;
+use grammar_lang::weight::exact_decimal;
 use num_bigint::BigInt;
 use num_traits::{Signed, Zero};
 

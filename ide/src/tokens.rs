@@ -2,10 +2,10 @@
 
 use super::locate;
 use super::walk::{walk, Node};
-use crate::analysis::Analysis;
-use crate::source::FileId;
-use crate::span::Span;
-use crate::syntax::lexer::TokenKind;
+use grammar_lang::analysis::Analysis;
+use grammar_lang::source::FileId;
+use grammar_lang::span::Span;
+use grammar_lang::syntax::lexer::TokenKind;
 
 /// What a token is.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]

@@ -2,12 +2,12 @@
 
 use super::locate;
 use super::numbers::{exact, float};
-use crate::analysis::Analysis;
-use crate::model::{fraction, Ratio};
-use crate::source::FileId;
-use crate::span::Span;
-use crate::syntax::ast::Decl;
-use crate::weight::exact_decimal;
+use grammar_lang::analysis::Analysis;
+use grammar_lang::model::{fraction, Ratio};
+use grammar_lang::source::FileId;
+use grammar_lang::span::Span;
+use grammar_lang::syntax::ast::Decl;
+use grammar_lang::weight::exact_decimal;
 
 /// A short label shown inside the text at `offset`.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -103,7 +103,7 @@ fn label(p: &Ratio) -> String {
     match exact_decimal(p, 4) {
         Some(d) => format!("= {d}"),
         None => {
-            let x = crate::model::to_f64(p);
+            let x = grammar_lang::model::to_f64(p);
             let digits = if x > 0.0 {
                 // Three significant digits.
                 (2.0 - x.log10().floor()).clamp(0.0, 12.0) as usize

@@ -2,13 +2,13 @@
 //! comment and the user's layout, and analysing it again gives the model
 //! the fix promised.
 
-use grammar_lang::ide::{self, CodeAction, CodeActionKind, TextEdit};
 use grammar_lang::model::Ratio;
 use grammar_lang::source::FileId;
 use grammar_lang::syntax::lexer::{lex, TokenKind};
 use grammar_lang::{analyze, analyze_text, Analysis, Code, Config, MemoryLoader, Span};
 use num_bigint::BigInt;
 use std::path::Path;
+use trellis_ide::{self as ide, CodeAction, CodeActionKind, TextEdit};
 
 const M: FileId = FileId(0);
 

@@ -1,4 +1,4 @@
-//! Reading grammar files from disk: the real [`FileLoader`] of the CLI.
+//! Reading grammar files: one loader, one wording for every failure.
 
 use grammar_lang::FileLoader;
 use std::io::ErrorKind;
@@ -14,6 +14,24 @@ impl FileLoader for DiskLoader {
     }
 }
 
+/// Loads files from the editor's open buffers first and from disk
+/// otherwise: `open` gives the text of an open buffer at a (normalized)
+/// path.
+pub struct Overlay<F>(pub F);
+
+impl<F> FileLoader for Overlay<F>
+where
+    F: Fn(&Path) -> Option<String>,
+{
+    fn load(&self, path: &Path) -> Result<String, String> {
+        let path = grammar_lang::source::normalize(path);
+        match (self.0)(&path) {
+            Some(text) => Ok(text),
+            None => read_text(&path),
+        }
+    }
+}
+
 /// The UTF-8 text of the file at `path`, or a short reason why there is none,
 /// phrased to follow "cannot read <path>: ".
 pub fn read_text(path: &Path) -> Result<String, String> {
@@ -21,7 +39,7 @@ pub fn read_text(path: &Path) -> Result<String, String> {
     decode(bytes)
 }
 
-/// Turns file bytes into text, naming the line of the first bad byte.
+/// Turns file bytes into text, naming the first bad byte and its line.
 pub fn decode(bytes: Vec<u8>) -> Result<String, String> {
     String::from_utf8(bytes).map_err(|e| {
         let offset = e.utf8_error().valid_up_to();
@@ -77,5 +95,19 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let err = read_text(dir.path()).unwrap_err();
         assert_eq!(err, "it is a directory");
+    }
+
+    #[test]
+    fn an_open_buffer_wins_over_the_disk_and_the_disk_answers_the_rest() {
+        let dir = tempfile::tempdir().unwrap();
+        let on_disk = dir.path().join("words.trellis");
+        std::fs::write(&on_disk, "W { \"disk\" }\n").unwrap();
+        let open = dir.path().join("kiosk.trellis");
+        let overlay = Overlay(|p: &Path| (p == open).then(|| "K { \"buffer\" }\n".to_string()));
+        assert_eq!(overlay.load(&open).unwrap(), "K { \"buffer\" }\n");
+        assert_eq!(overlay.load(&on_disk).unwrap(), "W { \"disk\" }\n");
+        // The same message as the disk loader's, whichever loader reads.
+        let missing = dir.path().join("absent.trellis");
+        assert_eq!(overlay.load(&missing), DiskLoader.load(&missing));
     }
 }

@@ -3,11 +3,11 @@
 use super::lookup::{lookup, Lookup, NtRole};
 use super::numbers::{code, exact, float, percent};
 use super::IdeIndex;
-use crate::analysis::Analysis;
-use crate::model::{Grammar, Notation, NtId, Ratio, RuleId, TermId};
-use crate::source::FileId;
-use crate::span::Span;
-use crate::syntax::lexer::{quote, TokenKind};
+use grammar_lang::analysis::Analysis;
+use grammar_lang::model::{Grammar, Notation, NtId, Ratio, RuleId, TermId};
+use grammar_lang::source::FileId;
+use grammar_lang::span::Span;
+use grammar_lang::syntax::lexer::{quote, TokenKind};
 use num_traits::{One, Zero};
 use std::fmt::Write;
 
@@ -283,7 +283,7 @@ fn use_hover(analysis: &Analysis, target: Option<FileId>) -> String {
     let blocks = analysis.syntax.get(file.0 as usize).map_or(0, |s| {
         s.decls
             .iter()
-            .filter(|d| matches!(d, crate::syntax::ast::Decl::Block(_)))
+            .filter(|d| matches!(d, grammar_lang::syntax::ast::Decl::Block(_)))
             .count()
     });
     format!(
@@ -299,7 +299,7 @@ fn test_hover(grammar: &Grammar, test: usize) -> Option<String> {
     let accepts = test
         .cases
         .iter()
-        .filter(|c| c.expect == crate::model::Expectation::Accept)
+        .filter(|c| c.expect == grammar_lang::model::Expectation::Accept)
         .count();
     let trees = test.cases.iter().filter(|c| c.tree.is_some()).count();
     let mut out = format!("**test** {}\n", code(&quote(&test.name)));

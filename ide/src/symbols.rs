@@ -2,11 +2,11 @@
 
 use super::locate;
 use super::numbers::exact;
-use crate::analysis::Analysis;
-use crate::diagnostic::Location;
-use crate::source::FileId;
-use crate::span::Span;
-use crate::syntax::ast::{Decl, Expectation};
+use grammar_lang::analysis::Analysis;
+use grammar_lang::diagnostic::Location;
+use grammar_lang::source::FileId;
+use grammar_lang::span::Span;
+use grammar_lang::syntax::ast::{Decl, Expectation};
 
 /// What an outline entry is.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
@@ -170,7 +170,7 @@ pub struct WorkspaceSymbol {
 pub fn workspace_symbols(analysis: &Analysis, query: &str, limit: usize) -> Vec<WorkspaceSymbol> {
     let grammar = &analysis.grammar;
     let query: Vec<char> = query.chars().flat_map(char::to_lowercase).collect();
-    let mut matches: Vec<(u8, usize, &str, crate::model::NtId)> = Vec::new();
+    let mut matches: Vec<(u8, usize, &str, grammar_lang::model::NtId)> = Vec::new();
     for nt in grammar.nt_ids() {
         let symbol = grammar.nonterminal(nt);
         if symbol.block.is_none() {

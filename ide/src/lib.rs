@@ -1,14 +1,19 @@
-//! Editor services over an [`Analysis`]: everything a language server
-//! needs, as plain data. No I/O and no protocol types: the server only
-//! translates between its protocol and these functions.
+//! # trellis-ide — the analysis façade
+//!
+//! The one place the shells (`trellis-cli`, `trellis-lsp`) ask about a
+//! grammar. [`analyze`] gives an [`Analysis`]: the front end's findings
+//! *and* the engine-backed ones (`leaky`), at the levels `trellis.toml`
+//! sets, with every editor feature as a method. Pure: no I/O (files come
+//! through a [`FileLoader`](grammar_lang::FileLoader)), no threads, no
+//! protocol or terminal types; the shells translate.
 //!
 //! # Conventions
 //!
 //! * Every position is a byte offset into one file of the analysis
 //!   (`analysis.sources`, identified by a [`FileId`]); every range is a
 //!   [`Span`] of byte offsets. Converting to editor positions (UTF-16 for
-//!   LSP) is the caller's job, with the file's [`LineIndex`](crate::LineIndex)
-//!   (`analysis.sources.get(file).lines`).
+//!   LSP) is the caller's job, with the file's
+//!   [`LineIndex`](grammar_lang::LineIndex) (`analysis.sources.get(file).lines`).
 //! * A cursor touches a token when it is inside it or right after its last
 //!   character (`Name|`). When two tokens touch the cursor, the one that
 //!   starts at the cursor wins.
@@ -20,38 +25,38 @@
 //!
 //! # Cost
 //!
-//! Build one [`IdeIndex`] per analysis (`IdeIndex::new(&analysis)`, linear
-//! in the size of the grammar) and keep it next to the analysis. With it,
-//! every request is a binary search in the syntax of one file plus work
-//! proportional to the answer; the few requests that must look at every
-//! file (references, rename, workspace symbols, completion lists) are one
-//! linear scan, never a re-analysis.
+//! [`Analysis`] builds one [`IdeIndex`] on first use (linear in the size of
+//! the grammar) and keeps it. With it, every request is a binary search in
+//! the syntax of one file plus work proportional to the answer; the few
+//! requests that must look at every file (references, rename, workspace
+//! symbols, completion lists) are one linear scan, never a re-analysis.
 //!
 //! # The API
 //!
-//! | Request | Function | Needs the index |
+//! | Request | [`Analysis`] method | answer |
 //! |---|---|---|
-//! | what is at an offset | [`lookup`] → [`Lookup`] | no |
-//! | hover | [`hover`] → [`Hover`] (markdown + span) | yes |
-//! | go to definition | [`definition`] → [`Location`] | no |
-//! | find references | [`references`] → `Vec<Location>` | no |
-//! | rename | [`prepare_rename`] → `Span`, [`rename`] → `Vec<TextEdit>` | no |
-//! | outline | [`document_symbols`] → `Vec<DocumentSymbol>` | no |
-//! | symbol search | [`workspace_symbols`] → `Vec<WorkspaceSymbol>` | no |
-//! | completion | [`completions`] → [`CompletionList`] | no |
-//! | highlighting | [`semantic_tokens`] → `Vec<SemanticToken>` | no |
-//! | quick fixes | [`code_actions`] → `Vec<CodeAction>` | no |
-//! | inlay hints | [`inlay_hints`] → `Vec<InlayHint>` | no |
-//! | code lenses | [`code_lenses`] → `Vec<CodeLens>` | no |
-//! | folding | [`folding_ranges`] → `Vec<FoldingRange>` | no |
-//! | links on `use` paths | [`document_links`] → `Vec<DocumentLink>` | no |
-//! | highlight occurrences | [`document_highlights`] → `Vec<Highlight>` | no |
+//! | what is at an offset | `lookup` | [`Lookup`] |
+//! | hover | `hover` | [`Hover`] (markdown + span), with the engine's numbers |
+//! | go to definition | `definition` | [`Location`] |
+//! | find references | `references` | `Vec<Location>` |
+//! | rename | `prepare_rename`, `rename` | `Span`, `Vec<TextEdit>` |
+//! | outline | `document_symbols` | `Vec<DocumentSymbol>` |
+//! | symbol search | `workspace_symbols` | `Vec<WorkspaceSymbol>` |
+//! | completion | `completions` | [`CompletionList`] |
+//! | highlighting | `semantic_tokens` | `Vec<SemanticToken>` |
+//! | quick fixes | `code_actions` | `Vec<CodeAction>` |
+//! | inlay hints | `inlay_hints` | `Vec<InlayHint>` |
+//! | code lenses | `code_lenses` | `Vec<CodeLens>` |
+//! | folding | `folding_ranges` | `Vec<FoldingRange>` |
+//! | links on `use` paths | `document_links` | `Vec<DocumentLink>` |
+//! | highlight occurrences | `document_highlights` | `Vec<Highlight>` |
 //!
-//! Numbers that only the probabilistic engine knows (termination
-//! probabilities, expected rule uses) are handed to [`hover`] in an
-//! optional [`EngineFacts`]; without them hover still answers.
+//! Each method calls the function of the same name in this crate, which
+//! takes the front end's `grammar_lang::Analysis` (and the index or the
+//! engine's numbers explicitly): the feature tests call those directly.
 
 mod actions;
+mod analysis;
 mod completion;
 mod hints;
 mod hover;
@@ -65,6 +70,7 @@ mod tokens;
 mod walk;
 
 pub use actions::{code_actions, CodeAction, CodeActionKind};
+pub use analysis::{analyze, analyze_text, Analysis, NotRunnable};
 pub use completion::{completions, CompletionItem, CompletionKind, CompletionList};
 pub use hints::{code_lenses, inlay_hints, CodeLens, CodeLensKind, InlayHint};
 pub use hover::{hover, EngineFacts, Hover};
@@ -79,11 +85,10 @@ pub use symbols::{
 };
 pub use tokens::{semantic_tokens, SemanticToken, TokenClass, TokenModifiers};
 
-use crate::analysis::Analysis;
-pub use crate::diagnostic::Location;
-use crate::model::{Grammar, RuleId, Sym};
-use crate::source::FileId;
-use crate::span::Span;
+pub use grammar_lang::diagnostic::Location;
+use grammar_lang::model::{Grammar, RuleId, Sym};
+use grammar_lang::source::FileId;
+use grammar_lang::span::Span;
 
 /// Replace `span` of `file` with `new_text`.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -93,7 +98,7 @@ pub struct TextEdit {
     pub new_text: String,
 }
 
-/// Tables derived from one [`Analysis`] that several requests need. Build
+/// Tables derived from one analysis that several requests need. Build
 /// it once per analysis (linear time) and pass it to the requests that take
 /// it. It holds no reference to the analysis.
 #[derive(Clone, Debug)]
@@ -110,13 +115,13 @@ pub struct IdeIndex {
 }
 
 impl IdeIndex {
-    pub fn new(analysis: &Analysis) -> Self {
+    pub fn new(analysis: &grammar_lang::Analysis) -> Self {
         let grammar = &analysis.grammar;
         let reachable = grammar
             .start
             .filter(|&s| grammar.nonterminal(s).is_defined())
-            .map(|s| crate::check::graph::reachable_from(grammar, s));
-        let productive = crate::check::graph::productive(grammar);
+            .map(|s| grammar_lang::check::graph::reachable_from(grammar, s));
+        let productive = grammar_lang::check::graph::productive(grammar);
         let (term_offsets, term_rules) = terminal_rules(grammar);
         IdeIndex {
             reachable,
@@ -127,18 +132,18 @@ impl IdeIndex {
     }
 
     /// Whether `nt` is reachable from the start symbol (`None`: no usable start).
-    pub fn is_reachable(&self, nt: crate::model::NtId) -> Option<bool> {
+    pub fn is_reachable(&self, nt: grammar_lang::model::NtId) -> Option<bool> {
         self.reachable
             .as_ref()
             .and_then(|r| r.get(nt.index()).copied())
     }
 
-    pub fn is_productive(&self, nt: crate::model::NtId) -> bool {
+    pub fn is_productive(&self, nt: grammar_lang::model::NtId) -> bool {
         self.productive.get(nt.index()).copied().unwrap_or(false)
     }
 
     /// The rules that produce terminal `t` directly, in rule order.
-    pub fn rules_producing(&self, t: crate::model::TermId) -> &[RuleId] {
+    pub fn rules_producing(&self, t: grammar_lang::model::TermId) -> &[RuleId] {
         match (
             self.term_offsets.get(t.index()),
             self.term_offsets.get(t.index() + 1),
@@ -153,7 +158,7 @@ impl IdeIndex {
 fn terminal_rules(grammar: &Grammar) -> (Vec<usize>, Vec<RuleId>) {
     let n = grammar.terminals.len();
     let mut offsets = vec![0usize; n + 1];
-    let each_rule_terms = |rule: &crate::model::Rule, f: &mut dyn FnMut(usize)| {
+    let each_rule_terms = |rule: &grammar_lang::model::Rule, f: &mut dyn FnMut(usize)| {
         for (i, &sym) in rule.rhs.iter().enumerate() {
             if let Sym::T(t) = sym {
                 // Count a terminal once per rule.

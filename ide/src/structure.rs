@@ -4,11 +4,11 @@
 use super::locate;
 use super::lookup::{lookup, Lookup};
 use super::navigation::{names_in_file, words_in_file};
-use crate::analysis::Analysis;
-use crate::source::{resolve_use, FileId};
-use crate::span::Span;
-use crate::syntax::ast::Decl;
-use crate::syntax::lexer::TokenKind;
+use grammar_lang::analysis::Analysis;
+use grammar_lang::source::{resolve_use, FileId};
+use grammar_lang::span::Span;
+use grammar_lang::syntax::ast::Decl;
+use grammar_lang::syntax::lexer::TokenKind;
 
 /// What a foldable region holds.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]

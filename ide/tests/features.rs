@@ -2,11 +2,11 @@
 //! non-ASCII names: what is found where, what hover says, where navigation
 //! leads and what rename changes.
 
-use grammar_lang::ide::{self, EngineFacts, IdeIndex, Lookup, NtRole, RenameError, TextEdit};
 use grammar_lang::source::FileId;
 use grammar_lang::syntax::lexer::TokenKind;
 use grammar_lang::{analyze, Analysis, Config, Location, MemoryLoader, Span};
 use std::path::Path;
+use trellis_ide::{self as ide, EngineFacts, IdeIndex, Lookup, NtRole, RenameError, TextEdit};
 
 const MAIN: &str = r#"grammar fähre
 start Anfrage
@@ -514,7 +514,7 @@ fn renaming_a_misspelt_undefined_use_onto_a_defined_symbol_fixes_it() {
 
 #[test]
 fn semantic_tokens_classify_every_token_and_mark_definitions() {
-    use grammar_lang::ide::{TokenClass as C, TokenModifiers};
+    use trellis_ide::{TokenClass as C, TokenModifiers};
     let text = "## Doc\nstart S # c\nS relative {\n  2 \"wört\" Ä\n}\ntest \"t\" { accept \"wört\" as (S \"wört\") }\n";
     let a = grammar_lang::analyze_text(text);
     let toks = ide::semantic_tokens(&a, M, None);
@@ -565,7 +565,7 @@ fn semantic_tokens_classify_every_token_and_mark_definitions() {
 
 #[test]
 fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
-    use grammar_lang::ide::{DocumentSymbol, SymbolKind};
+    use trellis_ide::{DocumentSymbol, SymbolKind};
     let a = analysis();
     let outline = ide::document_symbols(&a, L);
     let summary: Vec<(&str, SymbolKind, Option<&str>, usize)> = outline
@@ -775,7 +775,7 @@ fn inlay_hints_approximate_long_fractions() {
 #[test]
 fn code_lenses_sit_on_start_and_on_each_test() {
     // Parse, sample and run every test above `start`; run one above each test.
-    use grammar_lang::ide::{CodeLens, CodeLensKind};
+    use trellis_ide::{CodeLens, CodeLensKind};
     let a = analysis();
     assert_eq!(
         ide::code_lenses(&a, M),
@@ -808,7 +808,7 @@ fn code_lenses_sit_on_start_and_on_each_test() {
 
 #[test]
 fn folding_ranges_cover_multi_line_blocks_tests_and_comment_runs() {
-    use grammar_lang::ide::{FoldKind, FoldingRange};
+    use trellis_ide::{FoldKind, FoldingRange};
     let a = analysis();
     let folds = ide::folding_ranges(&a, M);
     let fold = |span: Span, kind| FoldingRange { span, kind };
@@ -861,7 +861,7 @@ fn folding_ranges_cover_multi_line_blocks_tests_and_comment_runs() {
 
 #[test]
 fn document_links_lead_from_use_paths_to_loaded_files() {
-    use grammar_lang::ide::DocumentLink;
+    use trellis_ide::DocumentLink;
     let a = analysis();
     assert_eq!(
         ide::document_links(&a, M),
@@ -876,7 +876,7 @@ fn document_links_lead_from_use_paths_to_loaded_files() {
 
 #[test]
 fn document_highlights_mark_definitions_and_uses_in_one_file() {
-    use grammar_lang::ide::Highlight;
+    use trellis_ide::Highlight;
     let a = analysis();
     let got = ide::document_highlights(&a, M, inside(MAIN, "Fahrkarte", 2, 0));
     let h = |span, definition| Highlight { span, definition };

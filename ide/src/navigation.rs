@@ -4,11 +4,11 @@ use super::locate;
 use super::lookup::{lookup, Lookup};
 use super::walk::{walk, Node};
 use super::TextEdit;
-use crate::analysis::Analysis;
-use crate::diagnostic::Location;
-use crate::source::FileId;
-use crate::span::Span;
-use crate::syntax::lexer::is_valid_symbol_name;
+use grammar_lang::analysis::Analysis;
+use grammar_lang::diagnostic::Location;
+use grammar_lang::source::FileId;
+use grammar_lang::span::Span;
+use grammar_lang::syntax::lexer::is_valid_symbol_name;
 use std::fmt;
 
 /// Where the thing at `offset` of `file` is defined: a non-terminal's block
@@ -168,7 +168,7 @@ pub fn prepare_rename(
         Some(Lookup::NonTerminal { span, .. }) => Ok(span),
         Some(Lookup::Terminal { .. }) => Err(RenameError::Terminal),
         Some(Lookup::Keyword { keyword, .. }) => Err(RenameError::Keyword(
-            crate::syntax::lexer::TokenKind::KEYWORDS
+            grammar_lang::syntax::lexer::TokenKind::KEYWORDS
                 .iter()
                 .find(|(_, k)| *k == keyword)
                 .map_or("keyword", |(s, _)| s),

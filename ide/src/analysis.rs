@@ -1,0 +1,312 @@
+//! The façade: one analysis of a grammar that answers everything the
+//! shells ask about it.
+//!
+//! [`analyze`] runs the front end (`grammar_lang::analyze`: syntax, model,
+//! static checks) and then the engine-backed checks (`leaky`), each finding
+//! at the level the configuration gives it, so the command line, the
+//! language server and the test runner see the same findings. The tables
+//! the editor features need ([`IdeIndex`]) and the engine's numbers for
+//! hover ([`EngineFacts`]) are computed on first use and kept beside it.
+
+use crate::{
+    actions, completion, hints, hover, lookup, navigation, structure, symbols, tokens, CodeAction,
+    CodeLens, CompletionList, DocumentLink, DocumentSymbol, EngineFacts, FoldingRange, Highlight,
+    Hover, IdeIndex, InlayHint, Location, Lookup, RenameError, SemanticToken, TextEdit,
+    WorkspaceSymbol,
+};
+use grammar_lang::diagnostic::{Code, Diagnostic};
+use grammar_lang::model::NtId;
+use grammar_lang::source::{FileId, FileLoader};
+use grammar_lang::syntax::lexer::quote;
+use grammar_lang::{Config, Span};
+use std::ops::Deref;
+use std::path::Path;
+use std::sync::OnceLock;
+
+/// Everything known about one grammar: the front end's analysis (sources,
+/// syntax, model, findings; reached through `Deref`) with the engine-backed
+/// findings already among its diagnostics, and the editor features as
+/// methods.
+///
+/// Cheap to share between threads: the lazily built tables are behind
+/// `OnceLock`s.
+#[derive(Debug)]
+pub struct Analysis {
+    core: grammar_lang::Analysis,
+    config: Config,
+    index: OnceLock<IdeIndex>,
+    facts: OnceLock<Option<EngineFacts>>,
+}
+
+/// Analyses the grammar whose root file is `root` with text `text`, reading
+/// `use`d files through `loader`: every static check and every
+/// engine-backed check, at the levels `config` sets.
+pub fn analyze(root: &Path, text: &str, loader: &dyn FileLoader, config: &Config) -> Analysis {
+    let mut core = grammar_lang::analyze(root, text, loader, config);
+    add_leak_finding(&mut core, config);
+    Analysis {
+        config: config.clone(),
+        ..Analysis::from_core(core)
+    }
+}
+
+/// [`analyze`] on one self-contained text (a `use` fails as missing) with
+/// the default configuration: for tests and tools.
+pub fn analyze_text(text: &str) -> Analysis {
+    analyze(
+        Path::new("grammar.trellis"),
+        text,
+        &grammar_lang::MemoryLoader::new(),
+        &Config::default(),
+    )
+}
+
+/// Adds the engine's `leaky` finding to a finished static analysis, at the
+/// level the configuration gives it. Only grammars without errors are
+/// measured (the numbers of a broken grammar would describe a grammar other
+/// than the one meant), and not at all when `leaky` is off.
+fn add_leak_finding(analysis: &mut grammar_lang::Analysis, config: &Config) {
+    let Some(severity) = config.level(Code::Leaky) else {
+        return;
+    };
+    if analysis.has_errors() {
+        return;
+    }
+    let Some(mut finding) = trellis_engine::consistency::leak_finding(&analysis.grammar) else {
+        return;
+    };
+    finding.severity = severity;
+    let at = analysis.diagnostics.partition_point(|d| {
+        (d.location.file, d.location.span.start)
+            <= (finding.location.file, finding.location.span.start)
+    });
+    analysis.diagnostics.insert(at, finding);
+}
+
+impl Deref for Analysis {
+    type Target = grammar_lang::Analysis;
+
+    fn deref(&self) -> &grammar_lang::Analysis {
+        &self.core
+    }
+}
+
+/// Why a grammar cannot be run by the engine (parsed with, sampled from,
+/// tested).
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum NotRunnable {
+    /// The grammar has this many errors; its diagnostics say what they are.
+    Errors(usize),
+    /// No `start` declaration and no symbol named instead.
+    NoStart,
+    /// The symbol asked for has no block.
+    NoSuchSymbol(String),
+}
+
+impl std::fmt::Display for NotRunnable {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            NotRunnable::Errors(n) => write!(
+                f,
+                "the grammar has {n} error{s}, so it cannot be run; fix {them} first",
+                s = if *n == 1 { "" } else { "s" },
+                them = if *n == 1 { "it" } else { "them" },
+            ),
+            NotRunnable::NoStart => {
+                f.write_str("the grammar has no `start` declaration; name a symbol to start from")
+            }
+            NotRunnable::NoSuchSymbol(name) => write!(
+                f,
+                "the grammar has no block named {}",
+                if grammar_lang::syntax::lexer::is_valid_symbol_name(name) {
+                    format!("`{name}`")
+                } else {
+                    quote(name)
+                }
+            ),
+        }
+    }
+}
+
+impl std::error::Error for NotRunnable {}
+
+impl Analysis {
+    /// Wraps a front-end analysis as it is (no engine-backed findings are
+    /// added; the default configuration is recorded): for callers that ran
+    /// `grammar_lang::analyze` themselves.
+    pub fn from_core(core: grammar_lang::Analysis) -> Self {
+        Analysis {
+            core,
+            config: Config::default(),
+            index: OnceLock::new(),
+            facts: OnceLock::new(),
+        }
+    }
+
+    /// The front end's analysis.
+    pub fn core(&self) -> &grammar_lang::Analysis {
+        &self.core
+    }
+
+    /// The configuration the grammar was analysed with.
+    pub fn config(&self) -> &Config {
+        &self.config
+    }
+
+    /// The engine's `leaky` finding for a consistency report of this
+    /// grammar (from any symbol, not only `start`), at the level the
+    /// configuration sets; `None` when nothing leaks or `leaky` is off.
+    pub fn leak_finding(
+        &self,
+        report: &trellis_engine::consistency::ConsistencyReport,
+    ) -> Option<Diagnostic> {
+        let severity = self.config.level(Code::Leaky)?;
+        let mut finding =
+            trellis_engine::consistency::leaky_diagnostic(&self.core.grammar, report)?;
+        finding.severity = severity;
+        Some(finding)
+    }
+
+    /// The tables the editor features share, built on first use.
+    pub fn index(&self) -> &IdeIndex {
+        self.index.get_or_init(|| IdeIndex::new(&self.core))
+    }
+
+    /// The engine's numbers for hover (termination probabilities, expected
+    /// rule uses), computed on first use; `None` when the grammar has
+    /// errors or no start symbol.
+    pub fn facts(&self) -> Option<&EngineFacts> {
+        self.facts
+            .get_or_init(|| EngineFacts::compute(&self.core))
+            .as_ref()
+    }
+
+    /// The grammar, if the engine may run it: no errors.
+    pub fn runnable(&self) -> Result<&grammar_lang::Grammar, NotRunnable> {
+        match self.core.count(grammar_lang::Severity::Error) {
+            0 => Ok(&self.core.grammar),
+            n => Err(NotRunnable::Errors(n)),
+        }
+    }
+
+    /// The symbol a derivation starts from: `from` when given (it must have
+    /// a block), else the grammar's `start`.
+    pub fn start_symbol(&self, from: Option<&str>) -> Result<NtId, NotRunnable> {
+        let g = &self.core.grammar;
+        match from {
+            Some(name) => g
+                .nt(name)
+                .filter(|&a| g.nonterminal(a).is_defined())
+                .ok_or_else(|| NotRunnable::NoSuchSymbol(name.to_string())),
+            None => g.start.ok_or(NotRunnable::NoStart),
+        }
+    }
+
+    /// The findings located in `file`, in order.
+    pub fn diagnostics_in(&self, file: FileId) -> impl Iterator<Item = &Diagnostic> {
+        self.core
+            .diagnostics
+            .iter()
+            .filter(move |d| d.location.file == file)
+    }
+
+    // --- editor features (see the crate documentation for each) ---
+
+    pub fn lookup(&self, file: FileId, offset: usize) -> Option<Lookup> {
+        lookup::lookup(&self.core, file, offset)
+    }
+
+    pub fn hover(&self, file: FileId, offset: usize) -> Option<Hover> {
+        hover::hover(&self.core, self.index(), file, offset, self.facts())
+    }
+
+    pub fn definition(&self, file: FileId, offset: usize) -> Option<Location> {
+        navigation::definition(&self.core, file, offset)
+    }
+
+    pub fn references(
+        &self,
+        file: FileId,
+        offset: usize,
+        include_definition: bool,
+    ) -> Vec<Location> {
+        navigation::references(&self.core, file, offset, include_definition)
+    }
+
+    pub fn prepare_rename(&self, file: FileId, offset: usize) -> Result<Span, RenameError> {
+        navigation::prepare_rename(&self.core, file, offset)
+    }
+
+    pub fn rename(
+        &self,
+        file: FileId,
+        offset: usize,
+        new_name: &str,
+    ) -> Result<Vec<TextEdit>, RenameError> {
+        navigation::rename(&self.core, file, offset, new_name)
+    }
+
+    pub fn document_symbols(&self, file: FileId) -> Vec<DocumentSymbol> {
+        symbols::document_symbols(&self.core, file)
+    }
+
+    pub fn workspace_symbols(&self, query: &str, limit: usize) -> Vec<WorkspaceSymbol> {
+        symbols::workspace_symbols(&self.core, query, limit)
+    }
+
+    pub fn completions(&self, file: FileId, offset: usize) -> CompletionList {
+        completion::completions(&self.core, file, offset)
+    }
+
+    pub fn semantic_tokens(&self, file: FileId, range: Option<Span>) -> Vec<SemanticToken> {
+        tokens::semantic_tokens(&self.core, file, range)
+    }
+
+    pub fn code_actions(&self, file: FileId, span: Span) -> Vec<CodeAction> {
+        actions::code_actions(&self.core, file, span)
+    }
+
+    pub fn inlay_hints(&self, file: FileId, range: Span) -> Vec<InlayHint> {
+        hints::inlay_hints(&self.core, file, range)
+    }
+
+    pub fn code_lenses(&self, file: FileId) -> Vec<CodeLens> {
+        hints::code_lenses(&self.core, file)
+    }
+
+    pub fn folding_ranges(&self, file: FileId) -> Vec<FoldingRange> {
+        structure::folding_ranges(&self.core, file)
+    }
+
+    pub fn document_links(&self, file: FileId) -> Vec<DocumentLink> {
+        structure::document_links(&self.core, file)
+    }
+
+    pub fn document_highlights(&self, file: FileId, offset: usize) -> Vec<Highlight> {
+        structure::document_highlights(&self.core, file, offset)
+    }
+}
+
+impl EngineFacts {
+    /// The engine's consistency analysis of a grammar without errors, as
+    /// the numbers hover shows; `None` for a grammar with errors or one the
+    /// analysis cannot take (no start symbol).
+    pub fn compute(analysis: &grammar_lang::Analysis) -> Option<EngineFacts> {
+        if analysis.has_errors() {
+            return None;
+        }
+        let report = trellis_engine::consistency::analyze(&analysis.grammar).ok()?;
+        Some(EngineFacts {
+            termination: report
+                .symbols
+                .iter()
+                .map(|s| s.termination_probability)
+                .collect(),
+            rule_expected_uses: report
+                .rule_expected_uses
+                .iter()
+                .map(|u| u.unwrap_or(f64::INFINITY))
+                .collect(),
+        })
+    }
+}

@@ -1,0 +1,440 @@
+//! `trellis.toml`: finding the file that configures a grammar, noticing
+//! when it changes, and reading it.
+//!
+//! The configuration that applies to a grammar file is the nearest
+//! `trellis.toml` in the file's directory or any directory above it:
+//!
+//! ```toml
+//! max-arity = 6
+//!
+//! [checks]
+//! unreachable = "error"
+//! duplicate-rule = "off"
+//! ```
+
+use crate::files;
+use grammar_lang::config::Level;
+use grammar_lang::source::normalize;
+use grammar_lang::Severity;
+use grammar_lang::{Code, Config, Diagnostic, FileId, FileLoader, Location, SourceMap, Span};
+use std::collections::{BTreeMap, HashMap};
+use std::path::{Path, PathBuf};
+
+/// The name of the configuration file looked up above a grammar.
+pub const FILE_NAME: &str = "trellis.toml";
+
+/// A problem in a configuration text, with the byte range it concerns if known.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct ConfigError {
+    pub message: String,
+    pub span: Option<std::ops::Range<usize>>,
+}
+
+#[derive(serde::Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+struct RawConfig {
+    max_arity: Option<toml::Spanned<i64>>,
+    #[serde(default)]
+    checks: BTreeMap<toml::Spanned<String>, toml::Spanned<String>>,
+}
+
+/// Reads a `trellis.toml` text. Every problem is reported, not just the first.
+pub fn parse(text: &str) -> Result<Config, Vec<ConfigError>> {
+    let raw: RawConfig = toml::from_str(text).map_err(|e| {
+        vec![ConfigError {
+            message: e.message().to_string(),
+            span: e.span(),
+        }]
+    })?;
+    let mut config = Config::default();
+    let mut errors = Vec::new();
+    if let Some(arity) = raw.max_arity {
+        let span = arity.span();
+        match usize::try_from(*arity.get_ref()) {
+            Ok(n) if n >= 2 => config.max_arity = n,
+            _ => errors.push(ConfigError {
+                message: "`max-arity` must be a whole number of at least 2".into(),
+                span: Some(span),
+            }),
+        }
+    }
+    for (key, value) in raw.checks {
+        let Some(code) = Code::parse(key.get_ref()) else {
+            let known: Vec<_> = Code::ALL.iter().map(|c| c.as_str()).collect();
+            errors.push(ConfigError {
+                message: format!(
+                    "unknown check `{}`; known checks: {}",
+                    key.get_ref(),
+                    known.join(", ")
+                ),
+                span: Some(key.span()),
+            });
+            continue;
+        };
+        let level = match value.get_ref().as_str() {
+            "off" => Level::Off,
+            other => match Severity::parse(other) {
+                Some(sev) => Level::At(sev),
+                None => {
+                    errors.push(ConfigError {
+                        message: format!(
+                            "`{other}` is not a level for `{}`: use \"error\", \"warning\", \"note\" or \"off\"",
+                            code
+                        ),
+                        span: Some(value.span()),
+                    });
+                    continue;
+                }
+            },
+        };
+        if code == Code::Syntax && level != Level::At(Severity::Error) {
+            errors.push(ConfigError {
+                message: "syntax errors are always errors".into(),
+                span: Some(value.span()),
+            });
+            continue;
+        }
+        config.levels.insert(code, level);
+    }
+    errors.sort_by_key(|e| e.span.as_ref().map_or(0, |s| s.start));
+    if errors.is_empty() {
+        Ok(config)
+    } else {
+        Err(errors)
+    }
+}
+
+/// A `trellis.toml` that could not be used.
+#[derive(Clone, Debug)]
+pub struct ConfigProblem {
+    /// The file, as it should be shown to the user.
+    pub path: PathBuf,
+    pub kind: ProblemKind,
+}
+
+#[derive(Clone, Debug)]
+pub enum ProblemKind {
+    /// The file exists but cannot be read as text.
+    Unreadable(String),
+    /// The text is read; these entries are wrong.
+    Invalid {
+        text: String,
+        errors: Vec<ConfigError>,
+    },
+}
+
+impl ConfigProblem {
+    /// The problems as diagnostics with code `config`, located in the file
+    /// (`sources` holds the file when its text is known).
+    pub fn diagnostics(&self) -> (SourceMap, Vec<Diagnostic>) {
+        let mut sources = SourceMap::new();
+        match &self.kind {
+            ProblemKind::Unreadable(reason) => {
+                let file = sources.add(self.path.clone(), String::new());
+                let d = Diagnostic::new(
+                    Code::Config,
+                    Location::new(file, Span::point(0)),
+                    format!("cannot read {}: {reason}", self.path.display()),
+                );
+                (sources, vec![d])
+            }
+            ProblemKind::Invalid { text, errors } => {
+                let file: FileId = sources.add(self.path.clone(), text.clone());
+                let diagnostics = errors
+                    .iter()
+                    .map(|e| {
+                        let span = e
+                            .span
+                            .clone()
+                            .map_or(Span::point(0), |r| Span::new(r.start, r.end.max(r.start)));
+                        Diagnostic::new(Code::Config, Location::new(file, span), e.message.clone())
+                            .with_label("this entry")
+                    })
+                    .collect();
+                (sources, diagnostics)
+            }
+        }
+    }
+}
+
+impl std::fmt::Display for ConfigProblem {
+    /// One line: what is wrong with the file and that the default levels
+    /// apply instead (where a shell goes on with them).
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match &self.kind {
+            ProblemKind::Unreadable(reason) => {
+                write!(f, "cannot read {}: {reason}", self.path.display())
+            }
+            ProblemKind::Invalid { errors, .. } => {
+                let list: Vec<&str> = errors.iter().map(|e| e.message.as_str()).collect();
+                write!(
+                    f,
+                    "{} is not a valid trellis configuration: {}",
+                    self.path.display(),
+                    list.join("; ")
+                )
+            }
+        }
+    }
+}
+
+/// Reads and interprets the configuration file at `path` through `loader`
+/// (an editor's unsaved `trellis.toml` counts); `shown` is how the path is
+/// shown in problems.
+pub fn load(path: &Path, shown: &Path, loader: &dyn FileLoader) -> Result<Config, ConfigProblem> {
+    let text = loader.load(path).map_err(|reason| ConfigProblem {
+        path: shown.to_path_buf(),
+        kind: ProblemKind::Unreadable(reason),
+    })?;
+    parse(&text).map_err(|errors| ConfigProblem {
+        path: shown.to_path_buf(),
+        kind: ProblemKind::Invalid { text, errors },
+    })
+}
+
+/// What identifies a version of a file on disk: its modification time and
+/// length.
+pub type Stamp = (Option<std::time::SystemTime>, u64);
+
+/// Each place a configuration file could be for one grammar, nearest first,
+/// with its stamp (`None`: no file there). Taken before the configuration
+/// is read, and compared later, it tells whether the configuration that
+/// applies may have changed: a file appeared, vanished or was edited.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Stamps(Vec<(PathBuf, Option<Stamp>)>);
+
+impl Stamps {
+    /// The stamps of every place a `trellis.toml` could configure the
+    /// grammar file `grammar` (its directory and each one above it).
+    pub fn of(grammar: &Path) -> Stamps {
+        let grammar = absolute(grammar);
+        Stamps(
+            grammar
+                .ancestors()
+                .skip(1)
+                .map(|dir| {
+                    let candidate = dir.join(FILE_NAME);
+                    let stamp = std::fs::metadata(&candidate)
+                        .ok()
+                        .filter(|m| m.is_file())
+                        .map(|m| (m.modified().ok(), m.len()));
+                    (candidate, stamp)
+                })
+                .collect(),
+        )
+    }
+
+    /// The configuration file that applies: the nearest one that exists.
+    pub fn nearest(&self) -> Option<&Path> {
+        self.0
+            .iter()
+            .find(|(_, stamp)| stamp.is_some())
+            .map(|(path, _)| path.as_path())
+    }
+}
+
+/// `path` made absolute (against the working directory) and free of `.`/`..`.
+fn absolute(path: &Path) -> PathBuf {
+    normalize(&std::path::absolute(path).unwrap_or_else(|_| path.to_path_buf()))
+}
+
+/// `path` relative to the working directory when it lies below it.
+fn for_display(path: &Path) -> PathBuf {
+    std::env::current_dir()
+        .ok()
+        .and_then(|cwd| {
+            path.strip_prefix(absolute(&cwd))
+                .ok()
+                .map(Path::to_path_buf)
+        })
+        .unwrap_or_else(|| path.to_path_buf())
+}
+
+/// The nearest `trellis.toml` in `dir` or above it.
+pub fn find_from(dir: &Path) -> Option<PathBuf> {
+    absolute(dir)
+        .ancestors()
+        .map(|d| d.join(FILE_NAME))
+        .find(|candidate| candidate.is_file())
+}
+
+/// The configuration of one grammar as an editor session sees it: read
+/// through `loader`, with the stamps taken before reading. A problem with
+/// the file leaves the default configuration in force, and says why.
+pub struct Settings {
+    pub config: Config,
+    pub problem: Option<ConfigProblem>,
+    pub stamps: Stamps,
+}
+
+impl Settings {
+    pub fn for_grammar(grammar: &Path, loader: &dyn FileLoader) -> Settings {
+        // Taken before reading: an edit in between only costs one more read.
+        let stamps = Stamps::of(grammar);
+        let (config, problem) = match stamps.nearest() {
+            None => (Config::default(), None),
+            Some(path) => match load(path, path, loader) {
+                Ok(config) => (config, None),
+                Err(problem) => (Config::default(), Some(problem)),
+            },
+        };
+        Settings {
+            config,
+            problem,
+            stamps,
+        }
+    }
+}
+
+/// Finds the configuration of each grammar file of a command-line run,
+/// reading every `trellis.toml` once however many files it governs.
+#[derive(Default)]
+pub struct Resolver {
+    by_dir: HashMap<PathBuf, Option<PathBuf>>,
+    loaded: HashMap<PathBuf, Result<Config, ConfigProblem>>,
+}
+
+impl Resolver {
+    pub fn new() -> Self {
+        Resolver::default()
+    }
+
+    /// The configuration for the grammar file `grammar` (the default one
+    /// when no `trellis.toml` is found above it); problems name the file
+    /// relative to the working directory.
+    pub fn for_grammar(&mut self, grammar: &Path) -> Result<Config, ConfigProblem> {
+        let dir = absolute(grammar)
+            .parent()
+            .map_or_else(|| PathBuf::from("/"), Path::to_path_buf);
+        let found = self
+            .by_dir
+            .entry(dir.clone())
+            .or_insert_with(|| find_from(&dir))
+            .clone();
+        let Some(path) = found else {
+            return Ok(Config::default());
+        };
+        self.loaded
+            .entry(path.clone())
+            .or_insert_with(|| load(&path, &for_display(&path), &files::DiskLoader))
+            .clone()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use std::fs;
+
+    #[test]
+    fn levels_and_arity_are_read() {
+        let c =
+            parse("max-arity = 5\n[checks]\nunreachable = \"error\"\nduplicate-rule = \"off\"\n")
+                .unwrap();
+        assert_eq!(c.max_arity, 5);
+        assert_eq!(c.level(Code::Unreachable), Some(Severity::Error));
+        assert_eq!(c.level(Code::DuplicateRule), None);
+        assert_eq!(c.level(Code::Arity), Some(Severity::Warning));
+    }
+
+    #[test]
+    fn an_explicit_level_overrides_the_severity_a_check_chose() {
+        let c = parse("[checks]\nunreachable = \"note\"\narity = \"off\"\n").unwrap();
+        assert_eq!(
+            c.severity(Code::Unreachable, Severity::Warning),
+            Some(Severity::Note)
+        );
+        assert_eq!(c.severity(Code::Arity, Severity::Warning), None);
+        // Nothing configured: the emitted severity stands, even if it is not
+        // the code's default.
+        assert_eq!(
+            c.severity(Code::UnaryCycle, Severity::Error),
+            Some(Severity::Error)
+        );
+    }
+
+    #[test]
+    fn every_bad_entry_is_reported_with_its_place() {
+        let text = "[checks]\nunreachble = \"error\"\narity = \"loud\"\n";
+        let errs = parse(text).unwrap_err();
+        assert_eq!(errs.len(), 2);
+        assert!(errs[0].message.contains("unknown check `unreachble`"));
+        assert_eq!(&text[errs[0].span.clone().unwrap()], "unreachble");
+        assert!(errs[1].message.contains("`loud`"));
+    }
+
+    #[test]
+    fn unknown_top_level_keys_are_rejected() {
+        let errs = parse("colour = true").unwrap_err();
+        assert!(errs[0].message.contains("colour"), "{:?}", errs);
+    }
+
+    #[test]
+    fn the_nearest_file_above_the_grammar_applies() {
+        let dir = tempfile::tempdir().unwrap();
+        let deep = dir.path().join("grammars/ferry");
+        fs::create_dir_all(&deep).unwrap();
+        fs::write(
+            dir.path().join(FILE_NAME),
+            "[checks]\nunreachable = \"off\"\n",
+        )
+        .unwrap();
+        fs::write(deep.join("kiosk.trellis"), "").unwrap();
+        let mut resolver = Resolver::new();
+        let config = resolver.for_grammar(&deep.join("kiosk.trellis")).unwrap();
+        assert_eq!(config.levels.get(&Code::Unreachable), Some(&Level::Off));
+
+        // A closer file wins over the one further up.
+        fs::write(
+            dir.path().join("grammars").join(FILE_NAME),
+            "[checks]\nunreachable = \"error\"\n",
+        )
+        .unwrap();
+        let config = Resolver::new()
+            .for_grammar(&deep.join("kiosk.trellis"))
+            .unwrap();
+        assert_eq!(config.level(Code::Unreachable), Some(Severity::Error));
+    }
+
+    #[test]
+    fn relative_paths_with_dot_dot_walk_up_from_the_real_directory() {
+        let dir = tempfile::tempdir().unwrap();
+        fs::create_dir_all(dir.path().join("a/b")).unwrap();
+        fs::write(dir.path().join("a").join(FILE_NAME), "max-arity = 3\n").unwrap();
+        let found = find_from(&dir.path().join("a/b/../b")).unwrap();
+        assert_eq!(found, absolute(&dir.path().join("a").join(FILE_NAME)));
+    }
+
+    #[test]
+    fn a_bad_entry_becomes_a_located_config_diagnostic() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join(FILE_NAME);
+        fs::write(&path, "[checks]\nunreachble = \"error\"\n").unwrap();
+        let problem = load(&path, &path, &files::DiskLoader).unwrap_err();
+        let (sources, diagnostics) = problem.diagnostics();
+        assert_eq!(diagnostics.len(), 1);
+        let d = &diagnostics[0];
+        assert_eq!(d.code, Code::Config);
+        let file = sources.get(d.location.file);
+        assert_eq!(d.location.span.text(&file.text), "unreachble");
+        assert!(
+            d.message.contains("unknown check `unreachble`"),
+            "{}",
+            d.message
+        );
+    }
+
+    #[test]
+    fn an_unreadable_config_is_a_problem_not_a_default() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join(FILE_NAME);
+        fs::write(&path, b"max-arity = 4 # \xFF\n").unwrap();
+        let problem = load(&path, &path, &files::DiskLoader).unwrap_err();
+        let (_, diagnostics) = problem.diagnostics();
+        assert!(
+            diagnostics[0].message.contains("not UTF-8"),
+            "{:?}",
+            diagnostics
+        );
+    }
+}

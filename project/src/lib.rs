@@ -1,0 +1,25 @@
+//! # trellis-project — grammars on disk, for both shells
+//!
+//! What the command line and the language server both need and neither
+//! may write for itself: reading grammar files (one loader, one wording of
+//! every failure), finding and reading `trellis.toml` and noticing when it
+//! changes, discovering grammars under directories, deciding which grammar
+//! speaks for a file and reporting a finding shared by several grammars
+//! once, loading a grammar through the analysis façade, and running test
+//! blocks with their counts.
+//!
+//! I/O is allowed here; protocol types (LSP) and terminal output are not:
+//! every answer is data or a message for the shell to present.
+
+pub mod config;
+pub mod discover;
+pub mod files;
+pub mod grammars;
+pub mod load;
+pub mod test_run;
+
+pub use config::{ConfigProblem, Resolver, Settings, Stamps};
+pub use discover::{discover, identity, paths_or_here, Root};
+pub use files::{read_text, DiskLoader, Overlay};
+pub use grammars::{analyse_paths, grammar_roots, select, speakers, Analysed, Checked, Repeats};
+pub use load::{load_grammar, LoadError};

@@ -1,0 +1,289 @@
+//! Running the `test` blocks of a grammar and counting the outcomes, for
+//! `trellis test` and the editor's `trellis.runTest` alike.
+//!
+//! The engine judges each case (`trellis_engine::testing::run_case`, exact
+//! tree scores); this module picks the tests, refuses a grammar that cannot
+//! run, spreads the cases over the cores when asked, stops between cases
+//! when the caller cancels, and counts.
+
+use grammar_lang::model::GrammarTest;
+use grammar_lang::FileId;
+use rayon::prelude::*;
+use trellis_engine::parser::{Parser, DEFAULT_MAX_CHART_BYTES};
+use trellis_engine::testing::{run_case, CaseOutcome};
+use trellis_ide::{Analysis, NotRunnable};
+
+/// Which tests of a grammar to run.
+#[derive(Clone, Copy, Debug)]
+pub enum Selection<'a> {
+    /// Every test block.
+    All,
+    /// The tests whose name contains any of these texts (all tests when
+    /// the list is empty).
+    NameContains(&'a [String]),
+    /// The test of this exact name written in this file.
+    Named { name: &'a str, file: FileId },
+}
+
+impl Selection<'_> {
+    pub fn includes(&self, test: &GrammarTest) -> bool {
+        match self {
+            Selection::All => true,
+            Selection::NameContains(texts) => {
+                texts.is_empty() || texts.iter().any(|t| test.name.contains(t.as_str()))
+            }
+            Selection::Named { name, file } => test.name == *name && test.location.file == *file,
+        }
+    }
+}
+
+/// How to run the cases.
+#[derive(Clone, Copy, Debug)]
+pub struct RunOptions {
+    /// A case whose chart would need more memory than this fails.
+    pub max_chart_bytes: u64,
+    /// Spread the cases over every core.
+    pub parallel: bool,
+}
+
+impl Default for RunOptions {
+    fn default() -> Self {
+        RunOptions {
+            max_chart_bytes: DEFAULT_MAX_CHART_BYTES,
+            parallel: false,
+        }
+    }
+}
+
+/// Why the tests of a grammar were not run.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Blocked {
+    /// The grammar has errors (its diagnostics say which).
+    NotRunnable(NotRunnable),
+    /// The engine cannot compile it.
+    Engine(String),
+}
+
+impl std::fmt::Display for Blocked {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Blocked::NotRunnable(why) => why.fmt(f),
+            Blocked::Engine(why) => write!(f, "the grammar cannot be parsed with: {why}"),
+        }
+    }
+}
+
+/// One test block and the outcome of each of its cases, in order.
+#[derive(Debug)]
+pub struct TestResult<'g> {
+    pub test: &'g GrammarTest,
+    pub cases: Vec<CaseOutcome>,
+}
+
+impl TestResult<'_> {
+    /// How many cases failed.
+    pub fn failed(&self) -> usize {
+        self.cases.iter().filter(|o| !o.passed()).count()
+    }
+
+    /// Whether every case held.
+    pub fn passed(&self) -> bool {
+        self.failed() == 0
+    }
+}
+
+/// Tests and cases that held and that failed.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Counts {
+    pub tests_passed: usize,
+    pub tests_failed: usize,
+    pub cases_passed: usize,
+    pub cases_failed: usize,
+}
+
+impl Counts {
+    pub fn add(&mut self, other: Counts) {
+        self.tests_passed += other.tests_passed;
+        self.tests_failed += other.tests_failed;
+        self.cases_passed += other.cases_passed;
+        self.cases_failed += other.cases_failed;
+    }
+
+    fn of(results: &[TestResult]) -> Counts {
+        let mut counts = Counts::default();
+        for result in results {
+            let failed = result.failed();
+            counts.cases_failed += failed;
+            counts.cases_passed += result.cases.len() - failed;
+            if failed > 0 {
+                counts.tests_failed += 1;
+            } else {
+                counts.tests_passed += 1;
+            }
+        }
+        counts
+    }
+}
+
+/// The outcome of running the selected tests of one grammar.
+#[derive(Debug)]
+pub struct TestRun<'g> {
+    pub tests: Vec<TestResult<'g>>,
+    pub counts: Counts,
+}
+
+/// The tests of `analysis`'s grammar that `selection` picks, in order.
+pub fn selected<'g>(analysis: &'g Analysis, selection: Selection) -> Vec<&'g GrammarTest> {
+    analysis
+        .grammar
+        .tests
+        .iter()
+        .filter(|t| selection.includes(t))
+        .collect()
+}
+
+/// Runs `tests` (tests of `analysis`'s grammar). `Ok(None)` when
+/// `cancelled` said so between two cases; an error when the grammar cannot
+/// run (it has errors, or the engine cannot compile it).
+pub fn run<'g>(
+    analysis: &'g Analysis,
+    tests: Vec<&'g GrammarTest>,
+    options: RunOptions,
+    cancelled: &(dyn Fn() -> bool + Sync),
+) -> Result<Option<TestRun<'g>>, Blocked> {
+    let grammar = analysis.runnable().map_err(Blocked::NotRunnable)?;
+    let parser = Parser::new(grammar).map_err(|e| Blocked::Engine(e.to_string()))?;
+    let cases: Vec<(usize, &grammar_lang::model::TestCase)> = tests
+        .iter()
+        .enumerate()
+        .flat_map(|(t, test)| test.cases.iter().map(move |c| (t, c)))
+        .collect();
+    let judge = |case| {
+        if cancelled() {
+            None
+        } else {
+            Some(run_case(&parser, grammar, case, options.max_chart_bytes))
+        }
+    };
+    let outcomes: Option<Vec<CaseOutcome>> = if options.parallel {
+        cases.par_iter().map(|(_, case)| judge(case)).collect()
+    } else {
+        cases.iter().map(|(_, case)| judge(case)).collect()
+    };
+    let Some(outcomes) = outcomes else {
+        return Ok(None);
+    };
+    let mut results: Vec<TestResult> = tests
+        .into_iter()
+        .map(|test| TestResult {
+            test,
+            cases: Vec::with_capacity(test.cases.len()),
+        })
+        .collect();
+    for ((t, _), outcome) in cases.into_iter().zip(outcomes) {
+        results[t].cases.push(outcome);
+    }
+    let counts = Counts::of(&results);
+    Ok(Some(TestRun {
+        tests: results,
+        counts,
+    }))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// Every sentence of this grammar has exactly one tree: "ferries sail"
+    /// has probability 0.6 · 1/2 · 0.75 = 0.225 (worked by hand).
+    const HARBOUR: &str = "start S
+S {
+  0.6  NP VP
+  0.4  VP
+}
+NP { 1/2 \"ferries\" | 1/2 \"boats\" }
+VP { 0.75 \"sail\" | 0.25 \"sink\" }
+
+test \"sailing\" {
+  accept \"ferries sail\"
+  accept \"sail\" as (S (VP \"sail\"))
+}
+
+test \"sinking\" {
+  accept \"boats sink\"
+  reject \"sink boats\"
+  accept \"boats\"
+}
+";
+
+    #[test]
+    fn cases_are_counted_per_test_and_per_case_in_order() {
+        let analysis = trellis_ide::analyze_text(HARBOUR);
+        let tests = selected(&analysis, Selection::All);
+        for parallel in [false, true] {
+            let options = RunOptions {
+                parallel,
+                ..RunOptions::default()
+            };
+            let run = run(&analysis, tests.clone(), options, &|| false)
+                .unwrap()
+                .unwrap();
+            assert_eq!(
+                run.counts,
+                Counts {
+                    tests_passed: 1,
+                    tests_failed: 1,
+                    cases_passed: 4,
+                    cases_failed: 1
+                }
+            );
+            let held: Vec<Vec<bool>> = run
+                .tests
+                .iter()
+                .map(|t| t.cases.iter().map(CaseOutcome::passed).collect())
+                .collect();
+            assert_eq!(held, vec![vec![true, true], vec![true, true, false]]);
+        }
+    }
+
+    #[test]
+    fn a_selection_picks_by_name_part_or_by_exact_name_in_a_file() {
+        let analysis = trellis_ide::analyze_text(HARBOUR);
+        let names = |s: Selection| -> Vec<String> {
+            selected(&analysis, s)
+                .iter()
+                .map(|t| t.name.clone())
+                .collect()
+        };
+        assert_eq!(names(Selection::All), ["sailing", "sinking"]);
+        assert_eq!(names(Selection::NameContains(&["ink".into()])), ["sinking"]);
+        assert_eq!(names(Selection::NameContains(&[])), ["sailing", "sinking"]);
+        let named = |file| Selection::Named {
+            name: "sailing",
+            file,
+        };
+        assert_eq!(names(named(FileId(0))), ["sailing"]);
+        assert!(names(named(FileId(1))).is_empty());
+    }
+
+    #[test]
+    fn a_grammar_with_errors_is_not_run_and_says_how_many() {
+        let analysis =
+            trellis_ide::analyze_text("start S\nS { 0.5 \"a\" }\ntest \"t\" { accept \"a\" }\n");
+        let tests = selected(&analysis, Selection::All);
+        let blocked = run(&analysis, tests, RunOptions::default(), &|| false).unwrap_err();
+        assert_eq!(blocked, Blocked::NotRunnable(NotRunnable::Errors(1)));
+        assert_eq!(
+            blocked.to_string(),
+            "the grammar has 1 error, so it cannot be run; fix it first"
+        );
+    }
+
+    #[test]
+    fn a_cancelled_run_stops_between_cases() {
+        let analysis = trellis_ide::analyze_text(HARBOUR);
+        let tests = selected(&analysis, Selection::All);
+        let outcome = run(&analysis, tests, RunOptions::default(), &|| true).unwrap();
+        assert!(outcome.is_none());
+    }
+}
