@@ -199,8 +199,8 @@ fn read_sentences(args: &ParseArgs) -> Result<Vec<String>, String> {
         return Ok(args.sentences.clone());
     }
     let text = match args.input.as_deref() {
-        Some(path) if path.as_os_str() != "-" => std::fs::read_to_string(path)
-            .map_err(|e| format!("cannot read {}: {e}", path.display()))?,
+        Some(path) if path.as_os_str() != "-" => trellis_project::read_text(path)
+            .map_err(|reason| format!("cannot read {}: {reason}", path.display()))?,
         _ => {
             let mut text = String::new();
             std::io::stdin()
