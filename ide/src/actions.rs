@@ -344,3 +344,10 @@ fn remove_block(analysis: &Analysis, file: FileId, block: &Block, d: &Diagnostic
         }],
     )
 }
+
+/// The façade's methods for this feature (see the crate documentation).
+impl crate::Analysis {
+    pub fn code_actions(&self, file: FileId, span: Span) -> Vec<CodeAction> {
+        code_actions(self.core(), file, span)
+    }
+}

@@ -8,17 +8,12 @@
 //! the editor features need ([`IdeIndex`]) and the engine's numbers for
 //! hover ([`EngineFacts`]) are computed on first use and kept beside it.
 
-use crate::{
-    actions, completion, hints, hover, lookup, navigation, structure, symbols, tokens, CodeAction,
-    CodeLens, CompletionList, DocumentLink, DocumentSymbol, EngineFacts, FoldingRange, Highlight,
-    Hover, IdeIndex, InlayHint, Location, Lookup, RenameError, SemanticToken, TextEdit,
-    WorkspaceSymbol,
-};
+use crate::{EngineFacts, IdeIndex};
 use grammar_lang::diagnostic::{Code, Diagnostic};
 use grammar_lang::model::NtId;
 use grammar_lang::source::{FileId, FileLoader};
 use grammar_lang::syntax::lexer::quote;
-use grammar_lang::{Config, Span};
+use grammar_lang::Config;
 use std::ops::Deref;
 use std::path::Path;
 use std::sync::OnceLock;
@@ -208,82 +203,6 @@ impl Analysis {
             .diagnostics
             .iter()
             .filter(move |d| d.location.file == file)
-    }
-
-    // --- editor features (see the crate documentation for each) ---
-
-    pub fn lookup(&self, file: FileId, offset: usize) -> Option<Lookup> {
-        lookup::lookup(&self.core, file, offset)
-    }
-
-    pub fn hover(&self, file: FileId, offset: usize) -> Option<Hover> {
-        hover::hover(&self.core, self.index(), file, offset, self.facts())
-    }
-
-    pub fn definition(&self, file: FileId, offset: usize) -> Option<Location> {
-        navigation::definition(&self.core, file, offset)
-    }
-
-    pub fn references(
-        &self,
-        file: FileId,
-        offset: usize,
-        include_definition: bool,
-    ) -> Vec<Location> {
-        navigation::references(&self.core, file, offset, include_definition)
-    }
-
-    pub fn prepare_rename(&self, file: FileId, offset: usize) -> Result<Span, RenameError> {
-        navigation::prepare_rename(&self.core, file, offset)
-    }
-
-    pub fn rename(
-        &self,
-        file: FileId,
-        offset: usize,
-        new_name: &str,
-    ) -> Result<Vec<TextEdit>, RenameError> {
-        navigation::rename(&self.core, file, offset, new_name)
-    }
-
-    pub fn document_symbols(&self, file: FileId) -> Vec<DocumentSymbol> {
-        symbols::document_symbols(&self.core, file)
-    }
-
-    pub fn workspace_symbols(&self, query: &str, limit: usize) -> Vec<WorkspaceSymbol> {
-        symbols::workspace_symbols(&self.core, query, limit)
-    }
-
-    pub fn completions(&self, file: FileId, offset: usize) -> CompletionList {
-        completion::completions(&self.core, file, offset)
-    }
-
-    pub fn semantic_tokens(&self, file: FileId, range: Option<Span>) -> Vec<SemanticToken> {
-        tokens::semantic_tokens(&self.core, file, range)
-    }
-
-    pub fn code_actions(&self, file: FileId, span: Span) -> Vec<CodeAction> {
-        actions::code_actions(&self.core, file, span)
-    }
-
-    pub fn inlay_hints(&self, file: FileId, range: Span) -> Vec<InlayHint> {
-        hints::inlay_hints(&self.core, file, range)
-    }
-
-    pub fn code_lenses(&self, file: FileId) -> Vec<CodeLens> {
-        hints::code_lenses(&self.core, file)
-    }
-
-    pub fn folding_ranges(&self, file: FileId) -> Vec<FoldingRange> {
-        structure::folding_ranges(&self.core, file)
-    }
-
-    pub fn document_links(&self, file: FileId) -> Vec<DocumentLink> {
-        structure::document_links(&self.core, file)
-    }
-
-    pub fn document_highlights(&self, file: FileId, offset: usize) -> Vec<Highlight> {
-        structure::document_highlights(&self.core, file, offset)
     }
 }
 

@@ -304,3 +304,10 @@ fn close_of(test: &grammar_lang::syntax::ast::TestBlock, tokens: &[Token]) -> Op
         .filter(|t| t.kind == TokenKind::RBrace && t.span.end == test.span.end)
         .map(|t| t.span)
 }
+
+/// The façade's methods for this feature (see the crate documentation).
+impl crate::Analysis {
+    pub fn completions(&self, file: FileId, offset: usize) -> CompletionList {
+        completions(self.core(), file, offset)
+    }
+}

@@ -212,3 +212,14 @@ pub fn code_lenses(analysis: &Analysis, file: FileId) -> Vec<CodeLens> {
     }
     out
 }
+
+/// The façade's methods for this feature (see the crate documentation).
+impl crate::Analysis {
+    pub fn inlay_hints(&self, file: FileId, range: Span) -> Vec<InlayHint> {
+        inlay_hints(self.core(), file, range)
+    }
+
+    pub fn code_lenses(&self, file: FileId) -> Vec<CodeLens> {
+        code_lenses(self.core(), file)
+    }
+}

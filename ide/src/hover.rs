@@ -315,3 +315,10 @@ fn test_hover(grammar: &Grammar, test: usize) -> Option<String> {
     );
     Some(out)
 }
+
+/// The façade's methods for this feature (see the crate documentation).
+impl crate::Analysis {
+    pub fn hover(&self, file: FileId, offset: usize) -> Option<Hover> {
+        hover(self.core(), self.index(), file, offset, self.facts())
+    }
+}

@@ -214,3 +214,10 @@ fn in_tree(analysis: &Analysis, file: FileId, tree: &TreeSyntax, at: usize) -> O
         return None;
     }
 }
+
+/// The façade's methods for this feature (see the crate documentation).
+impl crate::Analysis {
+    pub fn lookup(&self, file: FileId, offset: usize) -> Option<Lookup> {
+        lookup(self.core(), file, offset)
+    }
+}

@@ -218,3 +218,32 @@ pub fn rename(
     });
     Ok(edits)
 }
+
+/// The façade's methods for this feature (see the crate documentation).
+impl crate::Analysis {
+    pub fn definition(&self, file: FileId, offset: usize) -> Option<Location> {
+        definition(self.core(), file, offset)
+    }
+
+    pub fn references(
+        &self,
+        file: FileId,
+        offset: usize,
+        include_definition: bool,
+    ) -> Vec<Location> {
+        references(self.core(), file, offset, include_definition)
+    }
+
+    pub fn prepare_rename(&self, file: FileId, offset: usize) -> Result<Span, RenameError> {
+        prepare_rename(self.core(), file, offset)
+    }
+
+    pub fn rename(
+        &self,
+        file: FileId,
+        offset: usize,
+        new_name: &str,
+    ) -> Result<Vec<TextEdit>, RenameError> {
+        rename(self.core(), file, offset, new_name)
+    }
+}

@@ -156,3 +156,18 @@ pub fn document_highlights(analysis: &Analysis, file: FileId, offset: usize) -> 
     }
     out
 }
+
+/// The façade's methods for this feature (see the crate documentation).
+impl crate::Analysis {
+    pub fn folding_ranges(&self, file: FileId) -> Vec<FoldingRange> {
+        folding_ranges(self.core(), file)
+    }
+
+    pub fn document_links(&self, file: FileId) -> Vec<DocumentLink> {
+        document_links(self.core(), file)
+    }
+
+    pub fn document_highlights(&self, file: FileId, offset: usize) -> Vec<Highlight> {
+        document_highlights(self.core(), file, offset)
+    }
+}

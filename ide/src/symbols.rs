@@ -227,3 +227,14 @@ pub(crate) fn rank(name: &str, query: &[char]) -> Option<u8> {
     }
     rest.peek().is_none().then_some(3)
 }
+
+/// The façade's methods for this feature (see the crate documentation).
+impl crate::Analysis {
+    pub fn document_symbols(&self, file: FileId) -> Vec<DocumentSymbol> {
+        document_symbols(self.core(), file)
+    }
+
+    pub fn workspace_symbols(&self, query: &str, limit: usize) -> Vec<WorkspaceSymbol> {
+        workspace_symbols(self.core(), query, limit)
+    }
+}

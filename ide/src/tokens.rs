@@ -127,3 +127,10 @@ pub fn semantic_tokens(
     }
     out
 }
+
+/// The façade's methods for this feature (see the crate documentation).
+impl crate::Analysis {
+    pub fn semantic_tokens(&self, file: FileId, range: Option<Span>) -> Vec<SemanticToken> {
+        semantic_tokens(self.core(), file, range)
+    }
+}
