@@ -33,7 +33,8 @@
 //!    not itself an annotation (a header ends that search: an annotation
 //!    straight after a header is an error). Annotation lines are removed
 //!    from the file; every other line is kept byte for byte. An annotation
-//!    reads `CARETS SEVERITY CODE` or `CARETS SEVERITY CODE: FRAGMENT`:
+//!    reads `CARETS SEVERITY CODE`, `CARETS SEVERITY CODE: FRAGMENTS` or
+//!    `CARETS SEVERITY CODE == MESSAGE`:
 //!    * a run of n ≥ 1 carets marks the n characters above it, columns
 //!      counted in characters (not bytes), so `Fähre` is five columns wide;
 //!      `$0` markers on the annotated line are not counted;
@@ -45,8 +46,10 @@
 //!      carets past the end of the line are clipped the same way;
 //!    * `SEVERITY` is `error`, `warning` or `note`; `CODE` is a stable code
 //!      of [`grammar_lang::Code`] (`undefined`, `sum-not-one`, …);
-//!    * `FRAGMENT` (everything after the first `:`, trimmed) is text the
-//!      diagnostic's message must contain.
+//!    * `FRAGMENTS` (everything after the first `:`, trimmed) is text the
+//!      diagnostic's message must contain; several fragments separated by
+//!      `…` must all appear, in that order;
+//!    * `MESSAGE` (everything after `==`, trimmed) is the whole message.
 //!
 //!    Several annotation lines may follow one line.
 //! 4. **Cursor.** `$0` in a (non-annotation) line marks a place and is
@@ -95,10 +98,47 @@ pub struct Annotation {
     pub columns: Range<usize>,
     pub severity: Severity,
     pub code: Code,
-    /// Text the message must contain.
-    pub message: Option<String>,
+    /// What the message must say, if the annotation says anything about it.
+    pub message: Option<Message>,
     /// The 1-based line of the fixture text the annotation is written on.
     pub fixture_line: usize,
+}
+
+/// What an annotation expects of a diagnostic's message.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub enum Message {
+    /// `: a…b`: the message contains these fragments, in this order.
+    Contains(Vec<String>),
+    /// `== text`: the message is exactly this.
+    Is(String),
+}
+
+impl Message {
+    /// Whether `message` says what is expected.
+    pub fn accepts(&self, message: &str) -> bool {
+        match self {
+            Message::Is(expected) => message == expected,
+            Message::Contains(fragments) => {
+                let mut rest = message;
+                fragments.iter().all(|f| match rest.find(f.as_str()) {
+                    Some(at) => {
+                        rest = &rest[at + f.len()..];
+                        true
+                    }
+                    None => false,
+                })
+            }
+        }
+    }
+}
+
+impl std::fmt::Display for Message {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        match self {
+            Message::Contains(fragments) => write!(f, ": {}", fragments.join("…")),
+            Message::Is(message) => write!(f, " == {message}"),
+        }
+    }
 }
 
 /// Where `$0` stood.
@@ -328,8 +368,25 @@ fn annotation(
             "the carets (or `^0`) must be followed by a space and `SEVERITY CODE`",
         );
     }
-    let (head, message) = match after.split_once(':') {
-        Some((head, message)) => (head, Some(message.trim())),
+    let (head, message) = match after.find([':', '=']) {
+        Some(at) if after[at..].starts_with(':') => (
+            &after[..at],
+            Some(Message::Contains(
+                after[at + 1..]
+                    .split('…')
+                    .map(|f| f.trim().to_string())
+                    .collect(),
+            )),
+        ),
+        Some(at) if after[at..].starts_with("==") => (
+            &after[..at],
+            Some(Message::Is(after[at + 2..].trim().to_string())),
+        ),
+        Some(_) => malformed(
+            fixture_line,
+            written,
+            "a message is given as `: fragment` or `== whole message`",
+        ),
         None => (after, None),
     };
     let words: Vec<&str> = head.split_whitespace().collect();
@@ -337,7 +394,7 @@ fn annotation(
         malformed(
             fixture_line,
             written,
-            "expected `SEVERITY CODE` or `SEVERITY CODE: message fragment` after the carets",
+            "expected `SEVERITY CODE`, `SEVERITY CODE: fragment` or `SEVERITY CODE == message` after the carets",
         );
     };
     let Some(severity) = Severity::parse(severity) else {
@@ -355,8 +412,10 @@ fn annotation(
             &format!("unknown code `{code}`; the codes are {}", known.join(", ")),
         );
     };
-    if message == Some("") {
-        malformed(fixture_line, written, "an empty message fragment after `:`");
+    if let Some(Message::Contains(fragments)) = &message {
+        if fragments.iter().any(String::is_empty) {
+            malformed(fixture_line, written, "an empty message fragment");
+        }
     }
     let clean = |column: usize| {
         // A marker that stood before `column` (in the written line) took
@@ -379,7 +438,7 @@ fn annotation(
         columns: start..end.min(line_len).max(start),
         severity,
         code,
-        message: message.map(str::to_string),
+        message,
         fixture_line,
     }
 }
@@ -402,7 +461,7 @@ impl Reported<'_> {
             && self.columns == a.columns
             && d.severity == a.severity
             && d.code == a.code
-            && a.message.as_ref().is_none_or(|m| d.message.contains(m))
+            && a.message.as_ref().is_none_or(|m| m.accepts(&d.message))
     }
 
     fn describe(&self) -> String {
@@ -494,9 +553,7 @@ pub fn assert_diagnostics(fixture: &Fixture, analysis: &Analysis) {
                 a.columns.end + 1,
                 a.severity,
                 a.code,
-                a.message
-                    .as_ref()
-                    .map_or(String::new(), |m| format!(": …{m}…"))
+                a.message.as_ref().map_or(String::new(), |m| m.to_string())
             );
         }
     }
@@ -576,7 +633,7 @@ fn render(fixture: &Fixture, reported: &[Reported]) -> String {
                 };
                 let _ = writeln!(
                     out,
-                    "{}{carets} {} {}: {}",
+                    "{}{carets} {} {} == {}",
                     " ".repeat(start),
                     d.severity,
                     d.code,
@@ -725,7 +782,7 @@ mod tests {
                 columns: 12..19,
                 severity: Severity::Error,
                 code: Code::Undefined,
-                message: Some("`Bötchen` is used".into()),
+                message: Some(Message::Contains(vec!["`Bötchen` is used".into()])),
                 fixture_line: 3,
             }
         );
@@ -756,6 +813,27 @@ mod tests {
     #[should_panic(expected = "fixture line 4: unknown code `undefind`")]
     fn an_unknown_code_names_its_fixture_line() {
         Fixture::parse("\nstart S\nS { T }\n    ^ error undefind\n");
+    }
+
+    #[test]
+    fn a_message_is_matched_whole_after_two_equals_signs_or_by_fragments_in_order() {
+        let f = Fixture::parse(
+            "S { T }\n    ^ error undefined == `T` is used: no block\n    ^ error undefined: `T`…no block … ;\n",
+        );
+        let a = &f.root().annotations;
+        assert_eq!(
+            a[0].message,
+            Some(Message::Is("`T` is used: no block".into()))
+        );
+        let fragments = a[1].message.clone().unwrap();
+        assert_eq!(
+            fragments,
+            Message::Contains(vec!["`T`".into(), "no block".into(), ";".into()])
+        );
+        assert!(fragments.accepts("`T` has no block; sorry"));
+        assert!(!fragments.accepts("no block; `T`"), "in order");
+        assert!(Message::Is("a".into()).accepts("a"));
+        assert!(!Message::Is("a".into()).accepts("ab"));
     }
 
     #[test]
@@ -812,7 +890,7 @@ mod tests {
         );
         assert!(
             message.ends_with(
-                "start Request\nRequest { Ticket | Tikcet }\n                   ^^^^^^ error undefined: `Tikcet` is used but has no block; did you mean `Ticket`?\nTicket { \"ticket\" }\n"
+                "start Request\nRequest { Ticket | Tikcet }\n                   ^^^^^^ error undefined == `Tikcet` is used but has no block; did you mean `Ticket`?\nTicket { \"ticket\" }\n"
             ),
             "{message}"
         );
@@ -851,7 +929,7 @@ mod tests {
             check("=== main.trellis ===\nstart S\nS { \"s\" | $0T }\n");
         });
         assert!(
-            message.ends_with("=== main.trellis ===\nstart S\nS { \"s\" | $0T }\n            ^ error undefined: `T` is used but has no block; did you mean `S`?\n"),
+            message.ends_with("=== main.trellis ===\nstart S\nS { \"s\" | $0T }\n            ^ error undefined == `T` is used but has no block; did you mean `S`?\n"),
             "{message}"
         );
     }

@@ -16,5 +16,5 @@ pub mod grammars;
 pub mod stats;
 
 pub use fixture::{
-    assert_diagnostics, check, check_with, Annotation, Cursor, Fixture, FixtureFile,
+    assert_diagnostics, check, check_with, Annotation, Cursor, Fixture, FixtureFile, Message,
 };
