@@ -11,7 +11,9 @@ use tokio::sync::mpsc;
 use trellis_lsp::{serve, Options};
 
 /// A small harbour grammar in which every sentence has one tree (its
-/// hand-worked numbers are with it in the shared test grammars).
+/// hand-worked numbers are with it in the shared test grammars). Not every
+/// test file that includes this module uses it.
+#[allow(unused_imports)]
 pub use trellis_test_support::grammars::HARBOUR;
 
 /// Asserts that `response` is the error LSP 3.17 calls `RequestFailed`
