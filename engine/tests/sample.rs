@@ -3,7 +3,7 @@
 
 mod consistency_support;
 
-use consistency_support::{chi_square, grammar};
+use consistency_support::grammar;
 use grammar_lang::model::Sym;
 use grammar_lang::tree::Tree;
 use grammar_lang::Grammar;
@@ -11,6 +11,7 @@ use std::collections::HashMap;
 use trellis_engine::consistency::analyze;
 use trellis_engine::rng::Xoshiro256StarStar;
 use trellis_engine::sample::{SampleError, Sampler};
+use trellis_test_support::stats::chi_square;
 
 const DRAWS: usize = 100_000;
 

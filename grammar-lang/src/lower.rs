@@ -601,7 +601,8 @@ mod tests {
 
     #[test]
     fn unweighted_alternatives_share_the_whole_block_equally() {
-        // Design doc, `Kind { "return" | "single" | "day" }`: 1/3 each.
+        // README, "The grammar language", `Kind { "return" | "single" | "day" }`:
+        // 1/3 each.
         assert_eq!(resolve(false, &[U, U, U]), vec![r(1, 3); 3]);
     }
 
@@ -626,7 +627,8 @@ mod tests {
 
     #[test]
     fn relative_blocks_divide_by_the_sum() {
-        // Design doc, `Count relative { 6 "one" 3 "two" 1 "three" }`.
+        // README, "The grammar language", `Count relative { 6 "one" 3 "two" 1 "three" }`:
+        // 6/10, 3/10, 1/10.
         let p = resolve(true, &[w(6, 1), w(3, 1), w(1, 1)]);
         assert_eq!(p, vec![r(6, 10), r(3, 10), r(1, 10)]);
         // An unweighted alternative counts as weight 1.

@@ -1,11 +1,13 @@
 //! The static checks, specified by example: every check has a grammar that
-//! triggers it and one that does not, and the tests pin down codes,
-//! messages and where (1-based line and column) each finding points.
+//! triggers it and one that does not. Most tests are fixtures
+//! (`trellis_test_support::check`): the grammar with every finding written
+//! as a caret annotation under the text it points at, with its severity,
+//! code and what its message says; the fixture must report exactly those.
+//! The rest pin down numbers in the model and related locations.
 
-use grammar_lang::{
-    analyze, analyze_text, Analysis, Code, Config, Diagnostic, MemoryLoader, Severity,
-};
+use grammar_lang::{analyze_text, Analysis, Code, Config, Diagnostic};
 use std::path::Path;
+use trellis_test_support::{check, check_with};
 
 /// 1-based line and column (in characters) where `d` points.
 fn pos(a: &Analysis, d: &Diagnostic) -> (u32, u32) {
@@ -39,18 +41,6 @@ fn the_one(a: &Analysis, code: Code) -> &Diagnostic {
         a.diagnostics
     );
     found[0]
-}
-
-fn assert_clean(a: &Analysis) {
-    assert!(
-        a.diagnostics.is_empty(),
-        "expected no findings: {:#?}",
-        a.diagnostics
-    );
-}
-
-fn span_text<'a>(a: &'a Analysis, d: &Diagnostic) -> &'a str {
-    d.location.span.text(&a.sources.get(d.location.file).text)
 }
 
 // ---------------------------------------------------------------------------
@@ -88,13 +78,13 @@ Count relative {
 
 #[test]
 fn the_design_example_has_no_findings() {
-    assert_clean(&analyze_text(KIOSK));
+    check(KIOSK);
 }
 
 #[test]
 fn unweighted_alternatives_share_the_rest_and_relative_blocks_are_normalised() {
-    // Design doc: Kind's three alternatives get 1/3 each; Count relative
-    // 6/3/1 becomes 6/10, 3/10, 1/10.
+    // README, "The grammar language": Kind's three alternatives get 1/3
+    // each; Count relative 6/3/1 becomes 6/10, 3/10, 1/10.
     let a = analyze_text(KIOSK);
     let g = &a.grammar;
     let probs = |name: &str| -> Vec<String> {
@@ -140,8 +130,7 @@ fn test_blocks_become_grammar_tests_with_trees() {
     let text = format!(
         "{KIOSK}\ntest \"ticket requests\" {{\n  accept \"one return ticket please\"\n  reject \"ticket ticket\"\n  accept \"day ticket\" as (Ticket (Kind \"day\") \"ticket\")\n}}\n"
     );
-    let a = analyze_text(&text);
-    assert_clean(&a);
+    let a = check(&text);
     let tests = &a.grammar.tests;
     assert_eq!(tests.len(), 1);
     assert_eq!(tests[0].name, "ticket requests");
@@ -174,126 +163,147 @@ fn kind_block(weights: &[&str]) -> String {
 #[test]
 fn decimal_weights_that_sum_to_one_exactly_are_accepted() {
     // 0.1 + 0.2 + 0.7 is exactly 1 as rationals (not in binary floating point).
-    assert_clean(&analyze_text(&kind_block(&["0.1", "0.2", "0.7"])));
+    check(&kind_block(&["0.1", "0.2", "0.7"]));
 }
 
 #[test]
 fn thirds_sum_to_one_exactly() {
-    assert_clean(&analyze_text(&kind_block(&["1/3", "1/3", "1/3"])));
-    assert_clean(&analyze_text(&kind_block(&["50%", "25%", "1/8", "0.125"])));
+    check(&kind_block(&["1/3", "1/3", "1/3"]));
+    check(&kind_block(&["50%", "25%", "1/8", "0.125"]));
 }
 
 #[test]
 fn a_block_that_sums_short_reports_the_exact_shortfall() {
-    let a = analyze_text(&kind_block(&["0.33", "0.33", "0.33"]));
-    let d = the_one(&a, Code::SumNotOne);
-    assert_eq!(
-        d.message,
-        "block `Kind` sums to 99/100 (0.99): 1/100 (0.01) short"
+    let a = check(
+        r#"
+        start Kind
+        Kind {
+        ^^^^ error sum-not-one == block `Kind` sums to 99/100 (0.99): 1/100 (0.01) short
+          0.33 "return"
+          0.33 "single"
+          0.33 "day"
+        }
+        "#,
     );
-    assert_eq!(d.severity, Severity::Error);
-    assert_eq!(pos(&a, d), (2, 1));
-    assert_eq!(span_text(&a, d), "Kind");
-    assert!(d.help.as_ref().unwrap().contains("relative"));
-    assert_eq!(codes(&a), [Code::SumNotOne]);
+    assert!(a.diagnostics[0].help.as_ref().unwrap().contains("relative"));
 }
 
 #[test]
 fn a_block_that_sums_over_one_reports_the_exact_surplus() {
-    let a = analyze_text(&kind_block(&["0.5", "0.5", "1/3"]));
-    let d = the_one(&a, Code::SumNotOne);
-    assert_eq!(
-        d.message,
-        "block `Kind` sums to 4/3 (≈1.3333333333): 1/3 (≈0.3333333333) too much"
+    check(
+        r#"
+        start Kind
+        Kind {
+        ^^^^ error sum-not-one == block `Kind` sums to 4/3 (≈1.3333333333): 1/3 (≈0.3333333333) too much
+          0.5 "return"
+          0.5 "single"
+          1/3 "day"
+        }
+        "#,
     );
 }
 
 #[test]
 fn relative_blocks_are_not_held_to_a_sum_of_one() {
-    let a = analyze_text("start Kind\nKind relative {\n  2 \"return\"\n  5 \"single\"\n}\n");
-    assert_clean(&a);
+    check("start Kind\nKind relative {\n  2 \"return\"\n  5 \"single\"\n}\n");
 }
 
 #[test]
 fn unweighted_alternatives_without_mass_left_are_reported_where_they_stand() {
-    let text =
-        "start Bye\nBye {\n  0.7  \"goodbye\"\n  0.3  \"thanks\"\n  \"bye\"\n  \"cheers\"\n}\n";
-    let a = analyze_text(text);
-    let d = the_one(&a, Code::NoMassLeft);
-    assert_eq!(pos(&a, d), (5, 3));
-    assert_eq!(related_pos(&a, d, 0), (6, 3));
-    assert!(
-        d.message.contains("already sum to 1")
-            && d.message
-                .contains("the 2 unweighted alternatives get probability 0"),
-        "{}",
-        d.message
-    );
     // The sum is not reported on top.
-    assert_eq!(codes(&a), [Code::NoMassLeft]);
+    let a = check(
+        r#"
+        start Bye
+        Bye {
+          0.7  "goodbye"
+          0.3  "thanks"
+          "bye"
+          ^^^^^ error no-mass-left: already sum to 1…the 2 unweighted alternatives get probability 0
+          "cheers"
+        }
+        "#,
+    );
+    assert_eq!(related_pos(&a, &a.diagnostics[0], 0), (6, 3));
 }
 
 #[test]
 fn no_mass_left_says_how_far_the_weighted_alternatives_overshoot() {
-    let a = analyze_text("start Bye\nBye {\n  0.8 \"goodbye\"\n  0.3 \"thanks\"\n  \"bye\"\n}\n");
-    let d = the_one(&a, Code::NoMassLeft);
-    assert!(d.message.contains("sum to 11/10 (1.1)"), "{}", d.message);
-    assert!(d.message.contains("the unweighted alternative gets"));
+    check(
+        r#"
+        start Bye
+        Bye {
+          0.8 "goodbye"
+          0.3 "thanks"
+          "bye"
+          ^^^^^ error no-mass-left: sum to 11/10 (1.1)…the unweighted alternative gets
+        }
+        "#,
+    );
 }
 
 #[test]
 fn unweighted_alternatives_with_mass_left_are_fine() {
-    assert_clean(&analyze_text(
-        "start Bye\nBye {\n  0.7  \"goodbye\"\n  \"bye\"\n  \"cheers\"\n}\n",
-    ));
+    check("start Bye\nBye {\n  0.7  \"goodbye\"\n  \"bye\"\n  \"cheers\"\n}\n");
 }
 
 #[test]
 fn a_zero_weight_is_a_warning_at_the_weight() {
-    let a = analyze_text(&kind_block(&["0.6", "0.4", "0"]));
-    let d = the_one(&a, Code::ZeroWeight);
-    assert_eq!(d.severity, Severity::Warning);
-    assert_eq!(pos(&a, d), (5, 3));
-    assert_eq!(
-        d.message,
-        "rule `Kind → \"day\"` has weight 0 and can never be used"
+    check(
+        r#"
+        start Kind
+        Kind {
+          0.6 "return"
+          0.4 "single"
+          0 "day"
+          ^ warning zero-weight == rule `Kind → "day"` has weight 0 and can never be used
+        }
+        "#,
     );
-    assert_eq!(codes(&a), [Code::ZeroWeight]);
 }
 
 #[test]
 fn a_negative_weight_is_an_error_and_hides_the_sum_check() {
     // As written the weights add up to 1; as probabilities they do not.
-    let a = analyze_text(&kind_block(&["1.25", "-1/4"]));
-    let d = the_one(&a, Code::NegativeWeight);
-    assert_eq!(d.severity, Severity::Error);
-    assert_eq!(pos(&a, d), (4, 3));
-    assert_eq!(span_text(&a, d), "-1/4");
-    assert!(d.message.contains("-1/4 (-0.25)"), "{}", d.message);
-    assert_eq!(codes(&a), [Code::NegativeWeight]);
+    check(
+        r#"
+        start Kind
+        Kind {
+          1.25 "return"
+          -1/4 "single"
+          ^^^^ error negative-weight: -1/4 (-0.25)
+        }
+        "#,
+    );
 }
 
 #[test]
 fn a_weight_dividing_by_zero_is_reported_at_the_weight() {
-    let a = analyze_text(&kind_block(&["1/0", "1"]));
-    let d = the_one(&a, Code::BadWeight);
-    assert_eq!(pos(&a, d), (3, 3));
-    assert!(d.message.contains("divides by zero"), "{}", d.message);
     // No sum message about a block whose weight could not be read.
-    assert_eq!(codes(&a), [Code::BadWeight]);
+    check(
+        r#"
+        start Kind
+        Kind {
+          1/0 "return"
+          ^^^ error bad-weight: divides by zero
+          1 "single"
+        }
+        "#,
+    );
 }
 
 #[test]
 fn an_empty_alternative_is_an_empty_rule_error_without_a_sum_message() {
-    let a = analyze_text("start Fare\nFare {\n  0.5 \"single\"\n  0.5\n}\n");
-    let d = the_one(&a, Code::EmptyRule);
-    assert_eq!(d.location.file.0, 0);
-    assert!(d.help.is_some());
-    assert!(
-        with_code(&a, Code::SumNotOne).is_empty(),
-        "{:#?}",
-        a.diagnostics
+    let a = check(
+        r#"
+        start Fare
+        Fare {
+          0.5 "single"
+          0.5
+          ^^^ error empty-rule
+        }
+        "#,
     );
+    assert!(a.diagnostics[0].help.is_some());
 }
 
 // ---------------------------------------------------------------------------
@@ -302,55 +312,78 @@ fn an_empty_alternative_is_an_empty_rule_error_without_a_sum_message() {
 
 #[test]
 fn every_use_of_an_undefined_name_is_reported_with_a_suggestion() {
-    let text = "start S\nS {\n  0.5 Tiket \"a\"\n  0.5 \"b\" Tiket\n}\nTicket { \"t\" }\n";
-    let a = analyze_text(text);
-    let found = with_code(&a, Code::Undefined);
-    assert_eq!(found.len(), 2);
-    assert_eq!(pos(&a, found[0]), (3, 7));
-    assert_eq!(pos(&a, found[1]), (4, 11));
-    assert_eq!(
-        found[0].message,
-        "`Tiket` is used but has no block; did you mean `Ticket`?"
-    );
-    assert!(found[0].help.as_ref().unwrap().contains("Tiket {"));
     // `S` is unproductive because it only goes through `Tiket`, and
     // `Ticket` is unreachable; `Tiket` itself is not reported again.
-    assert_eq!(with_code(&a, Code::Unproductive).len(), 1);
+    let a = check(
+        r#"
+        start S
+        S {
+        ^ error unproductive: `S` derives no string…needs `Tiket` (undefined)
+          0.5 Tiket "a"
+              ^^^^^ error undefined == `Tiket` is used but has no block; did you mean `Ticket`?
+          0.5 "b" Tiket
+                  ^^^^^ error undefined: did you mean `Ticket`?
+        }
+        Ticket { "t" }
+        ^^^^^^ warning unreachable
+        "#,
+    );
+    let undefined = with_code(&a, Code::Undefined)[0];
+    assert!(undefined.help.as_ref().unwrap().contains("Tiket {"));
     let unproductive = the_one(&a, Code::Unproductive);
     assert!(unproductive.message.starts_with("`S` derives no string"));
-    assert!(unproductive.message.contains("needs `Tiket` (undefined)"));
     assert_eq!(unproductive.related.len(), 2);
 }
 
 #[test]
 fn far_away_names_get_no_suggestion() {
-    let a = analyze_text("start S\nS { Payment \"x\" | \"y\" }\nTicket { \"t\" }\nS2 { S }\n");
-    let d = &with_code(&a, Code::Undefined)[0];
-    assert_eq!(d.message, "`Payment` is used but has no block");
+    check(
+        r#"
+        start S
+        S { Payment "x" | "y" }
+            ^^^^^^^ error undefined == `Payment` is used but has no block
+        Ticket { "t" }
+        ^^^^^^ warning unreachable
+        S2 { S }
+        ^^ warning unreachable
+        "#,
+    );
 }
 
 #[test]
 fn a_second_block_for_a_name_points_at_both_and_adds_nothing() {
-    let text = "start Kind\nKind {\n  \"day\"\n}\nKind {\n  \"day\"\n}\n";
-    let a = analyze_text(text);
-    let d = the_one(&a, Code::DuplicateBlock);
-    assert_eq!(pos(&a, d), (5, 1));
-    assert_eq!(related_pos(&a, d, 0), (2, 1));
-    assert_eq!(d.message, "`Kind` has a second block");
     // The second block's rule is not added, so it is no duplicate rule.
-    assert_eq!(codes(&a), [Code::DuplicateBlock]);
+    let a = check(
+        r#"
+        start Kind
+        Kind {
+          "day"
+        }
+        Kind {
+        ^^^^ error duplicate-block == `Kind` has a second block
+          "day"
+        }
+        "#,
+    );
+    assert_eq!(related_pos(&a, &a.diagnostics[0], 0), (2, 1));
     assert_eq!(a.grammar.rules.len(), 1);
 }
 
 #[test]
 fn the_same_right_hand_side_twice_in_a_block_is_a_duplicate_rule() {
-    let text = "start S\nS {\n  0.5 A \"x\"\n  0.25 \"y\"\n  0.25 A \"x\"\n}\nA { \"a\" }\n";
-    let a = analyze_text(text);
-    let d = the_one(&a, Code::DuplicateRule);
-    assert_eq!(d.severity, Severity::Warning);
-    assert_eq!(pos(&a, d), (5, 3));
-    assert_eq!(related_pos(&a, d, 0), (3, 3));
-    assert_eq!(d.message, "rule `S → A \"x\"` is written twice");
+    let a = check(
+        r#"
+        start S
+        S {
+          0.5 A "x"
+          0.25 "y"
+          0.25 A "x"
+          ^^^^^^^^^^ warning duplicate-rule == rule `S → A "x"` is written twice
+        }
+        A { "a" }
+        "#,
+    );
+    assert_eq!(related_pos(&a, &a.diagnostics[0], 0), (3, 3));
 }
 
 #[test]
@@ -378,53 +411,63 @@ fn duplicates_in_long_blocks_point_at_the_first_writing() {
 
 #[test]
 fn the_same_right_hand_side_in_two_blocks_is_fine() {
-    assert_clean(&analyze_text(
-        "start S\nS { A | B }\nA { \"x\" }\nB { \"x\" }\n",
-    ));
+    check("start S\nS { A | B }\nA { \"x\" }\nB { \"x\" }\n");
 }
 
 #[test]
 fn a_grammar_without_start_says_how_to_declare_it() {
-    let a = analyze_text("# kiosk\nRequest { \"hello\" }\nOther { \"x\" }\n");
-    let d = the_one(&a, Code::NoStart);
-    assert_eq!(pos(&a, d), (1, 1));
-    assert!(
-        d.help.as_ref().unwrap().contains("`start Request`"),
-        "{:?}",
-        d.help
-    );
     // Without a start symbol nothing is called unreachable.
-    assert_eq!(codes(&a), [Code::NoStart]);
+    let a = check(
+        r#"
+        # kiosk
+        ^0 error no-start
+        Request { "hello" }
+        Other { "x" }
+        "#,
+    );
+    let help = a.diagnostics[0].help.as_ref();
+    assert!(help.unwrap().contains("`start Request`"), "{help:?}");
 }
 
 #[test]
 fn a_start_symbol_without_block_is_unknown_with_a_suggestion() {
-    let a = analyze_text("start Requst\nRequest { \"hello\" }\n");
-    let d = the_one(&a, Code::UnknownStart);
-    assert_eq!(pos(&a, d), (1, 7));
-    assert_eq!(
-        d.message,
-        "the start symbol `Requst` has no block; did you mean `Request`?"
-    );
     // Not also `undefined`, and no reachability without a valid start.
-    assert_eq!(codes(&a), [Code::UnknownStart]);
+    check(
+        r#"
+        start Requst
+              ^^^^^^ error unknown-start == the start symbol `Requst` has no block; did you mean `Request`?
+        Request { "hello" }
+        "#,
+    );
 }
 
 #[test]
 fn a_second_grammar_name_points_at_both() {
-    let a = analyze_text("grammar one\ngrammar two\nstart S\nS { \"x\" }\n");
-    let d = the_one(&a, Code::DuplicateDeclaration);
-    assert_eq!(pos(&a, d), (2, 9));
-    assert_eq!(related_pos(&a, d, 0), (1, 9));
+    let a = check(
+        r#"
+        grammar one
+        grammar two
+                ^^^ error duplicate-declaration
+        start S
+        S { "x" }
+        "#,
+    );
+    assert_eq!(related_pos(&a, &a.diagnostics[0], 0), (1, 9));
     assert_eq!(a.grammar.name.as_deref(), Some("one"));
 }
 
 #[test]
 fn a_second_start_points_at_the_first() {
-    let a = analyze_text("start S\nstart T\nS { T }\nT { \"x\" }\n");
-    let d = the_one(&a, Code::DuplicateDeclaration);
-    assert_eq!(pos(&a, d), (2, 7));
-    assert_eq!(related_pos(&a, d, 0), (1, 7));
+    let a = check(
+        r#"
+        start S
+        start T
+              ^ error duplicate-declaration
+        S { T }
+        T { "x" }
+        "#,
+    );
+    assert_eq!(related_pos(&a, &a.diagnostics[0], 0), (1, 7));
     assert_eq!(a.grammar.start, a.grammar.nt("S"));
 }
 
@@ -434,77 +477,109 @@ fn a_second_start_points_at_the_first() {
 
 #[test]
 fn blocks_the_start_never_reaches_are_unreachable() {
-    let text = "start S\nS { A \"x\" }\nA { \"a\" }\nLonely { Island }\nIsland { \"i\" }\n";
-    let a = analyze_text(text);
-    let found = with_code(&a, Code::Unreachable);
-    assert_eq!(found.len(), 2);
-    assert_eq!(pos(&a, found[0]), (4, 1));
-    assert_eq!(pos(&a, found[1]), (5, 1));
-    assert_eq!(
-        found[0].message,
-        "`Lonely` cannot be reached from the start symbol `S`"
+    check(
+        r#"
+        start S
+        S { A "x" }
+        A { "a" }
+        Lonely { Island }
+        ^^^^^^ warning unreachable == `Lonely` cannot be reached from the start symbol `S`
+        Island { "i" }
+        ^^^^^^ warning unreachable
+        "#,
     );
-    assert_eq!(found[0].severity, Severity::Warning);
 }
 
 #[test]
 fn symbols_that_never_finish_are_unproductive() {
-    let text = "start S\nS {\n  0.5 \"x\"\n  0.5 Loop\n}\nLoop {\n  1 \"and\" Loop\n}\n";
-    let a = analyze_text(text);
-    let d = the_one(&a, Code::Unproductive);
-    assert_eq!(pos(&a, d), (6, 1));
-    assert_eq!(
-        d.message,
-        "`Loop` derives no string of words: every rule needs a symbol that never finishes \
-         (`Loop → \"and\" Loop` needs `Loop`)"
+    let a = check(
+        r#"
+        start S
+        S {
+          0.5 "x"
+          0.5 Loop
+        }
+        Loop {
+        ^^^^ error unproductive == `Loop` derives no string of words: every rule needs a symbol that never finishes (`Loop → "and" Loop` needs `Loop`)
+          1 "and" Loop
+        }
+        "#,
     );
-    assert_eq!(related_pos(&a, d, 0), (7, 3));
-    assert_eq!(d.severity, Severity::Error);
+    assert_eq!(related_pos(&a, &a.diagnostics[0], 0), (7, 3));
 }
 
 #[test]
 fn mutual_recursion_without_a_way_out_is_unproductive_for_every_member() {
-    let text = "start S\nS { \"s\" | A }\nA { \"a\" B }\nB { \"b\" A }\n";
-    let a = analyze_text(text);
+    let a = check(
+        r#"
+        start S
+        S { "s" | A }
+        A { "a" B }
+        ^ error unproductive: `A` derives no string
+        B { "b" A }
+        ^ error unproductive: `B` derives no string
+        "#,
+    );
     let found = with_code(&a, Code::Unproductive);
-    assert_eq!(found.len(), 2);
     assert!(found[0].message.starts_with("`A` derives no string"));
     assert!(found[1].message.starts_with("`B` derives no string"));
 }
 
 #[test]
 fn recursion_with_a_base_case_is_productive() {
-    let text = "start List\nList {\n  0.5 Item List\n  0.5 Item\n}\nItem { \"x\" }\n";
-    assert_clean(&analyze_text(text));
+    check("start List\nList {\n  0.5 Item List\n  0.5 Item\n}\nItem { \"x\" }\n");
 }
 
 #[test]
 fn a_cycle_of_unary_rules_is_a_warning_with_its_probability() {
-    let text = "start Price\nPrice {\n  0.5 Cost\n  0.5 \"cheap\"\n}\nCost {\n  0.5 Price\n  0.5 \"dear\"\n}\n";
-    let a = analyze_text(text);
-    let d = the_one(&a, Code::UnaryCycle);
-    assert_eq!(d.severity, Severity::Warning);
-    assert_eq!(pos(&a, d), (3, 3));
-    assert_eq!(related_pos(&a, d, 0), (7, 3));
-    assert_eq!(
-        d.message,
-        "unary rules form a cycle: Price → Cost → Price; going round it once has probability 1/4 (0.25)"
+    let a = check(
+        r#"
+        start Price
+        Price {
+          0.5 Cost
+          ^^^^^^^^ warning unary-cycle == unary rules form a cycle: Price → Cost → Price; going round it once has probability 1/4 (0.25)
+          0.5 "cheap"
+        }
+        Cost {
+          0.5 Price
+          0.5 "dear"
+        }
+        "#,
     );
+    assert_eq!(related_pos(&a, &a.diagnostics[0], 0), (7, 3));
 }
 
 #[test]
 fn a_unary_rule_to_itself_is_a_cycle() {
-    let a = analyze_text("start A\nA {\n  0.5 A\n  0.5 \"a\"\n}\n");
-    let d = the_one(&a, Code::UnaryCycle);
-    assert!(d.message.contains("A → A;"), "{}", d.message);
+    check(
+        r#"
+        start A
+        A {
+          0.5 A
+          ^^^^^ warning unary-cycle: A → A;
+          0.5 "a"
+        }
+        "#,
+    );
 }
 
 #[test]
 fn a_certain_unary_cycle_is_an_error() {
-    let text = "start S\nS {\n  0.5 A\n  0.5 \"s\"\n}\nA { B }\nB { A }\n";
-    let a = analyze_text(text);
+    let a = check(
+        r#"
+        start S
+        S {
+          0.5 A
+          0.5 "s"
+        }
+        A { B }
+        ^ error unproductive: `A → B` needs `B`
+            ^ error unary-cycle: unary rules form a cycle: A → B → A; every rule on it has probability 1
+        B { A }
+        ^ error unproductive: `B → A` needs `A`
+        "#,
+    );
     let d = the_one(&a, Code::UnaryCycle);
-    assert_eq!(d.severity, Severity::Error);
     assert!(
         d.message
             .starts_with("unary rules form a cycle: A → B → A; every rule on it has probability 1"),
@@ -515,15 +590,28 @@ fn a_certain_unary_cycle_is_an_error() {
     let mut config = Config::default();
     config.levels.insert(
         Code::UnaryCycle,
-        grammar_lang::config::Level::At(Severity::Warning),
+        grammar_lang::config::Level::At(grammar_lang::Severity::Warning),
     );
-    let a = analyze(Path::new("g.trellis"), text, &MemoryLoader::new(), &config);
-    assert_eq!(the_one(&a, Code::UnaryCycle).severity, Severity::Warning);
+    check_with(
+        &config,
+        r#"
+        start S
+        S {
+          0.5 A
+          0.5 "s"
+        }
+        A { B }
+        ^ error unproductive
+            ^ warning unary-cycle
+        B { A }
+        ^ error unproductive
+        "#,
+    );
 }
 
 #[test]
 fn unary_chains_without_a_cycle_are_fine() {
-    assert_clean(&analyze_text("start A\nA { B }\nB { C }\nC { \"c\" }\n"));
+    check("start A\nA { B }\nB { C }\nC { \"c\" }\n");
 }
 
 // ---------------------------------------------------------------------------
@@ -532,39 +620,33 @@ fn unary_chains_without_a_cycle_are_fine() {
 
 #[test]
 fn a_rule_longer_than_the_maximum_arity_explains_the_cost() {
-    let long = "start S\nS {\n  \"a\" \"b\" \"c\" \"d\" \"e\" \"f\" \"g\" \"h\" \"i\"\n}\n";
-    let a = analyze_text(long);
-    let d = the_one(&a, Code::Arity);
-    assert_eq!(pos(&a, d), (3, 3));
-    assert!(
-        d.message.contains("9 items, more than the limit of 8"),
-        "{}",
-        d.message
-    );
-    assert!(
-        d.message.contains("7 intermediate symbols"),
-        "{}",
-        d.message
-    );
-    assert!(d.help.as_ref().unwrap().contains("named block"));
+    let long = r#"
+        start S
+        S {
+          "a" "b" "c" "d" "e" "f" "g" "h" "i"
+          ^^^^^^^^^^^^^^^^^^^^^^^^^^^^^^^^^^^ warning arity: 9 items, more than the limit of 8…7 intermediate symbols
+        }
+        "#;
+    let a = check(long);
+    assert!(a.diagnostics[0]
+        .help
+        .as_ref()
+        .unwrap()
+        .contains("named block"));
     // A raised limit accepts it.
     let config = Config {
         max_arity: 9,
         ..Config::default()
     };
-    assert_clean(&analyze(
-        Path::new("g.trellis"),
-        long,
-        &MemoryLoader::new(),
+    check_with(
         &config,
-    ));
+        "start S\nS {\n  \"a\" \"b\" \"c\" \"d\" \"e\" \"f\" \"g\" \"h\" \"i\"\n}\n",
+    );
 }
 
 #[test]
 fn a_rule_at_the_maximum_arity_is_fine() {
-    assert_clean(&analyze_text(
-        "start S\nS {\n  \"a\" \"b\" \"c\" \"d\" \"e\" \"f\" \"g\" \"h\"\n}\n",
-    ));
+    check("start S\nS {\n  \"a\" \"b\" \"c\" \"d\" \"e\" \"f\" \"g\" \"h\"\n}\n");
 }
 
 // ---------------------------------------------------------------------------
@@ -573,16 +655,16 @@ fn a_rule_at_the_maximum_arity_is_fine() {
 
 #[test]
 fn used_files_contribute_their_blocks() {
-    let loader =
-        MemoryLoader::new().with("kiosk/lexicon.trellis", "Kind { \"day\" | \"single\" }\n");
-    let main = "start Ticket\nuse \"lexicon.trellis\"\nTicket { Kind \"ticket\" }\n";
-    let a = analyze(
-        Path::new("kiosk/main.trellis"),
-        main,
-        &loader,
-        &Config::default(),
+    let a = check(
+        r#"
+        === kiosk/main.trellis ===
+        start Ticket
+        use "lexicon.trellis"
+        Ticket { Kind "ticket" }
+        === kiosk/lexicon.trellis ===
+        Kind { "day" | "single" }
+        "#,
     );
-    assert_clean(&a);
     assert_eq!(a.sources.len(), 2);
     assert_eq!(
         a.sources.get(grammar_lang::FileId(1)).path,
@@ -594,22 +676,16 @@ fn used_files_contribute_their_blocks() {
 
 #[test]
 fn a_missing_file_is_reported_at_its_use() {
-    let main = "start S\nS { \"x\" }\nuse \"lex/words.trellis\"\n";
-    let a = analyze(
-        Path::new("kiosk/main.trellis"),
-        main,
-        &MemoryLoader::new(),
-        &Config::default(),
+    let a = check(
+        r#"
+        === kiosk/main.trellis ===
+        start S
+        S { "x" }
+        use "lex/words.trellis"
+        ^^^^^^^^^^^^^^^^^^^^^^^ error use-missing: kiosk/lex/words.trellis…no such file
+        "#,
     );
-    let d = the_one(&a, Code::UseMissing);
-    assert_eq!(pos(&a, d), (3, 1));
-    assert!(
-        d.message.contains("kiosk/lex/words.trellis"),
-        "{}",
-        d.message
-    );
-    assert!(d.message.contains("no such file"), "{}", d.message);
-    assert!(d
+    assert!(a.diagnostics[0]
         .help
         .as_ref()
         .unwrap()
@@ -618,81 +694,93 @@ fn a_missing_file_is_reported_at_its_use() {
 
 #[test]
 fn paths_are_relative_to_the_using_file() {
-    let loader = MemoryLoader::new()
-        .with(
-            "g/lex/words.trellis",
-            "use \"../common.trellis\"\nWord { Common }\n",
-        )
-        .with("g/common.trellis", "Common { \"c\" }\n");
-    let main = "use \"lex/words.trellis\"\nstart Word\n";
-    let a = analyze(
-        Path::new("g/main.trellis"),
-        main,
-        &loader,
-        &Config::default(),
+    let a = check(
+        r#"
+        === g/main.trellis ===
+        use "lex/words.trellis"
+        start Word
+        === g/lex/words.trellis ===
+        use "../common.trellis"
+        Word { Common }
+        === g/common.trellis ===
+        Common { "c" }
+        "#,
     );
-    assert_clean(&a);
     assert_eq!(a.sources.len(), 3);
 }
 
 #[test]
 fn a_use_cycle_is_reported_at_the_use_that_closes_it() {
-    let loader = MemoryLoader::new()
-        .with("a.trellis", "A { \"a\" }\nuse \"b.trellis\"\n")
-        .with("b.trellis", "B { \"b\" }\n\nuse \"main.trellis\"\n");
-    let main = "start S\nuse \"a.trellis\"\nS { A B }\n";
-    let a = analyze(Path::new("main.trellis"), main, &loader, &Config::default());
-    let d = the_one(&a, Code::UseCycle);
-    assert_eq!(a.sources.get(d.location.file).path, Path::new("b.trellis"));
-    assert_eq!(pos(&a, d), (3, 1));
-    assert_eq!(
-        d.message,
-        "`use` cycle: main.trellis → a.trellis → b.trellis → main.trellis"
-    );
     // Everything is still loaded once and the grammar is complete.
+    let a = check(
+        r#"
+        === main.trellis ===
+        start S
+        use "a.trellis"
+        S { A B }
+        === a.trellis ===
+        A { "a" }
+        use "b.trellis"
+        === b.trellis ===
+        B { "b" }
+
+        use "main.trellis"
+        ^^^^^^^^^^^^^^^^^^ error use-cycle == `use` cycle: main.trellis → a.trellis → b.trellis → main.trellis
+        "#,
+    );
     assert_eq!(a.sources.len(), 3);
-    assert_eq!(codes(&a), [Code::UseCycle]);
 }
 
 #[test]
 fn a_file_using_itself_is_a_cycle() {
-    let main = "start S\nuse \"main.trellis\"\nS { \"x\" }\n";
-    let a = analyze(
-        Path::new("main.trellis"),
-        main,
-        &MemoryLoader::new(),
-        &Config::default(),
+    check(
+        r#"
+        === main.trellis ===
+        start S
+        use "main.trellis"
+        ^^^^^^^^^^^^^^^^^^ error use-cycle == `use` cycle: main.trellis → main.trellis
+        S { "x" }
+        "#,
     );
-    let d = the_one(&a, Code::UseCycle);
-    assert_eq!(d.message, "`use` cycle: main.trellis → main.trellis");
 }
 
 #[test]
 fn a_file_used_twice_without_a_cycle_is_loaded_once() {
-    let loader = MemoryLoader::new()
-        .with("left.trellis", "use \"shared.trellis\"\nLeft { Shared }\n")
-        .with(
-            "right.trellis",
-            "use \"shared.trellis\"\nRight { Shared }\n",
-        )
-        .with("shared.trellis", "Shared { \"s\" }\n");
-    let main = "start S\nuse \"left.trellis\"\nuse \"right.trellis\"\nS { Left Right }\n";
-    let a = analyze(Path::new("main.trellis"), main, &loader, &Config::default());
-    assert_clean(&a);
+    let a = check(
+        r#"
+        === main.trellis ===
+        start S
+        use "left.trellis"
+        use "right.trellis"
+        S { Left Right }
+        === left.trellis ===
+        use "shared.trellis"
+        Left { Shared }
+        === right.trellis ===
+        use "shared.trellis"
+        Right { Shared }
+        === shared.trellis ===
+        Shared { "s" }
+        "#,
+    );
     assert_eq!(a.sources.len(), 4);
 }
 
 #[test]
 fn start_declared_in_two_files_is_a_duplicate() {
-    let loader = MemoryLoader::new().with("lex.trellis", "start Word\nWord { \"w\" }\n");
-    let main = "start S\nuse \"lex.trellis\"\nS { Word }\n";
-    let a = analyze(Path::new("main.trellis"), main, &loader, &Config::default());
-    let d = the_one(&a, Code::DuplicateDeclaration);
-    assert_eq!(
-        a.sources.get(d.location.file).path,
-        Path::new("lex.trellis")
+    let a = check(
+        r#"
+        === main.trellis ===
+        start S
+        use "lex.trellis"
+        S { Word }
+        === lex.trellis ===
+        start Word
+              ^^^^ error duplicate-declaration
+        Word { "w" }
+        "#,
     );
-    assert_eq!(pos(&a, d), (1, 7));
+    let d = &a.diagnostics[0];
     assert_eq!(d.related[0].location.file.0, 0);
     assert_eq!(related_pos(&a, d, 0), (1, 7));
 }
@@ -761,8 +849,7 @@ fn a_unary_cycle_through_fifty_thousand_symbols_is_found_without_deep_recursion(
 fn alternatives_keep_their_doc_comments() {
     let text =
         "start Kind\nKind {\n  ## The cheapest fare.\n  0.5 \"single\"\n  0.5 \"return\"\n}\n";
-    let a = analyze_text(text);
-    assert_clean(&a);
+    let a = check(text);
     let docs: Vec<Option<&str>> = a.grammar.rules.iter().map(|r| r.doc.as_deref()).collect();
     assert_eq!(docs, [Some("The cheapest fare."), None]);
 }
@@ -771,48 +858,50 @@ fn alternatives_keep_their_doc_comments() {
 fn columns_count_characters_in_names_beyond_ascii() {
     // `Fähre` is five characters but six bytes; the column of the
     // undefined `Bötchen` after it counts characters.
-    let text = "start Fähre\nFähre { \"ü\" Bötchen }\n";
-    let a = analyze_text(text);
-    let d = the_one(&a, Code::Undefined);
-    assert_eq!(pos(&a, d), (2, 13));
-    assert_eq!(span_text(&a, d), "Bötchen");
+    check(
+        r#"
+        start Fähre
+        Fähre { "ü" Bötchen }
+        ^^^^^ error unproductive: `Fähre` derives no string
+                    ^^^^^^^ error undefined
+        "#,
+    );
 }
 
 #[test]
 fn findings_in_a_used_file_point_into_that_file() {
-    let loader = MemoryLoader::new().with(
-        "lex.trellis",
-        "Word {\n  0.5 \"ferry\"\n  0.4 \"boat\"\n}\nWord2 { Wrd }\n",
-    );
-    let main = "start S\nuse \"lex.trellis\"\nS { Word | Word2 }\n";
-    let a = analyze(Path::new("main.trellis"), main, &loader, &Config::default());
-    let sum = the_one(&a, Code::SumNotOne);
-    assert_eq!(
-        a.sources.get(sum.location.file).path,
-        Path::new("lex.trellis")
-    );
-    assert_eq!(pos(&a, sum), (1, 1));
-    let undefined = the_one(&a, Code::Undefined);
-    assert_eq!(
-        a.sources.get(undefined.location.file).path,
-        Path::new("lex.trellis")
-    );
-    assert_eq!(pos(&a, undefined), (5, 9));
-    assert!(
-        undefined.message.ends_with("did you mean `Word`?"),
-        "{}",
-        undefined.message
+    check(
+        r#"
+        === main.trellis ===
+        start S
+        use "lex.trellis"
+        S { Word | Word2 }
+        === lex.trellis ===
+        Word {
+        ^^^^ error sum-not-one
+          0.5 "ferry"
+          0.4 "boat"
+        }
+        Word2 { Wrd }
+        ^^^^^ error unproductive
+                ^^^ error undefined == `Wrd` is used but has no block; did you mean `Word`?
+        "#,
     );
 }
 
 #[test]
 fn syntax_errors_of_used_files_are_reported_in_those_files() {
-    let loader = MemoryLoader::new().with("lex.trellis", "Word = \"ferry\"\n");
-    let main = "start S\nuse \"lex.trellis\"\nS { \"x\" }\n";
-    let a = analyze(Path::new("main.trellis"), main, &loader, &Config::default());
-    let d = &with_code(&a, Code::Syntax)[0];
-    assert_eq!(d.location.file.0, 1);
-    assert_eq!(pos(&a, d), (1, 6));
+    check(
+        r#"
+        === main.trellis ===
+        start S
+        use "lex.trellis"
+        S { "x" }
+        === lex.trellis ===
+        Word = "ferry"
+             ^ error syntax
+        "#,
+    );
 }
 
 #[test]
@@ -836,16 +925,12 @@ fn a_limit_set_below_two_in_code_does_not_break_the_arity_message() {
         max_arity: 1,
         ..Config::default()
     };
-    let a = analyze(
-        Path::new("g.trellis"),
-        "start S\nS { \"a\" \"b\" }\n",
-        &MemoryLoader::new(),
+    check_with(
         &config,
-    );
-    let d = the_one(&a, Code::Arity);
-    assert!(
-        d.message.contains("2 items, more than the limit of 1"),
-        "{}",
-        d.message
+        r#"
+        start S
+        S { "a" "b" }
+            ^^^^^^^ warning arity: 2 items, more than the limit of 1
+        "#,
     );
 }

@@ -5,7 +5,7 @@ use grammar_lang::syntax::ast::{Decl, Expectation, Item, TreeChild};
 use grammar_lang::syntax::parse;
 use grammar_lang::LineIndex;
 
-/// The example from the language design, verbatim in spirit.
+/// The example of README's "The grammar language", verbatim in spirit.
 const KIOSK: &str = r#"grammar ferry_kiosk            # optional
 start Request
 use "lexicon.trellis"

@@ -5,10 +5,12 @@
 
 use grammar_lang::model::Grammar;
 use std::collections::HashMap;
-use trellis_acceptance::{chi_square, chi_square_critical, example, grammar, Z_0_999};
+use trellis_acceptance::{example, grammar};
 use trellis_engine::parser::{ParseOptions, Parser};
 use trellis_engine::rng::Xoshiro256StarStar;
 use trellis_engine::sample::{Sampler, DEFAULT_LIMIT};
+use trellis_test_support::grammars::ASTRONOMERS;
+use trellis_test_support::stats::{chi_square, chi_square_critical, Z_0_999};
 
 fn draw(sampler: &Sampler, seed: u64, draws: usize) -> HashMap<String, usize> {
     let start = sampler.start().unwrap();
@@ -91,15 +93,6 @@ fn ambiguous_sentences_are_drawn_with_the_sum_of_their_trees_probabilities() {
     // Language Processing* (1999), ch. 11 (recalled from memory): PP
     // attachment makes many of its sentences ambiguous, so a sentence's
     // frequency is the sum over its trees, not the best tree's probability.
-    let g = grammar(
-        "start S
-S { NP VP }
-PP { P NP }
-VP { 0.7 V NP | 0.3 VP PP }
-P { \"with\" }
-V { \"saw\" }
-NP { 0.4 NP PP | 0.1 \"astronomers\" | 0.18 \"ears\" | 0.04 \"saw\" | 0.18 \"stars\" | 0.1 \"telescopes\" }
-",
-    );
+    let g = grammar(ASTRONOMERS);
     sampled_frequencies_match_inside_probabilities("the textbook grammar", &g, 0x0a57_0004);
 }

@@ -7,30 +7,7 @@
 use grammar_lang::model::{Grammar, Sym};
 use grammar_lang::tree::Tree;
 use std::collections::HashMap;
-
-/// The grammar-language text of `(lhs, rhs, weight)` triples: one block per
-/// left-hand side (in order of first appearance); the right-hand side is
-/// written as in the language (terminals in double quotes); weights are
-/// exact probabilities (`0.4`, `1/3`, `25%`).
-pub fn grammar_text(start: &str, rules: &[(&str, &str, &str)]) -> String {
-    let mut order: Vec<&str> = Vec::new();
-    for &(lhs, _, _) in rules {
-        if !order.contains(&lhs) {
-            order.push(lhs);
-        }
-    }
-    let mut text = format!("start {start}\n");
-    for lhs in order {
-        text.push_str(&format!("\n{lhs} {{\n"));
-        for &(l, rhs, weight) in rules {
-            if l == lhs {
-                text.push_str(&format!("  {weight}  {rhs}\n"));
-            }
-        }
-        text.push_str("}\n");
-    }
-    text
-}
+use trellis_test_support::grammars::{grammar_text, ASTRONOMERS};
 
 /// Analyses the grammar of `grammar_text` with the front end; it must have
 /// no errors.
@@ -47,29 +24,12 @@ pub fn grammar_with_errors(start: &str, rules: &[(&str, &str, &str)]) -> Grammar
     grammar_lang::analyze_text(&grammar_text(start, rules)).grammar
 }
 
-/// The PCFG of Manning & Schütze, *Foundations of Statistical Natural
-/// Language Processing* (1999), ch. 11, "astronomers saw stars with ears".
-/// Rules, probabilities and results are recalled from memory: the two
-/// parses have probabilities 0.0009072 (PP attached to the object NP) and
-/// 0.0006804 (PP attached to the VP); P(sentence) = 0.0015876.
+/// The textbook grammar of Manning & Schütze ([`ASTRONOMERS`], with its
+/// source and published numbers), analysed; it must have no errors.
 pub fn astronomers() -> Grammar {
-    grammar(
-        "S",
-        &[
-            ("S", "NP VP", "1.0"),
-            ("PP", "P NP", "1.0"),
-            ("VP", "V NP", "0.7"),
-            ("VP", "VP PP", "0.3"),
-            ("P", "\"with\"", "1.0"),
-            ("V", "\"saw\"", "1.0"),
-            ("NP", "NP PP", "0.4"),
-            ("NP", "\"astronomers\"", "0.1"),
-            ("NP", "\"ears\"", "0.18"),
-            ("NP", "\"saw\"", "0.04"),
-            ("NP", "\"stars\"", "0.18"),
-            ("NP", "\"telescopes\"", "0.1"),
-        ],
-    )
+    let analysis = grammar_lang::analyze_text(ASTRONOMERS);
+    assert!(!analysis.has_errors(), "{:?}", analysis.diagnostics);
+    analysis.grammar
 }
 
 /// Relative difference, 0 when both are 0.

@@ -10,16 +10,11 @@ use tokio::io::{AsyncBufReadExt, AsyncReadExt, AsyncWriteExt, BufReader, DuplexS
 use tokio::sync::mpsc;
 use trellis_lsp::{serve, Options};
 
-/// A small harbour grammar: every sentence has one tree, e.g. "ferries
-/// sail" with 0.6 · 1/2 · 0.75 = 0.225 (worked by hand).
-pub const HARBOUR: &str = "start S
-S {
-  0.6  NP VP
-  0.4  VP
-}
-NP { 1/2 \"ferries\" | 1/2 \"boats\" }
-VP { 0.75 \"sail\" | 0.25 \"sink\" }
-";
+/// A small harbour grammar in which every sentence has one tree (its
+/// hand-worked numbers are with it in the shared test grammars). Not every
+/// test file that includes this module uses it.
+#[allow(unused_imports)]
+pub use trellis_test_support::grammars::HARBOUR;
 
 /// Asserts that `response` is the error LSP 3.17 calls `RequestFailed`
 /// (-32803) and that its message contains `says`.

@@ -1,0 +1,20 @@
+//! # trellis-test-support — tests as data
+//!
+//! What several test suites of trellis share, used only as a
+//! dev-dependency:
+//!
+//! * [`fixture`] — grammar texts written with their expected diagnostics
+//!   as caret annotations under the lines they point at, one or more files
+//!   in one string, and a cursor marker; [`check`] analyses a fixture and
+//!   insists that exactly the annotated diagnostics are reported.
+//! * [`grammars`] — the small grammars (with their sources and hand-worked
+//!   numbers) that more than one suite uses, and the rule-list writer.
+//! * [`stats`] — the statistics the sampling tests are judged by.
+
+pub mod fixture;
+pub mod grammars;
+pub mod stats;
+
+pub use fixture::{
+    assert_diagnostics, check, check_with, Annotation, Cursor, Fixture, FixtureFile, Message,
+};
