@@ -163,7 +163,7 @@ fn marking_a_block_relative_inserts_the_keyword_after_its_name() {
     let fixed = apply(text, M, &fix.edits);
     let b = analyze_text(&fixed);
     assert!(b.diagnostics.is_empty(), "{:#?}", b.diagnostics);
-    // Design doc: `Count relative { 6 | 3 | 1 }` gives 6/10, 3/10, 1/10.
+    // README, "The grammar language": `Count relative { 6 | 3 | 1 }` gives 6/10, 3/10, 1/10.
     assert_eq!(probabilities(&b, "Zahl"), vec![r(3, 5), r(3, 10), r(1, 10)]);
 }
 
