@@ -78,6 +78,12 @@ fn add_leak_finding(analysis: &mut grammar_lang::Analysis, config: &Config) {
     analysis.diagnostics.insert(at, finding);
 }
 
+/// Whether findings of `code` come from the engine's measurements rather
+/// than from the model's static checks.
+fn is_engine_finding(code: Code) -> bool {
+    code == Code::Leaky
+}
+
 impl Deref for Analysis {
     type Target = grammar_lang::Analysis;
 
@@ -176,9 +182,19 @@ impl Analysis {
             .as_ref()
     }
 
-    /// The grammar, if the engine may run it: no errors.
+    /// The grammar, if the engine may run it: no errors in the model.
+    /// Errors the engine itself measured (`leaky`, when `trellis.toml`
+    /// makes it an error) do not count: a leaking grammar is a well-formed
+    /// model — the engine parses and samples it, and `stats` is where the
+    /// leak is studied.
     pub fn runnable(&self) -> Result<&grammar_lang::Grammar, NotRunnable> {
-        match self.core.count(grammar_lang::Severity::Error) {
+        let errors = self
+            .core
+            .diagnostics
+            .iter()
+            .filter(|d| d.severity == grammar_lang::Severity::Error && !is_engine_finding(d.code))
+            .count();
+        match errors {
             0 => Ok(&self.core.grammar),
             n => Err(NotRunnable::Errors(n)),
         }

@@ -77,3 +77,22 @@ fn the_leaky_finding_sits_in_file_order_among_the_others() {
     let codes: Vec<Code> = analysis.diagnostics.iter().map(|d| d.code).collect();
     assert_eq!(codes, vec![Code::Leaky, Code::Unreachable]);
 }
+
+#[test]
+fn a_leak_made_an_error_does_not_stop_the_engine_from_running_the_grammar() {
+    // `leaky = "error"` makes `check` fail, but the model is well formed:
+    // parse, sample and stats (where the leak is studied) still run it.
+    let config = with_leaky(Level::At(Severity::Error));
+    let analysis = analyze(Path::new("g.trellis"), LEAKY, &MemoryLoader::new(), &config);
+    assert!(analysis.has_errors());
+    assert!(analysis.runnable().is_ok());
+    // A static error still stops it.
+    let broken = "start S\nS {\n  0.7 S S\n  0.3 \"a\"\n  0.1 T\n}\n";
+    let analysis = analyze(
+        Path::new("g.trellis"),
+        broken,
+        &MemoryLoader::new(),
+        &config,
+    );
+    assert!(analysis.runnable().is_err());
+}
