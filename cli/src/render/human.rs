@@ -1,0 +1,858 @@
+//! Output for people: ariadne diagnostics, summaries, parse reports, test
+//! reports and the stats table. All colour is decided by the caller
+//! (`Term::color`) and applied here, through ariadne for diagnostics and
+//! [`Paint`] for everything else.
+
+use super::{clamp, file, place, plural, Counts};
+use crate::commands::test::{GrammarRun, Tally};
+use ariadne::{Color, IndexType, Label, Report, ReportKind, Source};
+use grammar_lang::diagnostic::Related;
+use grammar_lang::source::SourceFile;
+use grammar_lang::syntax::lexer::quote;
+use grammar_lang::{Diagnostic, FileId, Severity, SourceMap};
+use std::collections::HashMap;
+use std::fmt;
+use std::ops::Range;
+use trellis_engine::consistency::ConsistencyReport;
+use trellis_engine::parser::{ParseError, ParseOutcome};
+use trellis_engine::testing::CaseOutcome;
+use trellis_project::test_run::Blocked;
+use trellis_project::Checked;
+
+fn severity_color(severity: Severity) -> Color {
+    match severity {
+        Severity::Error => Color::Red,
+        Severity::Warning => Color::Yellow,
+        Severity::Note => Color::Cyan,
+    }
+}
+
+/// Labels further apart than this many lines are shown in separate
+/// snippets, each headed by its own location, instead of one long snippet.
+const SNIPPET_GAP: u32 = 6;
+
+/// An ariadne source id: a file and which snippet of it. ariadne draws one
+/// snippet per id, so two ids for one file give two snippets.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+struct Snippet {
+    file: FileId,
+    part: u32,
+}
+
+/// The ariadne cache over one analysis' files: sources are built once per
+/// file and borrow the text already in memory.
+struct SourceCache<'a> {
+    sources: &'a SourceMap,
+    built: HashMap<FileId, Source<&'a str>>,
+}
+
+impl<'a> ariadne::Cache<Snippet> for SourceCache<'a> {
+    type Storage = &'a str;
+
+    fn fetch(&mut self, id: &Snippet) -> Result<&Source<&'a str>, impl fmt::Debug> {
+        let sources = self.sources;
+        match file(sources, id.file) {
+            Some(f) => Ok(self
+                .built
+                .entry(id.file)
+                .or_insert_with(|| Source::from(f.text.as_str()))),
+            None => Err(format!("no file with id {}", id.file.0)),
+        }
+    }
+
+    fn display<'b>(&self, id: &'b Snippet) -> Option<impl fmt::Display + 'b> {
+        file(self.sources, id.file).map(|f| f.path.display().to_string())
+    }
+}
+
+/// One label before it is handed to ariadne.
+struct Pending<'m> {
+    file: FileId,
+    range: Range<usize>,
+    first_line: u32,
+    last_line: u32,
+    message: &'m str,
+    color: Color,
+    primary: bool,
+}
+
+impl Pending<'_> {
+    fn new<'m>(f: &SourceFile, file: FileId, range: Range<usize>, message: &'m str) -> Pending<'m> {
+        Pending {
+            file,
+            first_line: f.lines.line_of(range.start),
+            last_line: f.lines.line_of(range.end),
+            range,
+            message,
+            color: Color::Blue,
+            primary: false,
+        }
+    }
+}
+
+/// Assigns labels to snippets: labels of one file that are close together
+/// share a snippet. Returns the labels with their snippet, ordered for
+/// ariadne: the primary label's snippet first, then by file and line.
+fn snippets(mut labels: Vec<Pending<'_>>) -> Vec<(Snippet, Pending<'_>)> {
+    labels.sort_by_key(|l| (l.file, l.range.start, !l.primary));
+    let mut out: Vec<(Snippet, Pending)> = Vec::with_capacity(labels.len());
+    let mut part = 0;
+    for label in labels {
+        if let Some((prev, _)) = out.last() {
+            let reach = out
+                .iter()
+                .filter(|(s, _)| *s == *prev)
+                .map(|(_, l)| l.last_line)
+                .max()
+                .unwrap_or(0);
+            if prev.file != label.file || label.first_line > reach + SNIPPET_GAP {
+                part += 1;
+            }
+        }
+        let snippet = Snippet {
+            file: label.file,
+            part,
+        };
+        out.push((snippet, label));
+    }
+    let primary = out.iter().find(|(_, l)| l.primary).map(|(s, _)| *s);
+    // Stable: within a snippet, labels stay in line order.
+    out.sort_by_key(|(s, _)| (Some(*s) != primary, *s));
+    out
+}
+
+/// Renders diagnostics of one analysis as ariadne reports.
+pub struct HumanRenderer<'a> {
+    cache: SourceCache<'a>,
+    color: bool,
+}
+
+impl<'a> HumanRenderer<'a> {
+    pub fn new(sources: &'a SourceMap, color: bool) -> Self {
+        HumanRenderer {
+            cache: SourceCache {
+                sources,
+                built: HashMap::new(),
+            },
+            color,
+        }
+    }
+
+    /// One report: `error[code]: message`, the snippet with the primary span
+    /// (and its label) and every related span with its message, then help.
+    pub fn render(&mut self, d: &Diagnostic) -> String {
+        let sources = self.cache.sources;
+        let kind_name = format!("{}[{}]", d.severity, d.code);
+        let kind = ReportKind::Custom(&kind_name, severity_color(d.severity));
+        let Some(primary_file) = file(sources, d.location.file) else {
+            // No source to show: header and help only.
+            let mut out = format!("{kind_name}: {}\n", d.message);
+            if let Some(help) = &d.help {
+                out.push_str(&format!("  help: {help}\n"));
+            }
+            return self.finish_text(out);
+        };
+        let config = ariadne::Config::default()
+            .with_index_type(IndexType::Byte)
+            .with_color(self.color);
+        let mut labels = vec![Pending {
+            color: severity_color(d.severity),
+            primary: true,
+            ..Pending::new(
+                primary_file,
+                d.location.file,
+                clamp(&primary_file.text, d.location.span),
+                // ariadne draws no underline for a label without a message.
+                d.label.as_deref().unwrap_or("here"),
+            )
+        }];
+        for Related { location, message } in &d.related {
+            if let Some(f) = file(sources, location.file) {
+                let range = clamp(&f.text, location.span);
+                labels.push(Pending::new(f, location.file, range, message));
+            }
+        }
+        let labels = snippets(labels);
+        let Some(primary) = labels
+            .iter()
+            .find(|(_, l)| l.primary)
+            .map(|(s, l)| (*s, l.range.clone()))
+        else {
+            return self.finish_text(format!("{kind_name}: {}\n", d.message));
+        };
+        let mut report = Report::build(kind, primary)
+            .with_config(config)
+            .with_message(&d.message);
+        for (order, (snippet, l)) in labels.into_iter().enumerate() {
+            let mut label = Label::new((snippet, l.range))
+                .with_message(l.message)
+                .with_order(order as i32)
+                .with_priority(i32::from(l.primary));
+            if self.color {
+                label = label.with_color(l.color);
+            }
+            report = report.with_label(label);
+        }
+        if let Some(help) = &d.help {
+            report = report.with_help(help);
+        }
+        let mut buf = Vec::new();
+        if report
+            .finish()
+            .write_for_stdout(&mut self.cache, &mut buf)
+            .is_err()
+        {
+            return self.finish_text(format!("{kind_name}: {}\n", d.message));
+        }
+        self.finish_text(String::from_utf8_lossy(&buf).into_owned())
+    }
+
+    /// ariadne colours a custom report kind even when colour is off; this
+    /// removes such escapes from uncoloured output.
+    fn finish_text(&self, text: String) -> String {
+        if self.color {
+            text
+        } else {
+            strip_ansi(&text)
+        }
+    }
+}
+
+/// Every error of `analysis` rendered as by [`HumanRenderer::render`], each
+/// followed by an empty line.
+pub fn errors(analysis: &grammar_lang::Analysis, color: bool) -> String {
+    let mut renderer = HumanRenderer::new(&analysis.sources, color);
+    let mut out = String::new();
+    for d in analysis
+        .diagnostics
+        .iter()
+        .filter(|d| d.severity == Severity::Error)
+    {
+        out.push_str(&renderer.render(d));
+        out.push('\n');
+    }
+    out
+}
+
+/// `text` without ANSI escape sequences (`ESC [ ... final-byte`).
+pub fn strip_ansi(text: &str) -> String {
+    let mut out = String::with_capacity(text.len());
+    let mut chars = text.chars().peekable();
+    while let Some(c) = chars.next() {
+        if c == '\u{1b}' && chars.peek() == Some(&'[') {
+            chars.next();
+            // Parameters and intermediates, then one final byte in @..=~
+            // (ECMA-48, section 5.4).
+            for c in chars.by_ref() {
+                if ('@'..='~').contains(&c) {
+                    break;
+                }
+            }
+        } else {
+            out.push(c);
+        }
+    }
+    out
+}
+
+/// The closing line of a human run, e.g. `checked 3 files: 2 errors, 1 warning`.
+pub fn summary(files: usize, counts: Counts) -> String {
+    let mut parts = vec![
+        plural(counts.errors, "error", "errors"),
+        plural(counts.warnings, "warning", "warnings"),
+    ];
+    if counts.notes > 0 {
+        parts.push(plural(counts.notes, "note", "notes"));
+    }
+    format!(
+        "checked {}: {}",
+        plural(files, "file", "files"),
+        parts.join(", ")
+    )
+}
+
+/// What a coloured word means; [`Paint`] gives each its colour.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Tone {
+    /// A test that passed.
+    Passed,
+    /// A test that failed (the headline).
+    Failed,
+    /// A failing case.
+    Fail,
+    /// Tests that were not run.
+    NotRun,
+}
+
+/// Colours words outside diagnostics (which ariadne colours): on when
+/// the caller's `Term::color` said so for the stream written to.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Paint(pub bool);
+
+impl Paint {
+    pub fn paint(self, text: &str, tone: Tone) -> String {
+        if !self.0 {
+            return text.to_string();
+        }
+        // SGR parameters (ECMA-48, 8.3.117): 31 red, 32 green, 33 yellow, 1 bold.
+        let sgr = match tone {
+            Tone::Passed => "32",
+            Tone::Failed => "31;1",
+            Tone::Fail => "31",
+            Tone::NotRun => "33",
+        };
+        format!("\x1b[{sgr}m{text}\x1b[0m")
+    }
+}
+
+// --- `trellis check` ---
+
+/// The human report of a check: every finding (`findings` index into
+/// `checked`), then the summary line.
+pub fn check_report(
+    checked: &[Checked],
+    findings: &[(usize, &Diagnostic)],
+    files: usize,
+    counts: Counts,
+    deny_warnings: bool,
+    color: bool,
+) -> String {
+    let mut renderers: HashMap<usize, HumanRenderer> = HashMap::new();
+    let mut out = String::new();
+    for &(i, d) in findings {
+        let renderer = renderers
+            .entry(i)
+            .or_insert_with(|| HumanRenderer::new(&checked[i].analysis.sources, color));
+        out.push_str(&renderer.render(d));
+        out.push('\n');
+    }
+    out.push_str(&summary(files, counts));
+    if deny_warnings && counts.warnings > 0 {
+        out.push_str(" (warnings are denied)");
+    }
+    out.push('\n');
+    out
+}
+
+/// Every diagnostic in `diagnostics` rendered, each followed by an empty line.
+pub fn diagnostics(sources: &SourceMap, diagnostics: &[Diagnostic], color: bool) -> String {
+    let mut renderer = HumanRenderer::new(sources, color);
+    let mut out = String::new();
+    for d in diagnostics {
+        out.push_str(&renderer.render(d));
+        out.push('\n');
+    }
+    out
+}
+
+// --- `trellis parse` ---
+
+/// The report on one sentence: its best trees and probabilities, or why it
+/// has no parse.
+pub fn parse_report(sentence: &str, result: &Result<ParseOutcome, ParseError>) -> String {
+    let mut out = format!("sentence: {sentence}\n");
+    match result {
+        Err(e) => out.push_str(&format!("  error: {e}\n")),
+        Ok(o) => match &o.best {
+            Some(best) => {
+                out.push_str(&format!(
+                    "  best tree (p = {:.6e}, log p = {:.4}):\n{}\n",
+                    best.probability,
+                    best.log_probability,
+                    best.tree.to_indented("    ")
+                ));
+                for (rank, t) in o.kbest.iter().enumerate().skip(1) {
+                    out.push_str(&format!(
+                        "  tree {} (p = {:.6e}, log p = {:.4}):\n{}\n",
+                        rank + 1,
+                        t.probability,
+                        t.log_probability,
+                        t.tree.to_indented("    ")
+                    ));
+                }
+                out.push_str(&format!(
+                    "  P(sentence) = {:.6e} (log {:.4})\n",
+                    o.sentence_probability, o.sentence_log_probability
+                ));
+                if let Some(c) = &o.parse_count {
+                    out.push_str(&format!("  trees: {c}\n"));
+                }
+            }
+            None => {
+                out.push_str("  no parse\n");
+                if let Some(e) = &o.explanation {
+                    for line in e.render() {
+                        out.push_str(&format!("  {line}\n"));
+                    }
+                }
+            }
+        },
+    }
+    out
+}
+
+// --- `trellis stats` ---
+
+/// A number for the table: up to 6 significant decimals, no trailing zeros.
+fn num(x: f64) -> String {
+    if x != 0.0 && x.abs() < 1e-4 {
+        return format!("{x:.3e}");
+    }
+    let s = format!("{x:.6}");
+    s.trim_end_matches('0').trim_end_matches('.').to_string()
+}
+
+/// The stats table of derivations from `r.root`, whose name is `name`.
+pub fn stats_table(name: &str, r: &ConsistencyReport) -> String {
+    let mut out = String::new();
+    let infinite = "infinite";
+    out.push_str(&format!("derivations from {name}\n"));
+    out.push_str(&format!(
+        "  tight                     {}\n",
+        if r.tight {
+            "yes".to_string()
+        } else {
+            format!("no: {} of the probability is lost", num(r.leak))
+        }
+    ));
+    out.push_str(&format!(
+        "  spectral radius           {} ({})\n",
+        num(r.spectral_radius),
+        r.regime.as_str()
+    ));
+    out.push_str(&format!(
+        "  expected length           {}\n",
+        r.expected_length
+            .map_or(infinite.to_string(), |v| format!("{} words", num(v)))
+    ));
+    out.push_str(&format!(
+        "  expected derivation size  {}\n",
+        r.expected_derivation_size
+            .map_or(infinite.to_string(), |v| format!("{} rules", num(v)))
+    ));
+    let width = r
+        .symbols
+        .iter()
+        .filter(|s| s.reachable)
+        .map(|s| s.name.chars().count())
+        .max()
+        .unwrap_or(0)
+        .max("symbol".len());
+    out.push_str(&format!(
+        "\n  {:width$}  {:>12}  {:>14}\n",
+        "symbol", "P(ends)", "uses/sentence"
+    ));
+    for s in r.symbols.iter().filter(|s| s.reachable) {
+        out.push_str(&format!(
+            "  {:width$}  {:>12}  {:>14}\n",
+            s.name,
+            num(s.termination_probability),
+            s.expected_uses.map_or(infinite.to_string(), num)
+        ));
+    }
+    let unreachable = r.symbols.iter().filter(|s| !s.reachable).count();
+    if unreachable > 0 {
+        out.push_str(&format!(
+            "  ({unreachable} symbol{} not reachable from {name} left out)\n",
+            if unreachable == 1 { "" } else { "s" }
+        ));
+    }
+    out
+}
+
+// --- `trellis test` ---
+
+/// What `trellis test` lists besides the failing cases.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct TestDetail {
+    /// Every case, not only the failing ones.
+    pub every_case: bool,
+    /// The most probable tree of every accepted sentence.
+    pub trees: bool,
+}
+
+/// The closing line of a test run.
+pub fn test_summary(tally: &Tally) -> String {
+    let total = tally.tests_passed + tally.tests_failed + tally.tests_not_run;
+    if total == 0 {
+        return "no tests found".to_string();
+    }
+    let mut out = format!(
+        "{} in {}: {} passed, {} failed",
+        plural(total, "test", "tests"),
+        plural(tally.grammars, "grammar", "grammars"),
+        tally.tests_passed,
+        tally.tests_failed
+    );
+    if tally.tests_not_run > 0 {
+        out.push_str(&format!(", {} not run", tally.tests_not_run));
+    }
+    let cases = tally.cases_passed + tally.cases_failed;
+    if cases > 0 {
+        out.push_str(&format!(
+            " ({} of {} held)",
+            tally.cases_passed,
+            plural(cases, "case", "cases")
+        ));
+    }
+    out
+}
+
+/// The report on one grammar's tests.
+pub fn test_grammar(run: &GrammarRun, detail: TestDetail, color: bool) -> String {
+    let paint = Paint(color);
+    let mut out = format!("{}\n", run.path.display());
+    if let Some(blocked) = &run.blocked {
+        if let Blocked::NotRunnable(_) = blocked {
+            out.push_str(&errors(run.analysis, color));
+        }
+        let reason = match blocked {
+            Blocked::NotRunnable(why) => why.to_string(),
+            engine => engine.to_string(),
+        };
+        out.push_str(&format!(
+            "  {} {} not run: {reason}\n\n",
+            paint.paint("not run", Tone::NotRun),
+            plural(run.selected_tests(), "test", "tests"),
+        ));
+        return out;
+    }
+    let sources = &run.analysis.sources;
+    let list_all = detail.every_case || detail.trees;
+    for (test, outcomes) in &run.tests {
+        let failed = outcomes.iter().filter(|o| !o.passed()).count();
+        let (file, at) = place(sources, test.location);
+        let status = if failed == 0 {
+            paint.paint("passed", Tone::Passed)
+        } else {
+            paint.paint("FAILED", Tone::Failed)
+        };
+        let count = if failed == 0 {
+            plural(outcomes.len(), "case", "cases")
+        } else {
+            format!(
+                "{failed} of {} failed",
+                plural(outcomes.len(), "case", "cases")
+            )
+        };
+        out.push_str(&format!(
+            "  {status}  test {} ({count})  {file}:{}\n",
+            quote(&test.name),
+            at.line
+        ));
+        for (case, outcome) in test.cases.iter().zip(outcomes) {
+            match outcome {
+                CaseOutcome::Passed { best, tied } => {
+                    if !list_all {
+                        continue;
+                    }
+                    out.push_str(&format!("      ok  {}\n", case));
+                    if *tied {
+                        out.push_str(
+                            "          (holds by a tie: another tree is exactly as probable)\n",
+                        );
+                    }
+                    if let (true, Some(best)) = (detail.trees, best) {
+                        out.push_str(&format!(
+                            "          as {}  (p ≈ {:.6e})\n",
+                            best.tree.to_brackets(),
+                            best.probability
+                        ));
+                    }
+                }
+                CaseOutcome::Failed(failure) => {
+                    let (file, at) = place(sources, case.location);
+                    out.push_str(&format!(
+                        "    {}  {file}:{}:{}  {}\n",
+                        paint.paint("fail", Tone::Fail),
+                        at.line,
+                        at.column,
+                        case
+                    ));
+                    for line in failure.render() {
+                        out.push_str(&format!("          {line}\n"));
+                    }
+                }
+            }
+        }
+    }
+    out.push('\n');
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::render::json::json_diagnostic;
+    use grammar_lang::{Code, Location, Span};
+
+    fn one_file(path: &str, text: &str) -> SourceMap {
+        let mut sources = SourceMap::new();
+        sources.add(path.into(), text.into());
+        sources
+    }
+
+    fn span_of(text: &str, needle: &str) -> Span {
+        let start = text.find(needle).unwrap();
+        Span::new(start, start + needle.len())
+    }
+
+    /// The character column (0-based) at which `needle` starts in the
+    /// rendered line that contains `line_marker`.
+    fn char_col(line: &str, needle: &str) -> usize {
+        line[..line.find(needle).unwrap()].chars().count()
+    }
+
+    const FERRY: &str = "start Trip\nTrip {\n  1/2 \"Fähre\" Kind\n  1/2 Kind\n}\n";
+
+    #[test]
+    fn human_report_shows_code_message_location_label_and_help() {
+        let sources = one_file("kiosk.trellis", FERRY);
+        let d = Diagnostic::new(
+            Code::Undefined,
+            Location::new(FileId(0), span_of(FERRY, "Kind")),
+            "`Kind` is used but has no block",
+        )
+        .with_label("no block defines this")
+        .with_help("add a block `Kind { ... }`");
+        let out = HumanRenderer::new(&sources, false).render(&d);
+        assert!(
+            out.starts_with("error[undefined]: `Kind` is used but has no block\n"),
+            "{out}"
+        );
+        // Line 3, column 15 in characters: `  1/2 "Fähre" ` is 14 characters
+        // (15 bytes, as ä takes two).
+        assert!(out.contains("kiosk.trellis:3:15"), "{out}");
+        assert!(out.contains("no block defines this"), "{out}");
+        assert!(out.contains("Help: add a block `Kind { ... }`"), "{out}");
+        assert!(!out.contains('\u{1b}'), "no colour was asked for: {out:?}");
+    }
+
+    #[test]
+    fn underline_sits_under_the_span_after_a_non_ascii_word() {
+        let sources = one_file("kiosk.trellis", FERRY);
+        let d = Diagnostic::new(
+            Code::Undefined,
+            Location::new(FileId(0), span_of(FERRY, "Kind")),
+            "`Kind` is used but has no block",
+        )
+        .with_label("here");
+        let out = HumanRenderer::new(&sources, false).render(&d);
+        let lines: Vec<&str> = out.lines().collect();
+        let src = lines
+            .iter()
+            .position(|l| l.contains("\"Fähre\" Kind"))
+            .unwrap_or_else(|| panic!("source line missing: {out}"));
+        let underline = lines[src + 1];
+        // The underline runs under exactly the four characters of `Kind`.
+        let kind_col = char_col(lines[src], "Kind");
+        let marks: Vec<usize> = underline
+            .chars()
+            .enumerate()
+            .filter(|(_, c)| matches!(c, '─' | '┬'))
+            .map(|(i, _)| i)
+            .collect();
+        assert_eq!(marks, (kind_col..kind_col + 4).collect::<Vec<_>>(), "{out}");
+    }
+
+    #[test]
+    fn related_spans_are_labelled_with_their_messages() {
+        let text = "start S\nS { \"a\" }\nS { \"b\" }\n";
+        let sources = one_file("dup.trellis", text);
+        let first = text.find("S {").unwrap();
+        let second = text.rfind("S {").unwrap();
+        let d = Diagnostic::new(
+            Code::DuplicateBlock,
+            Location::new(FileId(0), Span::new(second, second + 1)),
+            "`S` has two blocks",
+        )
+        .with_related(
+            Location::new(FileId(0), Span::new(first, first + 1)),
+            "first block of `S`",
+        );
+        let out = HumanRenderer::new(&sources, false).render(&d);
+        assert!(out.starts_with("error[duplicate-block]"), "{out}");
+        assert!(out.contains("dup.trellis:3:1"), "{out}");
+        assert!(out.contains("first block of `S`"), "{out}");
+        // One snippet for the file, headed by the primary location, showing
+        // the earlier line 2 above line 3.
+        assert_eq!(out.matches("─[ ").count(), 1, "{out}");
+        let line2 = out
+            .find(" 2 │ S { \"a\" }")
+            .unwrap_or_else(|| panic!("{out}"));
+        let line3 = out
+            .find(" 3 │ S { \"b\" }")
+            .unwrap_or_else(|| panic!("{out}"));
+        assert!(line2 < line3, "{out}");
+    }
+
+    #[test]
+    fn far_apart_spans_get_their_own_snippets_headed_by_their_own_place() {
+        // `start` on line 1, the unreachable block on line 12: the related
+        // label gets a snippet of its own instead of a 12-line one.
+        let mut text = String::from("start Request\nRequest { \"ticket\" }\n");
+        text.push_str(&"# filler\n".repeat(9));
+        text.push_str("Timetable { \"when\" }\n");
+        let sources = one_file("kiosk.trellis", &text);
+        let d = Diagnostic::new(
+            Code::Unreachable,
+            Location::new(FileId(0), span_of(&text, "Timetable")),
+            "`Timetable` cannot be reached",
+        )
+        .with_related(
+            Location::new(FileId(0), span_of(&text, "Request\n")),
+            "start symbol declared here",
+        );
+        let out = HumanRenderer::new(&sources, false).render(&d);
+        let primary = out
+            .find("╭─[ kiosk.trellis:12:1 ]")
+            .unwrap_or_else(|| panic!("{out}"));
+        let related = out
+            .find("├─[ kiosk.trellis:1:7 ]")
+            .unwrap_or_else(|| panic!("{out}"));
+        assert!(primary < related, "the primary place comes first: {out}");
+        assert!(!out.contains("# filler"), "{out}");
+    }
+
+    #[test]
+    fn related_spans_in_another_file_show_that_file() {
+        let mut sources = SourceMap::new();
+        sources.add(
+            "main.trellis".into(),
+            "use \"words.trellis\"\nX { \"a\" }\n".into(),
+        );
+        sources.add("words.trellis".into(), "X { \"b\" }\n".into());
+        let d = Diagnostic::new(
+            Code::DuplicateBlock,
+            Location::new(FileId(0), Span::new(20, 21)),
+            "`X` has two blocks",
+        )
+        .with_related(Location::new(FileId(1), Span::new(0, 1)), "other block");
+        let out = HumanRenderer::new(&sources, false).render(&d);
+        assert!(out.contains("╭─[ main.trellis:2:1 ]"), "{out}");
+        assert!(out.contains("├─[ words.trellis:1:1 ]"), "{out}");
+        assert!(out.contains("other block"), "{out}");
+    }
+
+    #[test]
+    fn warnings_and_notes_name_their_severity() {
+        let sources = one_file("a.trellis", FERRY);
+        let mut d = Diagnostic::new(
+            Code::Unreachable,
+            Location::new(FileId(0), span_of(FERRY, "Trip {")),
+            "`Trip` cannot be reached",
+        );
+        let out = HumanRenderer::new(&sources, false).render(&d);
+        assert!(out.starts_with("warning[unreachable]: "), "{out}");
+        d.severity = Severity::Note;
+        let out = HumanRenderer::new(&sources, false).render(&d);
+        assert!(out.starts_with("note[unreachable]: "), "{out}");
+    }
+
+    #[test]
+    fn colour_is_emitted_only_when_asked_for() {
+        let sources = one_file("a.trellis", FERRY);
+        let d = Diagnostic::new(
+            Code::SumNotOne,
+            Location::new(FileId(0), span_of(FERRY, "Trip {")),
+            "weights add up to 3/4",
+        );
+        assert!(HumanRenderer::new(&sources, true)
+            .render(&d)
+            .contains('\u{1b}'));
+        assert!(!HumanRenderer::new(&sources, false)
+            .render(&d)
+            .contains('\u{1b}'));
+    }
+
+    #[test]
+    fn empty_and_out_of_range_spans_render_without_failing() {
+        let sources = one_file("a.trellis", FERRY);
+        for span in [
+            Span::point(0),
+            Span::point(FERRY.len()),
+            Span::new(FERRY.len() + 5, FERRY.len() + 9),
+            // Inside the two bytes of `ä`.
+            Span::new(FERRY.find('ä').unwrap() + 1, FERRY.find('ä').unwrap() + 1),
+        ] {
+            let d = Diagnostic::new(Code::Syntax, Location::new(FileId(0), span), "odd span");
+            let out = HumanRenderer::new(&sources, false).render(&d);
+            assert!(out.starts_with("error[syntax]: odd span"), "{out}");
+            let json = json_diagnostic(&d, &sources);
+            assert!(json.line >= 1 && json.column >= 1);
+        }
+    }
+
+    #[test]
+    fn a_diagnostic_in_an_unknown_file_still_shows_its_message() {
+        let sources = one_file("a.trellis", FERRY);
+        let d = Diagnostic::new(
+            Code::NoStart,
+            Location::new(FileId(7), Span::point(0)),
+            "no start",
+        )
+        .with_help("add `start Name`");
+        let out = HumanRenderer::new(&sources, false).render(&d);
+        assert_eq!(out, "error[no-start]: no start\n  help: add `start Name`\n");
+    }
+
+    #[test]
+    fn ansi_sequences_are_stripped_and_other_text_kept() {
+        assert_eq!(
+            strip_ansi("\u{1b}[31merror\u{1b}[0m: Fähre"),
+            "error: Fähre"
+        );
+        assert_eq!(strip_ansi("\u{1b}[38;5;246m│\u{1b}[0m"), "│");
+        assert_eq!(strip_ansi("plain"), "plain");
+    }
+
+    #[test]
+    fn summary_counts_files_errors_and_warnings_with_plurals() {
+        let counts = Counts {
+            errors: 2,
+            warnings: 1,
+            notes: 0,
+        };
+        assert_eq!(summary(3, counts), "checked 3 files: 2 errors, 1 warning");
+        assert_eq!(
+            summary(1, Counts::default()),
+            "checked 1 file: 0 errors, 0 warnings"
+        );
+        let counts = Counts {
+            errors: 0,
+            warnings: 0,
+            notes: 2,
+        };
+        assert_eq!(
+            summary(2, counts),
+            "checked 2 files: 0 errors, 0 warnings, 2 notes"
+        );
+    }
+
+    #[test]
+    fn paint_colours_only_when_asked_for() {
+        assert_eq!(Paint(false).paint("FAILED", Tone::Failed), "FAILED");
+        assert_eq!(
+            Paint(true).paint("FAILED", Tone::Failed),
+            "\u{1b}[31;1mFAILED\u{1b}[0m"
+        );
+    }
+
+    #[test]
+    fn the_test_summary_counts_tests_grammars_and_cases() {
+        let tally = Tally {
+            grammars: 2,
+            tests_passed: 3,
+            tests_failed: 1,
+            tests_not_run: 2,
+            cases_passed: 20,
+            cases_failed: 1,
+            ..Tally::default()
+        };
+        assert_eq!(
+            test_summary(&tally),
+            "6 tests in 2 grammars: 3 passed, 1 failed, 2 not run (20 of 21 cases held)"
+        );
+        assert_eq!(test_summary(&Tally::default()), "no tests found");
+    }
+}
