@@ -73,7 +73,14 @@ enum Command {
 }
 
 fn main() -> ExitCode {
-    let cli = Cli::parse();
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            // Usage errors (status 2), and --help and --version (status 0).
+            let _ = e.print();
+            return ExitCode::from(u8::try_from(e.exit_code()).unwrap_or(2));
+        }
+    };
     let term = Term { color: cli.color };
     let ran = match cli.command {
         Command::Check(args) => commands::check::run(&args, term),
