@@ -1,14 +1,19 @@
 //! `trellis`: the command line for writing and checking weighted grammars.
 //!
-//! This file only parses arguments and dispatches. Each subcommand lives in
-//! its own module under [`commands`]; adding one means a new file there, one
-//! variant in [`Command`] and one arm in [`main`].
+//! This file only parses arguments, dispatches and turns how the command
+//! ended into the exit status (the only place that does). Each subcommand
+//! lives in its own module under [`commands`]; adding one means a new file
+//! there, one variant in [`Command`] and one arm in [`main`]. Steps several
+//! commands take are in [`shared`], output formats in [`render`] (one
+//! module per format), streams and colour in [`output`].
 
 mod commands;
+mod output;
 mod render;
 mod shared;
 
 use clap::{Parser, Subcommand};
+use output::{ColorChoice, Term};
 
 /// The front end allocates many small objects (names, rules, syntax
 /// nodes); mimalloc does that about a quarter faster than the system
@@ -33,6 +38,11 @@ use std::process::ExitCode;
 struct Cli {
     #[command(subcommand)]
     command: Command,
+
+    /// When to colour output: `auto` colours a terminal unless the
+    /// NO_COLOR environment variable is set (and not empty)
+    #[arg(long, value_enum, global = true, value_name = "WHEN", default_value_t = ColorChoice::Auto)]
+    color: ColorChoice,
 }
 
 #[derive(Subcommand, Debug)]
@@ -63,16 +73,24 @@ enum Command {
 }
 
 fn main() -> ExitCode {
-    let cli = Cli::parse();
-    let outcome = match cli.command {
-        Command::Check(args) => commands::check::run(&args),
-        Command::Sample(args) => commands::sample::run(&args),
-        Command::Stats(args) => commands::stats::run(&args),
-        Command::Test(args) => commands::test::run(&args),
-        Command::Lsp(args) => commands::lsp::run(&args),
-        Command::Parse(args) => commands::parse::run(&args),
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            // Usage errors (status 2), and --help and --version (status 0).
+            let _ = e.print();
+            return ExitCode::from(u8::try_from(e.exit_code()).unwrap_or(2));
+        }
     };
-    outcome.into()
+    let term = Term { color: cli.color };
+    let ran = match cli.command {
+        Command::Check(args) => commands::check::run(&args, term),
+        Command::Sample(args) => commands::sample::run(&args, term),
+        Command::Stats(args) => commands::stats::run(&args, term),
+        Command::Test(args) => commands::test::run(&args, term),
+        Command::Lsp(args) => commands::lsp::run(&args),
+        Command::Parse(args) => commands::parse::run(&args, term),
+    };
+    commands::ended(ran).into()
 }
 
 #[cfg(test)]

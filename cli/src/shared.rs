@@ -1,18 +1,78 @@
-//! Steps several commands share: loading a grammar the engine can run and
-//! choosing the symbol to start from, with their failures reported.
+//! Steps several commands share, with their failures reported: finding
+//! and analysing the grammars under some paths, loading one grammar the
+//! engine can run, choosing the symbol to start from.
 
-use crate::commands::{emit, use_color, Outcome, Stream};
-use crate::render;
+use crate::commands::{Outcome, Stop};
+use crate::output::{emit, Format, Stream, Term};
+use crate::render::{human, json};
 use grammar_lang::model::NtId;
-use std::path::Path;
+use std::path::{Path, PathBuf};
 use trellis_ide::Analysis;
-use trellis_project::LoadError;
+use trellis_project::config::ConfigProblem;
+use trellis_project::{Analysed, LoadError};
+
+/// Finds and analyses the grammars for `paths` (see
+/// [`trellis_project::analyse_paths`]). An invalid trellis.toml stops
+/// everything: it is reported (on stdout as JSON too, for `--format json`)
+/// and the run ends with [`Outcome::Failure`].
+pub fn analyse(paths: &[PathBuf], format: Format, term: Term) -> Result<Analysed, Stop> {
+    trellis_project::analyse_paths(paths).map_err(|stop| {
+        report_config_problems(&stop.problems, format, term);
+        report_failures(&stop.failures);
+        Stop(Outcome::Failure)
+    })
+}
+
+/// Reports invalid configuration files; nothing else is checked.
+fn report_config_problems(problems: &[ConfigProblem], format: Format, term: Term) {
+    let mut found = Vec::new();
+    let mut human = String::new();
+    let color = term.color(Stream::Stderr);
+    for problem in problems {
+        let (sources, diagnostics) = problem.diagnostics();
+        match format {
+            Format::Json => {
+                found.extend(
+                    diagnostics
+                        .iter()
+                        .map(|d| json::json_diagnostic(d, &sources)),
+                );
+            }
+            Format::Human => human.push_str(&human::diagnostics(&sources, &diagnostics, color)),
+        }
+        human.push_str(&format!(
+            "error: {} is not a valid trellis configuration, so nothing was checked; \
+             fix the entries shown above (`trellis check --help` lists every check \
+             and level) or remove the file to use the default levels\n",
+            problem.path.display()
+        ));
+    }
+    if format == Format::Json {
+        json::write(&json::CheckDocument { diagnostics: found });
+    }
+    emit(Stream::Stderr, &human);
+}
+
+/// Reports on stderr the paths that could not be checked.
+pub fn report_failures(failures: &[String]) {
+    let text: String = failures.iter().map(|f| format!("error: {f}\n")).collect();
+    emit(Stream::Stderr, &text);
+}
+
+/// Says on stderr that `paths` held no grammar file.
+pub fn note_nothing_found(paths: &[PathBuf]) {
+    let shown: Vec<String> = paths.iter().map(|p| p.display().to_string()).collect();
+    emit(
+        Stream::Stderr,
+        &format!("note: no .trellis files found in {}\n", shown.join(", ")),
+    );
+}
 
 /// Reads and analyses the grammar at `path` with its trellis.toml and
 /// insists that the engine can run it. Failures are reported on stderr and
 /// end the command: an unreadable file or configuration with status 2, a
 /// grammar with errors (rendered) with status 1.
-pub fn load_runnable(path: &Path, command: &str) -> Result<Analysis, Outcome> {
+pub fn load_runnable(path: &Path, command: &str, term: Term) -> Result<Analysis, Stop> {
     let analysis = match trellis_project::load_grammar(path) {
         Ok(analysis) => analysis,
         Err(LoadError::Config(problem)) => {
@@ -24,33 +84,39 @@ pub fn load_runnable(path: &Path, command: &str) -> Result<Analysis, Outcome> {
                     path.display()
                 ),
             );
-            return Err(Outcome::Failure);
+            return Err(Stop(Outcome::Failure));
         }
         Err(e @ LoadError::Unreadable { .. }) => {
             emit(Stream::Stderr, &format!("error: {e}\n"));
-            return Err(Outcome::Failure);
+            return Err(Stop(Outcome::Failure));
         }
     };
     if let Err(why) = analysis.runnable() {
-        let mut out = render::errors(&analysis, use_color(Stream::Stderr));
+        let mut out = human::errors(&analysis, term.color(Stream::Stderr));
         out.push_str(&format!(
             "error: {}: {why} (`trellis check` lists every finding); trellis {command} did not run\n",
             path.display()
         ));
         emit(Stream::Stderr, &out);
-        return Err(Outcome::Findings);
+        return Err(Stop(Outcome::Findings));
     }
     Ok(analysis)
 }
 
 /// The symbol named by `--from`, or the grammar's start.
-pub fn start_symbol(analysis: &Analysis, from: Option<&str>) -> Result<NtId, Outcome> {
+pub fn start_symbol(analysis: &Analysis, from: Option<&str>) -> Result<NtId, Stop> {
     analysis.start_symbol(from).map_err(|why| {
         let hint = match from {
             Some(name) => format!("--from {name}: {why}"),
             None => format!("{why} with --from"),
         };
         emit(Stream::Stderr, &format!("error: {hint}\n"));
-        Outcome::Failure
+        Stop(Outcome::Failure)
     })
+}
+
+/// Reports an error on stderr and ends the command with `outcome`.
+pub fn fail(message: impl std::fmt::Display, outcome: Outcome) -> Stop {
+    emit(Stream::Stderr, &format!("error: {message}\n"));
+    Stop(outcome)
 }

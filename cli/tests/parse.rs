@@ -117,3 +117,23 @@ fn brackets_format_prints_bare_treebank_trees_and_a_blank_line_for_failures() {
         run.stderr
     );
 }
+
+#[test]
+fn the_human_format_is_the_default_and_text_still_names_it() {
+    let dir = setup();
+    let default = trellis(dir.path(), &["parse", "g.trellis", "a day ticket"]);
+    assert_eq!(default.code, 0, "{}", default.stderr);
+    assert!(default.stdout.starts_with("sentence: a day ticket\n"));
+    for name in ["human", "text"] {
+        let run = trellis(
+            dir.path(),
+            &["parse", "g.trellis", "a day ticket", "--format", name],
+        );
+        assert_eq!(run.code, 0, "{name}: {}", run.stderr);
+        assert_eq!(run.stdout, default.stdout, "{name}");
+    }
+    // `text` is a hidden alias: help names the formats as every command does.
+    let help = trellis(dir.path(), &["parse", "--help"]);
+    assert!(help.stdout.contains("human"), "{}", help.stdout);
+    assert!(!help.stdout.contains("text:"), "{}", help.stdout);
+}

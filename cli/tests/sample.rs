@@ -181,3 +181,18 @@ fn a_grammar_with_errors_is_not_sampled() {
         run.stderr
     );
 }
+
+#[test]
+fn the_human_format_is_the_default_and_text_still_names_it() {
+    let dir = setup(KIOSK);
+    let args = ["sample", "g.trellis", "-n", "5", "--seed", "3"];
+    let default = trellis(dir.path(), &args);
+    assert_eq!(default.code, 0, "{}", default.stderr);
+    assert_eq!(default.stdout.lines().count(), 5);
+    for name in ["human", "text"] {
+        let with: Vec<&str> = args.iter().copied().chain(["--format", name]).collect();
+        let run = trellis(dir.path(), &with);
+        assert_eq!(run.code, 0, "{name}: {}", run.stderr);
+        assert_eq!(run.stdout, default.stdout, "{name}");
+    }
+}

@@ -14,6 +14,7 @@
 
 use crate::compile::{CompiledGrammar, Item};
 use crate::viterbi::ViterbiChart;
+use grammar_lang::check::suggest::distance as edit_distance;
 use grammar_lang::syntax::lexer::quote;
 use std::collections::{BTreeSet, HashSet};
 use std::fmt;
@@ -201,33 +202,6 @@ fn unknown_words(g: &CompiledGrammar, words: &[&str]) -> Vec<UnknownWord> {
         });
     }
     out
-}
-
-/// Optimal string alignment distance over characters.
-pub(crate) fn edit_distance(a: &str, b: &str) -> usize {
-    let a: Vec<char> = a.chars().collect();
-    let b: Vec<char> = b.chars().collect();
-    let w = b.len() + 1;
-    let mut d = vec![0usize; (a.len() + 1) * w];
-    for i in 0..=a.len() {
-        d[i * w] = i;
-    }
-    for (j, cell) in d.iter_mut().enumerate().take(w) {
-        *cell = j;
-    }
-    for i in 1..=a.len() {
-        for j in 1..=b.len() {
-            let cost = usize::from(a[i - 1] != b[j - 1]);
-            let mut v = (d[(i - 1) * w + j] + 1)
-                .min(d[i * w + j - 1] + 1)
-                .min(d[(i - 1) * w + j - 1] + cost);
-            if i > 1 && j > 1 && a[i - 1] == b[j - 2] && a[i - 2] == b[j - 1] {
-                v = v.min(d[(i - 2) * w + j - 2] + 1);
-            }
-            d[i * w + j] = v;
-        }
-    }
-    d[a.len() * w + b.len()]
 }
 
 fn fragments(g: &CompiledGrammar, words: &[&str], vit: &ViterbiChart) -> Vec<Fragment> {

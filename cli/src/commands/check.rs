@@ -1,11 +1,11 @@
 //! `trellis check`: run the static checks over grammar files and report.
 
-use super::{emit, use_color, Outcome, OutputFormat, Stream};
-use crate::render::{self, Counts, HumanRenderer};
+use super::{Outcome, Ran};
+use crate::output::{emit, Format, Stream, Term};
+use crate::render::{human, json, Counts};
+use crate::shared::{analyse, note_nothing_found, report_failures};
 use grammar_lang::Code;
-use std::collections::HashMap;
 use std::path::PathBuf;
-use trellis_project::config::ConfigProblem;
 use trellis_project::{identity, paths_or_here, select, Analysed};
 
 /// The full description shown by `trellis check --help`.
@@ -32,8 +32,8 @@ pub struct CheckArgs {
     /// How to print findings: `human` shows source snippets, `json` prints
     /// one object {"diagnostics": [...]} with 1-based lines and columns
     /// counted in characters
-    #[arg(long, value_enum, default_value_t = OutputFormat::Human)]
-    pub format: OutputFormat,
+    #[arg(long, value_enum, default_value_t = Format::Human)]
+    pub format: Format,
 
     /// Fail (exit status 1) on warnings too, not only on errors
     #[arg(long)]
@@ -83,34 +83,10 @@ pub fn outcome(counts: Counts, deny_warnings: bool, failed: bool) -> Outcome {
     }
 }
 
-/// Says on stderr that `paths` held no grammar file.
-pub fn note_nothing_found(paths: &[PathBuf]) {
-    let shown: Vec<String> = paths.iter().map(|p| p.display().to_string()).collect();
-    emit(
-        Stream::Stderr,
-        &format!("note: no .trellis files found in {}\n", shown.join(", ")),
-    );
-}
-
-/// Finds and analyses the grammars for `paths` (see
-/// [`trellis_project::analyse_paths`]). An invalid trellis.toml stops
-/// everything: it is reported (on stdout as JSON too, for `--format json`)
-/// and the run ends with [`Outcome::Failure`].
-pub fn analyse(paths: &[PathBuf], format: OutputFormat) -> Result<Analysed, Outcome> {
-    trellis_project::analyse_paths(paths).map_err(|stop| {
-        report_config_problems(&stop.problems, format);
-        report_failures(&stop.failures);
-        Outcome::Failure
-    })
-}
-
 /// Runs `trellis check`.
-pub fn run(args: &CheckArgs) -> Outcome {
+pub fn run(args: &CheckArgs, term: Term) -> Ran {
     let paths = paths_or_here(&args.paths);
-    let Analysed { checked, failures } = match analyse(&paths, args.format) {
-        Ok(analysed) => analysed,
-        Err(outcome) => return outcome,
-    };
+    let Analysed { checked, failures } = analyse(&paths, args.format, term)?;
 
     let selection = select(&checked, identity);
     let mut counts = Counts::default();
@@ -119,73 +95,32 @@ pub fn run(args: &CheckArgs) -> Outcome {
     }
 
     match args.format {
-        OutputFormat::Json => {
-            let diagnostics: Vec<_> = selection
+        Format::Json => json::write(&json::CheckDocument {
+            diagnostics: selection
                 .findings
                 .iter()
-                .map(|&(i, d)| render::json_diagnostic(d, &checked[i].analysis.sources))
-                .collect();
-            emit(Stream::Stdout, &render::json_document(&diagnostics));
-        }
-        OutputFormat::Human => {
-            let color = use_color(Stream::Stdout);
-            let mut renderers: HashMap<usize, HumanRenderer> = HashMap::new();
-            let mut out = String::new();
-            for &(i, d) in &selection.findings {
-                let renderer = renderers
-                    .entry(i)
-                    .or_insert_with(|| HumanRenderer::new(&checked[i].analysis.sources, color));
-                out.push_str(&renderer.render(d));
-                out.push('\n');
-            }
-            out.push_str(&render::summary(selection.files, counts));
-            if args.deny_warnings && counts.warnings > 0 {
-                out.push_str(" (warnings are denied)");
-            }
-            out.push('\n');
-            emit(Stream::Stdout, &out);
+                .map(|&(i, d)| json::json_diagnostic(d, &checked[i].analysis.sources))
+                .collect(),
+        }),
+        Format::Human => {
+            emit(
+                Stream::Stdout,
+                &human::check_report(
+                    &checked,
+                    &selection.findings,
+                    selection.files,
+                    counts,
+                    args.deny_warnings,
+                    term.color(Stream::Stdout),
+                ),
+            );
             if checked.is_empty() && failures.is_empty() {
                 note_nothing_found(&paths);
             }
         }
     }
     report_failures(&failures);
-    outcome(counts, args.deny_warnings, !failures.is_empty())
-}
-
-pub fn report_failures(failures: &[String]) {
-    let text: String = failures.iter().map(|f| format!("error: {f}\n")).collect();
-    emit(Stream::Stderr, &text);
-}
-
-/// Reports invalid configuration files; nothing else is checked.
-fn report_config_problems(problems: &[ConfigProblem], format: OutputFormat) {
-    let mut json = Vec::new();
-    let mut human = String::new();
-    let color = use_color(Stream::Stderr);
-    for problem in problems {
-        let (sources, diagnostics) = problem.diagnostics();
-        let mut renderer = HumanRenderer::new(&sources, color);
-        for d in &diagnostics {
-            match format {
-                OutputFormat::Json => json.push(render::json_diagnostic(d, &sources)),
-                OutputFormat::Human => {
-                    human.push_str(&renderer.render(d));
-                    human.push('\n');
-                }
-            }
-        }
-        human.push_str(&format!(
-            "error: {} is not a valid trellis configuration, so nothing was checked; \
-             fix the entries shown above (`trellis check --help` lists every check \
-             and level) or remove the file to use the default levels\n",
-            problem.path.display()
-        ));
-    }
-    if format == OutputFormat::Json {
-        emit(Stream::Stdout, &render::json_document(&json));
-    }
-    emit(Stream::Stderr, &human);
+    Ok(outcome(counts, args.deny_warnings, !failures.is_empty()))
 }
 
 #[cfg(test)]

@@ -1,6 +1,7 @@
 //! `trellis lsp`: run the language server over standard input and output.
 
-use super::{emit, Outcome, Stream};
+use super::{Outcome, Ran};
+use crate::shared::fail;
 
 pub const LONG_ABOUT: &str = "Run the trellis language server, speaking the Language \
     Server Protocol on standard input and output. Editors start it themselves; \
@@ -17,29 +18,25 @@ pub struct LspArgs {
     pub stdio: bool,
 }
 
-pub fn run(_args: &LspArgs) -> Outcome {
-    let runtime = match tokio::runtime::Builder::new_multi_thread()
+pub fn run(_args: &LspArgs) -> Ran {
+    let runtime = tokio::runtime::Builder::new_multi_thread()
         .enable_all()
         .build()
-    {
-        Ok(runtime) => runtime,
-        Err(e) => {
-            emit(
-                Stream::Stderr,
-                &format!("error: cannot start the language server: {e}\n"),
-            );
-            return Outcome::Failure;
-        }
-    };
+        .map_err(|e| {
+            fail(
+                format!("cannot start the language server: {e}"),
+                Outcome::Failure,
+            )
+        })?;
     let ending = runtime.block_on(trellis_lsp::serve_stdio());
     // Analyses still running on the blocking pool are of no use to anyone
     // once the client has gone: do not wait for them.
     runtime.shutdown_background();
     // The LSP specification (3.17, "exit Notification"): status 0 when
     // `shutdown` came before `exit`, 1 otherwise.
-    if ending.after_shutdown {
+    Ok(if ending.after_shutdown {
         Outcome::Clean
     } else {
         Outcome::Findings
-    }
+    })
 }

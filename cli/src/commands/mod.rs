@@ -1,5 +1,8 @@
-//! The subcommands, one module each, and what they share: how a run ends
-//! and how output is shaped.
+//! The subcommands, one module each, and how a run ends.
+//!
+//! Every command's `run` returns [`Ran`]: the [`Outcome`] of the work, or a
+//! [`Stop`] when it ended early (its reason already reported on stderr).
+//! Only `main` turns either into the process exit status.
 
 pub mod check;
 pub mod lsp;
@@ -8,7 +11,6 @@ pub mod sample;
 pub mod stats;
 pub mod test;
 
-use std::io::IsTerminal;
 use std::process::ExitCode;
 
 /// How a command ended. The numeric values are the process exit status and
@@ -35,57 +37,24 @@ impl From<Outcome> for ExitCode {
     }
 }
 
-/// How diagnostics are written.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
-pub enum OutputFormat {
-    /// Source snippets with underlined spans, for people.
-    Human,
-    /// One JSON object on stdout, for editors and scripts.
-    Json,
-}
-
-/// Where output goes, which decides whether it may be coloured.
+/// A command ended before its work was done, with this outcome; why has
+/// been reported on stderr already.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
-pub enum Stream {
-    Stdout,
-    Stderr,
-}
+pub struct Stop(pub Outcome);
 
-/// Whether to colour output written to `stream`: only for a terminal, and
-/// never when `NO_COLOR` is set to a non-empty value (the convention
-/// published at https://no-color.org).
-pub fn use_color(stream: Stream) -> bool {
-    let terminal = match stream {
-        Stream::Stdout => std::io::stdout().is_terminal(),
-        Stream::Stderr => std::io::stderr().is_terminal(),
-    };
-    color_allowed(terminal, std::env::var_os("NO_COLOR").as_deref())
-}
+/// What a command's `run` returns.
+pub type Ran = Result<Outcome, Stop>;
 
-fn color_allowed(terminal: bool, no_color: Option<&std::ffi::OsStr>) -> bool {
-    terminal && no_color.is_none_or(|v| v.is_empty())
-}
-
-/// Writes `text` to `stream`. A closed pipe (`trellis check | head`) is not
-/// an error worth reporting, so write failures are ignored.
-pub fn emit(stream: Stream, text: &str) {
-    use std::io::Write;
-    let _ = match stream {
-        Stream::Stdout => {
-            let mut out = std::io::stdout().lock();
-            out.write_all(text.as_bytes()).and_then(|()| out.flush())
-        }
-        Stream::Stderr => {
-            let mut err = std::io::stderr().lock();
-            err.write_all(text.as_bytes()).and_then(|()| err.flush())
-        }
-    };
+/// The exit status of a finished or stopped command.
+pub fn ended(ran: Ran) -> Outcome {
+    match ran {
+        Ok(outcome) | Err(Stop(outcome)) => outcome,
+    }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
-    use std::ffi::OsStr;
 
     #[test]
     fn exit_statuses_are_zero_one_two() {
@@ -96,11 +65,8 @@ mod tests {
     }
 
     #[test]
-    fn colour_needs_a_terminal_and_no_non_empty_no_color() {
-        // https://no-color.org: "when present and not an empty string".
-        assert!(color_allowed(true, None));
-        assert!(color_allowed(true, Some(OsStr::new(""))));
-        assert!(!color_allowed(true, Some(OsStr::new("1"))));
-        assert!(!color_allowed(false, None));
+    fn a_stop_ends_with_its_outcome() {
+        assert_eq!(ended(Ok(Outcome::Clean)), Outcome::Clean);
+        assert_eq!(ended(Err(Stop(Outcome::Failure))), Outcome::Failure);
     }
 }

@@ -1,15 +1,14 @@
 //! `trellis parse`: the most probable trees of sentences, their
 //! probabilities, and why a sentence does not parse.
 
-use super::{emit, Outcome, Stream};
-use crate::shared::load_runnable;
+use super::{Outcome, Ran};
+use crate::output::{emit, ParseFormat, Stream, Term};
+use crate::render::{brackets, human, json};
+use crate::shared::{fail, load_runnable};
 use rayon::prelude::*;
-use serde::Serialize;
 use std::io::Read;
 use std::path::PathBuf;
-use trellis_engine::count::Count;
-use trellis_engine::explain::Explanation;
-use trellis_engine::parser::{ParseError, ParseOptions, ParseOutcome, ParsedTree, Parser};
+use trellis_engine::parser::{ParseError, ParseOptions, ParseOutcome, Parser};
 
 pub const LONG_ABOUT: &str = "Parse sentences with a grammar.\n\n\
     Each sentence is split on whitespace into words, which must match the \
@@ -26,18 +25,6 @@ pub const LONG_ABOUT: &str = "Parse sentences with a grammar.\n\n\
     Exit status: 0 when every sentence parses; 1 when the grammar has errors \
     or some sentence does not parse (or is too long for --max-chart-mib); 2 \
     when a file cannot be read or the configuration is invalid.";
-
-/// Output format of `trellis parse`.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
-pub enum ParseFormat {
-    /// A readable report per sentence.
-    Text,
-    /// One JSON object per sentence, one per line.
-    Json,
-    /// Labelled brackets with bare words, one tree per line (an empty line
-    /// for a sentence without parse; with --kbest, a blank line between sentences).
-    Brackets,
-}
 
 /// Arguments of `trellis parse`.
 #[derive(clap::Args, Debug, Clone)]
@@ -66,132 +53,10 @@ pub struct ParseArgs {
     #[arg(long)]
     pub no_count: bool,
 
-    #[arg(long, value_enum, default_value_t = ParseFormat::Text)]
+    /// `human` for people, `json` for one object per sentence, one per
+    /// line, `brackets` for labelled-bracket trees with bare words
+    #[arg(long, value_enum, default_value_t = ParseFormat::Human)]
     pub format: ParseFormat,
-}
-
-#[derive(Serialize)]
-struct JsonTree {
-    tree: String,
-    probability: f64,
-    log_probability: f64,
-}
-
-impl From<&ParsedTree> for JsonTree {
-    fn from(t: &ParsedTree) -> Self {
-        JsonTree {
-            tree: t.tree.to_brackets(),
-            probability: t.probability,
-            log_probability: t.log_probability,
-        }
-    }
-}
-
-#[derive(Serialize)]
-struct JsonSentence<'a> {
-    sentence: &'a str,
-    parsed: bool,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    best: Option<JsonTree>,
-    #[serde(skip_serializing_if = "Vec::is_empty")]
-    kbest: Vec<JsonTree>,
-    sentence_probability: f64,
-    /// `null` when the sentence does not parse (the log of 0).
-    sentence_log_probability: Option<f64>,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    parse_count: Option<String>,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    explanation: Option<JsonExplanation<'a>>,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    error: Option<String>,
-}
-
-/// Why a sentence has no parse: the engine's [`Explanation`], field by field.
-#[derive(Serialize)]
-struct JsonExplanation<'a> {
-    unknown_words: Vec<JsonUnknownWord<'a>>,
-    fragments: Vec<JsonFragment<'a>>,
-    breakdown: JsonBreakdown<'a>,
-}
-
-#[derive(Serialize)]
-struct JsonUnknownWord<'a> {
-    position: usize,
-    word: &'a str,
-    suggestions: &'a [String],
-}
-
-#[derive(Serialize)]
-struct JsonFragment<'a> {
-    start: usize,
-    end: usize,
-    text: &'a str,
-    categories: Vec<JsonCategory<'a>>,
-}
-
-#[derive(Serialize)]
-struct JsonCategory<'a> {
-    symbol: &'a str,
-    log_probability: f64,
-}
-
-#[derive(Serialize)]
-struct JsonBreakdown<'a> {
-    start_symbol: &'a str,
-    prefix_words: usize,
-    stuck_at: Option<JsonWordAt<'a>>,
-    expected: &'a [String],
-    more_expected: usize,
-}
-
-#[derive(Serialize)]
-struct JsonWordAt<'a> {
-    position: usize,
-    word: &'a str,
-}
-
-impl<'a> From<&'a Explanation> for JsonExplanation<'a> {
-    fn from(e: &'a Explanation) -> Self {
-        let b = &e.breakdown;
-        JsonExplanation {
-            unknown_words: e
-                .unknown_words
-                .iter()
-                .map(|u| JsonUnknownWord {
-                    position: u.position,
-                    word: &u.word,
-                    suggestions: &u.suggestions,
-                })
-                .collect(),
-            fragments: e
-                .fragments
-                .iter()
-                .map(|f| JsonFragment {
-                    start: f.start,
-                    end: f.end,
-                    text: &f.text,
-                    categories: f
-                        .categories
-                        .iter()
-                        .map(|c| JsonCategory {
-                            symbol: &c.symbol,
-                            log_probability: c.log_probability,
-                        })
-                        .collect(),
-                })
-                .collect(),
-            breakdown: JsonBreakdown {
-                start_symbol: &b.start_symbol,
-                prefix_words: b.prefix_words,
-                stuck_at: b.stuck_at.as_ref().map(|at| JsonWordAt {
-                    position: at.position,
-                    word: &at.word,
-                }),
-                expected: &b.expected,
-                more_expected: b.more_expected,
-            },
-        }
-    }
 }
 
 fn read_sentences(args: &ParseArgs) -> Result<Vec<String>, String> {
@@ -216,75 +81,11 @@ fn read_sentences(args: &ParseArgs) -> Result<Vec<String>, String> {
         .collect())
 }
 
-fn count_text(c: &Count) -> String {
-    match c {
-        Count::Finite(n) => n.to_string(),
-        Count::Infinite => "infinite".to_string(),
-    }
-}
-
-fn text_report(sentence: &str, result: &Result<ParseOutcome, ParseError>) -> String {
-    let mut out = format!("sentence: {sentence}\n");
-    match result {
-        Err(e) => out.push_str(&format!("  error: {e}\n")),
-        Ok(o) => match &o.best {
-            Some(best) => {
-                out.push_str(&format!(
-                    "  best tree (p = {:.6e}, log p = {:.4}):\n{}\n",
-                    best.probability,
-                    best.log_probability,
-                    best.tree.to_indented("    ")
-                ));
-                for (rank, t) in o.kbest.iter().enumerate().skip(1) {
-                    out.push_str(&format!(
-                        "  tree {} (p = {:.6e}, log p = {:.4}):\n{}\n",
-                        rank + 1,
-                        t.probability,
-                        t.log_probability,
-                        t.tree.to_indented("    ")
-                    ));
-                }
-                out.push_str(&format!(
-                    "  P(sentence) = {:.6e} (log {:.4})\n",
-                    o.sentence_probability, o.sentence_log_probability
-                ));
-                if let Some(c) = &o.parse_count {
-                    out.push_str(&format!("  trees: {c}\n"));
-                }
-            }
-            None => {
-                out.push_str("  no parse\n");
-                if let Some(e) = &o.explanation {
-                    for line in e.render() {
-                        out.push_str(&format!("  {line}\n"));
-                    }
-                }
-            }
-        },
-    }
-    out
-}
-
 /// Runs `trellis parse`.
-pub fn run(args: &ParseArgs) -> Outcome {
-    let analysis = match load_runnable(&args.grammar, "parse") {
-        Ok(l) => l,
-        Err(outcome) => return outcome,
-    };
-    let parser = match Parser::new(&analysis.grammar) {
-        Ok(p) => p,
-        Err(e) => {
-            emit(Stream::Stderr, &format!("error: {e}\n"));
-            return Outcome::Findings;
-        }
-    };
-    let sentences = match read_sentences(args) {
-        Ok(s) => s,
-        Err(e) => {
-            emit(Stream::Stderr, &format!("error: {e}\n"));
-            return Outcome::Failure;
-        }
-    };
+pub fn run(args: &ParseArgs, term: Term) -> Ran {
+    let analysis = load_runnable(&args.grammar, "parse", term)?;
+    let parser = Parser::new(&analysis.grammar).map_err(|e| fail(e, Outcome::Findings))?;
+    let sentences = read_sentences(args).map_err(|e| fail(e, Outcome::Failure))?;
     let options = ParseOptions {
         kbest: args.kbest,
         max_chart_bytes: args.max_chart_mib.saturating_mul(1 << 20),
@@ -298,68 +99,24 @@ pub fn run(args: &ParseArgs) -> Outcome {
     let mut out = String::new();
     for (n, (sentence, result)) in sentences.iter().zip(&results).enumerate() {
         match args.format {
-            ParseFormat::Text => {
+            ParseFormat::Human => {
                 if n > 0 {
                     out.push('\n');
                 }
-                out.push_str(&text_report(sentence, result));
+                out.push_str(&human::parse_report(sentence, result));
             }
             ParseFormat::Brackets => {
                 if n > 0 && args.kbest > 1 {
                     out.push('\n');
                 }
-                match result {
-                    Ok(o) if o.parsed() => {
-                        let trees: Vec<&ParsedTree> = if o.kbest.is_empty() {
-                            o.best.iter().collect()
-                        } else {
-                            o.kbest.iter().collect()
-                        };
-                        for t in trees {
-                            out.push_str(&t.tree.to_treebank());
-                            out.push('\n');
-                        }
-                    }
-                    _ => out.push('\n'),
-                }
+                out.push_str(&brackets::sentence(result));
             }
             ParseFormat::Json => {
-                let doc = match result {
-                    Ok(o) => JsonSentence {
-                        sentence,
-                        parsed: o.parsed(),
-                        best: o.best.as_ref().map(JsonTree::from),
-                        kbest: if args.kbest > 1 {
-                            o.kbest.iter().map(JsonTree::from).collect()
-                        } else {
-                            Vec::new()
-                        },
-                        sentence_probability: o.sentence_probability,
-                        sentence_log_probability: o
-                            .sentence_log_probability
-                            .is_finite()
-                            .then_some(o.sentence_log_probability),
-                        parse_count: o.parse_count.as_ref().map(count_text),
-                        explanation: o.explanation.as_ref().map(JsonExplanation::from),
-                        error: None,
-                    },
-                    Err(e) => JsonSentence {
-                        sentence,
-                        parsed: false,
-                        best: None,
-                        kbest: Vec::new(),
-                        sentence_probability: 0.0,
-                        sentence_log_probability: None,
-                        parse_count: None,
-                        explanation: None,
-                        error: Some(e.to_string()),
-                    },
-                };
-                out.push_str(
-                    &serde_json::to_string(&doc)
-                        .unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}")),
-                );
-                out.push('\n');
+                out.push_str(&json::to_line(&json::parse_document(
+                    sentence,
+                    result,
+                    args.kbest > 1,
+                )));
             }
         }
     }
@@ -375,7 +132,7 @@ pub fn run(args: &ParseArgs) -> Outcome {
                 &format!("{failed} of {} sentences did not parse\n", sentences.len()),
             );
         }
-        return Outcome::Findings;
+        return Ok(Outcome::Findings);
     }
-    Outcome::Clean
+    Ok(Outcome::Clean)
 }

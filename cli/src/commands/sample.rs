@@ -1,8 +1,9 @@
 //! `trellis sample`: draw random sentences (or trees) from a grammar.
 
-use super::{emit, Outcome, Stream};
-use crate::shared::{load_runnable, start_symbol};
-use serde::Serialize;
+use super::{Outcome, Ran};
+use crate::output::{emit, Format, Stream, Term};
+use crate::render::json;
+use crate::shared::{fail, load_runnable, start_symbol};
 use std::io::Write;
 use std::path::PathBuf;
 use trellis_engine::rng::Xoshiro256StarStar;
@@ -18,15 +19,6 @@ pub const LONG_ABOUT: &str = "Draw random sentences from a grammar.\n\n\
     Exit status: 0 when every draw produced a sentence; 1 when the grammar has \
     errors or some draws were abandoned; 2 when the file cannot be read, the \
     configuration is invalid or --from names no symbol.";
-
-/// Output format of `trellis sample`.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
-pub enum SampleFormat {
-    /// One sentence (or tree) per line.
-    Text,
-    /// One JSON object {"seed", "from", "samples": [{"sentence", "tree"?}], "abandoned"}.
-    Json,
-}
 
 /// Arguments of `trellis sample`.
 #[derive(clap::Args, Debug, Clone)]
@@ -55,23 +47,16 @@ pub struct SampleArgs {
     #[arg(long, value_name = "N", default_value_t = DEFAULT_LIMIT)]
     pub max_rules: usize,
 
-    #[arg(long, value_enum, default_value_t = SampleFormat::Text)]
-    pub format: SampleFormat,
+    /// `human` prints one sentence (or tree) per line, `json` one object
+    /// with every draw
+    #[arg(long, value_enum, default_value_t = Format::Human)]
+    pub format: Format,
 }
 
-#[derive(Serialize)]
-struct JsonSample {
-    sentence: String,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    tree: Option<String>,
-}
-
-#[derive(Serialize)]
-struct JsonOutput<'a> {
-    seed: u64,
-    from: &'a str,
-    samples: Vec<JsonSample>,
-    abandoned: usize,
+/// One draw: the sentence, and its tree when trees were asked for.
+pub struct Drawn {
+    pub sentence: String,
+    pub tree: Option<String>,
 }
 
 fn clock_seed() -> u64 {
@@ -81,64 +66,40 @@ fn clock_seed() -> u64 {
 }
 
 /// Runs `trellis sample`.
-pub fn run(args: &SampleArgs) -> Outcome {
-    let analysis = match load_runnable(&args.grammar, "sample") {
-        Ok(l) => l,
-        Err(outcome) => return outcome,
-    };
+pub fn run(args: &SampleArgs, term: Term) -> Ran {
+    let analysis = load_runnable(&args.grammar, "sample", term)?;
     let g = &analysis.grammar;
-    let from = match start_symbol(&analysis, args.from.as_deref()) {
-        Ok(a) => a,
-        Err(outcome) => return outcome,
-    };
-    let sampler = match Sampler::new(g).and_then(|s| s.check(from).map(|()| s)) {
-        Ok(s) => s,
-        Err(e) => {
-            emit(Stream::Stderr, &format!("error: {e}\n"));
-            return Outcome::Findings;
-        }
-    };
+    let from = start_symbol(&analysis, args.from.as_deref())?;
+    let sampler = Sampler::new(g)
+        .and_then(|s| s.check(from).map(|()| s))
+        .map_err(|e| fail(e, Outcome::Findings))?;
     let seed = args.seed.unwrap_or_else(clock_seed);
     let mut rng = Xoshiro256StarStar::seed_from_u64(seed);
-    // Text is written as it is drawn (a corpus of millions of sentences
-    // needs no memory), JSON is collected into one document.
+    // Human output is written as it is drawn (a corpus of millions of
+    // sentences needs no memory), JSON is collected into one document.
     let mut samples = Vec::new();
-    let mut text = Vec::with_capacity(1 << 16);
-    let mut stdout = std::io::stdout().lock();
+    let mut lines = Lines::new();
     let mut abandoned = 0usize;
     let mut last_error = None;
     for _ in 0..args.count {
         let drawn = if args.trees {
-            sampler
-                .tree(&mut rng, from, args.max_rules)
-                .map(|t| JsonSample {
-                    sentence: t.words().join(" "),
-                    tree: Some(t.to_brackets()),
-                })
+            sampler.tree(&mut rng, from, args.max_rules).map(|t| Drawn {
+                sentence: t.words().join(" "),
+                tree: Some(t.to_brackets()),
+            })
         } else {
             sampler
                 .sentence(&mut rng, from, args.max_rules)
-                .map(|s| JsonSample {
+                .map(|s| Drawn {
                     sentence: sampler.text(&s),
                     tree: None,
                 })
         };
         match drawn {
-            Ok(sample) if args.format == SampleFormat::Text => {
-                text.extend_from_slice(
-                    sample
-                        .tree
-                        .as_deref()
-                        .unwrap_or(&sample.sentence)
-                        .as_bytes(),
-                );
-                text.push(b'\n');
-                if text.len() >= 1 << 16 {
-                    if stdout.write_all(&text).is_err() {
-                        // The reader went away (`trellis sample … | head`).
-                        return Outcome::Clean;
-                    }
-                    text.clear();
+            Ok(sample) if args.format == Format::Human => {
+                if lines.push(sample.tree.as_deref().unwrap_or(&sample.sentence)) {
+                    // The reader went away (`trellis sample … | head`).
+                    return Ok(Outcome::Clean);
                 }
             }
             Ok(sample) => samples.push(sample),
@@ -146,32 +107,18 @@ pub fn run(args: &SampleArgs) -> Outcome {
                 abandoned += 1;
                 last_error = Some(e);
             }
-            Err(e) => {
-                emit(Stream::Stderr, &format!("error: {e}\n"));
-                return Outcome::Findings;
-            }
+            Err(e) => return Err(fail(e, Outcome::Findings)),
         }
     }
     match args.format {
-        SampleFormat::Text => {
-            let _ = stdout.write_all(&text).and_then(|()| stdout.flush());
-        }
-        SampleFormat::Json => {
-            let doc = JsonOutput {
-                seed,
-                from: g.nt_name(from),
-                samples,
-                abandoned,
-            };
-            let mut out =
-                serde_json::to_string(&doc).unwrap_or_else(|e| format!("{{\"error\":\"{e}\"}}"));
-            out.push('\n');
-            let _ = stdout
-                .write_all(out.as_bytes())
-                .and_then(|()| stdout.flush());
-        }
+        Format::Human => lines.finish(),
+        Format::Json => json::write(&json::sample_document(
+            seed,
+            g.nt_name(from),
+            &samples,
+            abandoned,
+        )),
     }
-    drop(stdout);
     if let Some(e) = last_error {
         emit(
             Stream::Stderr,
@@ -182,7 +129,40 @@ pub fn run(args: &SampleArgs) -> Outcome {
                 args.grammar.display()
             ),
         );
-        return Outcome::Findings;
+        return Ok(Outcome::Findings);
     }
-    Outcome::Clean
+    Ok(Outcome::Clean)
+}
+
+/// Lines written to stdout in blocks of 64 KiB as they come.
+struct Lines {
+    buffer: Vec<u8>,
+}
+
+impl Lines {
+    const BLOCK: usize = 1 << 16;
+
+    fn new() -> Self {
+        Lines {
+            buffer: Vec::with_capacity(Self::BLOCK),
+        }
+    }
+
+    /// Adds one line; true when stdout can no longer be written to.
+    fn push(&mut self, line: &str) -> bool {
+        self.buffer.extend_from_slice(line.as_bytes());
+        self.buffer.push(b'\n');
+        if self.buffer.len() < Self::BLOCK {
+            return false;
+        }
+        let closed = std::io::stdout().lock().write_all(&self.buffer).is_err();
+        self.buffer.clear();
+        closed
+    }
+
+    /// Writes what is left.
+    fn finish(self) {
+        let mut stdout = std::io::stdout().lock();
+        let _ = stdout.write_all(&self.buffer).and_then(|()| stdout.flush());
+    }
 }

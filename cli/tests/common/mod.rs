@@ -13,10 +13,16 @@ pub struct Run {
 /// Runs `trellis <args>` in `dir`, as a user at a shell would (with
 /// `NO_COLOR` unset so colour decisions are the program's own).
 pub fn trellis(dir: &Path, args: &[&str]) -> Run {
+    trellis_with_env(dir, args, &[])
+}
+
+/// [`trellis`] with these environment variables set.
+pub fn trellis_with_env(dir: &Path, args: &[&str], env: &[(&str, &str)]) -> Run {
     let out = Command::new(env!("CARGO_BIN_EXE_trellis"))
         .args(args)
         .current_dir(dir)
         .env_remove("NO_COLOR")
+        .envs(env.iter().copied())
         .output()
         .expect("the trellis binary runs");
     Run {

@@ -1,53 +1,23 @@
-//! Turning diagnostics into text: ariadne reports for people, JSON for tools.
-//!
-//! Spans in the core are byte ranges; people and editors count columns in
-//! characters. Human reports hand ariadne byte offsets with
-//! [`IndexType::Byte`] (ariadne 0.6 defaults to character offsets), JSON
-//! positions are 1-based lines and 1-based character columns.
+//! Output for people: ariadne diagnostics, summaries, parse reports, test
+//! reports and the stats table. All colour is decided by the caller
+//! (`Term::color`) and applied here, through ariadne for diagnostics and
+//! [`Paint`] for everything else.
 
+use super::{clamp, file, place, plural, Counts};
+use crate::commands::test::{GrammarRun, Tally};
 use ariadne::{Color, IndexType, Label, Report, ReportKind, Source};
 use grammar_lang::diagnostic::Related;
 use grammar_lang::source::SourceFile;
-use grammar_lang::{Diagnostic, FileId, Severity, SourceMap, Span};
-use serde::Serialize;
+use grammar_lang::syntax::lexer::quote;
+use grammar_lang::{Diagnostic, FileId, Severity, SourceMap};
 use std::collections::HashMap;
 use std::fmt;
 use std::ops::Range;
-
-/// The file `id` of `sources`, if there is one.
-pub fn file(sources: &SourceMap, id: FileId) -> Option<&SourceFile> {
-    ((id.0 as usize) < sources.len()).then(|| sources.get(id))
-}
-
-/// `span` as a byte range that is inside `text` and on character boundaries,
-/// so that no span the core produces can make rendering fail.
-pub fn clamp(text: &str, span: Span) -> Range<usize> {
-    let mut start = (span.start as usize).min(text.len());
-    while !text.is_char_boundary(start) {
-        start -= 1;
-    }
-    let mut end = (span.end as usize).clamp(start, text.len());
-    while !text.is_char_boundary(end) {
-        end += 1;
-    }
-    start..end
-}
-
-/// A 1-based line and a 1-based column counted in characters.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize)]
-pub struct Position {
-    pub line: u32,
-    pub column: u32,
-}
-
-/// The 1-based position of byte `offset` in `file`.
-pub fn position(file: &SourceFile, offset: usize) -> Position {
-    let lc = file.lines.chars(&file.text, offset);
-    Position {
-        line: lc.line + 1,
-        column: lc.col + 1,
-    }
-}
+use trellis_engine::consistency::ConsistencyReport;
+use trellis_engine::parser::{ParseError, ParseOutcome};
+use trellis_engine::testing::CaseOutcome;
+use trellis_project::test_run::Blocked;
+use trellis_project::Checked;
 
 fn severity_color(severity: Severity) -> Color {
     match severity {
@@ -285,120 +255,6 @@ pub fn strip_ansi(text: &str) -> String {
     out
 }
 
-/// A span in JSON: file, 1-based start and (exclusive) end positions.
-#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
-pub struct JsonRelated {
-    pub file: String,
-    pub line: u32,
-    pub column: u32,
-    pub end_line: u32,
-    pub end_column: u32,
-    pub message: String,
-}
-
-/// One diagnostic in JSON. `end_line`/`end_column` is the position just after
-/// the span, so a one-character span has `end_column == column + 1`.
-#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
-pub struct JsonDiagnostic {
-    pub code: &'static str,
-    pub severity: &'static str,
-    pub file: String,
-    pub line: u32,
-    pub column: u32,
-    pub end_line: u32,
-    pub end_column: u32,
-    pub message: String,
-    pub label: Option<String>,
-    pub related: Vec<JsonRelated>,
-    pub help: Option<String>,
-}
-
-#[derive(Serialize)]
-struct JsonOutput<'a> {
-    diagnostics: &'a [JsonDiagnostic],
-}
-
-fn json_span(sources: &SourceMap, id: FileId, span: Span) -> (String, Position, Position) {
-    match file(sources, id) {
-        Some(f) => {
-            let range = clamp(&f.text, span);
-            (
-                f.path.display().to_string(),
-                position(f, range.start),
-                position(f, range.end),
-            )
-        }
-        None => {
-            let start = Position { line: 1, column: 1 };
-            (String::new(), start, start)
-        }
-    }
-}
-
-/// The JSON form of `d`, whose file ids index `sources`.
-pub fn json_diagnostic(d: &Diagnostic, sources: &SourceMap) -> JsonDiagnostic {
-    let (file, start, end) = json_span(sources, d.location.file, d.location.span);
-    let related = d
-        .related
-        .iter()
-        .map(|r| {
-            let (file, start, end) = json_span(sources, r.location.file, r.location.span);
-            JsonRelated {
-                file,
-                line: start.line,
-                column: start.column,
-                end_line: end.line,
-                end_column: end.column,
-                message: r.message.clone(),
-            }
-        })
-        .collect();
-    JsonDiagnostic {
-        code: d.code.as_str(),
-        severity: d.severity.as_str(),
-        file,
-        line: start.line,
-        column: start.column,
-        end_line: end.line,
-        end_column: end.column,
-        message: d.message.clone(),
-        label: d.label.clone(),
-        related,
-        help: d.help.clone(),
-    }
-}
-
-/// The whole JSON output: `{"diagnostics":[...]}` and a newline.
-pub fn json_document(diagnostics: &[JsonDiagnostic]) -> String {
-    let mut out = serde_json::to_string(&JsonOutput { diagnostics })
-        .unwrap_or_else(|e| format!("{{\"diagnostics\":[],\"error\":\"{e}\"}}"));
-    out.push('\n');
-    out
-}
-
-/// How many findings of each severity a run produced.
-#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
-pub struct Counts {
-    pub errors: usize,
-    pub warnings: usize,
-    pub notes: usize,
-}
-
-impl Counts {
-    pub fn add(&mut self, severity: Severity) {
-        match severity {
-            Severity::Error => self.errors += 1,
-            Severity::Warning => self.warnings += 1,
-            Severity::Note => self.notes += 1,
-        }
-    }
-}
-
-/// `n` with the singular or plural noun: `1 error`, `2 errors`.
-pub fn plural(n: usize, one: &str, many: &str) -> String {
-    format!("{n} {}", if n == 1 { one } else { many })
-}
-
 /// The closing line of a human run, e.g. `checked 3 files: 2 errors, 1 warning`.
 pub fn summary(files: usize, counts: Counts) -> String {
     let mut parts = vec![
@@ -415,10 +271,320 @@ pub fn summary(files: usize, counts: Counts) -> String {
     )
 }
 
+/// What a coloured word means; [`Paint`] gives each its colour.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Tone {
+    /// A test that passed.
+    Passed,
+    /// A test that failed (the headline).
+    Failed,
+    /// A failing case.
+    Fail,
+    /// Tests that were not run.
+    NotRun,
+}
+
+/// Colours words outside diagnostics (which ariadne colours): on when
+/// the caller's `Term::color` said so for the stream written to.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Paint(pub bool);
+
+impl Paint {
+    pub fn paint(self, text: &str, tone: Tone) -> String {
+        if !self.0 {
+            return text.to_string();
+        }
+        // SGR parameters (ECMA-48, 8.3.117): 31 red, 32 green, 33 yellow, 1 bold.
+        let sgr = match tone {
+            Tone::Passed => "32",
+            Tone::Failed => "31;1",
+            Tone::Fail => "31",
+            Tone::NotRun => "33",
+        };
+        format!("\x1b[{sgr}m{text}\x1b[0m")
+    }
+}
+
+// --- `trellis check` ---
+
+/// The human report of a check: every finding (`findings` index into
+/// `checked`), then the summary line.
+pub fn check_report(
+    checked: &[Checked],
+    findings: &[(usize, &Diagnostic)],
+    files: usize,
+    counts: Counts,
+    deny_warnings: bool,
+    color: bool,
+) -> String {
+    let mut renderers: HashMap<usize, HumanRenderer> = HashMap::new();
+    let mut out = String::new();
+    for &(i, d) in findings {
+        let renderer = renderers
+            .entry(i)
+            .or_insert_with(|| HumanRenderer::new(&checked[i].analysis.sources, color));
+        out.push_str(&renderer.render(d));
+        out.push('\n');
+    }
+    out.push_str(&summary(files, counts));
+    if deny_warnings && counts.warnings > 0 {
+        out.push_str(" (warnings are denied)");
+    }
+    out.push('\n');
+    out
+}
+
+/// Every diagnostic in `diagnostics` rendered, each followed by an empty line.
+pub fn diagnostics(sources: &SourceMap, diagnostics: &[Diagnostic], color: bool) -> String {
+    let mut renderer = HumanRenderer::new(sources, color);
+    let mut out = String::new();
+    for d in diagnostics {
+        out.push_str(&renderer.render(d));
+        out.push('\n');
+    }
+    out
+}
+
+// --- `trellis parse` ---
+
+/// The report on one sentence: its best trees and probabilities, or why it
+/// has no parse.
+pub fn parse_report(sentence: &str, result: &Result<ParseOutcome, ParseError>) -> String {
+    let mut out = format!("sentence: {sentence}\n");
+    match result {
+        Err(e) => out.push_str(&format!("  error: {e}\n")),
+        Ok(o) => match &o.best {
+            Some(best) => {
+                out.push_str(&format!(
+                    "  best tree (p = {:.6e}, log p = {:.4}):\n{}\n",
+                    best.probability,
+                    best.log_probability,
+                    best.tree.to_indented("    ")
+                ));
+                for (rank, t) in o.kbest.iter().enumerate().skip(1) {
+                    out.push_str(&format!(
+                        "  tree {} (p = {:.6e}, log p = {:.4}):\n{}\n",
+                        rank + 1,
+                        t.probability,
+                        t.log_probability,
+                        t.tree.to_indented("    ")
+                    ));
+                }
+                out.push_str(&format!(
+                    "  P(sentence) = {:.6e} (log {:.4})\n",
+                    o.sentence_probability, o.sentence_log_probability
+                ));
+                if let Some(c) = &o.parse_count {
+                    out.push_str(&format!("  trees: {c}\n"));
+                }
+            }
+            None => {
+                out.push_str("  no parse\n");
+                if let Some(e) = &o.explanation {
+                    for line in e.render() {
+                        out.push_str(&format!("  {line}\n"));
+                    }
+                }
+            }
+        },
+    }
+    out
+}
+
+// --- `trellis stats` ---
+
+/// A number for the table: up to 6 significant decimals, no trailing zeros.
+fn num(x: f64) -> String {
+    if x != 0.0 && x.abs() < 1e-4 {
+        return format!("{x:.3e}");
+    }
+    let s = format!("{x:.6}");
+    s.trim_end_matches('0').trim_end_matches('.').to_string()
+}
+
+/// The stats table of derivations from `r.root`, whose name is `name`.
+pub fn stats_table(name: &str, r: &ConsistencyReport) -> String {
+    let mut out = String::new();
+    let infinite = "infinite";
+    out.push_str(&format!("derivations from {name}\n"));
+    out.push_str(&format!(
+        "  tight                     {}\n",
+        if r.tight {
+            "yes".to_string()
+        } else {
+            format!("no: {} of the probability is lost", num(r.leak))
+        }
+    ));
+    out.push_str(&format!(
+        "  spectral radius           {} ({})\n",
+        num(r.spectral_radius),
+        r.regime.as_str()
+    ));
+    out.push_str(&format!(
+        "  expected length           {}\n",
+        r.expected_length
+            .map_or(infinite.to_string(), |v| format!("{} words", num(v)))
+    ));
+    out.push_str(&format!(
+        "  expected derivation size  {}\n",
+        r.expected_derivation_size
+            .map_or(infinite.to_string(), |v| format!("{} rules", num(v)))
+    ));
+    let width = r
+        .symbols
+        .iter()
+        .filter(|s| s.reachable)
+        .map(|s| s.name.chars().count())
+        .max()
+        .unwrap_or(0)
+        .max("symbol".len());
+    out.push_str(&format!(
+        "\n  {:width$}  {:>12}  {:>14}\n",
+        "symbol", "P(ends)", "uses/sentence"
+    ));
+    for s in r.symbols.iter().filter(|s| s.reachable) {
+        out.push_str(&format!(
+            "  {:width$}  {:>12}  {:>14}\n",
+            s.name,
+            num(s.termination_probability),
+            s.expected_uses.map_or(infinite.to_string(), num)
+        ));
+    }
+    let unreachable = r.symbols.iter().filter(|s| !s.reachable).count();
+    if unreachable > 0 {
+        out.push_str(&format!(
+            "  ({unreachable} symbol{} not reachable from {name} left out)\n",
+            if unreachable == 1 { "" } else { "s" }
+        ));
+    }
+    out
+}
+
+// --- `trellis test` ---
+
+/// What `trellis test` lists besides the failing cases.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct TestDetail {
+    /// Every case, not only the failing ones.
+    pub every_case: bool,
+    /// The most probable tree of every accepted sentence.
+    pub trees: bool,
+}
+
+/// The closing line of a test run.
+pub fn test_summary(tally: &Tally) -> String {
+    let total = tally.tests_passed + tally.tests_failed + tally.tests_not_run;
+    if total == 0 {
+        return "no tests found".to_string();
+    }
+    let mut out = format!(
+        "{} in {}: {} passed, {} failed",
+        plural(total, "test", "tests"),
+        plural(tally.grammars, "grammar", "grammars"),
+        tally.tests_passed,
+        tally.tests_failed
+    );
+    if tally.tests_not_run > 0 {
+        out.push_str(&format!(", {} not run", tally.tests_not_run));
+    }
+    let cases = tally.cases_passed + tally.cases_failed;
+    if cases > 0 {
+        out.push_str(&format!(
+            " ({} of {} held)",
+            tally.cases_passed,
+            plural(cases, "case", "cases")
+        ));
+    }
+    out
+}
+
+/// The report on one grammar's tests.
+pub fn test_grammar(run: &GrammarRun, detail: TestDetail, color: bool) -> String {
+    let paint = Paint(color);
+    let mut out = format!("{}\n", run.path.display());
+    if let Some(blocked) = &run.blocked {
+        if let Blocked::NotRunnable(_) = blocked {
+            out.push_str(&errors(run.analysis, color));
+        }
+        let reason = match blocked {
+            Blocked::NotRunnable(why) => why.to_string(),
+            engine => engine.to_string(),
+        };
+        out.push_str(&format!(
+            "  {} {} not run: {reason}\n\n",
+            paint.paint("not run", Tone::NotRun),
+            plural(run.selected_tests(), "test", "tests"),
+        ));
+        return out;
+    }
+    let sources = &run.analysis.sources;
+    let list_all = detail.every_case || detail.trees;
+    for (test, outcomes) in &run.tests {
+        let failed = outcomes.iter().filter(|o| !o.passed()).count();
+        let (file, at) = place(sources, test.location);
+        let status = if failed == 0 {
+            paint.paint("passed", Tone::Passed)
+        } else {
+            paint.paint("FAILED", Tone::Failed)
+        };
+        let count = if failed == 0 {
+            plural(outcomes.len(), "case", "cases")
+        } else {
+            format!(
+                "{failed} of {} failed",
+                plural(outcomes.len(), "case", "cases")
+            )
+        };
+        out.push_str(&format!(
+            "  {status}  test {} ({count})  {file}:{}\n",
+            quote(&test.name),
+            at.line
+        ));
+        for (case, outcome) in test.cases.iter().zip(outcomes) {
+            match outcome {
+                CaseOutcome::Passed { best, tied } => {
+                    if !list_all {
+                        continue;
+                    }
+                    out.push_str(&format!("      ok  {}\n", case));
+                    if *tied {
+                        out.push_str(
+                            "          (holds by a tie: another tree is exactly as probable)\n",
+                        );
+                    }
+                    if let (true, Some(best)) = (detail.trees, best) {
+                        out.push_str(&format!(
+                            "          as {}  (p ≈ {:.6e})\n",
+                            best.tree.to_brackets(),
+                            best.probability
+                        ));
+                    }
+                }
+                CaseOutcome::Failed(failure) => {
+                    let (file, at) = place(sources, case.location);
+                    out.push_str(&format!(
+                        "    {}  {file}:{}:{}  {}\n",
+                        paint.paint("fail", Tone::Fail),
+                        at.line,
+                        at.column,
+                        case
+                    ));
+                    for line in failure.render() {
+                        out.push_str(&format!("          {line}\n"));
+                    }
+                }
+            }
+        }
+    }
+    out.push('\n');
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
-    use grammar_lang::{Code, Location};
+    use crate::render::json::json_diagnostic;
+    use grammar_lang::{Code, Location, Span};
 
     fn one_file(path: &str, text: &str) -> SourceMap {
         let mut sources = SourceMap::new();
@@ -631,56 +797,6 @@ mod tests {
     }
 
     #[test]
-    fn json_positions_are_one_based_and_count_characters() {
-        let sources = one_file("kiosk.trellis", FERRY);
-        let d = Diagnostic::new(
-            Code::Undefined,
-            Location::new(FileId(0), span_of(FERRY, "Kind")),
-            "`Kind` is used but has no block",
-        )
-        .with_related(
-            Location::new(FileId(0), span_of(FERRY, "\"Fähre\"")),
-            "next to this",
-        );
-        let j = json_diagnostic(&d, &sources);
-        assert_eq!((j.line, j.column, j.end_line, j.end_column), (3, 15, 3, 19));
-        let r = &j.related[0];
-        // `"Fähre"` is 7 characters (8 bytes), starting at column 7.
-        assert_eq!((r.line, r.column, r.end_line, r.end_column), (3, 7, 3, 14));
-        assert_eq!(r.file, "kiosk.trellis");
-    }
-
-    #[test]
-    fn json_document_has_exactly_the_promised_fields() {
-        let sources = one_file("a.trellis", FERRY);
-        let d = Diagnostic::new(
-            Code::SumNotOne,
-            Location::new(FileId(0), span_of(FERRY, "Trip {")),
-            "weights add up to 3/4",
-        )
-        .with_help("add 1/4");
-        let text = json_document(&[json_diagnostic(&d, &sources)]);
-        let v: serde_json::Value = serde_json::from_str(&text).unwrap();
-        let obj = v.as_object().unwrap();
-        assert_eq!(obj.len(), 1);
-        let d = &v["diagnostics"][0];
-        assert_eq!(d["code"], "sum-not-one");
-        assert_eq!(d["severity"], "error");
-        assert_eq!(d["file"], "a.trellis");
-        assert_eq!(
-            (d["line"].as_u64(), d["column"].as_u64()),
-            (Some(2), Some(1))
-        );
-        assert_eq!(
-            (d["end_line"].as_u64(), d["end_column"].as_u64()),
-            (Some(2), Some(7))
-        );
-        assert_eq!(d["message"], "weights add up to 3/4");
-        assert_eq!(d["help"], "add 1/4");
-        assert_eq!(d["related"], serde_json::json!([]));
-    }
-
-    #[test]
     fn ansi_sequences_are_stripped_and_other_text_kept() {
         assert_eq!(
             strip_ansi("\u{1b}[31merror\u{1b}[0m: Fähre"),
@@ -711,5 +827,32 @@ mod tests {
             summary(2, counts),
             "checked 2 files: 0 errors, 0 warnings, 2 notes"
         );
+    }
+
+    #[test]
+    fn paint_colours_only_when_asked_for() {
+        assert_eq!(Paint(false).paint("FAILED", Tone::Failed), "FAILED");
+        assert_eq!(
+            Paint(true).paint("FAILED", Tone::Failed),
+            "\u{1b}[31;1mFAILED\u{1b}[0m"
+        );
+    }
+
+    #[test]
+    fn the_test_summary_counts_tests_grammars_and_cases() {
+        let tally = Tally {
+            grammars: 2,
+            tests_passed: 3,
+            tests_failed: 1,
+            tests_not_run: 2,
+            cases_passed: 20,
+            cases_failed: 1,
+            ..Tally::default()
+        };
+        assert_eq!(
+            test_summary(&tally),
+            "6 tests in 2 grammars: 3 passed, 1 failed, 2 not run (20 of 21 cases held)"
+        );
+        assert_eq!(test_summary(&Tally::default()), "no tests found");
     }
 }

@@ -1,0 +1,616 @@
+//! Output for tools: every JSON document the command line prints, one
+//! typed struct per command (README.md, "JSON output", lists their fields;
+//! `cli/tests/readme_json.rs` holds the two together), and the one function
+//! that writes them.
+//!
+//! Field names are snake_case. Positions are 1-based lines and 1-based
+//! columns counted in characters; an end position is the one just after
+//! the span.
+
+use super::{clamp, file, place, position, Position};
+use crate::commands::sample::Drawn;
+use crate::commands::test::{GrammarRun, Tally};
+use crate::output::{emit, Stream};
+use grammar_lang::model::TestCase;
+use grammar_lang::{Diagnostic, FileId, Severity, SourceMap, Span};
+use serde::Serialize;
+use trellis_engine::consistency::ConsistencyReport;
+use trellis_engine::count::Count;
+use trellis_engine::explain::Explanation;
+use trellis_engine::parser::{ParseError, ParseOutcome, ParsedTree};
+use trellis_engine::testing::CaseOutcome;
+use trellis_ide::NotRunnable;
+use trellis_project::test_run::Blocked;
+
+/// `doc` as one line of JSON. Serialising these documents cannot fail in
+/// practice; if it ever does, the line is still JSON and says why.
+pub fn to_line<T: Serialize>(doc: &T) -> String {
+    let mut out = serde_json::to_string(doc).unwrap_or_else(|e| {
+        serde_json::json!({ "error": format!("cannot write the JSON output: {e}") }).to_string()
+    });
+    out.push('\n');
+    out
+}
+
+/// Writes `doc` on stdout as one line of JSON.
+pub fn write<T: Serialize>(doc: &T) {
+    emit(Stream::Stdout, &to_line(doc));
+}
+
+// --- diagnostics (`check`, and inside `test` and `stats`) ---
+
+/// A span in JSON: file, 1-based start and (exclusive) end positions.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+pub struct JsonRelated {
+    pub file: String,
+    pub line: u32,
+    pub column: u32,
+    pub end_line: u32,
+    pub end_column: u32,
+    pub message: String,
+}
+
+/// One diagnostic in JSON. `end_line`/`end_column` is the position just after
+/// the span, so a one-character span has `end_column == column + 1`.
+#[derive(Clone, Debug, PartialEq, Eq, Serialize)]
+pub struct JsonDiagnostic {
+    pub code: &'static str,
+    pub severity: &'static str,
+    pub file: String,
+    pub line: u32,
+    pub column: u32,
+    pub end_line: u32,
+    pub end_column: u32,
+    pub message: String,
+    pub label: Option<String>,
+    pub related: Vec<JsonRelated>,
+    pub help: Option<String>,
+}
+
+fn json_span(sources: &SourceMap, id: FileId, span: Span) -> (String, Position, Position) {
+    match file(sources, id) {
+        Some(f) => {
+            let range = clamp(&f.text, span);
+            (
+                f.path.display().to_string(),
+                position(f, range.start),
+                position(f, range.end),
+            )
+        }
+        None => {
+            let start = Position { line: 1, column: 1 };
+            (String::new(), start, start)
+        }
+    }
+}
+
+/// The JSON form of `d`, whose file ids index `sources`.
+pub fn json_diagnostic(d: &Diagnostic, sources: &SourceMap) -> JsonDiagnostic {
+    let (file, start, end) = json_span(sources, d.location.file, d.location.span);
+    let related = d
+        .related
+        .iter()
+        .map(|r| {
+            let (file, start, end) = json_span(sources, r.location.file, r.location.span);
+            JsonRelated {
+                file,
+                line: start.line,
+                column: start.column,
+                end_line: end.line,
+                end_column: end.column,
+                message: r.message.clone(),
+            }
+        })
+        .collect();
+    JsonDiagnostic {
+        code: d.code.as_str(),
+        severity: d.severity.as_str(),
+        file,
+        line: start.line,
+        column: start.column,
+        end_line: end.line,
+        end_column: end.column,
+        message: d.message.clone(),
+        label: d.label.clone(),
+        related,
+        help: d.help.clone(),
+    }
+}
+
+/// The JSON form of every error of `analysis`.
+pub fn errors(analysis: &grammar_lang::Analysis) -> Vec<JsonDiagnostic> {
+    analysis
+        .diagnostics
+        .iter()
+        .filter(|d| d.severity == Severity::Error)
+        .map(|d| json_diagnostic(d, &analysis.sources))
+        .collect()
+}
+
+// --- `trellis check` ---
+
+/// `trellis check --format json` (also printed when trellis.toml is invalid).
+#[derive(Serialize)]
+pub struct CheckDocument {
+    pub diagnostics: Vec<JsonDiagnostic>,
+}
+
+// --- `trellis parse` ---
+
+/// One line of `trellis parse --format json`: one sentence.
+#[derive(Serialize)]
+pub struct ParseDocument<'a> {
+    sentence: &'a str,
+    parsed: bool,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    best: Option<JsonTree>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    kbest: Vec<JsonTree>,
+    sentence_probability: f64,
+    /// `null` when the sentence does not parse (the log of 0).
+    sentence_log_probability: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    parse_count: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    explanation: Option<JsonExplanation<'a>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    error: Option<String>,
+}
+
+#[derive(Serialize)]
+struct JsonTree {
+    tree: String,
+    probability: f64,
+    log_probability: f64,
+}
+
+impl From<&ParsedTree> for JsonTree {
+    fn from(t: &ParsedTree) -> Self {
+        JsonTree {
+            tree: t.tree.to_brackets(),
+            probability: t.probability,
+            log_probability: t.log_probability,
+        }
+    }
+}
+
+/// Why a sentence has no parse: the engine's [`Explanation`], field by field.
+#[derive(Serialize)]
+struct JsonExplanation<'a> {
+    unknown_words: Vec<JsonUnknownWord<'a>>,
+    fragments: Vec<JsonFragment<'a>>,
+    breakdown: JsonBreakdown<'a>,
+}
+
+#[derive(Serialize)]
+struct JsonUnknownWord<'a> {
+    position: usize,
+    word: &'a str,
+    suggestions: &'a [String],
+}
+
+#[derive(Serialize)]
+struct JsonFragment<'a> {
+    start: usize,
+    end: usize,
+    text: &'a str,
+    categories: Vec<JsonCategory<'a>>,
+}
+
+#[derive(Serialize)]
+struct JsonCategory<'a> {
+    symbol: &'a str,
+    log_probability: f64,
+}
+
+#[derive(Serialize)]
+struct JsonBreakdown<'a> {
+    start_symbol: &'a str,
+    prefix_words: usize,
+    stuck_at: Option<JsonWordAt<'a>>,
+    expected: &'a [String],
+    more_expected: usize,
+}
+
+#[derive(Serialize)]
+struct JsonWordAt<'a> {
+    position: usize,
+    word: &'a str,
+}
+
+impl<'a> From<&'a Explanation> for JsonExplanation<'a> {
+    fn from(e: &'a Explanation) -> Self {
+        let b = &e.breakdown;
+        JsonExplanation {
+            unknown_words: e
+                .unknown_words
+                .iter()
+                .map(|u| JsonUnknownWord {
+                    position: u.position,
+                    word: &u.word,
+                    suggestions: &u.suggestions,
+                })
+                .collect(),
+            fragments: e
+                .fragments
+                .iter()
+                .map(|f| JsonFragment {
+                    start: f.start,
+                    end: f.end,
+                    text: &f.text,
+                    categories: f
+                        .categories
+                        .iter()
+                        .map(|c| JsonCategory {
+                            symbol: &c.symbol,
+                            log_probability: c.log_probability,
+                        })
+                        .collect(),
+                })
+                .collect(),
+            breakdown: JsonBreakdown {
+                start_symbol: &b.start_symbol,
+                prefix_words: b.prefix_words,
+                stuck_at: b.stuck_at.as_ref().map(|at| JsonWordAt {
+                    position: at.position,
+                    word: &at.word,
+                }),
+                expected: &b.expected,
+                more_expected: b.more_expected,
+            },
+        }
+    }
+}
+
+fn count_text(c: &Count) -> String {
+    match c {
+        Count::Finite(n) => n.to_string(),
+        Count::Infinite => "infinite".to_string(),
+    }
+}
+
+/// The document for one parsed sentence; `kbest` lists the ranked trees
+/// (asked for with `--kbest` above 1).
+pub fn parse_document<'a>(
+    sentence: &'a str,
+    result: &'a Result<ParseOutcome, ParseError>,
+    kbest: bool,
+) -> ParseDocument<'a> {
+    match result {
+        Ok(o) => ParseDocument {
+            sentence,
+            parsed: o.parsed(),
+            best: o.best.as_ref().map(JsonTree::from),
+            kbest: if kbest {
+                o.kbest.iter().map(JsonTree::from).collect()
+            } else {
+                Vec::new()
+            },
+            sentence_probability: o.sentence_probability,
+            sentence_log_probability: o
+                .sentence_log_probability
+                .is_finite()
+                .then_some(o.sentence_log_probability),
+            parse_count: o.parse_count.as_ref().map(count_text),
+            explanation: o.explanation.as_ref().map(JsonExplanation::from),
+            error: None,
+        },
+        Err(e) => ParseDocument {
+            sentence,
+            parsed: false,
+            best: None,
+            kbest: Vec::new(),
+            sentence_probability: 0.0,
+            sentence_log_probability: None,
+            parse_count: None,
+            explanation: None,
+            error: Some(e.to_string()),
+        },
+    }
+}
+
+// --- `trellis sample` ---
+
+/// `trellis sample --format json`.
+#[derive(Serialize)]
+pub struct SampleDocument<'a> {
+    seed: u64,
+    from: &'a str,
+    samples: Vec<JsonSample<'a>>,
+    abandoned: usize,
+}
+
+#[derive(Serialize)]
+struct JsonSample<'a> {
+    sentence: &'a str,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    tree: Option<&'a str>,
+}
+
+pub fn sample_document<'a>(
+    seed: u64,
+    from: &'a str,
+    samples: &'a [Drawn],
+    abandoned: usize,
+) -> SampleDocument<'a> {
+    SampleDocument {
+        seed,
+        from,
+        samples: samples
+            .iter()
+            .map(|s| JsonSample {
+                sentence: &s.sentence,
+                tree: s.tree.as_deref(),
+            })
+            .collect(),
+        abandoned,
+    }
+}
+
+// --- `trellis stats` ---
+
+/// `trellis stats --format json`.
+#[derive(Serialize)]
+pub struct StatsDocument<'a> {
+    from: &'a str,
+    tight: bool,
+    spectral_radius: f64,
+    regime: &'static str,
+    leak: f64,
+    /// `null` when infinite.
+    expected_length: Option<f64>,
+    /// `null` when infinite.
+    expected_derivation_size: Option<f64>,
+    symbols: Vec<JsonSymbol<'a>>,
+    /// The `leaky` finding, at the level trellis.toml sets.
+    diagnostics: Vec<JsonDiagnostic>,
+}
+
+#[derive(Serialize)]
+struct JsonSymbol<'a> {
+    name: &'a str,
+    reachable: bool,
+    termination_probability: f64,
+    /// `null` when infinite.
+    expected_uses: Option<f64>,
+}
+
+pub fn stats_document<'a>(
+    from: &'a str,
+    report: &'a ConsistencyReport,
+    leaky: Option<&Diagnostic>,
+    sources: &SourceMap,
+) -> StatsDocument<'a> {
+    StatsDocument {
+        from,
+        tight: report.tight,
+        spectral_radius: report.spectral_radius,
+        regime: report.regime.as_str(),
+        leak: report.leak,
+        expected_length: report.expected_length,
+        expected_derivation_size: report.expected_derivation_size,
+        symbols: report
+            .symbols
+            .iter()
+            .map(|s| JsonSymbol {
+                name: &s.name,
+                reachable: s.reachable,
+                termination_probability: s.termination_probability,
+                expected_uses: s.expected_uses,
+            })
+            .collect(),
+        diagnostics: leaky.iter().map(|d| json_diagnostic(d, sources)).collect(),
+    }
+}
+
+// --- `trellis test` ---
+
+/// `trellis test --format json`.
+#[derive(Serialize)]
+pub struct TestDocument {
+    grammars: Vec<JsonGrammar>,
+    tests: JsonCount,
+    cases: JsonCount,
+}
+
+#[derive(Serialize)]
+struct JsonCount {
+    passed: usize,
+    failed: usize,
+}
+
+#[derive(Serialize)]
+struct JsonGrammar {
+    file: String,
+    /// Whether the tests ran.
+    ran: bool,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    reason: Option<String>,
+    /// The errors that kept the tests from running.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    diagnostics: Vec<JsonDiagnostic>,
+    tests: Vec<JsonTest>,
+}
+
+#[derive(Serialize)]
+struct JsonTest {
+    name: String,
+    file: String,
+    line: u32,
+    column: u32,
+    /// `null` when not run.
+    passed: Option<bool>,
+    cases: Vec<JsonCase>,
+}
+
+#[derive(Serialize)]
+struct JsonCase {
+    expect: &'static str,
+    sentence: String,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    expected_tree: Option<String>,
+    file: String,
+    line: u32,
+    column: u32,
+    passed: bool,
+    #[serde(skip_serializing_if = "std::ops::Not::not")]
+    tied: bool,
+    /// The most probable tree, when the sentence parses.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    tree: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    probability: Option<f64>,
+    /// Why the case failed, as readable lines.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    failure: Vec<String>,
+}
+
+pub fn test_document(runs: &[GrammarRun], tally: &Tally) -> TestDocument {
+    TestDocument {
+        grammars: runs.iter().map(json_grammar).collect(),
+        tests: JsonCount {
+            passed: tally.tests_passed,
+            failed: tally.tests_failed,
+        },
+        cases: JsonCount {
+            passed: tally.cases_passed,
+            failed: tally.cases_failed,
+        },
+    }
+}
+
+fn json_grammar(run: &GrammarRun) -> JsonGrammar {
+    let (reason, diagnostics) = match &run.blocked {
+        Some(blocked @ Blocked::NotRunnable(NotRunnable::Errors(_))) => {
+            (Some(blocked.to_string()), errors(run.analysis))
+        }
+        Some(blocked) => (Some(blocked.to_string()), Vec::new()),
+        None => (None, Vec::new()),
+    };
+    let sources = &run.analysis.sources;
+    let tests = run
+        .tests
+        .iter()
+        .map(|(test, outcomes)| {
+            let (file, at) = place(sources, test.location);
+            let ran = run.blocked.is_none();
+            JsonTest {
+                name: test.name.clone(),
+                file,
+                line: at.line,
+                column: at.column,
+                passed: ran.then(|| outcomes.iter().all(CaseOutcome::passed)),
+                cases: test
+                    .cases
+                    .iter()
+                    .zip(outcomes)
+                    .map(|(case, outcome)| json_case(sources, case, outcome))
+                    .collect(),
+            }
+        })
+        .collect();
+    JsonGrammar {
+        file: run.path.display().to_string(),
+        ran: run.blocked.is_none(),
+        reason,
+        diagnostics,
+        tests,
+    }
+}
+
+fn json_case(sources: &SourceMap, case: &TestCase, outcome: &CaseOutcome) -> JsonCase {
+    let (file, at) = place(sources, case.location);
+    let best = outcome.best();
+    JsonCase {
+        expect: case.expect.keyword(),
+        sentence: case.sentence.clone(),
+        expected_tree: case.tree.as_ref().map(|t| t.to_brackets()),
+        file,
+        line: at.line,
+        column: at.column,
+        passed: outcome.passed(),
+        tied: outcome.tied(),
+        tree: best.map(|b| b.tree.to_brackets()),
+        probability: best.map(|b| b.probability),
+        failure: outcome.reasons(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use grammar_lang::{Code, Location};
+
+    fn one_file(path: &str, text: &str) -> SourceMap {
+        let mut sources = SourceMap::new();
+        sources.add(path.into(), text.into());
+        sources
+    }
+
+    fn span_of(text: &str, needle: &str) -> Span {
+        let start = text.find(needle).unwrap();
+        Span::new(start, start + needle.len())
+    }
+
+    const FERRY: &str = "start Trip\nTrip {\n  1/2 \"Fähre\" Kind\n  1/2 Kind\n}\n";
+
+    #[test]
+    fn json_positions_are_one_based_and_count_characters() {
+        let sources = one_file("kiosk.trellis", FERRY);
+        let d = Diagnostic::new(
+            Code::Undefined,
+            Location::new(FileId(0), span_of(FERRY, "Kind")),
+            "`Kind` is used but has no block",
+        )
+        .with_related(
+            Location::new(FileId(0), span_of(FERRY, "\"Fähre\"")),
+            "next to this",
+        );
+        let j = json_diagnostic(&d, &sources);
+        assert_eq!((j.line, j.column, j.end_line, j.end_column), (3, 15, 3, 19));
+        let r = &j.related[0];
+        // `"Fähre"` is 7 characters (8 bytes), starting at column 7.
+        assert_eq!((r.line, r.column, r.end_line, r.end_column), (3, 7, 3, 14));
+        assert_eq!(r.file, "kiosk.trellis");
+    }
+
+    #[test]
+    fn the_check_document_has_exactly_the_promised_fields() {
+        let sources = one_file("a.trellis", FERRY);
+        let d = Diagnostic::new(
+            Code::SumNotOne,
+            Location::new(FileId(0), span_of(FERRY, "Trip {")),
+            "weights add up to 3/4",
+        )
+        .with_help("add 1/4");
+        let text = to_line(&CheckDocument {
+            diagnostics: vec![json_diagnostic(&d, &sources)],
+        });
+        let v: serde_json::Value = serde_json::from_str(&text).unwrap();
+        let obj = v.as_object().unwrap();
+        assert_eq!(obj.len(), 1);
+        let d = &v["diagnostics"][0];
+        assert_eq!(d["code"], "sum-not-one");
+        assert_eq!(d["severity"], "error");
+        assert_eq!(d["file"], "a.trellis");
+        assert_eq!(
+            (d["line"].as_u64(), d["column"].as_u64()),
+            (Some(2), Some(1))
+        );
+        assert_eq!(
+            (d["end_line"].as_u64(), d["end_column"].as_u64()),
+            (Some(2), Some(7))
+        );
+        assert_eq!(d["message"], "weights add up to 3/4");
+        assert_eq!(d["help"], "add 1/4");
+        assert_eq!(d["related"], serde_json::json!([]));
+    }
+
+    #[test]
+    fn one_json_line_per_document() {
+        let line = to_line(&CheckDocument {
+            diagnostics: Vec::new(),
+        });
+        assert_eq!(line, "{\"diagnostics\":[]}\n");
+    }
+}
