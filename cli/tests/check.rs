@@ -1,6 +1,7 @@
 //! `trellis check` as a user runs it: the built binary on grammar files in
-//! temporary directories. Expectations follow the language specification
-//! (docs: design/language.md) and the diagnostic codes of `grammar-lang`.
+//! temporary directories. Expectations follow the language as README.md
+//! states it ("The grammar language", "Checking grammars") and the
+//! diagnostic codes of `grammar-lang`.
 
 mod common;
 use common::{trellis, Run};
@@ -92,8 +93,8 @@ fn an_error_exits_one_and_is_shown_with_its_code_and_place() {
 
 #[test]
 fn the_missing_mass_is_named_exactly() {
-    // language.md: weights are summed as exact rationals and a shortfall is
-    // reported exactly; 1 - (0.5 + 0.4) = 1/10.
+    // README ("Checking grammars", `sum-not-one`): weights are summed as
+    // exact rationals and a shortfall is reported exactly; 1 - (0.5 + 0.4) = 1/10.
     let dir = tempfile::tempdir().unwrap();
     write(dir.path(), "kiosk.trellis", SUM_NOT_ONE);
     let run = trellis(dir.path(), &["check", "--format", "json", "kiosk.trellis"]);
@@ -515,7 +516,8 @@ fn the_shipped_ferry_kiosk_example_checks_clean() {
 
 #[test]
 fn json_related_places_point_at_the_other_block() {
-    // language.md: two blocks for one name is an error that points at both.
+    // README ("Checking grammars", `duplicate-block`): two blocks for one
+    // name is an error that shows both.
     let dir = tempfile::tempdir().unwrap();
     write(
         dir.path(),

@@ -6,10 +6,14 @@
 //! run, spreads the cases over the cores when asked, stops between cases
 //! when the caller cancels, and counts.
 
+use crate::discover::identity;
+use crate::grammars::{grammar_roots, Checked};
 use grammar_lang::model::GrammarTest;
 use grammar_lang::FileId;
 use rayon::prelude::*;
-use trellis_engine::parser::{Parser, DEFAULT_MAX_CHART_BYTES};
+use std::path::PathBuf;
+use trellis_engine::parser::Parser;
+pub use trellis_engine::parser::DEFAULT_MAX_CHART_BYTES;
 use trellis_engine::testing::{run_case, CaseOutcome};
 use trellis_ide::{Analysis, NotRunnable};
 
@@ -188,6 +192,115 @@ pub fn run<'g>(
         tests: results,
         counts,
     }))
+}
+
+/// One grammar's part of a run over several grammars: its selected tests
+/// with the outcome of each case, or the reason none ran (then every test
+/// has an empty list of outcomes).
+#[derive(Debug)]
+pub struct GrammarRun<'g> {
+    pub analysis: &'g Analysis,
+    /// The grammar's root file, as the user named or found it.
+    pub path: PathBuf,
+    pub blocked: Option<Blocked>,
+    pub tests: Vec<TestResult<'g>>,
+}
+
+/// Counts over a run of several grammars.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct Tally {
+    /// Grammars with at least one selected test.
+    pub grammars: usize,
+    /// Of those, the ones that could not run.
+    pub grammars_blocked: usize,
+    /// Selected tests of blocked grammars.
+    pub tests_not_run: usize,
+    /// Tests and cases of the grammars that ran.
+    pub counts: Counts,
+}
+
+impl Tally {
+    /// Every selected test: passed, failed and not run.
+    pub fn tests(&self) -> usize {
+        self.counts.tests_passed + self.counts.tests_failed + self.tests_not_run
+    }
+
+    /// Whether everything selected ran and held.
+    pub fn all_held(&self) -> bool {
+        self.counts.tests_failed == 0 && self.grammars_blocked == 0
+    }
+}
+
+/// The tests of several analysed grammars (a command-line run).
+#[derive(Debug)]
+pub struct Suite<'g> {
+    /// The grammars with at least one selected test, in order.
+    pub grammars: Vec<GrammarRun<'g>>,
+    pub tally: Tally,
+    /// The name of every test of every grammar, selected or not, sorted and
+    /// without repeats: what a selection that matched nothing could have named.
+    pub available: Vec<&'g str>,
+}
+
+/// Runs the selected tests of every grammar that stands on its own among
+/// `checked` (a lexicon `use`d by another grammar is tested as part of it),
+/// each grammar's cases spread over the cores.
+pub fn run_suite<'g>(
+    checked: &'g [Checked],
+    selection: Selection,
+    max_chart_bytes: u64,
+) -> Suite<'g> {
+    let options = RunOptions {
+        max_chart_bytes,
+        parallel: true,
+    };
+    let mut grammars = Vec::new();
+    let mut tally = Tally::default();
+    let mut available = Vec::new();
+    for i in grammar_roots(checked, identity) {
+        let analysis = &checked[i].analysis;
+        available.extend(analysis.grammar.tests.iter().map(|t| t.name.as_str()));
+        let tests = selected(analysis, selection);
+        if tests.is_empty() {
+            continue;
+        }
+        tally.grammars += 1;
+        let not_run = |tests: &[&'g GrammarTest]| {
+            tests
+                .iter()
+                .map(|&test| TestResult {
+                    test,
+                    cases: Vec::new(),
+                })
+                .collect()
+        };
+        let (blocked, tests) = match run(analysis, tests.clone(), options, &|| false) {
+            Ok(Some(done)) => {
+                tally.counts.add(done.counts);
+                (None, done.tests)
+            }
+            Err(blocked) => {
+                tally.grammars_blocked += 1;
+                tally.tests_not_run += tests.len();
+                (Some(blocked), not_run(&tests))
+            }
+            // Never cancelled: a command-line run goes to the end.
+            Ok(None) => (None, not_run(&tests)),
+        };
+        grammars.push(GrammarRun {
+            analysis,
+            path: checked[i].root.path.clone(),
+            blocked,
+            tests,
+        });
+    }
+    available.sort_unstable();
+    available.dedup();
+    Suite {
+        grammars,
+        tally,
+        available,
+    }
 }
 
 #[cfg(test)]

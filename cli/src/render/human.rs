@@ -4,7 +4,6 @@
 //! [`Paint`] for everything else.
 
 use super::{clamp, file, place, plural, Counts};
-use crate::commands::test::{GrammarRun, Tally};
 use ariadne::{Color, IndexType, Label, Report, ReportKind, Source};
 use grammar_lang::diagnostic::Related;
 use grammar_lang::source::SourceFile;
@@ -17,6 +16,7 @@ use trellis_engine::consistency::ConsistencyReport;
 use trellis_engine::parser::{ParseError, ParseOutcome};
 use trellis_engine::testing::CaseOutcome;
 use trellis_project::test_run::Blocked;
+use trellis_project::test_run::{GrammarRun, Tally};
 use trellis_project::Checked;
 
 fn severity_color(severity: Severity) -> Color {
@@ -473,7 +473,8 @@ pub struct TestDetail {
 
 /// The closing line of a test run.
 pub fn test_summary(tally: &Tally) -> String {
-    let total = tally.tests_passed + tally.tests_failed + tally.tests_not_run;
+    let total = tally.tests();
+    let counts = &tally.counts;
     if total == 0 {
         return "no tests found".to_string();
     }
@@ -481,17 +482,17 @@ pub fn test_summary(tally: &Tally) -> String {
         "{} in {}: {} passed, {} failed",
         plural(total, "test", "tests"),
         plural(tally.grammars, "grammar", "grammars"),
-        tally.tests_passed,
-        tally.tests_failed
+        counts.tests_passed,
+        counts.tests_failed
     );
     if tally.tests_not_run > 0 {
         out.push_str(&format!(", {} not run", tally.tests_not_run));
     }
-    let cases = tally.cases_passed + tally.cases_failed;
+    let cases = counts.cases_passed + counts.cases_failed;
     if cases > 0 {
         out.push_str(&format!(
             " ({} of {} held)",
-            tally.cases_passed,
+            counts.cases_passed,
             plural(cases, "case", "cases")
         ));
     }
@@ -513,14 +514,15 @@ pub fn test_grammar(run: &GrammarRun, detail: TestDetail, color: bool) -> String
         out.push_str(&format!(
             "  {} {} not run: {reason}\n\n",
             paint.paint("not run", Tone::NotRun),
-            plural(run.selected_tests(), "test", "tests"),
+            plural(run.tests.len(), "test", "tests"),
         ));
         return out;
     }
     let sources = &run.analysis.sources;
     let list_all = detail.every_case || detail.trees;
-    for (test, outcomes) in &run.tests {
-        let failed = outcomes.iter().filter(|o| !o.passed()).count();
+    for result in &run.tests {
+        let (test, outcomes) = (result.test, &result.cases);
+        let failed = result.failed();
         let (file, at) = place(sources, test.location);
         let status = if failed == 0 {
             paint.paint("passed", Tone::Passed)
@@ -842,12 +844,14 @@ mod tests {
     fn the_test_summary_counts_tests_grammars_and_cases() {
         let tally = Tally {
             grammars: 2,
-            tests_passed: 3,
-            tests_failed: 1,
+            grammars_blocked: 1,
             tests_not_run: 2,
-            cases_passed: 20,
-            cases_failed: 1,
-            ..Tally::default()
+            counts: trellis_project::test_run::Counts {
+                tests_passed: 3,
+                tests_failed: 1,
+                cases_passed: 20,
+                cases_failed: 1,
+            },
         };
         assert_eq!(
             test_summary(&tally),

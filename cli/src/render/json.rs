@@ -9,7 +9,6 @@
 
 use super::{clamp, file, place, position, Position};
 use crate::commands::sample::Drawn;
-use crate::commands::test::{GrammarRun, Tally};
 use crate::output::{emit, Stream};
 use grammar_lang::model::TestCase;
 use grammar_lang::{Diagnostic, FileId, Severity, SourceMap, Span};
@@ -21,6 +20,7 @@ use trellis_engine::parser::{ParseError, ParseOutcome, ParsedTree};
 use trellis_engine::testing::CaseOutcome;
 use trellis_ide::NotRunnable;
 use trellis_project::test_run::Blocked;
+use trellis_project::test_run::{GrammarRun, Tally};
 
 /// `doc` as one line of JSON. Serialising these documents cannot fail in
 /// practice; if it ever does, the line is still JSON and says why.
@@ -469,12 +469,12 @@ pub fn test_document(runs: &[GrammarRun], tally: &Tally) -> TestDocument {
     TestDocument {
         grammars: runs.iter().map(json_grammar).collect(),
         tests: JsonCount {
-            passed: tally.tests_passed,
-            failed: tally.tests_failed,
+            passed: tally.counts.tests_passed,
+            failed: tally.counts.tests_failed,
         },
         cases: JsonCount {
-            passed: tally.cases_passed,
-            failed: tally.cases_failed,
+            passed: tally.counts.cases_passed,
+            failed: tally.counts.cases_failed,
         },
     }
 }
@@ -491,7 +491,8 @@ fn json_grammar(run: &GrammarRun) -> JsonGrammar {
     let tests = run
         .tests
         .iter()
-        .map(|(test, outcomes)| {
+        .map(|result| {
+            let (test, outcomes) = (result.test, &result.cases);
             let (file, at) = place(sources, test.location);
             let ran = run.blocked.is_none();
             JsonTest {
@@ -499,7 +500,7 @@ fn json_grammar(run: &GrammarRun) -> JsonGrammar {
                 file,
                 line: at.line,
                 column: at.column,
-                passed: ran.then(|| outcomes.iter().all(CaseOutcome::passed)),
+                passed: ran.then(|| result.passed()),
                 cases: test
                     .cases
                     .iter()
