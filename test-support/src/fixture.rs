@@ -860,6 +860,7 @@ mod tests {
         Fixture::parse("=== a.trellis ===\n^ error syntax\n");
     }
 
+    /// The example DEVELOPERS.md shows ("Where tests live"), as written there.
     #[test]
     fn check_accepts_exactly_the_annotated_diagnostics_and_returns_the_analysis() {
         let analysis = check(

@@ -588,16 +588,7 @@ mod tests {
     use crate::render::json::json_diagnostic;
     use grammar_lang::{Code, Location, Span};
 
-    fn one_file(path: &str, text: &str) -> SourceMap {
-        let mut sources = SourceMap::new();
-        sources.add(path.into(), text.into());
-        sources
-    }
-
-    fn span_of(text: &str, needle: &str) -> Span {
-        let start = text.find(needle).unwrap();
-        Span::new(start, start + needle.len())
-    }
+    use crate::render::tests::{one_file, span_of};
 
     /// The character column (0-based) at which `needle` starts in the
     /// rendered line that contains `line_marker`.

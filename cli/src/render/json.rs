@@ -542,16 +542,7 @@ mod tests {
     use super::*;
     use grammar_lang::{Code, Location};
 
-    fn one_file(path: &str, text: &str) -> SourceMap {
-        let mut sources = SourceMap::new();
-        sources.add(path.into(), text.into());
-        sources
-    }
-
-    fn span_of(text: &str, needle: &str) -> Span {
-        let start = text.find(needle).unwrap();
-        Span::new(start, start + needle.len())
-    }
+    use crate::render::tests::{one_file, span_of};
 
     const FERRY: &str = "start Trip\nTrip {\n  1/2 \"Fähre\" Kind\n  1/2 Kind\n}\n";
 

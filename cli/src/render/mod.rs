@@ -82,3 +82,22 @@ impl Counts {
 pub fn plural(n: usize, one: &str, many: &str) -> String {
     format!("{n} {}", if n == 1 { one } else { many })
 }
+
+/// What the renderers' tests share.
+#[cfg(test)]
+pub(crate) mod tests {
+    use grammar_lang::{SourceMap, Span};
+
+    /// A source map holding one file.
+    pub fn one_file(path: &str, text: &str) -> SourceMap {
+        let mut sources = SourceMap::new();
+        sources.add(path.into(), text.into());
+        sources
+    }
+
+    /// The span of the first `needle` in `text`.
+    pub fn span_of(text: &str, needle: &str) -> Span {
+        let start = text.find(needle).unwrap();
+        Span::new(start, start + needle.len())
+    }
+}
