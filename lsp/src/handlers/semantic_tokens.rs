@@ -8,7 +8,7 @@ use tower_lsp::lsp_types::*;
 use trellis_ide::TokenClass;
 
 /// The token types of the semantic-token legend, indexed by
-/// [`token_type`]. Standard LSP names, so every theme colours them.
+/// `token_type`. Standard LSP names, so every theme colours them.
 pub const TOKEN_TYPES: &[SemanticTokenType] = &[
     SemanticTokenType::TYPE,      // non-terminal
     SemanticTokenType::STRING,    // terminal and other quoted text

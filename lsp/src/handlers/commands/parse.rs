@@ -99,3 +99,38 @@ fn summary(result: &ParseResult) -> String {
         .collect();
     lines.join("\n")
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_summary_gives_each_tree_or_why_there_is_none() {
+        let result = ParseResult {
+            results: vec![
+                SentenceParse {
+                    sentence: "ferries sail".into(),
+                    parsed: true,
+                    tree: Some("(S (NP \"ferries\") (VP \"sail\"))".into()),
+                    probability: Some(0.225),
+                    ..SentenceParse::default()
+                },
+                SentenceParse {
+                    sentence: "sail ferries".into(),
+                    explanation: Some("no tree ends here".into()),
+                    ..SentenceParse::default()
+                },
+                SentenceParse {
+                    sentence: "x".into(),
+                    ..SentenceParse::default()
+                },
+            ],
+        };
+        assert_eq!(
+            summary(&result),
+            "ferries sail: (S (NP \"ferries\") (VP \"sail\"))  p = 2.250000e-1\n\
+             sail ferries: no parse — no tree ends here\n\
+             x: no parse — no parse"
+        );
+    }
+}
