@@ -102,6 +102,8 @@ pub enum NotRunnable {
     NoStart,
     /// The symbol asked for has no block.
     NoSuchSymbol(String),
+    /// The engine cannot compile the grammar for parsing.
+    Engine(String),
 }
 
 impl std::fmt::Display for NotRunnable {
@@ -116,6 +118,7 @@ impl std::fmt::Display for NotRunnable {
             NotRunnable::NoStart => {
                 f.write_str("the grammar has no `start` declaration; name a symbol to start from")
             }
+            NotRunnable::Engine(why) => write!(f, "the grammar cannot be parsed with: {why}"),
             NotRunnable::NoSuchSymbol(name) => write!(
                 f,
                 "the grammar has no block named {}",
@@ -198,6 +201,13 @@ impl Analysis {
             0 => Ok(&self.core.grammar),
             n => Err(NotRunnable::Errors(n)),
         }
+    }
+
+    /// The engine's parser for the grammar, if it may run: the one way the
+    /// shells and the test runner get one, so they refuse alike.
+    pub fn parser(&self) -> Result<trellis_engine::Parser, NotRunnable> {
+        let grammar = self.runnable()?;
+        trellis_engine::Parser::new(grammar).map_err(|e| NotRunnable::Engine(e.to_string()))
     }
 
     /// The symbol a derivation starts from: `from` when given (it must have

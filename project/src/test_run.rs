@@ -12,7 +12,6 @@ use grammar_lang::model::GrammarTest;
 use grammar_lang::FileId;
 use rayon::prelude::*;
 use std::path::PathBuf;
-use trellis_engine::parser::Parser;
 pub use trellis_engine::parser::DEFAULT_MAX_CHART_BYTES;
 use trellis_engine::testing::{run_case, CaseOutcome};
 use trellis_ide::{Analysis, NotRunnable};
@@ -55,24 +54,6 @@ impl Default for RunOptions {
         RunOptions {
             max_chart_bytes: DEFAULT_MAX_CHART_BYTES,
             parallel: false,
-        }
-    }
-}
-
-/// Why the tests of a grammar were not run.
-#[derive(Clone, Debug, PartialEq, Eq)]
-pub enum Blocked {
-    /// The grammar has errors (its diagnostics say which).
-    NotRunnable(NotRunnable),
-    /// The engine cannot compile it.
-    Engine(String),
-}
-
-impl std::fmt::Display for Blocked {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        match self {
-            Blocked::NotRunnable(why) => why.fmt(f),
-            Blocked::Engine(why) => write!(f, "the grammar cannot be parsed with: {why}"),
         }
     }
 }
@@ -154,9 +135,9 @@ pub fn run<'g>(
     tests: Vec<&'g GrammarTest>,
     options: RunOptions,
     cancelled: &(dyn Fn() -> bool + Sync),
-) -> Result<Option<TestRun<'g>>, Blocked> {
-    let grammar = analysis.runnable().map_err(Blocked::NotRunnable)?;
-    let parser = Parser::new(grammar).map_err(|e| Blocked::Engine(e.to_string()))?;
+) -> Result<Option<TestRun<'g>>, NotRunnable> {
+    let parser = analysis.parser()?;
+    let grammar = &analysis.grammar;
     let cases: Vec<(usize, &grammar_lang::model::TestCase)> = tests
         .iter()
         .enumerate()
@@ -202,7 +183,8 @@ pub struct GrammarRun<'g> {
     pub analysis: &'g Analysis,
     /// The grammar's root file, as the user named or found it.
     pub path: PathBuf,
-    pub blocked: Option<Blocked>,
+    /// Why none of its tests ran, if they did not.
+    pub blocked: Option<NotRunnable>,
     pub tests: Vec<TestResult<'g>>,
 }
 
@@ -385,7 +367,7 @@ test \"sinking\" {
             trellis_ide::analyze_text("start S\nS { 0.5 \"a\" }\ntest \"t\" { accept \"a\" }\n");
         let tests = selected(&analysis, Selection::All);
         let blocked = run(&analysis, tests, RunOptions::default(), &|| false).unwrap_err();
-        assert_eq!(blocked, Blocked::NotRunnable(NotRunnable::Errors(1)));
+        assert_eq!(blocked, NotRunnable::Errors(1));
         assert_eq!(
             blocked.to_string(),
             "the grammar has 1 error, so it cannot be run; fix it first"

@@ -8,7 +8,7 @@ use crate::shared::{fail, load_runnable};
 use rayon::prelude::*;
 use std::io::Read;
 use std::path::PathBuf;
-use trellis_engine::parser::{ParseError, ParseOptions, ParseOutcome, Parser};
+use trellis_engine::parser::{ParseError, ParseOptions, ParseOutcome};
 
 pub const LONG_ABOUT: &str = "Parse sentences with a grammar.\n\n\
     Each sentence is split on whitespace into words, which must match the \
@@ -84,7 +84,7 @@ fn read_sentences(args: &ParseArgs) -> Result<Vec<String>, String> {
 /// Runs `trellis parse`.
 pub fn run(args: &ParseArgs, term: Term) -> Ran {
     let analysis = load_runnable(&args.grammar, "parse", term)?;
-    let parser = Parser::new(&analysis.grammar).map_err(|e| fail(e, Outcome::Findings))?;
+    let parser = analysis.parser().map_err(|e| fail(e, Outcome::Findings))?;
     let sentences = read_sentences(args).map_err(|e| fail(e, Outcome::Failure))?;
     let options = ParseOptions {
         kbest: args.kbest,

@@ -15,7 +15,7 @@ use std::ops::Range;
 use trellis_engine::consistency::ConsistencyReport;
 use trellis_engine::parser::{ParseError, ParseOutcome};
 use trellis_engine::testing::CaseOutcome;
-use trellis_project::test_run::Blocked;
+use trellis_ide::NotRunnable;
 use trellis_project::test_run::{GrammarRun, Tally};
 use trellis_project::Checked;
 
@@ -504,15 +504,11 @@ pub fn test_grammar(run: &GrammarRun, detail: TestDetail, color: bool) -> String
     let paint = Paint(color);
     let mut out = format!("{}\n", run.path.display());
     if let Some(blocked) = &run.blocked {
-        if let Blocked::NotRunnable(_) = blocked {
+        if let NotRunnable::Errors(_) = blocked {
             out.push_str(&errors(run.analysis, color));
         }
-        let reason = match blocked {
-            Blocked::NotRunnable(why) => why.to_string(),
-            engine => engine.to_string(),
-        };
         out.push_str(&format!(
-            "  {} {} not run: {reason}\n\n",
+            "  {} {} not run: {blocked}\n\n",
             paint.paint("not run", Tone::NotRun),
             plural(run.tests.len(), "test", "tests"),
         ));

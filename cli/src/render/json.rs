@@ -19,7 +19,6 @@ use trellis_engine::explain::Explanation;
 use trellis_engine::parser::{ParseError, ParseOutcome, ParsedTree};
 use trellis_engine::testing::CaseOutcome;
 use trellis_ide::NotRunnable;
-use trellis_project::test_run::Blocked;
 use trellis_project::test_run::{GrammarRun, Tally};
 
 /// `doc` as one line of JSON. Serialising these documents cannot fail in
@@ -481,9 +480,7 @@ pub fn test_document(runs: &[GrammarRun], tally: &Tally) -> TestDocument {
 
 fn json_grammar(run: &GrammarRun) -> JsonGrammar {
     let (reason, diagnostics) = match &run.blocked {
-        Some(blocked @ Blocked::NotRunnable(NotRunnable::Errors(_))) => {
-            (Some(blocked.to_string()), errors(run.analysis))
-        }
+        Some(blocked @ NotRunnable::Errors(_)) => (Some(blocked.to_string()), errors(run.analysis)),
         Some(blocked) => (Some(blocked.to_string()), Vec::new()),
         None => (None, Vec::new()),
     };

@@ -92,11 +92,9 @@ async fn runnable_grammar(backend: &Backend, uri: &Url) -> jsonrpc::Result<Targe
     };
     match target.analysis().runnable() {
         Ok(_) => Ok(target),
-        Err(NotRunnable::Errors(errors)) => Err(request_failed(format!(
-            "the grammar has {errors} error{}; fix {} first (see the diagnostics)",
-            if errors == 1 { "" } else { "s" },
-            if errors == 1 { "it" } else { "them" },
-        ))),
+        Err(why @ NotRunnable::Errors(_)) => {
+            Err(request_failed(format!("{why} (see the diagnostics)")))
+        }
         Err(other) => Err(request_failed(other.to_string())),
     }
 }

@@ -8,7 +8,7 @@ use crate::guard::CancelFlag;
 use crate::server::Backend;
 use tower_lsp::jsonrpc;
 use tower_lsp::lsp_types::MessageType;
-use trellis_engine::parser::{ParseOptions, ParseOutcome, Parser};
+use trellis_engine::parser::{ParseOptions, ParseOutcome};
 
 pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<ParseResult> {
     let mut sentences = params.sentences;
@@ -32,8 +32,7 @@ pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<Pa
     let guard = cancel.guard();
     let outcome = backend
         .run("parsing", move || {
-            let parser = Parser::new(&target.analysis().grammar)
-                .map_err(|e| format!("the grammar cannot be parsed with: {e}"))?;
+            let parser = target.analysis().parser().map_err(|e| e.to_string())?;
             let mut results = Vec::new();
             for sentence in sentences {
                 if cancel.is_cancelled() {
