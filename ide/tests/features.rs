@@ -1,12 +1,1193 @@
 //! Editor services, specified by example on a small two-file grammar with
 //! non-ASCII names: what is found where, what hover says, where navigation
 //! leads and what rename changes.
+//!
+//! Every test states its grammar as a fixture (`trellis_test_support`):
+//! `$0` is the cursor, `[[…]]` marks an expected span (or, empty, another
+//! place a request is made at). Marked ranges are named by destructuring
+//! them in the order they are written.
 
 use grammar_lang::source::FileId;
 use grammar_lang::syntax::lexer::TokenKind;
-use grammar_lang::{analyze, Analysis, Config, Location, MemoryLoader, Span};
+use grammar_lang::{Config, Location, Span};
 use std::path::Path;
-use trellis_ide::{self as ide, EngineFacts, IdeIndex, Lookup, NtRole, RenameError, TextEdit};
+use trellis_ide::{self as ide, Analysis, EngineFacts, Lookup, NtRole, RenameError, TextEdit};
+use trellis_test_support::{apply_edits, assert_diagnostics, Fixture};
+
+/// Analyses a fixture through the façade, its first file as the root.
+fn analyse(fixture: &str) -> (Fixture, Analysis) {
+    let f = Fixture::parse(fixture);
+    let root = f.root();
+    let a = ide::analyze(&root.path, &root.text, &f.loader(), &Config::default());
+    (f, a)
+}
+
+/// [`analyse`] for a fixture that must analyse without any finding.
+fn analyse_clean(fixture: &str) -> (Fixture, Analysis) {
+    let (f, a) = analyse(fixture);
+    assert_diagnostics(&f, &a);
+    (f, a)
+}
+
+/// The id the analysis gave the fixture file `path`.
+fn id(a: &Analysis, path: &str) -> FileId {
+    a.sources
+        .find(Path::new(path))
+        .unwrap_or_else(|| panic!("{path} was not loaded"))
+}
+
+/// The file and offset of the fixture's `$0`.
+fn cursor(f: &Fixture, a: &Analysis) -> (FileId, usize) {
+    (
+        id(a, f.cursor_file().path.to_str().unwrap()),
+        f.cursor_offset(),
+    )
+}
+
+/// The `N` ranges marked `[[…]]` in file `path`, as spans.
+#[track_caller]
+fn spans<const N: usize>(f: &Fixture, path: &str) -> [Span; N] {
+    let ranges = &f.file(path).ranges;
+    let spans: Vec<Span> = ranges.iter().map(|r| Span::new(r.start, r.end)).collect();
+    spans
+        .try_into()
+        .unwrap_or_else(|s: Vec<Span>| panic!("{path} marks {} ranges, not {N}", s.len()))
+}
+
+/// The starts of the `N` ranges marked in file `path` (`[[]]` marks a place).
+#[track_caller]
+fn places<const N: usize>(f: &Fixture, path: &str) -> [usize; N] {
+    spans::<N>(f, path).map(|s| s.start as usize)
+}
+
+/// Every offset from the start of `span` to its end (both included) that
+/// is a character boundary of `text`.
+fn offsets(text: &str, span: Span) -> impl Iterator<Item = usize> + '_ {
+    (span.start as usize..=span.end as usize).filter(|&o| text.is_char_boundary(o))
+}
+
+/// The texts of the analysis with `edits` applied, by file.
+fn apply(a: &Analysis, edits: &[TextEdit]) -> Vec<String> {
+    a.sources
+        .iter()
+        .map(|(file, source)| {
+            let mine = edits.iter().filter(|e| e.file == file);
+            apply_edits(
+                &source.text,
+                mine.map(|e| (e.span.range(), e.new_text.as_str())),
+            )
+        })
+        .collect()
+}
+
+// ── lookup ──────────────────────────────────────────────────────────────
+
+#[test]
+fn lookup_names_the_role_of_every_non_terminal_occurrence_wherever_the_cursor_touches_it() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start [[Anfrage]]
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        [[Anfrage]] {
+          0.55  Wunsch [[Fahrkarte]]
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte ([[Art]] "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        [[Art]] {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let g = &a.grammar;
+    let (anfrage, fahrkarte, art) = (
+        g.nt("Anfrage").unwrap(),
+        g.nt("Fahrkarte").unwrap(),
+        g.nt("Art").unwrap(),
+    );
+    let [start, definition, use_in_first_rule, test_label] = spans(&f, "main.trellis");
+    let [definition_in_lexikon] = spans(&f, "lexikon.trellis");
+    let expected = [
+        (m, start, anfrage, NtRole::Start),
+        (m, definition, anfrage, NtRole::Definition),
+        // `0.55  Wunsch Fahrkarte` is the first rule of `Anfrage`.
+        (
+            m,
+            use_in_first_rule,
+            fahrkarte,
+            NtRole::Use {
+                rule: Some(g.nonterminal(anfrage).rules[0]),
+            },
+        ),
+        (m, test_label, art, NtRole::TestLabel),
+        (l, definition_in_lexikon, art, NtRole::Definition),
+    ];
+    for (file, span, nt, role) in expected {
+        // From the name's first character to right after its last.
+        for offset in offsets(&a.sources.get(file).text, span) {
+            assert_eq!(
+                a.lookup(file, offset),
+                Some(Lookup::NonTerminal { nt, role, span }),
+                "at {offset} in {span:?}"
+            );
+        }
+    }
+}
+
+#[test]
+fn lookup_finds_terminals_weights_keywords_and_use_paths() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use [["lexikon.trellis"]]
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          [[15%]]   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          [["Rückfahrt"]] | "Einzel" | "Tages"
+        }
+
+        Anzahl [[relative]] {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let g = &a.grammar;
+    let [use_path, weight] = spans(&f, "main.trellis");
+    let [rueckfahrt, relative] = spans(&f, "lexikon.trellis");
+    let expected = [
+        (
+            l,
+            rueckfahrt,
+            Lookup::Terminal {
+                term: Some(g.term("Rückfahrt").unwrap()),
+                value: "Rückfahrt".into(),
+                span: rueckfahrt,
+            },
+        ),
+        (
+            m,
+            weight,
+            Lookup::Weight {
+                rule: g.nonterminal(g.nt("Anfrage").unwrap()).rules[2],
+                span: weight,
+            },
+        ),
+        (
+            l,
+            relative,
+            Lookup::Keyword {
+                keyword: TokenKind::KwRelative,
+                span: relative,
+            },
+        ),
+        (
+            m,
+            use_path,
+            Lookup::UsePath {
+                target: Some(l),
+                span: use_path,
+            },
+        ),
+    ];
+    for (file, span, found) in expected {
+        for offset in offsets(&a.sources.get(file).text, span) {
+            assert_eq!(a.lookup(file, offset), Some(found.clone()), "at {offset}");
+        }
+    }
+}
+
+#[test]
+fn lookup_between_a_weight_and_the_first_item_finds_the_whole_alternative() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          [[0.30 $0 Fahrkarte Bitte]]      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let [alternative] = spans(&f, "main.trellis");
+    let anfrage = a.grammar.nt("Anfrage").unwrap();
+    assert_eq!(
+        a.lookup(file, offset),
+        Some(Lookup::Alternative {
+            rule: a.grammar.nonterminal(anfrage).rules[1],
+            span: alternative
+        })
+    );
+}
+
+#[test]
+fn lookup_finds_nothing_on_comments_blank_lines_past_the_end_or_in_unknown_files() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+        [[]]
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      [[# höflich]]
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let m = id(&a, "main.trellis");
+    let main = &f.file("main.trellis").text;
+    let [blank_line, comment] = spans(&f, "main.trellis");
+    for span in [blank_line, comment] {
+        for offset in offsets(main, span) {
+            assert_eq!(a.lookup(m, offset), None, "at {offset}");
+        }
+    }
+    assert_eq!(a.lookup(m, main.len() + 100), None);
+    assert_eq!(a.lookup(FileId(7), 0), None);
+}
+
+// ── hover ───────────────────────────────────────────────────────────────
+
+#[test]
+fn hover_on_a_weight_gives_the_rule_exact_probability_share_and_total() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          [[0.$055]]  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    assert_eq!(h.span, spans::<1>(&f, "main.trellis")[0]);
+    assert_eq!(
+        h.markdown,
+        "**rule** `Anfrage → Wunsch Fahrkarte`\n\
+         \n\
+         - weight as written: `0.55` (decimal)\n\
+         - probability: 11/20 = 0.55\n\
+         - share of `Anfrage`: 55% of its total\n\
+         - total of `Anfrage`: 1\n"
+    );
+}
+
+#[test]
+fn hover_on_a_relative_alternative_shows_the_division_and_expected_uses() {
+    // The cursor on the space between weight and word: anywhere on the
+    // alternative.
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          [[3 $0  "zwei"]]
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let zwei = a.grammar.nonterminal(a.grammar.nt("Anzahl").unwrap()).rules[1];
+    let mut uses = vec![0.0; a.grammar.rules.len()];
+    uses[zwei.index()] = 0.0825;
+    let facts = EngineFacts {
+        rule_expected_uses: uses,
+        ..EngineFacts::default()
+    };
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, Some(&facts)).unwrap();
+    assert_eq!(h.span, spans::<1>(&f, "lexikon.trellis")[0]);
+    assert_eq!(
+        h.markdown,
+        "**rule** `Anzahl → \"zwei\"`\n\
+         \n\
+         - relative weight as written: `3` (decimal)\n\
+         - probability: 3/10 = 0.3\n\
+         - share of `Anzahl`: 30% of its total\n\
+         - total of `Anzahl`: 1\n\
+         - `Anzahl` is `relative`: its weights sum to 10 and each is divided by that sum\n\
+         - expected uses per sentence: 0.0825\n"
+    );
+}
+
+#[test]
+fn hover_on_an_unweighted_alternative_explains_the_shared_remainder() {
+    // `Wunsch { "ich"  "möchte" }`: one unweighted alternative gets everything.
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich" $0 "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    assert!(
+        h.markdown.contains(
+            "- unweighted: shares what the weighted alternatives leave\n- probability: 1\n"
+        ),
+        "{}",
+        h.markdown
+    );
+}
+
+#[test]
+fn hover_on_a_non_terminal_shows_doc_rules_reachability_and_termination() {
+    // On a use in the main file; the documentation comes from the lexicon.
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl [[A$0rt]] "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let art = a.grammar.nt("Art").unwrap();
+    let facts = EngineFacts {
+        termination: (0..a.grammar.nonterminals.len())
+            .map(|i| if i == art.index() { 1.0 } else { 0.5 })
+            .collect(),
+        rule_expected_uses: Vec::new(),
+    };
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, Some(&facts)).unwrap();
+    assert_eq!(h.span, spans::<1>(&f, "main.trellis")[0]);
+    assert_eq!(
+        h.markdown,
+        "**non-terminal** `Art`\n\
+         \n\
+         Die Art der Fahrkarte.\n\
+         \n\
+         - 3 rules\n\
+         - reachable from the start symbol `Anfrage`\n\
+         - productive: derives at least one string of words\n\
+         - used 2 times on right-hand sides\n\
+         - termination probability: 1\n"
+    );
+}
+
+#[test]
+fn hover_without_engine_facts_still_answers_without_the_termination_line() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        $0Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    assert_eq!(
+        h.markdown,
+        "**start symbol** `Anfrage`\n\
+         \n\
+         Was ein Fahrgast am Automaten sagt.\n\
+         \n\
+         - 3 rules\n\
+         - productive: derives at least one string of words\n\
+         - used 0 times on right-hand sides\n"
+    );
+}
+
+#[test]
+fn hover_reports_unreachable_unproductive_and_undefined_symbols() {
+    let (f, a) = analyse(
+        r#"
+        start S
+        S { "a" | Loop }
+        [[]]Loop { Loop "b" }
+        [[]]Island { "c" | [[]]Nirgends }
+        "#,
+    );
+    let m = id(&a, "grammar.trellis");
+    let [unproductive, unreachable, undefined] = places(&f, "grammar.trellis");
+    let hover = |offset| ide::hover(&a, a.index(), m, offset, None).unwrap().markdown;
+    assert!(hover(unreachable).contains("- **not reachable** from the start symbol `S`\n"));
+    assert!(hover(unproductive).contains("- **unproductive**: derives no string of words\n"));
+    assert_eq!(
+        hover(undefined),
+        "**non-terminal** `Nirgends`\n\nused once but has **no block**: it derives nothing\n"
+    );
+}
+
+#[test]
+fn hover_on_a_terminal_tables_the_rules_that_produce_it() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art [["$0Fahrkarte"]]
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    assert_eq!(h.span, spans::<1>(&f, "main.trellis")[0]);
+    assert_eq!(
+        h.markdown,
+        "**terminal** `\"Fahrkarte\"`\n\
+         \n\
+         produced directly by 2 rules:\n\
+         \n\
+         | non-terminal | rule | probability |\n\
+         |---|---|---|\n\
+         | `Fahrkarte` | `Fahrkarte → Anzahl Art \"Fahrkarte\"` | 1/2 = 0.5 |\n\
+         | `Fahrkarte` | `Fahrkarte → Art \"Fahrkarte\"` | 1/2 = 0.5 |\n"
+    );
+}
+
+#[test]
+fn hover_on_a_test_tree_word_that_no_rule_has_says_so() {
+    let (f, a) = analyse(
+        r#"
+        start S
+        S { "a" }
+        test "t" { accept "a" as (S "$0zz") }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    assert_eq!(
+        h.markdown,
+        "**terminal** `\"zz\"`\n\nno rule produces this word\n"
+    );
+}
+
+#[test]
+fn hover_explains_keywords_and_nothing_on_comments() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # [[]]höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl [[]]relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let [comment] = places(&f, "main.trellis");
+    let [relative] = places(&f, "lexikon.trellis");
+    let h = ide::hover(&a, a.index(), l, relative, None).unwrap();
+    assert!(h.markdown.starts_with("`relative`:"), "{}", h.markdown);
+    assert_eq!(ide::hover(&a, a.index(), m, comment, None), None);
+}
+
+// ── definition and references ───────────────────────────────────────────
+
+#[test]
+fn definition_jumps_across_used_files() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start [[]]Anfrage
+        use "le[[]]xikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        [[Anfrage]] {
+          [[]]0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   An[[]]zahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        [[]]## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        [[Anzahl]] relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    // Empty ranges are the places asked at; `Anfrage`'s definition and
+    // `Anzahl`'s are the spans expected.
+    let [start, use_path, anfrage_definition, weight, anzahl] = spans(&f, "main.trellis");
+    let [start, use_path, weight, anzahl] =
+        [start, use_path, weight, anzahl].map(|s| s.start as usize);
+    let [start_of_lexikon, anzahl_definition] = spans(&f, "lexikon.trellis");
+    assert_eq!(
+        a.definition(m, anzahl),
+        Some(Location::new(l, anzahl_definition))
+    );
+    assert_eq!(
+        a.definition(m, start),
+        Some(Location::new(m, anfrage_definition))
+    );
+    // The path of a `use` leads to the start of that file.
+    assert_eq!(
+        a.definition(m, use_path),
+        Some(Location::new(l, start_of_lexikon))
+    );
+    assert_eq!(start_of_lexikon, Span::point(0));
+    assert_eq!(a.definition(m, weight), None);
+}
+
+#[test]
+fn references_to_a_non_terminal_cover_rhs_uses_and_test_labels_in_every_file() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl [[Art]] "Fahrkarte"
+          1/2   [[Art]] "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte ([[Art]] "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        $0Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let m = id(&a, "main.trellis");
+    let (file, offset) = cursor(&f, &a);
+    let expected: Vec<Location> = spans::<3>(&f, "main.trellis")
+        .into_iter()
+        .map(|s| Location::new(m, s))
+        .collect();
+    assert_eq!(a.references(file, offset, false), expected);
+}
+
+#[test]
+fn references_with_the_definition_include_start_and_block_head() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start [[$0Anfrage]]
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        [[Anfrage]] {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as ([[Anfrage]] (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let m = id(&a, "main.trellis");
+    let (file, offset) = cursor(&f, &a);
+    let expected: Vec<Location> = spans::<3>(&f, "main.trellis")
+        .into_iter()
+        .map(|s| Location::new(m, s))
+        .collect();
+    assert_eq!(a.references(file, offset, true), expected);
+}
+
+#[test]
+fn references_to_a_word_cover_every_right_hand_side_and_tree_leaf_with_it() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art [["Tages"]]) "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | [[$0"Tages"]]
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let (file, offset) = cursor(&f, &a);
+    let [in_tree] = spans(&f, "main.trellis");
+    let [in_lexikon] = spans(&f, "lexikon.trellis");
+    assert_eq!(
+        a.references(file, offset, true),
+        vec![Location::new(m, in_tree), Location::new(l, in_lexikon)]
+    );
+}
+
+// ── rename ──────────────────────────────────────────────────────────────
+
+#[test]
+fn rename_changes_every_occurrence_in_every_file_including_test_trees() {
+    // Marked: every occurrence of `Art`, the cursor on a use.
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl [[A$0rt]] "Fahrkarte"
+          1/2   [[Art]] "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte ([[Art]] "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        [[Art]] {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    assert_eq!(
+        a.prepare_rename(file, offset),
+        Ok(spans::<3>(&f, "main.trellis")[0])
+    );
+    let edits = a.rename(file, offset, "Kartenart").unwrap();
+    assert_eq!(edits.len(), 4);
+    let renamed = |path: &str| {
+        let file = f.file(path);
+        apply_edits(
+            &file.text,
+            file.ranges.iter().map(|r| (r.clone(), "Kartenart")),
+        )
+    };
+    let (main, lexikon) = (renamed("main.trellis"), renamed("lexikon.trellis"));
+    assert_eq!(apply(&a, &edits), vec![main.clone(), lexikon.clone()]);
+    let (g, b) = analyse_clean(&format!(
+        "=== main.trellis ===\n{main}=== lexikon.trellis ===\n{lexikon}"
+    ));
+    assert_eq!(g.files.len(), 2);
+    assert!(b.grammar.nt("Art").is_none());
+    assert_eq!(
+        b.grammar.tests[0].cases[1]
+            .tree
+            .as_ref()
+            .unwrap()
+            .to_brackets(),
+        "(Anfrage (Fahrkarte (Kartenart \"Tages\") \"Fahrkarte\"))"
+    );
+}
+
+#[test]
+fn rename_refuses_terminals_keywords_bad_names_and_collisions() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0[[]].55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl [[]]Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "[[]]Einzel" | "Tages"
+        }
+
+        Anzahl r[[]]elative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let [weight, art] = places(&f, "main.trellis");
+    let [terminal, keyword] = places(&f, "lexikon.trellis");
+    assert_eq!(a.prepare_rename(l, terminal), Err(RenameError::Terminal));
+    assert_eq!(
+        a.prepare_rename(l, keyword),
+        Err(RenameError::Keyword("relative"))
+    );
+    assert_eq!(a.prepare_rename(m, weight), Err(RenameError::NotASymbol));
+    for bad in ["use", "2Art", "Art Art", "", "\"x\""] {
+        assert_eq!(
+            a.rename(m, art, bad),
+            Err(RenameError::InvalidName(bad.to_string()))
+        );
+    }
+    assert_eq!(
+        a.rename(m, art, "Bitte"),
+        Err(RenameError::AlreadyDefined("Bitte".into()))
+    );
+    assert_eq!(a.rename(m, art, "Art"), Ok(Vec::new()));
+}
+
+#[test]
+fn renaming_a_misspelt_undefined_use_onto_a_defined_symbol_fixes_it() {
+    let (f, a) = analyse(
+        r#"
+        start S
+        S { [[$0Wrt]] | Wort }
+        Wort { "w" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let edits = a.rename(file, offset, "Wort").unwrap();
+    assert_eq!(
+        edits,
+        vec![TextEdit {
+            file,
+            span: spans::<1>(&f, "grammar.trellis")[0],
+            new_text: "Wort".into()
+        }]
+    );
+}
+
+// ── the tests below still find their positions by hand ─────────────────
 
 const MAIN: &str = r#"grammar fähre
 start Anfrage
@@ -49,18 +1230,17 @@ Bitte { "bitte" }
 const M: FileId = FileId(0);
 const L: FileId = FileId(1);
 
-fn analysis() -> Analysis {
-    let a = analyze(
+fn analysis() -> grammar_lang::Analysis {
+    let a = grammar_lang::analyze(
         Path::new("main.trellis"),
         MAIN,
-        &MemoryLoader::new().with("lexikon.trellis", LEXIKON),
+        &grammar_lang::MemoryLoader::new().with("lexikon.trellis", LEXIKON),
         &Config::default(),
     );
     assert!(a.diagnostics.is_empty(), "{:#?}", a.diagnostics);
     a
 }
 
-/// The span of the `nth` (0-based) occurrence of `needle` in `text`.
 fn at(text: &str, needle: &str, nth: usize) -> Span {
     let start = text
         .match_indices(needle)
@@ -70,444 +1250,8 @@ fn at(text: &str, needle: &str, nth: usize) -> Span {
     Span::new(start, start + needle.len())
 }
 
-/// An offset `delta` bytes into the `nth` occurrence of `needle`.
 fn inside(text: &str, needle: &str, nth: usize, delta: usize) -> usize {
     at(text, needle, nth).start as usize + delta
-}
-
-// ── lookup ──────────────────────────────────────────────────────────────
-
-#[test]
-fn lookup_names_the_role_of_every_non_terminal_occurrence() {
-    let a = analysis();
-    let g = &a.grammar;
-    let anfrage = g.nt("Anfrage").unwrap();
-    let fahrkarte = g.nt("Fahrkarte").unwrap();
-    let art = g.nt("Art").unwrap();
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "Anfrage", 0, 3)),
-        Some(Lookup::NonTerminal {
-            nt: anfrage,
-            role: NtRole::Start,
-            span: at(MAIN, "Anfrage", 0)
-        })
-    );
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "Anfrage {", 0, 0)),
-        Some(Lookup::NonTerminal {
-            nt: anfrage,
-            role: NtRole::Definition,
-            span: at(MAIN, "Anfrage", 1)
-        })
-    );
-    // `Fahrkarte` in `0.55  Wunsch Fahrkarte` is the first rule's second item.
-    let first_rule = g.nonterminal(anfrage).rules[0];
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "Fahrkarte", 0, 9)),
-        Some(Lookup::NonTerminal {
-            nt: fahrkarte,
-            role: NtRole::Use {
-                rule: Some(first_rule)
-            },
-            span: at(MAIN, "Fahrkarte", 0)
-        }),
-        "a cursor right after a name finds the name"
-    );
-    // The label `Art` inside the expected tree of the test.
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "(Art", 0, 1)),
-        Some(Lookup::NonTerminal {
-            nt: art,
-            role: NtRole::TestLabel,
-            span: at(MAIN, "Art", 2)
-        })
-    );
-    // In the used file, `Art` is defined.
-    assert_eq!(
-        ide::lookup(&a, L, inside(LEXIKON, "Art {", 0, 1)),
-        Some(Lookup::NonTerminal {
-            nt: art,
-            role: NtRole::Definition,
-            span: at(LEXIKON, "Art", 1)
-        })
-    );
-}
-
-#[test]
-fn lookup_finds_terminals_weights_alternatives_and_keywords() {
-    let a = analysis();
-    let g = &a.grammar;
-    let rueck = g.term("Rückfahrt").unwrap();
-    assert_eq!(
-        ide::lookup(&a, L, inside(LEXIKON, "\"Rückfahrt\"", 0, 3)),
-        Some(Lookup::Terminal {
-            term: Some(rueck),
-            value: "Rückfahrt".into(),
-            span: at(LEXIKON, "\"Rückfahrt\"", 0)
-        })
-    );
-    let anfrage = g.nt("Anfrage").unwrap();
-    let rules = &g.nonterminal(anfrage).rules;
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "15%", 0, 1)),
-        Some(Lookup::Weight {
-            rule: rules[2],
-            span: at(MAIN, "15%", 0)
-        })
-    );
-    // Between the weight and the first item: the whole alternative.
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "0.30  Fahrkarte", 0, 5)),
-        Some(Lookup::Alternative {
-            rule: rules[1],
-            span: at(MAIN, "0.30  Fahrkarte Bitte", 0)
-        })
-    );
-    assert_eq!(
-        ide::lookup(&a, L, inside(LEXIKON, "relative", 0, 2)),
-        Some(Lookup::Keyword {
-            keyword: TokenKind::KwRelative,
-            span: at(LEXIKON, "relative", 0)
-        })
-    );
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "lexikon", 0, 0)),
-        Some(Lookup::UsePath {
-            target: Some(L),
-            span: at(MAIN, "\"lexikon.trellis\"", 0)
-        })
-    );
-    // Comments, blank lines and braces are nothing.
-    assert_eq!(ide::lookup(&a, M, inside(MAIN, "höflich", 0, 2)), None);
-    assert_eq!(ide::lookup(&a, M, inside(MAIN, "\n\n", 0, 1)), None);
-    assert_eq!(ide::lookup(&a, M, MAIN.len() + 100), None);
-    assert_eq!(ide::lookup(&a, FileId(7), 0), None);
-}
-
-// ── hover ───────────────────────────────────────────────────────────────
-
-#[test]
-fn hover_on_a_weight_gives_the_rule_exact_probability_share_and_total() {
-    let a = analysis();
-    let index = IdeIndex::new(&a);
-    let h = ide::hover(&a, &index, M, inside(MAIN, "0.55", 0, 2), None).unwrap();
-    assert_eq!(h.span, at(MAIN, "0.55", 0));
-    assert_eq!(
-        h.markdown,
-        "**rule** `Anfrage → Wunsch Fahrkarte`\n\
-         \n\
-         - weight as written: `0.55` (decimal)\n\
-         - probability: 11/20 = 0.55\n\
-         - share of `Anfrage`: 55% of its total\n\
-         - total of `Anfrage`: 1\n"
-    );
-}
-
-#[test]
-fn hover_on_a_relative_alternative_shows_the_division_and_expected_uses() {
-    let a = analysis();
-    let index = IdeIndex::new(&a);
-    let zwei = a.grammar.nonterminal(a.grammar.nt("Anzahl").unwrap()).rules[1];
-    let mut uses = vec![0.0; a.grammar.rules.len()];
-    uses[zwei.index()] = 0.0825;
-    let facts = EngineFacts {
-        rule_expected_uses: uses,
-        ..EngineFacts::default()
-    };
-    // Hovering the space between weight and word: anywhere on the alternative.
-    let h = ide::hover(
-        &a,
-        &index,
-        L,
-        inside(LEXIKON, "3   \"zwei\"", 0, 2),
-        Some(&facts),
-    )
-    .unwrap();
-    assert_eq!(h.span, at(LEXIKON, "3   \"zwei\"", 0));
-    assert_eq!(
-        h.markdown,
-        "**rule** `Anzahl → \"zwei\"`\n\
-         \n\
-         - relative weight as written: `3` (decimal)\n\
-         - probability: 3/10 = 0.3\n\
-         - share of `Anzahl`: 30% of its total\n\
-         - total of `Anzahl`: 1\n\
-         - `Anzahl` is `relative`: its weights sum to 10 and each is divided by that sum\n\
-         - expected uses per sentence: 0.0825\n"
-    );
-}
-
-#[test]
-fn hover_on_an_unweighted_alternative_explains_the_shared_remainder() {
-    let a = analysis();
-    let index = IdeIndex::new(&a);
-    // `Wunsch { "ich"  "möchte" }`: one unweighted alternative gets everything.
-    let h = ide::hover(
-        &a,
-        &index,
-        M,
-        inside(MAIN, "\"ich\"  \"möchte\"", 0, 6),
-        None,
-    )
-    .unwrap();
-    assert!(
-        h.markdown.contains(
-            "- unweighted: shares what the weighted alternatives leave\n- probability: 1\n"
-        ),
-        "{}",
-        h.markdown
-    );
-}
-
-#[test]
-fn hover_on_a_non_terminal_shows_doc_rules_reachability_and_termination() {
-    let a = analysis();
-    let index = IdeIndex::new(&a);
-    let art = a.grammar.nt("Art").unwrap();
-    let facts = EngineFacts {
-        termination: (0..a.grammar.nonterminals.len())
-            .map(|i| if i == art.index() { 1.0 } else { 0.5 })
-            .collect(),
-        rule_expected_uses: Vec::new(),
-    };
-    // On a use in the main file; the documentation comes from the lexicon.
-    let h = ide::hover(
-        &a,
-        &index,
-        M,
-        inside(MAIN, "Art \"Fahrkarte\"", 0, 1),
-        Some(&facts),
-    )
-    .unwrap();
-    assert_eq!(h.span, at(MAIN, "Art", 0));
-    assert_eq!(
-        h.markdown,
-        "**non-terminal** `Art`\n\
-         \n\
-         Die Art der Fahrkarte.\n\
-         \n\
-         - 3 rules\n\
-         - reachable from the start symbol `Anfrage`\n\
-         - productive: derives at least one string of words\n\
-         - used 2 times on right-hand sides\n\
-         - termination probability: 1\n"
-    );
-    // Without engine facts the hover still answers, without that line.
-    let h = ide::hover(&a, &index, M, inside(MAIN, "Anfrage {", 0, 0), None).unwrap();
-    assert_eq!(
-        h.markdown,
-        "**start symbol** `Anfrage`\n\
-         \n\
-         Was ein Fahrgast am Automaten sagt.\n\
-         \n\
-         - 3 rules\n\
-         - productive: derives at least one string of words\n\
-         - used 0 times on right-hand sides\n"
-    );
-}
-
-#[test]
-fn hover_reports_unreachable_unproductive_and_undefined_symbols() {
-    let text = "start S\nS { \"a\" | Loop }\nLoop { Loop \"b\" }\nIsland { \"c\" | Nirgends }\n";
-    let a = grammar_lang::analyze_text(text);
-    let index = IdeIndex::new(&a);
-    let h = ide::hover(&a, &index, M, inside(text, "Island", 0, 0), None).unwrap();
-    assert!(h
-        .markdown
-        .contains("- **not reachable** from the start symbol `S`\n"));
-    let h = ide::hover(&a, &index, M, inside(text, "Loop {", 0, 0), None).unwrap();
-    assert!(h
-        .markdown
-        .contains("- **unproductive**: derives no string of words\n"));
-    let h = ide::hover(&a, &index, M, inside(text, "Nirgends", 0, 0), None).unwrap();
-    assert_eq!(
-        h.markdown,
-        "**non-terminal** `Nirgends`\n\nused once but has **no block**: it derives nothing\n"
-    );
-}
-
-#[test]
-fn hover_on_a_terminal_tables_the_rules_that_produce_it() {
-    let a = analysis();
-    let index = IdeIndex::new(&a);
-    let h = ide::hover(&a, &index, M, inside(MAIN, "\"Fahrkarte\"", 1, 1), None).unwrap();
-    assert_eq!(h.span, at(MAIN, "\"Fahrkarte\"", 1));
-    assert_eq!(
-        h.markdown,
-        "**terminal** `\"Fahrkarte\"`\n\
-         \n\
-         produced directly by 2 rules:\n\
-         \n\
-         | non-terminal | rule | probability |\n\
-         |---|---|---|\n\
-         | `Fahrkarte` | `Fahrkarte → Anzahl Art \"Fahrkarte\"` | 1/2 = 0.5 |\n\
-         | `Fahrkarte` | `Fahrkarte → Art \"Fahrkarte\"` | 1/2 = 0.5 |\n"
-    );
-    // A word of a test tree that no rule has.
-    let text = "start S\nS { \"a\" }\ntest \"t\" { accept \"a\" as (S \"zz\") }\n";
-    let a = grammar_lang::analyze_text(text);
-    let index = IdeIndex::new(&a);
-    let h = ide::hover(&a, &index, M, inside(text, "\"zz\"", 0, 1), None).unwrap();
-    assert_eq!(
-        h.markdown,
-        "**terminal** `\"zz\"`\n\nno rule produces this word\n"
-    );
-}
-
-#[test]
-fn hover_explains_keywords_and_nothing_on_comments() {
-    let a = analysis();
-    let index = IdeIndex::new(&a);
-    let h = ide::hover(&a, &index, L, inside(LEXIKON, "relative", 0, 0), None).unwrap();
-    assert!(h.markdown.starts_with("`relative`:"), "{}", h.markdown);
-    assert_eq!(
-        ide::hover(&a, &index, M, inside(MAIN, "höflich", 0, 0), None),
-        None
-    );
-}
-
-// ── definition and references ───────────────────────────────────────────
-
-#[test]
-fn definition_jumps_across_used_files() {
-    let a = analysis();
-    assert_eq!(
-        ide::definition(&a, M, inside(MAIN, "Anzahl", 0, 2)),
-        Some(Location::new(L, at(LEXIKON, "Anzahl", 0)))
-    );
-    assert_eq!(
-        ide::definition(&a, M, inside(MAIN, "Anfrage", 0, 0)),
-        Some(Location::new(M, at(MAIN, "Anfrage", 1)))
-    );
-    // The path of a `use` leads to the start of that file.
-    assert_eq!(
-        ide::definition(&a, M, inside(MAIN, "lexikon", 0, 2)),
-        Some(Location::new(L, Span::point(0)))
-    );
-    assert_eq!(ide::definition(&a, M, inside(MAIN, "0.55", 0, 0)), None);
-}
-
-#[test]
-fn references_cover_rhs_uses_start_and_test_labels_in_every_file() {
-    let a = analysis();
-    let refs = ide::references(&a, L, inside(LEXIKON, "Art {", 0, 0), false);
-    assert_eq!(
-        refs,
-        vec![
-            Location::new(M, at(MAIN, "Art", 0)),
-            Location::new(M, at(MAIN, "Art", 1)),
-            Location::new(M, at(MAIN, "Art", 2)),
-        ]
-    );
-    let refs = ide::references(&a, M, inside(MAIN, "Anfrage", 0, 0), true);
-    assert_eq!(
-        refs,
-        vec![
-            Location::new(M, at(MAIN, "Anfrage", 0)),
-            Location::new(M, at(MAIN, "Anfrage", 1)),
-            Location::new(M, at(MAIN, "Anfrage", 2)),
-        ]
-    );
-    // A word: every right-hand side and tree leaf with the same word.
-    let refs = ide::references(&a, L, inside(LEXIKON, "\"Tages\"", 0, 0), true);
-    assert_eq!(
-        refs,
-        vec![
-            Location::new(M, at(MAIN, "\"Tages\"", 0)),
-            Location::new(L, at(LEXIKON, "\"Tages\"", 0)),
-        ]
-    );
-}
-
-// ── rename ──────────────────────────────────────────────────────────────
-
-/// Applies edits to the texts of the analysis; returns the new texts by file.
-fn apply(a: &Analysis, edits: &[TextEdit]) -> Vec<String> {
-    let mut texts: Vec<String> = a.sources.iter().map(|(_, f)| f.text.clone()).collect();
-    let mut sorted = edits.to_vec();
-    sorted.sort_by_key(|e| std::cmp::Reverse((e.file, e.span.start)));
-    for e in sorted {
-        texts[e.file.0 as usize].replace_range(e.span.range(), &e.new_text);
-    }
-    texts
-}
-
-#[test]
-fn rename_changes_every_occurrence_in_every_file_including_test_trees() {
-    let a = analysis();
-    assert_eq!(
-        ide::prepare_rename(&a, M, inside(MAIN, "Art \"Fahrkarte\"", 0, 1)),
-        Ok(at(MAIN, "Art", 0))
-    );
-    let edits = ide::rename(&a, M, inside(MAIN, "Art \"Fahrkarte\"", 0, 1), "Kartenart").unwrap();
-    assert_eq!(edits.len(), 4);
-    let texts = apply(&a, &edits);
-    assert_eq!(
-        texts[0],
-        MAIN.replace("Art ", "Kartenart ")
-            .replace("(Art", "(Kartenart")
-    );
-    assert_eq!(texts[1], LEXIKON.replace("Art {", "Kartenart {"));
-    let b = analyze(
-        Path::new("main.trellis"),
-        &texts[0],
-        &MemoryLoader::new().with("lexikon.trellis", texts[1].clone()),
-        &Config::default(),
-    );
-    assert!(b.diagnostics.is_empty(), "{:#?}", b.diagnostics);
-    assert!(b.grammar.nt("Art").is_none());
-    assert_eq!(
-        b.grammar.tests[0].cases[1]
-            .tree
-            .as_ref()
-            .unwrap()
-            .to_brackets(),
-        "(Anfrage (Fahrkarte (Kartenart \"Tages\") \"Fahrkarte\"))"
-    );
-}
-
-#[test]
-fn rename_refuses_terminals_keywords_bad_names_and_collisions() {
-    let a = analysis();
-    assert_eq!(
-        ide::prepare_rename(&a, L, inside(LEXIKON, "\"Einzel\"", 0, 1)),
-        Err(RenameError::Terminal)
-    );
-    assert_eq!(
-        ide::prepare_rename(&a, L, inside(LEXIKON, "relative", 0, 1)),
-        Err(RenameError::Keyword("relative"))
-    );
-    assert_eq!(
-        ide::prepare_rename(&a, M, inside(MAIN, "0.55", 0, 1)),
-        Err(RenameError::NotASymbol)
-    );
-    let art = inside(MAIN, "Art \"Fahrkarte\"", 0, 0);
-    for bad in ["use", "2Art", "Art Art", "", "\"x\""] {
-        assert_eq!(
-            ide::rename(&a, M, art, bad),
-            Err(RenameError::InvalidName(bad.to_string()))
-        );
-    }
-    assert_eq!(
-        ide::rename(&a, M, art, "Bitte"),
-        Err(RenameError::AlreadyDefined("Bitte".into()))
-    );
-    assert_eq!(ide::rename(&a, M, art, "Art"), Ok(Vec::new()));
-}
-
-#[test]
-fn renaming_a_misspelt_undefined_use_onto_a_defined_symbol_fixes_it() {
-    let text = "start S\nS { Wrt | Wort }\nWort { \"w\" }\n";
-    let a = grammar_lang::analyze_text(text);
-    let edits = ide::rename(&a, M, inside(text, "Wrt", 0, 0), "Wort").unwrap();
-    assert_eq!(
-        edits,
-        vec![TextEdit {
-            file: M,
-            span: at(text, "Wrt", 0),
-            new_text: "Wort".into()
-        }]
-    );
 }
 
 // ── semantic tokens ─────────────────────────────────────────────────────
