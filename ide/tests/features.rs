@@ -1187,81 +1187,23 @@ fn renaming_a_misspelt_undefined_use_onto_a_defined_symbol_fixes_it() {
     );
 }
 
-// ── the tests below still find their positions by hand ─────────────────
-
-const MAIN: &str = r#"grammar fähre
-start Anfrage
-use "lexikon.trellis"
-
-## Was ein Fahrgast am Automaten sagt.
-Anfrage {
-  0.55  Wunsch Fahrkarte
-  0.30  Fahrkarte Bitte      # höflich
-  15%   Fahrkarte
-}
-
-Fahrkarte {
-  1/2   Anzahl Art "Fahrkarte"
-  1/2   Art "Fahrkarte"
-}
-
-Wunsch { "ich"  "möchte" }
-
-test "Bestellungen" {
-  accept "eine Rückfahrt Fahrkarte bitte"
-  accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-}
-"#;
-
-const LEXIKON: &str = r#"## Die Art der Fahrkarte.
-Art {
-  "Rückfahrt" | "Einzel" | "Tages"
-}
-
-Anzahl relative {
-  6   "eine"
-  3   "zwei"
-  1   "drei"
-}
-
-Bitte { "bitte" }
-"#;
-
-const M: FileId = FileId(0);
-const L: FileId = FileId(1);
-
-fn analysis() -> grammar_lang::Analysis {
-    let a = grammar_lang::analyze(
-        Path::new("main.trellis"),
-        MAIN,
-        &grammar_lang::MemoryLoader::new().with("lexikon.trellis", LEXIKON),
-        &Config::default(),
-    );
-    assert!(a.diagnostics.is_empty(), "{:#?}", a.diagnostics);
-    a
-}
-
-fn at(text: &str, needle: &str, nth: usize) -> Span {
-    let start = text
-        .match_indices(needle)
-        .nth(nth)
-        .unwrap_or_else(|| panic!("{needle:?} #{nth} not in text"))
-        .0;
-    Span::new(start, start + needle.len())
-}
-
-fn inside(text: &str, needle: &str, nth: usize, delta: usize) -> usize {
-    at(text, needle, nth).start as usize + delta
-}
-
 // ── semantic tokens ─────────────────────────────────────────────────────
 
 #[test]
 fn semantic_tokens_classify_every_token_and_mark_definitions() {
     use trellis_ide::{TokenClass as C, TokenModifiers};
-    let text = "## Doc\nstart S # c\nS relative {\n  2 \"wört\" Ä\n}\ntest \"t\" { accept \"wört\" as (S \"wört\") }\n";
-    let a = grammar_lang::analyze_text(text);
-    let toks = ide::semantic_tokens(&a, M, None);
+    let (f, a) = analyse(
+        r#"
+        ## Doc
+        start S # c
+        S relative {
+        [[  2 "wört" Ä]]
+        }
+        test "t" { accept "wört" as (S "wört") }
+        "#,
+    );
+    let text = &f.root().text;
+    let m = id(&a, "grammar.trellis");
     let def = TokenModifiers {
         definition: true,
         undefined: false,
@@ -1271,7 +1213,8 @@ fn semantic_tokens_classify_every_token_and_mark_definitions() {
         undefined: true,
     };
     let plain = TokenModifiers::default();
-    let got: Vec<(&str, C, TokenModifiers)> = toks
+    let got: Vec<(&str, C, TokenModifiers)> = a
+        .semantic_tokens(m, None)
         .iter()
         .map(|t| (t.span.text(text), t.class, t.modifiers))
         .collect();
@@ -1297,8 +1240,9 @@ fn semantic_tokens_classify_every_token_and_mark_definitions() {
         ]
     );
     // A range gives the tokens overlapping it only.
-    let line = at(text, "  2 \"wört\" Ä", 0);
-    let got: Vec<&str> = ide::semantic_tokens(&a, M, Some(line))
+    let [line] = spans(&f, "grammar.trellis");
+    let got: Vec<&str> = a
+        .semantic_tokens(m, Some(line))
         .iter()
         .map(|t| t.span.text(text))
         .collect();
@@ -1310,8 +1254,48 @@ fn semantic_tokens_classify_every_token_and_mark_definitions() {
 #[test]
 fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
     use trellis_ide::{DocumentSymbol, SymbolKind};
-    let a = analysis();
-    let outline = ide::document_symbols(&a, L);
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        $0[[Anzahl]] relative {
+          [[6   "eine"]]
+          3   "zwei"
+          1   "drei"
+        }$0
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let outline = a.document_symbols(l);
     let summary: Vec<(&str, SymbolKind, Option<&str>, usize)> = outline
         .iter()
         .map(|s| {
@@ -1331,10 +1315,15 @@ fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
             ("Bitte", SymbolKind::Block, Some("1 rule"), 1),
         ]
     );
+    // The block is the range between the two `$0`.
+    let lexikon = &f.file("lexikon.trellis").text;
+    let block = f.cursor_range();
+    let [name, alternative] = spans(&f, "lexikon.trellis");
     let anzahl = &outline[1];
-    assert_eq!(anzahl.selection_span, at(LEXIKON, "Anzahl", 0));
+    assert_eq!(anzahl.selection_span, name);
+    assert_eq!(anzahl.span, Span::new(block.start, block.end));
     assert_eq!(
-        anzahl.span.text(LEXIKON),
+        anzahl.span.text(lexikon),
         "Anzahl relative {\n  6   \"eine\"\n  3   \"zwei\"\n  1   \"drei\"\n}"
     );
     assert_eq!(
@@ -1343,12 +1332,16 @@ fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
             name: "\"eine\"".into(),
             detail: Some("6 · p = 3/5 = 0.6".into()),
             kind: SymbolKind::Rule,
-            span: at(LEXIKON, "6   \"eine\"", 0),
-            selection_span: at(LEXIKON, "\"eine\"", 0),
+            span: alternative,
+            // The word that ends the alternative.
+            selection_span: Span::new(
+                alternative.end as usize - r#""eine""#.len(),
+                alternative.end as usize
+            ),
             children: Vec::new(),
         }
     );
-    let outline = ide::document_symbols(&a, M);
+    let outline = a.document_symbols(m);
     let kinds: Vec<(SymbolKind, &str)> =
         outline.iter().map(|s| (s.kind, s.name.as_str())).collect();
     assert_eq!(
@@ -1376,9 +1369,48 @@ fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
 
 #[test]
 fn workspace_symbols_rank_exact_prefix_substring_then_fuzzy_matches() {
-    let a = analysis();
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        [[Anzahl]] relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
     let names = |q: &str| -> Vec<String> {
-        ide::workspace_symbols(&a, q, 10)
+        a.workspace_symbols(q, 10)
             .into_iter()
             .map(|s| s.name)
             .collect()
@@ -1389,125 +1421,231 @@ fn workspace_symbols_rank_exact_prefix_substring_then_fuzzy_matches() {
     assert_eq!(names("fkt"), vec!["Fahrkarte"]);
     assert_eq!(names("zz"), Vec::<String>::new());
     assert_eq!(names("").len(), 6);
-    assert_eq!(ide::workspace_symbols(&a, "", 2).len(), 2);
-    let anzahl = &ide::workspace_symbols(&a, "Anzahl", 10)[0];
-    assert_eq!(anzahl.location, Location::new(L, at(LEXIKON, "Anzahl", 0)));
+    assert_eq!(a.workspace_symbols("", 2).len(), 2);
+    let anzahl = &a.workspace_symbols("Anzahl", 10)[0];
+    let [definition] = spans(&f, "lexikon.trellis");
+    assert_eq!(
+        anzahl.location,
+        Location::new(id(&a, "lexikon.trellis"), definition)
+    );
     assert_eq!(anzahl.detail, "3 rules · relative");
     assert_eq!(
-        ide::workspace_symbols(&a, "anfrage", 10)[0].detail,
+        a.workspace_symbols("anfrage", 10)[0].detail,
         "3 rules · start"
     );
 }
 
 // ── completion ──────────────────────────────────────────────────────────
 
-fn labels(list: &ide::CompletionList) -> Vec<&str> {
-    list.items.iter().map(|i| i.label.as_str()).collect()
+/// The labels of the completions offered at the fixture's cursor, and the
+/// span they replace.
+fn completions(fixture: &str) -> (Vec<String>, Span, ide::CompletionList) {
+    let (f, a) = analyse(fixture);
+    let (file, offset) = cursor(&f, &a);
+    let list = a.completions(file, offset);
+    let labels = list.items.iter().map(|i| i.label.clone()).collect();
+    (labels, list.replace, list)
+}
+
+/// The span marked `[[…]]` in a one-file fixture.
+fn marked(fixture: &str) -> Span {
+    spans::<1>(&Fixture::parse(fixture), "grammar.trellis")[0]
 }
 
 #[test]
 fn completion_offers_names_on_right_hand_sides_filtered_by_the_typed_word() {
-    let text = "start S\nS {\n  0.5 Fa\n  0.5 \"x\" \n}\nFahrt { \"f\" }\nFähre { \"ä\" }\nWeg { Fahrt }\n";
-    let a = grammar_lang::analyze_text(text);
-    let list = ide::completions(&a, M, inside(text, "Fa\n", 0, 2));
-    assert_eq!(list.replace, at(text, "Fa", 0));
+    let fixture = r#"
+        start S
+        S {
+          0.5 [[Fa$0]]
+          0.5 "x" 
+        }
+        Fahrt { "f" }
+        Fähre { "ä" }
+        Weg { Fahrt }
+        "#;
+    let (labels, replace, list) = completions(fixture);
+    assert_eq!(replace, marked(fixture));
     // `ä` is not `a`: `Fähre` does not match.
-    assert_eq!(labels(&list), vec!["Fahrt"]);
+    assert_eq!(labels, vec!["Fahrt"]);
     assert_eq!(list.items[0].kind, ide::CompletionKind::NonTerminal);
     assert_eq!(list.items[0].detail.as_deref(), Some("1 rule"));
     assert!(!list.incomplete);
-    // After a terminal, at a space: every defined name, nothing replaced.
-    let list = ide::completions(&a, M, inside(text, "\"x\" ", 0, 4));
-    assert_eq!(list.replace, Span::point(inside(text, "\"x\" ", 0, 4)));
-    assert_eq!(labels(&list), vec!["S", "Weg", "Fahrt", "Fähre"]);
-    // Inside a quoted word or a comment: nothing.
-    assert!(ide::completions(&a, M, inside(text, "\"x\"", 0, 1))
-        .items
-        .is_empty());
-    // In the middle of a run of spaces: names.
-    let text = "start S\nS { \"x\"      }\n";
-    let a = grammar_lang::analyze_text(text);
-    let list = ide::completions(&a, M, inside(text, "\"x\"   ", 0, 6));
-    assert_eq!(labels(&list), vec!["S"]);
+}
+
+#[test]
+fn completion_after_a_terminal_at_a_space_offers_every_defined_name_and_replaces_nothing() {
+    let fixture = r#"
+        start S
+        S {
+          0.5 Fa
+          0.5 "x" [[$0]]
+        }
+        Fahrt { "f" }
+        Fähre { "ä" }
+        Weg { Fahrt }
+        "#;
+    let (labels, replace, _) = completions(fixture);
+    assert_eq!(replace, marked(fixture));
+    assert!(replace.is_empty());
+    assert_eq!(labels, vec!["S", "Weg", "Fahrt", "Fähre"]);
+}
+
+#[test]
+fn completion_inside_a_quoted_word_offers_nothing() {
+    let (labels, _, _) = completions(
+        r#"
+        start S
+        S {
+          0.5 Fa
+          0.5 "$0x" 
+        }
+        Fahrt { "f" }
+        Fähre { "ä" }
+        Weg { Fahrt }
+        "#,
+    );
+    assert!(labels.is_empty());
+}
+
+#[test]
+fn completion_in_the_middle_of_a_run_of_spaces_offers_names() {
+    let (labels, _, _) = completions("start S\nS { \"x\"   $0   }\n");
+    assert_eq!(labels, vec!["S"]);
 }
 
 #[test]
 fn completion_offers_keywords_where_declarations_start_and_relative_after_a_block_name() {
-    let text = "start S\nS { \"a\" | Neu }\n\nu\nT \n";
-    let a = grammar_lang::analyze_text(text);
     // At the start of a top-level line: keywords not yet used, then
     // undefined names (to give them a block); `start` is taken.
-    let list = ide::completions(&a, M, inside(text, "\n\n", 0, 2));
-    assert_eq!(labels(&list), vec!["use", "test", "grammar", "Neu"]);
+    let (labels, _, list) = completions("start S\nS { \"a\" | Neu }\n\n$0u\nT \n");
+    assert_eq!(labels, vec!["use", "test", "grammar", "Neu"]);
     assert_eq!(list.items[0].kind, ide::CompletionKind::Keyword);
-    let list = ide::completions(&a, M, inside(text, "\nu\n", 0, 2));
-    assert_eq!(labels(&list), vec!["use", "Neu"]);
-    let u = inside(text, "\nu\n", 0, 1);
-    assert_eq!(list.replace, Span::new(u, u + 1));
-    let list = ide::completions(&a, M, inside(text, "T \n", 0, 2));
-    assert_eq!(labels(&list), vec!["relative"]);
+    let fixture = "start S\nS { \"a\" | Neu }\n\n[[u$0]]\nT \n";
+    let (labels, replace, _) = completions(fixture);
+    assert_eq!(labels, vec!["use", "Neu"]);
+    assert_eq!(replace, marked(fixture));
+    let (labels, _, _) = completions("start S\nS { \"a\" | Neu }\n\nu\nT $0\n");
+    assert_eq!(labels, vec!["relative"]);
     // After `start`: the defined names.
-    let text = "start \nZiel { \"z\" }\n";
-    let a = grammar_lang::analyze_text(text);
-    assert_eq!(labels(&ide::completions(&a, M, 6)), vec!["Ziel"]);
+    let (labels, _, _) = completions("start $0\nZiel { \"z\" }\n");
+    assert_eq!(labels, vec!["Ziel"]);
 }
 
 #[test]
 fn completion_in_tests_offers_case_keywords_as_and_tree_labels() {
-    let text = "start S\nS { \"a\" }\ntest \"t\" {\n  accept \"a\" as (S \"a\")\n  \n  accept \"a\" \n  accept \"a\" as (\n}\n";
-    let a = grammar_lang::analyze_text(text);
-    let blank = inside(text, "\n  \n", 0, 3);
+    let test = |cases: &str| {
+        completions(&format!(
+            "start S\nS {{ \"a\" }}\ntest \"t\" {{\n  accept \"a\" as (S \"a\")\n{cases}}}\n"
+        ))
+        .0
+    };
+    // On a blank line, after a sentence, after an open bracket.
     assert_eq!(
-        labels(&ide::completions(&a, M, blank)),
+        test("  $0\n  accept \"a\" \n  accept \"a\" as (\n"),
         vec!["accept", "reject"]
     );
-    let after_sentence = inside(text, "\"a\" \n", 0, 4);
-    assert_eq!(labels(&ide::completions(&a, M, after_sentence)), vec!["as"]);
-    let open = inside(text, "as (\n", 0, 4);
-    assert_eq!(labels(&ide::completions(&a, M, open)), vec!["S"]);
+    assert_eq!(
+        test("  \n  accept \"a\" $0\n  accept \"a\" as (\n"),
+        vec!["as"]
+    );
+    assert_eq!(
+        test("  \n  accept \"a\" \n  accept \"a\" as ($0\n"),
+        vec!["S"]
+    );
 }
 
 // ── inlay hints and code lenses ─────────────────────────────────────────
 
 #[test]
 fn inlay_hints_show_resolved_probabilities_of_unweighted_and_relative_alternatives() {
-    let a = analysis();
-    let whole = Span::new(0, LEXIKON.len());
-    let hints: Vec<(usize, String, bool, bool)> = ide::inlay_hints(&a, L, whole)
+    // Marked `[[]]`: where each hint stands (before an unweighted
+    // alternative's first item, after a relative weight); between the two
+    // `$0`: one line of the lexikon.
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { [[]]"ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          [[]]"Rückfahrt" | [[]]"Einzel" | [[]]"Tages"
+        }
+
+        Anzahl relative {
+          6[[]]   "eine"
+        $0  3[[]]   "zwei"$0
+          1[[]]   "drei"
+        }
+
+        Bitte { [[]]"bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let lexikon = &f.file("lexikon.trellis").text;
+    let whole = Span::new(0, lexikon.len());
+    let hints: Vec<(usize, String, bool, bool)> = a
+        .inlay_hints(l, whole)
         .into_iter()
         .map(|h| (h.offset, h.label, h.pad_left, h.pad_right))
         .collect();
-    let start = |needle: &str| at(LEXIKON, needle, 0).start as usize;
+    let [rueckfahrt, einzel, tages, eine, zwei, drei, bitte] = spans(&f, "lexikon.trellis");
+    let at = |s: Span| s.start as usize;
     assert_eq!(
         hints,
         vec![
-            (start("\"Rückfahrt\""), "= 1/3".to_string(), false, true),
-            (start("\"Einzel\""), "= 1/3".to_string(), false, true),
-            (start("\"Tages\""), "= 1/3".to_string(), false, true),
-            (start("6   \"eine\"") + 1, "= 3/5".to_string(), true, false),
-            (start("3   \"zwei\"") + 1, "= 3/10".to_string(), true, false),
-            (start("1   \"drei\"") + 1, "= 1/10".to_string(), true, false),
-            (start("\"bitte\""), "= 1".to_string(), false, true),
+            (at(rueckfahrt), "= 1/3".to_string(), false, true),
+            (at(einzel), "= 1/3".to_string(), false, true),
+            (at(tages), "= 1/3".to_string(), false, true),
+            (at(eine), "= 3/5".to_string(), true, false),
+            (at(zwei), "= 3/10".to_string(), true, false),
+            (at(drei), "= 1/10".to_string(), true, false),
+            (at(bitte), "= 1".to_string(), false, true),
         ]
     );
-    let tooltip = &ide::inlay_hints(&a, L, whole)[3].tooltip;
+    let tooltip = &a.inlay_hints(l, whole)[3].tooltip;
     assert_eq!(
         tooltip,
         "probability of `Anzahl → \"eine\"`: 3/5 = 0.6 (weight divided by the block's sum)"
     );
     // Only the requested range; weighted alternatives of plain blocks get none.
-    let line = at(LEXIKON, "  3   \"zwei\"", 0);
-    assert_eq!(ide::inlay_hints(&a, L, line).len(), 1);
-    assert!(ide::inlay_hints(&a, M, Span::new(0, MAIN.len()))
+    let line = f.cursor_range();
+    assert_eq!(a.inlay_hints(l, Span::new(line.start, line.end)).len(), 1);
+    let [ich] = places(&f, "main.trellis");
+    let main = &f.file("main.trellis").text;
+    assert!(a
+        .inlay_hints(m, Span::new(0, main.len()))
         .iter()
-        .all(|h| h.offset == inside(MAIN, "\"ich\"", 0, 0)));
+        .all(|h| h.offset == ich));
 }
 
 #[test]
 fn inlay_hints_approximate_long_fractions() {
-    let text = "start S\nS relative { 1 \"a\" | 2 \"b\" | 123456 \"c\" }\n";
-    let a = grammar_lang::analyze_text(text);
-    let labels: Vec<String> = ide::inlay_hints(&a, M, Span::new(0, text.len()))
+    let (f, a) = analyse("start S\nS relative { 1 \"a\" | 2 \"b\" | 123456 \"c\" }\n");
+    let whole = Span::new(0, f.root().text.len());
+    let labels: Vec<String> = a
+        .inlay_hints(id(&a, "grammar.trellis"), whole)
         .into_iter()
         .map(|h| h.label)
         .collect();
@@ -1520,24 +1658,64 @@ fn inlay_hints_approximate_long_fractions() {
 fn code_lenses_sit_on_start_and_on_each_test() {
     // Parse, sample and run every test above `start`; run one above each test.
     use trellis_ide::{CodeLens, CodeLensKind};
-    let a = analysis();
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        [[start Anfrage]]
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        [[test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }]]
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let [start, test] = spans(&f, "main.trellis");
     assert_eq!(
-        ide::code_lenses(&a, M),
+        a.code_lenses(id(&a, "main.trellis")),
         vec![
             CodeLens {
-                span: at(MAIN, "start Anfrage", 0),
+                span: start,
                 kind: CodeLensKind::ParseSentence
             },
             CodeLens {
-                span: at(MAIN, "start Anfrage", 0),
+                span: start,
                 kind: CodeLensKind::Sample
             },
             CodeLens {
-                span: at(MAIN, "start Anfrage", 0),
+                span: start,
                 kind: CodeLensKind::RunAllTests { tests: 1 }
             },
             CodeLens {
-                span: Span::new(at(MAIN, "test", 0).start as usize, MAIN.len() - 1),
+                span: test,
                 kind: CodeLensKind::RunTest {
                     test: 0,
                     name: "Bestellungen".into()
@@ -1545,103 +1723,255 @@ fn code_lenses_sit_on_start_and_on_each_test() {
             },
         ]
     );
-    assert_eq!(ide::code_lenses(&a, L), Vec::new());
+    assert_eq!(a.code_lenses(id(&a, "lexikon.trellis")), Vec::new());
 }
 
 // ── folding, links, highlights ──────────────────────────────────────────
 
 #[test]
-fn folding_ranges_cover_multi_line_blocks_tests_and_comment_runs() {
+fn folding_ranges_cover_multi_line_blocks_and_tests() {
     use trellis_ide::{FoldKind, FoldingRange};
-    let a = analysis();
-    let folds = ide::folding_ranges(&a, M);
-    let fold = |span: Span, kind| FoldingRange { span, kind };
-    assert_eq!(
-        folds,
-        vec![
-            fold(
-                Span::new(
-                    at(MAIN, "Anfrage {", 0).start as usize,
-                    at(MAIN, "}", 0).end as usize
-                ),
-                FoldKind::Declaration
-            ),
-            fold(
-                Span::new(
-                    at(MAIN, "Fahrkarte {", 0).start as usize,
-                    at(MAIN, "}", 1).end as usize
-                ),
-                FoldKind::Declaration
-            ),
-            // `Wunsch { … }` fits on one line: no fold.
-            fold(
-                Span::new(at(MAIN, "test", 0).start as usize, MAIN.len() - 1),
-                FoldKind::Declaration
-            ),
-        ]
+    // `Wunsch { … }` fits on one line: no fold.
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        [[Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }]]
+
+        [[Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }]]
+
+        Wunsch { "ich"  "möchte" }
+
+        [[test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }]]
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
     );
+    let folds: Vec<FoldingRange> = spans::<3>(&f, "main.trellis")
+        .into_iter()
+        .map(|span| FoldingRange {
+            span,
+            kind: FoldKind::Declaration,
+        })
+        .collect();
+    assert_eq!(a.folding_ranges(id(&a, "main.trellis")), folds);
+}
+
+#[test]
+fn folding_ranges_cover_runs_of_comment_lines() {
+    use trellis_ide::{FoldKind, FoldingRange};
     // Comment lines in a row fold; a comment after code does not count, and
     // a blank line ends a run.
-    let text =
-        "# eins\n## zwei\n### drei\nstart S # nach Code\n# allein\n\n# a\n# b\nS { \"s\" }\n";
-    let a = grammar_lang::analyze_text(text);
-    assert_eq!(
-        ide::folding_ranges(&a, M),
-        vec![
-            fold(
-                Span::new(0, at(text, "### drei", 0).end as usize),
-                FoldKind::Comment
-            ),
-            fold(
-                Span::new(
-                    at(text, "# a\n", 0).start as usize,
-                    at(text, "# b", 0).end as usize
-                ),
-                FoldKind::Comment
-            ),
-        ]
+    let (f, a) = analyse(
+        r#"
+        [[# eins
+        ## zwei
+        ### drei]]
+        start S # nach Code
+        # allein
+
+        [[# a
+        # b]]
+        S { "s" }
+        "#,
     );
+    let folds: Vec<FoldingRange> = spans::<2>(&f, "grammar.trellis")
+        .into_iter()
+        .map(|span| FoldingRange {
+            span,
+            kind: FoldKind::Comment,
+        })
+        .collect();
+    assert_eq!(a.folding_ranges(id(&a, "grammar.trellis")), folds);
 }
 
 #[test]
 fn document_links_lead_from_use_paths_to_loaded_files() {
     use trellis_ide::DocumentLink;
-    let a = analysis();
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use [["lexikon.trellis"]]
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
     assert_eq!(
-        ide::document_links(&a, M),
+        a.document_links(id(&a, "main.trellis")),
         vec![DocumentLink {
-            span: at(MAIN, "\"lexikon.trellis\"", 0),
-            target: L
+            span: spans::<1>(&f, "main.trellis")[0],
+            target: id(&a, "lexikon.trellis")
         }]
     );
-    let a = grammar_lang::analyze_text("use \"fehlt.trellis\"\n");
-    assert_eq!(ide::document_links(&a, M), Vec::new());
+    let (_, a) = analyse("use \"fehlt.trellis\"\n");
+    assert_eq!(a.document_links(id(&a, "grammar.trellis")), Vec::new());
 }
 
 #[test]
-fn document_highlights_mark_definitions_and_uses_in_one_file() {
+fn document_highlights_mark_definitions_and_uses_of_a_non_terminal_in_one_file() {
     use trellis_ide::Highlight;
-    let a = analysis();
-    let got = ide::document_highlights(&a, M, inside(MAIN, "Fahrkarte", 2, 0));
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch [[Fahrkarte]]
+          0.30  [[Fahrkarte]] Bitte      # höflich
+          15%   [[$0Fahrkarte]]
+        }
+
+        [[Fahrkarte]] {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage ([[Fahrkarte]] (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let [in_first, in_second, in_third, definition, test_label] = spans(&f, "main.trellis");
     let h = |span, definition| Highlight { span, definition };
     assert_eq!(
-        got,
+        a.document_highlights(file, offset),
         vec![
-            h(at(MAIN, "Fahrkarte", 0), false),
-            h(at(MAIN, "Fahrkarte", 1), false),
-            h(at(MAIN, "Fahrkarte", 2), false),
-            h(at(MAIN, "Fahrkarte", 3), true),
-            h(at(MAIN, "Fahrkarte", 8), false),
+            h(in_first, false),
+            h(in_second, false),
+            h(in_third, false),
+            h(definition, true),
+            h(test_label, false),
         ]
     );
-    // A word: the same quoted word everywhere in the file.
-    let got = ide::document_highlights(&a, M, inside(MAIN, "\"Fahrkarte\"", 0, 2));
-    assert_eq!(
-        got,
-        vec![
-            h(at(MAIN, "\"Fahrkarte\"", 0), false),
-            h(at(MAIN, "\"Fahrkarte\"", 1), false),
-            h(at(MAIN, "\"Fahrkarte\"", 2), false),
-        ]
+}
+
+#[test]
+fn document_highlights_of_a_word_mark_the_same_quoted_word_everywhere_in_the_file() {
+    use trellis_ide::Highlight;
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art [["F$0ahrkarte"]]
+          1/2   Art [["Fahrkarte"]]
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") [["Fahrkarte"]]))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
     );
+    let (file, offset) = cursor(&f, &a);
+    let expected: Vec<Highlight> = spans::<3>(&f, "main.trellis")
+        .into_iter()
+        .map(|span| Highlight {
+            span,
+            definition: false,
+        })
+        .collect();
+    assert_eq!(a.document_highlights(file, offset), expected);
 }
