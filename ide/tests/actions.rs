@@ -1,14 +1,18 @@
 //! Quick fixes, specified by applying them: the edited text keeps every
 //! comment and the user's layout, and analysing it again gives the model
 //! the fix promised.
+//!
+//! Each grammar is a fixture (`trellis_test_support`): `[[…]]` marks the
+//! span the actions are asked for (and, where a test needs it, a place the
+//! answer is expected at).
 
 use grammar_lang::model::Ratio;
 use grammar_lang::source::FileId;
 use grammar_lang::syntax::lexer::{lex, TokenKind};
-use grammar_lang::{analyze, analyze_text, Analysis, Code, Config, MemoryLoader, Span};
+use grammar_lang::{analyze_text, Analysis, Code, Span};
 use num_bigint::BigInt;
-use std::path::Path;
 use trellis_ide::{self as ide, CodeAction, CodeActionKind, TextEdit};
+use trellis_test_support::{apply_edits, Fixture};
 
 const M: FileId = FileId(0);
 
@@ -16,22 +20,27 @@ fn r(n: i64, d: i64) -> Ratio {
     Ratio::new(BigInt::from(n), BigInt::from(d))
 }
 
-fn at(text: &str, needle: &str) -> Span {
-    let start = text
-        .find(needle)
-        .unwrap_or_else(|| panic!("{needle:?} not in text"));
-    Span::new(start, start + needle.len())
+/// The text of a one-file fixture and the `N` spans it marks `[[…]]`.
+#[track_caller]
+fn marked<const N: usize>(fixture: &str) -> (String, [Span; N]) {
+    let f = Fixture::parse(fixture);
+    let file = f.root();
+    let spans: Vec<Span> = file
+        .ranges
+        .iter()
+        .map(|r| Span::new(r.start, r.end))
+        .collect();
+    let n = spans.len();
+    let spans = spans
+        .try_into()
+        .unwrap_or_else(|_| panic!("the fixture marks {n} ranges, not {N}"));
+    (file.text.clone(), spans)
 }
 
-/// Applies the edits of one file, last first.
+/// `text` with the edits of `file` applied.
 fn apply(text: &str, file: FileId, edits: &[TextEdit]) -> String {
-    let mut out = text.to_string();
-    let mut mine: Vec<&TextEdit> = edits.iter().filter(|e| e.file == file).collect();
-    mine.sort_by_key(|e| std::cmp::Reverse(e.span.start));
-    for e in mine {
-        out.replace_range(e.span.range(), &e.new_text);
-    }
-    out
+    let mine = edits.iter().filter(|e| e.file == file);
+    apply_edits(text, mine.map(|e| (e.span.range(), e.new_text.as_str())))
 }
 
 fn comments(text: &str) -> Vec<&str> {
@@ -66,16 +75,19 @@ fn probabilities(a: &Analysis, name: &str) -> Vec<Ratio> {
 
 #[test]
 fn renormalizing_thirds_written_as_decimals_gives_exact_fractions_and_keeps_comments() {
-    let text = "start Wahl\n\
-                # Auswahl am Automaten\n\
-                Wahl {   # drei gleich\n\
-                \x20 0.33  \"Hin\"     # eins\n\
-                \x20 0.33  \"Zurück\"  # zwei\n\
-                \x20 0.33  \"Tag\"\n\
-                }\n";
+    let (text, [wahl]) = marked(
+        "start Wahl\n\
+         # Auswahl am Automaten\n\
+         [[Wahl {]]   # drei gleich\n\
+         \x20 0.33  \"Hin\"     # eins\n\
+         \x20 0.33  \"Zurück\"  # zwei\n\
+         \x20 0.33  \"Tag\"\n\
+         }\n",
+    );
+    let text = text.as_str();
     let a = analyze_text(text);
     assert_eq!(codes(&a), vec![Code::SumNotOne]);
-    let fix = action(&a, M, at(text, "Wahl {"), "Renormalize");
+    let fix = action(&a, M, wahl, "Renormalize");
     assert_eq!(fix.kind, CodeActionKind::QuickFix);
     assert_eq!(fix.diagnostic_code, Some(Code::SumNotOne));
     assert_eq!(fix.title, "Renormalize `Wahl` so its weights sum to 1");
@@ -99,9 +111,11 @@ fn renormalizing_thirds_written_as_decimals_gives_exact_fractions_and_keeps_comm
 
 #[test]
 fn renormalizing_keeps_decimal_style_when_the_results_are_short_decimals() {
-    let text = "start S\nS { 0.2 \"a\" | 0.2 \"b\" | 0.1 \"c\" }  # halbe Masse\n";
+    let (text, [block]) =
+        marked("start S\n[[S {]] 0.2 \"a\" | 0.2 \"b\" | 0.1 \"c\" }  # halbe Masse\n");
+    let text = text.as_str();
     let a = analyze_text(text);
-    let fix = action(&a, M, at(text, "S {"), "Renormalize");
+    let fix = action(&a, M, block, "Renormalize");
     let fixed = apply(text, M, &fix.edits);
     assert_eq!(
         fixed,
@@ -114,9 +128,10 @@ fn renormalizing_keeps_decimal_style_when_the_results_are_short_decimals() {
 
 #[test]
 fn renormalizing_a_percent_block_writes_percentages() {
-    let text = "start S\nS {\n  30%  \"a\"\n  30%  \"b\"\n  20%  \"c\"\n}\n";
+    let (text, [block]) = marked("start S\n[[S {]]\n  30%  \"a\"\n  30%  \"b\"\n  20%  \"c\"\n}\n");
+    let text = text.as_str();
     let a = analyze_text(text);
-    let fix = action(&a, M, at(text, "S {"), "Renormalize");
+    let fix = action(&a, M, block, "Renormalize");
     let fixed = apply(text, M, &fix.edits);
     assert_eq!(
         fixed,
@@ -129,9 +144,11 @@ fn renormalizing_a_percent_block_writes_percentages() {
 fn renormalizing_a_block_with_fractions_writes_fractions_and_only_changed_weights() {
     // 1/2 + 1/4 + 1/2 = 5/4; divided: 2/5, 1/5, 2/5 (0.4 would be shorter,
     // but the block is written in fractions).
-    let text = "start S\nS {\n  1/2 \"a\"\n  1/4 \"b\"\n  1/2 \"c\"\n  0 \"d\"\n}\n";
+    let (text, [block]) =
+        marked("start S\n[[S {]]\n  1/2 \"a\"\n  1/4 \"b\"\n  1/2 \"c\"\n  0 \"d\"\n}\n");
+    let text = text.as_str();
     let a = analyze_text(text);
-    let fix = action(&a, M, at(text, "S {"), "Renormalize");
+    let fix = action(&a, M, block, "Renormalize");
     // The zero weight stays 0 and is not rewritten.
     assert_eq!(fix.edits.len(), 3);
     let fixed = apply(text, M, &fix.edits);
@@ -145,9 +162,13 @@ fn renormalizing_a_block_with_fractions_writes_fractions_and_only_changed_weight
 
 #[test]
 fn marking_a_block_relative_inserts_the_keyword_after_its_name() {
-    let text = "start Zahl\nZahl { 6 \"eins\" | 3 \"zwei\" | 1 \"drei\" }\n";
+    // Asked on `Zahl {`; `relative` is expected right after the name.
+    let f = Fixture::parse("start Zahl\n$0Zahl[[]] {$0 6 \"eins\" | 3 \"zwei\" | 1 \"drei\" }\n");
+    let text = f.root().text.as_str();
+    let head = f.cursor_range();
+    let after_name = f.root().ranges[0].start;
     let a = analyze_text(text);
-    let fix = action(&a, M, at(text, "Zahl {"), "Mark");
+    let fix = action(&a, M, Span::new(head.start, head.end), "Mark");
     assert_eq!(
         fix.title,
         "Mark `Zahl` relative (divide its weights by their sum)"
@@ -156,7 +177,7 @@ fn marking_a_block_relative_inserts_the_keyword_after_its_name() {
         fix.edits,
         vec![TextEdit {
             file: M,
-            span: Span::point(15),
+            span: Span::point(after_name),
             new_text: " relative".into()
         }]
     );
@@ -169,10 +190,11 @@ fn marking_a_block_relative_inserts_the_keyword_after_its_name() {
 
 #[test]
 fn defining_a_missing_symbol_inserts_a_stub_block_after_the_user() {
-    let text = "start Satz\n\nSatz {\n    Gruß \"Welt\"   # Gruß fehlt\n}\n\ntest \"t\" { accept \"hallo Welt\" }\n";
+    let (text, [gruss]) = marked("start Satz\n\nSatz {\n    [[Gruß]] \"Welt\"   # Gruß fehlt\n}\n\ntest \"t\" { accept \"hallo Welt\" }\n");
+    let text = text.as_str();
     let a = analyze_text(text);
     assert_eq!(codes(&a), vec![Code::Unproductive, Code::Undefined]);
-    let fix = action(&a, M, at(text, "Gruß"), "Define");
+    let fix = action(&a, M, gruss, "Define");
     assert_eq!(fix.title, "Define `Gruß` with a stub block");
     let fixed = apply(text, M, &fix.edits);
     assert_eq!(
@@ -191,9 +213,10 @@ fn defining_a_missing_symbol_inserts_a_stub_block_after_the_user() {
 
 #[test]
 fn a_stub_for_a_block_on_the_last_line_without_newline_starts_on_its_own_line() {
-    let text = "start S\nS { A }";
+    let (text, [use_of_a]) = marked("start S\nS { [[A]] }");
+    let text = text.as_str();
     let a = analyze_text(text);
-    let fix = action(&a, M, at(text, "A"), "Define");
+    let fix = action(&a, M, use_of_a, "Define");
     let fixed = apply(text, M, &fix.edits);
     assert_eq!(
         fixed,
@@ -204,34 +227,57 @@ fn a_stub_for_a_block_on_the_last_line_without_newline_starts_on_its_own_line() 
 
 #[test]
 fn removing_an_unreachable_block_deletes_its_lines_doc_and_one_blank_line() {
-    let main = "start Anfrage\nuse \"lexikon.trellis\"\nAnfrage { Ort }\n";
-    let lexikon = "# Orte\nOrt { \"Hafen\" }\n\n## Nie benutzt.\n## Zweite Zeile.\nInsel {  # alt\n  \"Möwe\"\n}  # Ende\n\n# Wetter\nWetter { \"Regen\" }\n";
+    let f = Fixture::parse(
+        r#"
+        === main.trellis ===
+        start Anfrage
+        use "lexikon.trellis"
+        Anfrage { Ort }
+        === lexikon.trellis ===
+        # Orte
+        [[Ort {]] "Hafen" }
+
+        ## Nie benutzt.
+        ## Zweite Zeile.
+        [[Insel]] {  # alt
+          "Möwe"
+        }  # Ende
+
+        # Wetter
+        Wetter { "Regen" }
+        "#,
+    );
+    let lexikon = f.file("lexikon.trellis");
+    let [ort, insel] = [0, 1].map(|i| Span::new(lexikon.ranges[i].start, lexikon.ranges[i].end));
+    let lexikon = lexikon.text.as_str();
+    // The lexikon with another text, the main file as it is.
     let analyse = |lex: &str| {
-        analyze(
-            Path::new("main.trellis"),
-            main,
-            &MemoryLoader::new().with("lexikon.trellis", lex),
-            &Config::default(),
+        let main = f.file("main.trellis");
+        ide::analyze(
+            &main.path,
+            &main.text,
+            &grammar_lang::MemoryLoader::new().with("lexikon.trellis", lex),
+            &grammar_lang::Config::default(),
         )
     };
     let a = analyse(lexikon);
     assert_eq!(codes(&a), vec![Code::Unreachable, Code::Unreachable]);
     let lex = FileId(1);
     // Nothing is offered where there is no diagnostic.
-    assert!(ide::code_actions(&a, lex, at(lexikon, "Ort {")).is_empty());
-    let fix = action(&a, lex, at(lexikon, "Insel"), "Remove");
+    assert!(ide::code_actions(&a, lex, ort).is_empty());
+    let fix = action(&a, lex, insel, "Remove");
     assert_eq!(fix.title, "Remove the unreachable block `Insel`");
     assert_eq!(fix.diagnostic_code, Some(Code::Unreachable));
     let fixed = apply(lexikon, lex, &fix.edits);
-    assert_eq!(
-        fixed,
-        "# Orte\nOrt { \"Hafen\" }\n\n# Wetter\nWetter { \"Regen\" }\n"
-    );
+    // Expected, with the block the next request is made on marked.
+    let (expected, [wetter]) =
+        marked("# Orte\nOrt { \"Hafen\" }\n\n# Wetter\n[[Wetter {]] \"Regen\" }\n");
+    assert_eq!(fixed, expected);
     let b = analyse(&fixed);
     assert_eq!(codes(&b), vec![Code::Unreachable]);
     assert!(b.grammar.nt("Insel").is_none());
     // A plain comment above a block is not its documentation: it stays.
-    let fix = action(&b, lex, at(&fixed, "Wetter {"), "Remove");
+    let fix = action(&b, lex, wetter, "Remove");
     assert_eq!(
         apply(&fixed, lex, &fix.edits),
         "# Orte\nOrt { \"Hafen\" }\n\n# Wetter\n"
@@ -240,17 +286,19 @@ fn removing_an_unreachable_block_deletes_its_lines_doc_and_one_blank_line() {
 
 #[test]
 fn removing_the_last_block_of_a_file_takes_the_blank_line_before_it() {
-    let text = "start S\nS { \"a\" }\n\n## Rest\nT { \"b\" }\n";
+    let (text, [block]) = marked("start S\nS { \"a\" }\n\n## Rest\n[[T {]] \"b\" }\n");
+    let text = text.as_str();
     let a = analyze_text(text);
-    let fix = action(&a, M, at(text, "T {"), "Remove");
+    let fix = action(&a, M, block, "Remove");
     assert_eq!(apply(text, M, &fix.edits), "start S\nS { \"a\" }\n");
 }
 
 #[test]
 fn no_renormalization_is_offered_when_every_weight_is_zero() {
-    let text = "start S\nS { 0 \"a\" | 0 \"b\" }\n";
+    let (text, [block]) = marked("start S\n[[S {]] 0 \"a\" | 0 \"b\" }\n");
+    let text = text.as_str();
     let a = analyze_text(text);
-    let titles: Vec<String> = ide::code_actions(&a, M, at(text, "S {"))
+    let titles: Vec<String> = ide::code_actions(&a, M, block)
         .into_iter()
         .map(|c| c.title)
         .collect();
@@ -262,12 +310,13 @@ fn no_renormalization_is_offered_when_every_weight_is_zero() {
 
 #[test]
 fn writing_out_a_relative_block_gives_plain_probabilities_and_the_same_model() {
-    let text = "start Zahl\nZahl relative {  # gewichtet\n  6  \"eins\"\n  3  \"zwei\"\n     \"drei\"  # zählt als 1\n}\n";
+    let (text, [relative, eins]) = marked("start Zahl\nZahl [[relative]] {  # gewichtet\n  6  [[\"eins\"]]\n  3  \"zwei\"\n     \"drei\"  # zählt als 1\n}\n");
+    let text = text.as_str();
     let a = analyze_text(text);
     assert!(a.diagnostics.is_empty());
     // Offered on the block's head only.
-    assert!(ide::code_actions(&a, M, at(text, "\"eins\"")).is_empty());
-    let fix = action(&a, M, at(text, "relative"), "Write out");
+    assert!(ide::code_actions(&a, M, eins).is_empty());
+    let fix = action(&a, M, relative, "Write out");
     assert_eq!(fix.kind, CodeActionKind::Refactor);
     assert_eq!(fix.diagnostic_code, None);
     assert_eq!(
@@ -285,9 +334,10 @@ fn writing_out_a_relative_block_gives_plain_probabilities_and_the_same_model() {
     assert!(b.diagnostics.is_empty(), "{:#?}", b.diagnostics);
     assert_eq!(probabilities(&b, "Zahl"), probabilities(&a, "Zahl"));
     // Thirds have no decimal: fractions.
-    let text = "start S\nS relative { \"a\" | \"b\" | \"c\" }\n";
+    let (text, [head]) = marked("start S\n[[S relative]] { \"a\" | \"b\" | \"c\" }\n");
+    let text = text.as_str();
     let a = analyze_text(text);
-    let fix = action(&a, M, at(text, "S relative"), "Write out");
+    let fix = action(&a, M, head, "Write out");
     assert_eq!(
         apply(text, M, &fix.edits),
         "start S\nS { 1/3 \"a\" | 1/3 \"b\" | 1/3 \"c\" }\n"
@@ -296,10 +346,11 @@ fn writing_out_a_relative_block_gives_plain_probabilities_and_the_same_model() {
 
 #[test]
 fn an_unknown_start_symbol_gets_a_stub_block_after_the_start_line() {
-    let text = "start Anfang\n# Rest folgt\nS { \"s\" }\n";
+    let (text, [start]) = marked("start [[Anfang]]\n# Rest folgt\nS { \"s\" }\n");
+    let text = text.as_str();
     let a = analyze_text(text);
     assert!(codes(&a).contains(&Code::UnknownStart));
-    let fix = action(&a, M, at(text, "Anfang"), "Define");
+    let fix = action(&a, M, start, "Define");
     assert_eq!(fix.diagnostic_code, Some(Code::UnknownStart));
     let fixed = apply(text, M, &fix.edits);
     assert_eq!(

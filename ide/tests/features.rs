@@ -1,197 +1,408 @@
 //! Editor services, specified by example on a small two-file grammar with
 //! non-ASCII names: what is found where, what hover says, where navigation
 //! leads and what rename changes.
+//!
+//! Every test states its grammar as a fixture (`trellis_test_support`):
+//! `$0` is the cursor, `[[…]]` marks an expected span (or, empty, another
+//! place a request is made at). Marked ranges are named by destructuring
+//! them in the order they are written.
 
 use grammar_lang::source::FileId;
 use grammar_lang::syntax::lexer::TokenKind;
-use grammar_lang::{analyze, Analysis, Config, Location, MemoryLoader, Span};
+use grammar_lang::{Config, Location, Span};
 use std::path::Path;
-use trellis_ide::{self as ide, EngineFacts, IdeIndex, Lookup, NtRole, RenameError, TextEdit};
+use trellis_ide::{self as ide, Analysis, EngineFacts, Lookup, NtRole, RenameError, TextEdit};
+use trellis_test_support::{apply_edits, assert_diagnostics, Fixture};
 
-const MAIN: &str = r#"grammar fähre
-start Anfrage
-use "lexikon.trellis"
-
-## Was ein Fahrgast am Automaten sagt.
-Anfrage {
-  0.55  Wunsch Fahrkarte
-  0.30  Fahrkarte Bitte      # höflich
-  15%   Fahrkarte
+/// Analyses a fixture through the façade, its first file as the root.
+fn analyse(fixture: &str) -> (Fixture, Analysis) {
+    let f = Fixture::parse(fixture);
+    let root = f.root();
+    let a = ide::analyze(&root.path, &root.text, &f.loader(), &Config::default());
+    (f, a)
 }
 
-Fahrkarte {
-  1/2   Anzahl Art "Fahrkarte"
-  1/2   Art "Fahrkarte"
+/// [`analyse`] for a fixture that must analyse without any finding.
+fn analyse_clean(fixture: &str) -> (Fixture, Analysis) {
+    let (f, a) = analyse(fixture);
+    assert_diagnostics(&f, &a);
+    (f, a)
 }
 
-Wunsch { "ich"  "möchte" }
-
-test "Bestellungen" {
-  accept "eine Rückfahrt Fahrkarte bitte"
-  accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-}
-"#;
-
-const LEXIKON: &str = r#"## Die Art der Fahrkarte.
-Art {
-  "Rückfahrt" | "Einzel" | "Tages"
+/// The id the analysis gave the fixture file `path`.
+fn id(a: &Analysis, path: &str) -> FileId {
+    a.sources
+        .find(Path::new(path))
+        .unwrap_or_else(|| panic!("{path} was not loaded"))
 }
 
-Anzahl relative {
-  6   "eine"
-  3   "zwei"
-  1   "drei"
+/// The file and offset of the fixture's `$0`.
+fn cursor(f: &Fixture, a: &Analysis) -> (FileId, usize) {
+    (
+        id(a, f.cursor_file().path.to_str().unwrap()),
+        f.cursor_offset(),
+    )
 }
 
-Bitte { "bitte" }
-"#;
-
-const M: FileId = FileId(0);
-const L: FileId = FileId(1);
-
-fn analysis() -> Analysis {
-    let a = analyze(
-        Path::new("main.trellis"),
-        MAIN,
-        &MemoryLoader::new().with("lexikon.trellis", LEXIKON),
-        &Config::default(),
-    );
-    assert!(a.diagnostics.is_empty(), "{:#?}", a.diagnostics);
-    a
+/// The `N` ranges marked `[[…]]` in file `path`, as spans.
+#[track_caller]
+fn spans<const N: usize>(f: &Fixture, path: &str) -> [Span; N] {
+    let ranges = &f.file(path).ranges;
+    let spans: Vec<Span> = ranges.iter().map(|r| Span::new(r.start, r.end)).collect();
+    spans
+        .try_into()
+        .unwrap_or_else(|s: Vec<Span>| panic!("{path} marks {} ranges, not {N}", s.len()))
 }
 
-/// The span of the `nth` (0-based) occurrence of `needle` in `text`.
-fn at(text: &str, needle: &str, nth: usize) -> Span {
-    let start = text
-        .match_indices(needle)
-        .nth(nth)
-        .unwrap_or_else(|| panic!("{needle:?} #{nth} not in text"))
-        .0;
-    Span::new(start, start + needle.len())
+/// The starts of the `N` ranges marked in file `path` (`[[]]` marks a place).
+#[track_caller]
+fn places<const N: usize>(f: &Fixture, path: &str) -> [usize; N] {
+    spans::<N>(f, path).map(|s| s.start as usize)
 }
 
-/// An offset `delta` bytes into the `nth` occurrence of `needle`.
-fn inside(text: &str, needle: &str, nth: usize, delta: usize) -> usize {
-    at(text, needle, nth).start as usize + delta
+/// Every offset from the start of `span` to its end (both included) that
+/// is a character boundary of `text`.
+fn offsets(text: &str, span: Span) -> impl Iterator<Item = usize> + '_ {
+    (span.start as usize..=span.end as usize).filter(|&o| text.is_char_boundary(o))
+}
+
+/// The texts of the analysis with `edits` applied, by file.
+fn apply(a: &Analysis, edits: &[TextEdit]) -> Vec<String> {
+    a.sources
+        .iter()
+        .map(|(file, source)| {
+            let mine = edits.iter().filter(|e| e.file == file);
+            apply_edits(
+                &source.text,
+                mine.map(|e| (e.span.range(), e.new_text.as_str())),
+            )
+        })
+        .collect()
 }
 
 // ── lookup ──────────────────────────────────────────────────────────────
 
 #[test]
-fn lookup_names_the_role_of_every_non_terminal_occurrence() {
-    let a = analysis();
+fn lookup_names_the_role_of_every_non_terminal_occurrence_wherever_the_cursor_touches_it() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start [[Anfrage]]
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        [[Anfrage]] {
+          0.55  Wunsch [[Fahrkarte]]
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte ([[Art]] "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        [[Art]] {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
     let g = &a.grammar;
-    let anfrage = g.nt("Anfrage").unwrap();
-    let fahrkarte = g.nt("Fahrkarte").unwrap();
-    let art = g.nt("Art").unwrap();
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "Anfrage", 0, 3)),
-        Some(Lookup::NonTerminal {
-            nt: anfrage,
-            role: NtRole::Start,
-            span: at(MAIN, "Anfrage", 0)
-        })
+    let (anfrage, fahrkarte, art) = (
+        g.nt("Anfrage").unwrap(),
+        g.nt("Fahrkarte").unwrap(),
+        g.nt("Art").unwrap(),
     );
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "Anfrage {", 0, 0)),
-        Some(Lookup::NonTerminal {
-            nt: anfrage,
-            role: NtRole::Definition,
-            span: at(MAIN, "Anfrage", 1)
-        })
-    );
-    // `Fahrkarte` in `0.55  Wunsch Fahrkarte` is the first rule's second item.
-    let first_rule = g.nonterminal(anfrage).rules[0];
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "Fahrkarte", 0, 9)),
-        Some(Lookup::NonTerminal {
-            nt: fahrkarte,
-            role: NtRole::Use {
-                rule: Some(first_rule)
+    let [start, definition, use_in_first_rule, test_label] = spans(&f, "main.trellis");
+    let [definition_in_lexikon] = spans(&f, "lexikon.trellis");
+    let expected = [
+        (m, start, anfrage, NtRole::Start),
+        (m, definition, anfrage, NtRole::Definition),
+        // `0.55  Wunsch Fahrkarte` is the first rule of `Anfrage`.
+        (
+            m,
+            use_in_first_rule,
+            fahrkarte,
+            NtRole::Use {
+                rule: Some(g.nonterminal(anfrage).rules[0]),
             },
-            span: at(MAIN, "Fahrkarte", 0)
-        }),
-        "a cursor right after a name finds the name"
+        ),
+        (m, test_label, art, NtRole::TestLabel),
+        (l, definition_in_lexikon, art, NtRole::Definition),
+    ];
+    for (file, span, nt, role) in expected {
+        // From the name's first character to right after its last.
+        for offset in offsets(&a.sources.get(file).text, span) {
+            assert_eq!(
+                a.lookup(file, offset),
+                Some(Lookup::NonTerminal { nt, role, span }),
+                "at {offset} in {span:?}"
+            );
+        }
+    }
+}
+
+#[test]
+fn lookup_finds_terminals_weights_keywords_and_use_paths() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use [["lexikon.trellis"]]
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          [[15%]]   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          [["Rückfahrt"]] | "Einzel" | "Tages"
+        }
+
+        Anzahl [[relative]] {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
     );
-    // The label `Art` inside the expected tree of the test.
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "(Art", 0, 1)),
-        Some(Lookup::NonTerminal {
-            nt: art,
-            role: NtRole::TestLabel,
-            span: at(MAIN, "Art", 2)
-        })
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let g = &a.grammar;
+    let [use_path, weight] = spans(&f, "main.trellis");
+    let [rueckfahrt, relative] = spans(&f, "lexikon.trellis");
+    let expected = [
+        (
+            l,
+            rueckfahrt,
+            Lookup::Terminal {
+                term: Some(g.term("Rückfahrt").unwrap()),
+                value: "Rückfahrt".into(),
+                span: rueckfahrt,
+            },
+        ),
+        (
+            m,
+            weight,
+            Lookup::Weight {
+                rule: g.nonterminal(g.nt("Anfrage").unwrap()).rules[2],
+                span: weight,
+            },
+        ),
+        (
+            l,
+            relative,
+            Lookup::Keyword {
+                keyword: TokenKind::KwRelative,
+                span: relative,
+            },
+        ),
+        (
+            m,
+            use_path,
+            Lookup::UsePath {
+                target: Some(l),
+                span: use_path,
+            },
+        ),
+    ];
+    for (file, span, found) in expected {
+        for offset in offsets(&a.sources.get(file).text, span) {
+            assert_eq!(a.lookup(file, offset), Some(found.clone()), "at {offset}");
+        }
+    }
+}
+
+#[test]
+fn lookup_between_a_weight_and_the_first_item_finds_the_whole_alternative() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          [[0.30 $0 Fahrkarte Bitte]]      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
     );
-    // In the used file, `Art` is defined.
+    let (file, offset) = cursor(&f, &a);
+    let [alternative] = spans(&f, "main.trellis");
+    let anfrage = a.grammar.nt("Anfrage").unwrap();
     assert_eq!(
-        ide::lookup(&a, L, inside(LEXIKON, "Art {", 0, 1)),
-        Some(Lookup::NonTerminal {
-            nt: art,
-            role: NtRole::Definition,
-            span: at(LEXIKON, "Art", 1)
+        a.lookup(file, offset),
+        Some(Lookup::Alternative {
+            rule: a.grammar.nonterminal(anfrage).rules[1],
+            span: alternative
         })
     );
 }
 
 #[test]
-fn lookup_finds_terminals_weights_alternatives_and_keywords() {
-    let a = analysis();
-    let g = &a.grammar;
-    let rueck = g.term("Rückfahrt").unwrap();
-    assert_eq!(
-        ide::lookup(&a, L, inside(LEXIKON, "\"Rückfahrt\"", 0, 3)),
-        Some(Lookup::Terminal {
-            term: Some(rueck),
-            value: "Rückfahrt".into(),
-            span: at(LEXIKON, "\"Rückfahrt\"", 0)
-        })
+fn lookup_finds_nothing_on_comments_blank_lines_past_the_end_or_in_unknown_files() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+        [[]]
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      [[# höflich]]
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
     );
-    let anfrage = g.nt("Anfrage").unwrap();
-    let rules = &g.nonterminal(anfrage).rules;
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "15%", 0, 1)),
-        Some(Lookup::Weight {
-            rule: rules[2],
-            span: at(MAIN, "15%", 0)
-        })
-    );
-    // Between the weight and the first item: the whole alternative.
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "0.30  Fahrkarte", 0, 5)),
-        Some(Lookup::Alternative {
-            rule: rules[1],
-            span: at(MAIN, "0.30  Fahrkarte Bitte", 0)
-        })
-    );
-    assert_eq!(
-        ide::lookup(&a, L, inside(LEXIKON, "relative", 0, 2)),
-        Some(Lookup::Keyword {
-            keyword: TokenKind::KwRelative,
-            span: at(LEXIKON, "relative", 0)
-        })
-    );
-    assert_eq!(
-        ide::lookup(&a, M, inside(MAIN, "lexikon", 0, 0)),
-        Some(Lookup::UsePath {
-            target: Some(L),
-            span: at(MAIN, "\"lexikon.trellis\"", 0)
-        })
-    );
-    // Comments, blank lines and braces are nothing.
-    assert_eq!(ide::lookup(&a, M, inside(MAIN, "höflich", 0, 2)), None);
-    assert_eq!(ide::lookup(&a, M, inside(MAIN, "\n\n", 0, 1)), None);
-    assert_eq!(ide::lookup(&a, M, MAIN.len() + 100), None);
-    assert_eq!(ide::lookup(&a, FileId(7), 0), None);
+    let m = id(&a, "main.trellis");
+    let main = &f.file("main.trellis").text;
+    let [blank_line, comment] = spans(&f, "main.trellis");
+    for span in [blank_line, comment] {
+        for offset in offsets(main, span) {
+            assert_eq!(a.lookup(m, offset), None, "at {offset}");
+        }
+    }
+    assert_eq!(a.lookup(m, main.len() + 100), None);
+    assert_eq!(a.lookup(FileId(7), 0), None);
 }
 
 // ── hover ───────────────────────────────────────────────────────────────
 
 #[test]
 fn hover_on_a_weight_gives_the_rule_exact_probability_share_and_total() {
-    let a = analysis();
-    let index = IdeIndex::new(&a);
-    let h = ide::hover(&a, &index, M, inside(MAIN, "0.55", 0, 2), None).unwrap();
-    assert_eq!(h.span, at(MAIN, "0.55", 0));
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          [[0.$055]]  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    assert_eq!(h.span, spans::<1>(&f, "main.trellis")[0]);
     assert_eq!(
         h.markdown,
         "**rule** `Anfrage → Wunsch Fahrkarte`\n\
@@ -205,8 +416,48 @@ fn hover_on_a_weight_gives_the_rule_exact_probability_share_and_total() {
 
 #[test]
 fn hover_on_a_relative_alternative_shows_the_division_and_expected_uses() {
-    let a = analysis();
-    let index = IdeIndex::new(&a);
+    // The cursor on the space between weight and word: anywhere on the
+    // alternative.
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          [[3 $0  "zwei"]]
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
     let zwei = a.grammar.nonterminal(a.grammar.nt("Anzahl").unwrap()).rules[1];
     let mut uses = vec![0.0; a.grammar.rules.len()];
     uses[zwei.index()] = 0.0825;
@@ -214,16 +465,9 @@ fn hover_on_a_relative_alternative_shows_the_division_and_expected_uses() {
         rule_expected_uses: uses,
         ..EngineFacts::default()
     };
-    // Hovering the space between weight and word: anywhere on the alternative.
-    let h = ide::hover(
-        &a,
-        &index,
-        L,
-        inside(LEXIKON, "3   \"zwei\"", 0, 2),
-        Some(&facts),
-    )
-    .unwrap();
-    assert_eq!(h.span, at(LEXIKON, "3   \"zwei\"", 0));
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, Some(&facts)).unwrap();
+    assert_eq!(h.span, spans::<1>(&f, "lexikon.trellis")[0]);
     assert_eq!(
         h.markdown,
         "**rule** `Anzahl → \"zwei\"`\n\
@@ -239,17 +483,49 @@ fn hover_on_a_relative_alternative_shows_the_division_and_expected_uses() {
 
 #[test]
 fn hover_on_an_unweighted_alternative_explains_the_shared_remainder() {
-    let a = analysis();
-    let index = IdeIndex::new(&a);
     // `Wunsch { "ich"  "möchte" }`: one unweighted alternative gets everything.
-    let h = ide::hover(
-        &a,
-        &index,
-        M,
-        inside(MAIN, "\"ich\"  \"möchte\"", 0, 6),
-        None,
-    )
-    .unwrap();
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich" $0 "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
     assert!(
         h.markdown.contains(
             "- unweighted: shares what the weighted alternatives leave\n- probability: 1\n"
@@ -261,8 +537,47 @@ fn hover_on_an_unweighted_alternative_explains_the_shared_remainder() {
 
 #[test]
 fn hover_on_a_non_terminal_shows_doc_rules_reachability_and_termination() {
-    let a = analysis();
-    let index = IdeIndex::new(&a);
+    // On a use in the main file; the documentation comes from the lexicon.
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl [[A$0rt]] "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
     let art = a.grammar.nt("Art").unwrap();
     let facts = EngineFacts {
         termination: (0..a.grammar.nonterminals.len())
@@ -270,16 +585,9 @@ fn hover_on_a_non_terminal_shows_doc_rules_reachability_and_termination() {
             .collect(),
         rule_expected_uses: Vec::new(),
     };
-    // On a use in the main file; the documentation comes from the lexicon.
-    let h = ide::hover(
-        &a,
-        &index,
-        M,
-        inside(MAIN, "Art \"Fahrkarte\"", 0, 1),
-        Some(&facts),
-    )
-    .unwrap();
-    assert_eq!(h.span, at(MAIN, "Art", 0));
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, Some(&facts)).unwrap();
+    assert_eq!(h.span, spans::<1>(&f, "main.trellis")[0]);
     assert_eq!(
         h.markdown,
         "**non-terminal** `Art`\n\
@@ -292,8 +600,52 @@ fn hover_on_a_non_terminal_shows_doc_rules_reachability_and_termination() {
          - used 2 times on right-hand sides\n\
          - termination probability: 1\n"
     );
-    // Without engine facts the hover still answers, without that line.
-    let h = ide::hover(&a, &index, M, inside(MAIN, "Anfrage {", 0, 0), None).unwrap();
+}
+
+#[test]
+fn hover_without_engine_facts_still_answers_without_the_termination_line() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        $0Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
     assert_eq!(
         h.markdown,
         "**start symbol** `Anfrage`\n\
@@ -308,30 +660,70 @@ fn hover_on_a_non_terminal_shows_doc_rules_reachability_and_termination() {
 
 #[test]
 fn hover_reports_unreachable_unproductive_and_undefined_symbols() {
-    let text = "start S\nS { \"a\" | Loop }\nLoop { Loop \"b\" }\nIsland { \"c\" | Nirgends }\n";
-    let a = grammar_lang::analyze_text(text);
-    let index = IdeIndex::new(&a);
-    let h = ide::hover(&a, &index, M, inside(text, "Island", 0, 0), None).unwrap();
-    assert!(h
-        .markdown
-        .contains("- **not reachable** from the start symbol `S`\n"));
-    let h = ide::hover(&a, &index, M, inside(text, "Loop {", 0, 0), None).unwrap();
-    assert!(h
-        .markdown
-        .contains("- **unproductive**: derives no string of words\n"));
-    let h = ide::hover(&a, &index, M, inside(text, "Nirgends", 0, 0), None).unwrap();
+    let (f, a) = analyse(
+        r#"
+        start S
+        S { "a" | Loop }
+        [[]]Loop { Loop "b" }
+        [[]]Island { "c" | [[]]Nirgends }
+        "#,
+    );
+    let m = id(&a, "grammar.trellis");
+    let [unproductive, unreachable, undefined] = places(&f, "grammar.trellis");
+    let hover = |offset| ide::hover(&a, a.index(), m, offset, None).unwrap().markdown;
+    assert!(hover(unreachable).contains("- **not reachable** from the start symbol `S`\n"));
+    assert!(hover(unproductive).contains("- **unproductive**: derives no string of words\n"));
     assert_eq!(
-        h.markdown,
+        hover(undefined),
         "**non-terminal** `Nirgends`\n\nused once but has **no block**: it derives nothing\n"
     );
 }
 
 #[test]
 fn hover_on_a_terminal_tables_the_rules_that_produce_it() {
-    let a = analysis();
-    let index = IdeIndex::new(&a);
-    let h = ide::hover(&a, &index, M, inside(MAIN, "\"Fahrkarte\"", 1, 1), None).unwrap();
-    assert_eq!(h.span, at(MAIN, "\"Fahrkarte\"", 1));
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art [["$0Fahrkarte"]]
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    assert_eq!(h.span, spans::<1>(&f, "main.trellis")[0]);
     assert_eq!(
         h.markdown,
         "**terminal** `\"Fahrkarte\"`\n\
@@ -343,11 +735,19 @@ fn hover_on_a_terminal_tables_the_rules_that_produce_it() {
          | `Fahrkarte` | `Fahrkarte → Anzahl Art \"Fahrkarte\"` | 1/2 = 0.5 |\n\
          | `Fahrkarte` | `Fahrkarte → Art \"Fahrkarte\"` | 1/2 = 0.5 |\n"
     );
-    // A word of a test tree that no rule has.
-    let text = "start S\nS { \"a\" }\ntest \"t\" { accept \"a\" as (S \"zz\") }\n";
-    let a = grammar_lang::analyze_text(text);
-    let index = IdeIndex::new(&a);
-    let h = ide::hover(&a, &index, M, inside(text, "\"zz\"", 0, 1), None).unwrap();
+}
+
+#[test]
+fn hover_on_a_test_tree_word_that_no_rule_has_says_so() {
+    let (f, a) = analyse(
+        r#"
+        start S
+        S { "a" }
+        test "t" { accept "a" as (S "$0zz") }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
     assert_eq!(
         h.markdown,
         "**terminal** `\"zz\"`\n\nno rule produces this word\n"
@@ -356,105 +756,341 @@ fn hover_on_a_terminal_tables_the_rules_that_produce_it() {
 
 #[test]
 fn hover_explains_keywords_and_nothing_on_comments() {
-    let a = analysis();
-    let index = IdeIndex::new(&a);
-    let h = ide::hover(&a, &index, L, inside(LEXIKON, "relative", 0, 0), None).unwrap();
-    assert!(h.markdown.starts_with("`relative`:"), "{}", h.markdown);
-    assert_eq!(
-        ide::hover(&a, &index, M, inside(MAIN, "höflich", 0, 0), None),
-        None
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # [[]]höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl [[]]relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
     );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let [comment] = places(&f, "main.trellis");
+    let [relative] = places(&f, "lexikon.trellis");
+    let h = ide::hover(&a, a.index(), l, relative, None).unwrap();
+    assert!(h.markdown.starts_with("`relative`:"), "{}", h.markdown);
+    assert_eq!(ide::hover(&a, a.index(), m, comment, None), None);
 }
 
 // ── definition and references ───────────────────────────────────────────
 
 #[test]
 fn definition_jumps_across_used_files() {
-    let a = analysis();
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start [[]]Anfrage
+        use "le[[]]xikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        [[Anfrage]] {
+          [[]]0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   An[[]]zahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        [[]]## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        [[Anzahl]] relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    // Empty ranges are the places asked at; `Anfrage`'s definition and
+    // `Anzahl`'s are the spans expected.
+    let [start, use_path, anfrage_definition, weight, anzahl] = spans(&f, "main.trellis");
+    let [start, use_path, weight, anzahl] =
+        [start, use_path, weight, anzahl].map(|s| s.start as usize);
+    let [start_of_lexikon, anzahl_definition] = spans(&f, "lexikon.trellis");
     assert_eq!(
-        ide::definition(&a, M, inside(MAIN, "Anzahl", 0, 2)),
-        Some(Location::new(L, at(LEXIKON, "Anzahl", 0)))
+        a.definition(m, anzahl),
+        Some(Location::new(l, anzahl_definition))
     );
     assert_eq!(
-        ide::definition(&a, M, inside(MAIN, "Anfrage", 0, 0)),
-        Some(Location::new(M, at(MAIN, "Anfrage", 1)))
+        a.definition(m, start),
+        Some(Location::new(m, anfrage_definition))
     );
     // The path of a `use` leads to the start of that file.
     assert_eq!(
-        ide::definition(&a, M, inside(MAIN, "lexikon", 0, 2)),
-        Some(Location::new(L, Span::point(0)))
+        a.definition(m, use_path),
+        Some(Location::new(l, start_of_lexikon))
     );
-    assert_eq!(ide::definition(&a, M, inside(MAIN, "0.55", 0, 0)), None);
+    assert_eq!(start_of_lexikon, Span::point(0));
+    assert_eq!(a.definition(m, weight), None);
 }
 
 #[test]
-fn references_cover_rhs_uses_start_and_test_labels_in_every_file() {
-    let a = analysis();
-    let refs = ide::references(&a, L, inside(LEXIKON, "Art {", 0, 0), false);
-    assert_eq!(
-        refs,
-        vec![
-            Location::new(M, at(MAIN, "Art", 0)),
-            Location::new(M, at(MAIN, "Art", 1)),
-            Location::new(M, at(MAIN, "Art", 2)),
-        ]
+fn references_to_a_non_terminal_cover_rhs_uses_and_test_labels_in_every_file() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl [[Art]] "Fahrkarte"
+          1/2   [[Art]] "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte ([[Art]] "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        $0Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
     );
-    let refs = ide::references(&a, M, inside(MAIN, "Anfrage", 0, 0), true);
-    assert_eq!(
-        refs,
-        vec![
-            Location::new(M, at(MAIN, "Anfrage", 0)),
-            Location::new(M, at(MAIN, "Anfrage", 1)),
-            Location::new(M, at(MAIN, "Anfrage", 2)),
-        ]
+    let m = id(&a, "main.trellis");
+    let (file, offset) = cursor(&f, &a);
+    let expected: Vec<Location> = spans::<3>(&f, "main.trellis")
+        .into_iter()
+        .map(|s| Location::new(m, s))
+        .collect();
+    assert_eq!(a.references(file, offset, false), expected);
+}
+
+#[test]
+fn references_with_the_definition_include_start_and_block_head() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start [[$0Anfrage]]
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        [[Anfrage]] {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as ([[Anfrage]] (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
     );
-    // A word: every right-hand side and tree leaf with the same word.
-    let refs = ide::references(&a, L, inside(LEXIKON, "\"Tages\"", 0, 0), true);
+    let m = id(&a, "main.trellis");
+    let (file, offset) = cursor(&f, &a);
+    let expected: Vec<Location> = spans::<3>(&f, "main.trellis")
+        .into_iter()
+        .map(|s| Location::new(m, s))
+        .collect();
+    assert_eq!(a.references(file, offset, true), expected);
+}
+
+#[test]
+fn references_to_a_word_cover_every_right_hand_side_and_tree_leaf_with_it() {
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art [["Tages"]]) "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | [[$0"Tages"]]
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let (file, offset) = cursor(&f, &a);
+    let [in_tree] = spans(&f, "main.trellis");
+    let [in_lexikon] = spans(&f, "lexikon.trellis");
     assert_eq!(
-        refs,
-        vec![
-            Location::new(M, at(MAIN, "\"Tages\"", 0)),
-            Location::new(L, at(LEXIKON, "\"Tages\"", 0)),
-        ]
+        a.references(file, offset, true),
+        vec![Location::new(m, in_tree), Location::new(l, in_lexikon)]
     );
 }
 
 // ── rename ──────────────────────────────────────────────────────────────
 
-/// Applies edits to the texts of the analysis; returns the new texts by file.
-fn apply(a: &Analysis, edits: &[TextEdit]) -> Vec<String> {
-    let mut texts: Vec<String> = a.sources.iter().map(|(_, f)| f.text.clone()).collect();
-    let mut sorted = edits.to_vec();
-    sorted.sort_by_key(|e| std::cmp::Reverse((e.file, e.span.start)));
-    for e in sorted {
-        texts[e.file.0 as usize].replace_range(e.span.range(), &e.new_text);
-    }
-    texts
-}
-
 #[test]
 fn rename_changes_every_occurrence_in_every_file_including_test_trees() {
-    let a = analysis();
-    assert_eq!(
-        ide::prepare_rename(&a, M, inside(MAIN, "Art \"Fahrkarte\"", 0, 1)),
-        Ok(at(MAIN, "Art", 0))
+    // Marked: every occurrence of `Art`, the cursor on a use.
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl [[A$0rt]] "Fahrkarte"
+          1/2   [[Art]] "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte ([[Art]] "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        [[Art]] {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
     );
-    let edits = ide::rename(&a, M, inside(MAIN, "Art \"Fahrkarte\"", 0, 1), "Kartenart").unwrap();
+    let (file, offset) = cursor(&f, &a);
+    assert_eq!(
+        a.prepare_rename(file, offset),
+        Ok(spans::<3>(&f, "main.trellis")[0])
+    );
+    let edits = a.rename(file, offset, "Kartenart").unwrap();
     assert_eq!(edits.len(), 4);
-    let texts = apply(&a, &edits);
-    assert_eq!(
-        texts[0],
-        MAIN.replace("Art ", "Kartenart ")
-            .replace("(Art", "(Kartenart")
-    );
-    assert_eq!(texts[1], LEXIKON.replace("Art {", "Kartenart {"));
-    let b = analyze(
-        Path::new("main.trellis"),
-        &texts[0],
-        &MemoryLoader::new().with("lexikon.trellis", texts[1].clone()),
-        &Config::default(),
-    );
-    assert!(b.diagnostics.is_empty(), "{:#?}", b.diagnostics);
+    let renamed = |path: &str| {
+        let file = f.file(path);
+        apply_edits(
+            &file.text,
+            file.ranges.iter().map(|r| (r.clone(), "Kartenart")),
+        )
+    };
+    let (main, lexikon) = (renamed("main.trellis"), renamed("lexikon.trellis"));
+    assert_eq!(apply(&a, &edits), vec![main.clone(), lexikon.clone()]);
+    let (g, b) = analyse_clean(&format!(
+        "=== main.trellis ===\n{main}=== lexikon.trellis ===\n{lexikon}"
+    ));
+    assert_eq!(g.files.len(), 2);
     assert!(b.grammar.nt("Art").is_none());
     assert_eq!(
         b.grammar.tests[0].cases[1]
@@ -468,43 +1104,84 @@ fn rename_changes_every_occurrence_in_every_file_including_test_trees() {
 
 #[test]
 fn rename_refuses_terminals_keywords_bad_names_and_collisions() {
-    let a = analysis();
-    assert_eq!(
-        ide::prepare_rename(&a, L, inside(LEXIKON, "\"Einzel\"", 0, 1)),
-        Err(RenameError::Terminal)
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0[[]].55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl [[]]Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "[[]]Einzel" | "Tages"
+        }
+
+        Anzahl r[[]]elative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
     );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let [weight, art] = places(&f, "main.trellis");
+    let [terminal, keyword] = places(&f, "lexikon.trellis");
+    assert_eq!(a.prepare_rename(l, terminal), Err(RenameError::Terminal));
     assert_eq!(
-        ide::prepare_rename(&a, L, inside(LEXIKON, "relative", 0, 1)),
+        a.prepare_rename(l, keyword),
         Err(RenameError::Keyword("relative"))
     );
-    assert_eq!(
-        ide::prepare_rename(&a, M, inside(MAIN, "0.55", 0, 1)),
-        Err(RenameError::NotASymbol)
-    );
-    let art = inside(MAIN, "Art \"Fahrkarte\"", 0, 0);
+    assert_eq!(a.prepare_rename(m, weight), Err(RenameError::NotASymbol));
     for bad in ["use", "2Art", "Art Art", "", "\"x\""] {
         assert_eq!(
-            ide::rename(&a, M, art, bad),
+            a.rename(m, art, bad),
             Err(RenameError::InvalidName(bad.to_string()))
         );
     }
     assert_eq!(
-        ide::rename(&a, M, art, "Bitte"),
+        a.rename(m, art, "Bitte"),
         Err(RenameError::AlreadyDefined("Bitte".into()))
     );
-    assert_eq!(ide::rename(&a, M, art, "Art"), Ok(Vec::new()));
+    assert_eq!(a.rename(m, art, "Art"), Ok(Vec::new()));
 }
 
 #[test]
 fn renaming_a_misspelt_undefined_use_onto_a_defined_symbol_fixes_it() {
-    let text = "start S\nS { Wrt | Wort }\nWort { \"w\" }\n";
-    let a = grammar_lang::analyze_text(text);
-    let edits = ide::rename(&a, M, inside(text, "Wrt", 0, 0), "Wort").unwrap();
+    let (f, a) = analyse(
+        r#"
+        start S
+        S { [[$0Wrt]] | Wort }
+        Wort { "w" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let edits = a.rename(file, offset, "Wort").unwrap();
     assert_eq!(
         edits,
         vec![TextEdit {
-            file: M,
-            span: at(text, "Wrt", 0),
+            file,
+            span: spans::<1>(&f, "grammar.trellis")[0],
             new_text: "Wort".into()
         }]
     );
@@ -515,9 +1192,18 @@ fn renaming_a_misspelt_undefined_use_onto_a_defined_symbol_fixes_it() {
 #[test]
 fn semantic_tokens_classify_every_token_and_mark_definitions() {
     use trellis_ide::{TokenClass as C, TokenModifiers};
-    let text = "## Doc\nstart S # c\nS relative {\n  2 \"wört\" Ä\n}\ntest \"t\" { accept \"wört\" as (S \"wört\") }\n";
-    let a = grammar_lang::analyze_text(text);
-    let toks = ide::semantic_tokens(&a, M, None);
+    let (f, a) = analyse(
+        r#"
+        ## Doc
+        start S # c
+        S relative {
+        [[  2 "wört" Ä]]
+        }
+        test "t" { accept "wört" as (S "wört") }
+        "#,
+    );
+    let text = &f.root().text;
+    let m = id(&a, "grammar.trellis");
     let def = TokenModifiers {
         definition: true,
         undefined: false,
@@ -527,7 +1213,8 @@ fn semantic_tokens_classify_every_token_and_mark_definitions() {
         undefined: true,
     };
     let plain = TokenModifiers::default();
-    let got: Vec<(&str, C, TokenModifiers)> = toks
+    let got: Vec<(&str, C, TokenModifiers)> = a
+        .semantic_tokens(m, None)
         .iter()
         .map(|t| (t.span.text(text), t.class, t.modifiers))
         .collect();
@@ -553,8 +1240,9 @@ fn semantic_tokens_classify_every_token_and_mark_definitions() {
         ]
     );
     // A range gives the tokens overlapping it only.
-    let line = at(text, "  2 \"wört\" Ä", 0);
-    let got: Vec<&str> = ide::semantic_tokens(&a, M, Some(line))
+    let [line] = spans(&f, "grammar.trellis");
+    let got: Vec<&str> = a
+        .semantic_tokens(m, Some(line))
         .iter()
         .map(|t| t.span.text(text))
         .collect();
@@ -566,8 +1254,48 @@ fn semantic_tokens_classify_every_token_and_mark_definitions() {
 #[test]
 fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
     use trellis_ide::{DocumentSymbol, SymbolKind};
-    let a = analysis();
-    let outline = ide::document_symbols(&a, L);
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        $0[[Anzahl]] relative {
+          [[6   "eine"]]
+          3   "zwei"
+          1   "drei"
+        }$0
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let outline = a.document_symbols(l);
     let summary: Vec<(&str, SymbolKind, Option<&str>, usize)> = outline
         .iter()
         .map(|s| {
@@ -587,10 +1315,15 @@ fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
             ("Bitte", SymbolKind::Block, Some("1 rule"), 1),
         ]
     );
+    // The block is the range between the two `$0`.
+    let lexikon = &f.file("lexikon.trellis").text;
+    let block = f.cursor_range();
+    let [name, alternative] = spans(&f, "lexikon.trellis");
     let anzahl = &outline[1];
-    assert_eq!(anzahl.selection_span, at(LEXIKON, "Anzahl", 0));
+    assert_eq!(anzahl.selection_span, name);
+    assert_eq!(anzahl.span, Span::new(block.start, block.end));
     assert_eq!(
-        anzahl.span.text(LEXIKON),
+        anzahl.span.text(lexikon),
         "Anzahl relative {\n  6   \"eine\"\n  3   \"zwei\"\n  1   \"drei\"\n}"
     );
     assert_eq!(
@@ -599,12 +1332,16 @@ fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
             name: "\"eine\"".into(),
             detail: Some("6 · p = 3/5 = 0.6".into()),
             kind: SymbolKind::Rule,
-            span: at(LEXIKON, "6   \"eine\"", 0),
-            selection_span: at(LEXIKON, "\"eine\"", 0),
+            span: alternative,
+            // The word that ends the alternative.
+            selection_span: Span::new(
+                alternative.end as usize - r#""eine""#.len(),
+                alternative.end as usize
+            ),
             children: Vec::new(),
         }
     );
-    let outline = ide::document_symbols(&a, M);
+    let outline = a.document_symbols(m);
     let kinds: Vec<(SymbolKind, &str)> =
         outline.iter().map(|s| (s.kind, s.name.as_str())).collect();
     assert_eq!(
@@ -632,9 +1369,48 @@ fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
 
 #[test]
 fn workspace_symbols_rank_exact_prefix_substring_then_fuzzy_matches() {
-    let a = analysis();
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        [[Anzahl]] relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
     let names = |q: &str| -> Vec<String> {
-        ide::workspace_symbols(&a, q, 10)
+        a.workspace_symbols(q, 10)
             .into_iter()
             .map(|s| s.name)
             .collect()
@@ -645,125 +1421,231 @@ fn workspace_symbols_rank_exact_prefix_substring_then_fuzzy_matches() {
     assert_eq!(names("fkt"), vec!["Fahrkarte"]);
     assert_eq!(names("zz"), Vec::<String>::new());
     assert_eq!(names("").len(), 6);
-    assert_eq!(ide::workspace_symbols(&a, "", 2).len(), 2);
-    let anzahl = &ide::workspace_symbols(&a, "Anzahl", 10)[0];
-    assert_eq!(anzahl.location, Location::new(L, at(LEXIKON, "Anzahl", 0)));
+    assert_eq!(a.workspace_symbols("", 2).len(), 2);
+    let anzahl = &a.workspace_symbols("Anzahl", 10)[0];
+    let [definition] = spans(&f, "lexikon.trellis");
+    assert_eq!(
+        anzahl.location,
+        Location::new(id(&a, "lexikon.trellis"), definition)
+    );
     assert_eq!(anzahl.detail, "3 rules · relative");
     assert_eq!(
-        ide::workspace_symbols(&a, "anfrage", 10)[0].detail,
+        a.workspace_symbols("anfrage", 10)[0].detail,
         "3 rules · start"
     );
 }
 
 // ── completion ──────────────────────────────────────────────────────────
 
-fn labels(list: &ide::CompletionList) -> Vec<&str> {
-    list.items.iter().map(|i| i.label.as_str()).collect()
+/// The labels of the completions offered at the fixture's cursor, and the
+/// span they replace.
+fn completions(fixture: &str) -> (Vec<String>, Span, ide::CompletionList) {
+    let (f, a) = analyse(fixture);
+    let (file, offset) = cursor(&f, &a);
+    let list = a.completions(file, offset);
+    let labels = list.items.iter().map(|i| i.label.clone()).collect();
+    (labels, list.replace, list)
+}
+
+/// The span marked `[[…]]` in a one-file fixture.
+fn marked(fixture: &str) -> Span {
+    spans::<1>(&Fixture::parse(fixture), "grammar.trellis")[0]
 }
 
 #[test]
 fn completion_offers_names_on_right_hand_sides_filtered_by_the_typed_word() {
-    let text = "start S\nS {\n  0.5 Fa\n  0.5 \"x\" \n}\nFahrt { \"f\" }\nFähre { \"ä\" }\nWeg { Fahrt }\n";
-    let a = grammar_lang::analyze_text(text);
-    let list = ide::completions(&a, M, inside(text, "Fa\n", 0, 2));
-    assert_eq!(list.replace, at(text, "Fa", 0));
+    let fixture = r#"
+        start S
+        S {
+          0.5 [[Fa$0]]
+          0.5 "x" 
+        }
+        Fahrt { "f" }
+        Fähre { "ä" }
+        Weg { Fahrt }
+        "#;
+    let (labels, replace, list) = completions(fixture);
+    assert_eq!(replace, marked(fixture));
     // `ä` is not `a`: `Fähre` does not match.
-    assert_eq!(labels(&list), vec!["Fahrt"]);
+    assert_eq!(labels, vec!["Fahrt"]);
     assert_eq!(list.items[0].kind, ide::CompletionKind::NonTerminal);
     assert_eq!(list.items[0].detail.as_deref(), Some("1 rule"));
     assert!(!list.incomplete);
-    // After a terminal, at a space: every defined name, nothing replaced.
-    let list = ide::completions(&a, M, inside(text, "\"x\" ", 0, 4));
-    assert_eq!(list.replace, Span::point(inside(text, "\"x\" ", 0, 4)));
-    assert_eq!(labels(&list), vec!["S", "Weg", "Fahrt", "Fähre"]);
-    // Inside a quoted word or a comment: nothing.
-    assert!(ide::completions(&a, M, inside(text, "\"x\"", 0, 1))
-        .items
-        .is_empty());
-    // In the middle of a run of spaces: names.
-    let text = "start S\nS { \"x\"      }\n";
-    let a = grammar_lang::analyze_text(text);
-    let list = ide::completions(&a, M, inside(text, "\"x\"   ", 0, 6));
-    assert_eq!(labels(&list), vec!["S"]);
+}
+
+#[test]
+fn completion_after_a_terminal_at_a_space_offers_every_defined_name_and_replaces_nothing() {
+    let fixture = r#"
+        start S
+        S {
+          0.5 Fa
+          0.5 "x" [[$0]]
+        }
+        Fahrt { "f" }
+        Fähre { "ä" }
+        Weg { Fahrt }
+        "#;
+    let (labels, replace, _) = completions(fixture);
+    assert_eq!(replace, marked(fixture));
+    assert!(replace.is_empty());
+    assert_eq!(labels, vec!["S", "Weg", "Fahrt", "Fähre"]);
+}
+
+#[test]
+fn completion_inside_a_quoted_word_offers_nothing() {
+    let (labels, _, _) = completions(
+        r#"
+        start S
+        S {
+          0.5 Fa
+          0.5 "$0x" 
+        }
+        Fahrt { "f" }
+        Fähre { "ä" }
+        Weg { Fahrt }
+        "#,
+    );
+    assert!(labels.is_empty());
+}
+
+#[test]
+fn completion_in_the_middle_of_a_run_of_spaces_offers_names() {
+    let (labels, _, _) = completions("start S\nS { \"x\"   $0   }\n");
+    assert_eq!(labels, vec!["S"]);
 }
 
 #[test]
 fn completion_offers_keywords_where_declarations_start_and_relative_after_a_block_name() {
-    let text = "start S\nS { \"a\" | Neu }\n\nu\nT \n";
-    let a = grammar_lang::analyze_text(text);
     // At the start of a top-level line: keywords not yet used, then
     // undefined names (to give them a block); `start` is taken.
-    let list = ide::completions(&a, M, inside(text, "\n\n", 0, 2));
-    assert_eq!(labels(&list), vec!["use", "test", "grammar", "Neu"]);
+    let (labels, _, list) = completions("start S\nS { \"a\" | Neu }\n\n$0u\nT \n");
+    assert_eq!(labels, vec!["use", "test", "grammar", "Neu"]);
     assert_eq!(list.items[0].kind, ide::CompletionKind::Keyword);
-    let list = ide::completions(&a, M, inside(text, "\nu\n", 0, 2));
-    assert_eq!(labels(&list), vec!["use", "Neu"]);
-    let u = inside(text, "\nu\n", 0, 1);
-    assert_eq!(list.replace, Span::new(u, u + 1));
-    let list = ide::completions(&a, M, inside(text, "T \n", 0, 2));
-    assert_eq!(labels(&list), vec!["relative"]);
+    let fixture = "start S\nS { \"a\" | Neu }\n\n[[u$0]]\nT \n";
+    let (labels, replace, _) = completions(fixture);
+    assert_eq!(labels, vec!["use", "Neu"]);
+    assert_eq!(replace, marked(fixture));
+    let (labels, _, _) = completions("start S\nS { \"a\" | Neu }\n\nu\nT $0\n");
+    assert_eq!(labels, vec!["relative"]);
     // After `start`: the defined names.
-    let text = "start \nZiel { \"z\" }\n";
-    let a = grammar_lang::analyze_text(text);
-    assert_eq!(labels(&ide::completions(&a, M, 6)), vec!["Ziel"]);
+    let (labels, _, _) = completions("start $0\nZiel { \"z\" }\n");
+    assert_eq!(labels, vec!["Ziel"]);
 }
 
 #[test]
 fn completion_in_tests_offers_case_keywords_as_and_tree_labels() {
-    let text = "start S\nS { \"a\" }\ntest \"t\" {\n  accept \"a\" as (S \"a\")\n  \n  accept \"a\" \n  accept \"a\" as (\n}\n";
-    let a = grammar_lang::analyze_text(text);
-    let blank = inside(text, "\n  \n", 0, 3);
+    let test = |cases: &str| {
+        completions(&format!(
+            "start S\nS {{ \"a\" }}\ntest \"t\" {{\n  accept \"a\" as (S \"a\")\n{cases}}}\n"
+        ))
+        .0
+    };
+    // On a blank line, after a sentence, after an open bracket.
     assert_eq!(
-        labels(&ide::completions(&a, M, blank)),
+        test("  $0\n  accept \"a\" \n  accept \"a\" as (\n"),
         vec!["accept", "reject"]
     );
-    let after_sentence = inside(text, "\"a\" \n", 0, 4);
-    assert_eq!(labels(&ide::completions(&a, M, after_sentence)), vec!["as"]);
-    let open = inside(text, "as (\n", 0, 4);
-    assert_eq!(labels(&ide::completions(&a, M, open)), vec!["S"]);
+    assert_eq!(
+        test("  \n  accept \"a\" $0\n  accept \"a\" as (\n"),
+        vec!["as"]
+    );
+    assert_eq!(
+        test("  \n  accept \"a\" \n  accept \"a\" as ($0\n"),
+        vec!["S"]
+    );
 }
 
 // ── inlay hints and code lenses ─────────────────────────────────────────
 
 #[test]
 fn inlay_hints_show_resolved_probabilities_of_unweighted_and_relative_alternatives() {
-    let a = analysis();
-    let whole = Span::new(0, LEXIKON.len());
-    let hints: Vec<(usize, String, bool, bool)> = ide::inlay_hints(&a, L, whole)
+    // Marked `[[]]`: where each hint stands (before an unweighted
+    // alternative's first item, after a relative weight); between the two
+    // `$0`: one line of the lexikon.
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { [[]]"ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          [[]]"Rückfahrt" | [[]]"Einzel" | [[]]"Tages"
+        }
+
+        Anzahl relative {
+          6[[]]   "eine"
+        $0  3[[]]   "zwei"$0
+          1[[]]   "drei"
+        }
+
+        Bitte { [[]]"bitte" }
+        "#,
+    );
+    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
+    let lexikon = &f.file("lexikon.trellis").text;
+    let whole = Span::new(0, lexikon.len());
+    let hints: Vec<(usize, String, bool, bool)> = a
+        .inlay_hints(l, whole)
         .into_iter()
         .map(|h| (h.offset, h.label, h.pad_left, h.pad_right))
         .collect();
-    let start = |needle: &str| at(LEXIKON, needle, 0).start as usize;
+    let [rueckfahrt, einzel, tages, eine, zwei, drei, bitte] = spans(&f, "lexikon.trellis");
+    let at = |s: Span| s.start as usize;
     assert_eq!(
         hints,
         vec![
-            (start("\"Rückfahrt\""), "= 1/3".to_string(), false, true),
-            (start("\"Einzel\""), "= 1/3".to_string(), false, true),
-            (start("\"Tages\""), "= 1/3".to_string(), false, true),
-            (start("6   \"eine\"") + 1, "= 3/5".to_string(), true, false),
-            (start("3   \"zwei\"") + 1, "= 3/10".to_string(), true, false),
-            (start("1   \"drei\"") + 1, "= 1/10".to_string(), true, false),
-            (start("\"bitte\""), "= 1".to_string(), false, true),
+            (at(rueckfahrt), "= 1/3".to_string(), false, true),
+            (at(einzel), "= 1/3".to_string(), false, true),
+            (at(tages), "= 1/3".to_string(), false, true),
+            (at(eine), "= 3/5".to_string(), true, false),
+            (at(zwei), "= 3/10".to_string(), true, false),
+            (at(drei), "= 1/10".to_string(), true, false),
+            (at(bitte), "= 1".to_string(), false, true),
         ]
     );
-    let tooltip = &ide::inlay_hints(&a, L, whole)[3].tooltip;
+    let tooltip = &a.inlay_hints(l, whole)[3].tooltip;
     assert_eq!(
         tooltip,
         "probability of `Anzahl → \"eine\"`: 3/5 = 0.6 (weight divided by the block's sum)"
     );
     // Only the requested range; weighted alternatives of plain blocks get none.
-    let line = at(LEXIKON, "  3   \"zwei\"", 0);
-    assert_eq!(ide::inlay_hints(&a, L, line).len(), 1);
-    assert!(ide::inlay_hints(&a, M, Span::new(0, MAIN.len()))
+    let line = f.cursor_range();
+    assert_eq!(a.inlay_hints(l, Span::new(line.start, line.end)).len(), 1);
+    let [ich] = places(&f, "main.trellis");
+    let main = &f.file("main.trellis").text;
+    assert!(a
+        .inlay_hints(m, Span::new(0, main.len()))
         .iter()
-        .all(|h| h.offset == inside(MAIN, "\"ich\"", 0, 0)));
+        .all(|h| h.offset == ich));
 }
 
 #[test]
 fn inlay_hints_approximate_long_fractions() {
-    let text = "start S\nS relative { 1 \"a\" | 2 \"b\" | 123456 \"c\" }\n";
-    let a = grammar_lang::analyze_text(text);
-    let labels: Vec<String> = ide::inlay_hints(&a, M, Span::new(0, text.len()))
+    let (f, a) = analyse("start S\nS relative { 1 \"a\" | 2 \"b\" | 123456 \"c\" }\n");
+    let whole = Span::new(0, f.root().text.len());
+    let labels: Vec<String> = a
+        .inlay_hints(id(&a, "grammar.trellis"), whole)
         .into_iter()
         .map(|h| h.label)
         .collect();
@@ -776,24 +1658,64 @@ fn inlay_hints_approximate_long_fractions() {
 fn code_lenses_sit_on_start_and_on_each_test() {
     // Parse, sample and run every test above `start`; run one above each test.
     use trellis_ide::{CodeLens, CodeLensKind};
-    let a = analysis();
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        [[start Anfrage]]
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        [[test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }]]
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let [start, test] = spans(&f, "main.trellis");
     assert_eq!(
-        ide::code_lenses(&a, M),
+        a.code_lenses(id(&a, "main.trellis")),
         vec![
             CodeLens {
-                span: at(MAIN, "start Anfrage", 0),
+                span: start,
                 kind: CodeLensKind::ParseSentence
             },
             CodeLens {
-                span: at(MAIN, "start Anfrage", 0),
+                span: start,
                 kind: CodeLensKind::Sample
             },
             CodeLens {
-                span: at(MAIN, "start Anfrage", 0),
+                span: start,
                 kind: CodeLensKind::RunAllTests { tests: 1 }
             },
             CodeLens {
-                span: Span::new(at(MAIN, "test", 0).start as usize, MAIN.len() - 1),
+                span: test,
                 kind: CodeLensKind::RunTest {
                     test: 0,
                     name: "Bestellungen".into()
@@ -801,103 +1723,255 @@ fn code_lenses_sit_on_start_and_on_each_test() {
             },
         ]
     );
-    assert_eq!(ide::code_lenses(&a, L), Vec::new());
+    assert_eq!(a.code_lenses(id(&a, "lexikon.trellis")), Vec::new());
 }
 
 // ── folding, links, highlights ──────────────────────────────────────────
 
 #[test]
-fn folding_ranges_cover_multi_line_blocks_tests_and_comment_runs() {
+fn folding_ranges_cover_multi_line_blocks_and_tests() {
     use trellis_ide::{FoldKind, FoldingRange};
-    let a = analysis();
-    let folds = ide::folding_ranges(&a, M);
-    let fold = |span: Span, kind| FoldingRange { span, kind };
-    assert_eq!(
-        folds,
-        vec![
-            fold(
-                Span::new(
-                    at(MAIN, "Anfrage {", 0).start as usize,
-                    at(MAIN, "}", 0).end as usize
-                ),
-                FoldKind::Declaration
-            ),
-            fold(
-                Span::new(
-                    at(MAIN, "Fahrkarte {", 0).start as usize,
-                    at(MAIN, "}", 1).end as usize
-                ),
-                FoldKind::Declaration
-            ),
-            // `Wunsch { … }` fits on one line: no fold.
-            fold(
-                Span::new(at(MAIN, "test", 0).start as usize, MAIN.len() - 1),
-                FoldKind::Declaration
-            ),
-        ]
+    // `Wunsch { … }` fits on one line: no fold.
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        [[Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }]]
+
+        [[Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }]]
+
+        Wunsch { "ich"  "möchte" }
+
+        [[test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }]]
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
     );
+    let folds: Vec<FoldingRange> = spans::<3>(&f, "main.trellis")
+        .into_iter()
+        .map(|span| FoldingRange {
+            span,
+            kind: FoldKind::Declaration,
+        })
+        .collect();
+    assert_eq!(a.folding_ranges(id(&a, "main.trellis")), folds);
+}
+
+#[test]
+fn folding_ranges_cover_runs_of_comment_lines() {
+    use trellis_ide::{FoldKind, FoldingRange};
     // Comment lines in a row fold; a comment after code does not count, and
     // a blank line ends a run.
-    let text =
-        "# eins\n## zwei\n### drei\nstart S # nach Code\n# allein\n\n# a\n# b\nS { \"s\" }\n";
-    let a = grammar_lang::analyze_text(text);
-    assert_eq!(
-        ide::folding_ranges(&a, M),
-        vec![
-            fold(
-                Span::new(0, at(text, "### drei", 0).end as usize),
-                FoldKind::Comment
-            ),
-            fold(
-                Span::new(
-                    at(text, "# a\n", 0).start as usize,
-                    at(text, "# b", 0).end as usize
-                ),
-                FoldKind::Comment
-            ),
-        ]
+    let (f, a) = analyse(
+        r#"
+        [[# eins
+        ## zwei
+        ### drei]]
+        start S # nach Code
+        # allein
+
+        [[# a
+        # b]]
+        S { "s" }
+        "#,
     );
+    let folds: Vec<FoldingRange> = spans::<2>(&f, "grammar.trellis")
+        .into_iter()
+        .map(|span| FoldingRange {
+            span,
+            kind: FoldKind::Comment,
+        })
+        .collect();
+    assert_eq!(a.folding_ranges(id(&a, "grammar.trellis")), folds);
 }
 
 #[test]
 fn document_links_lead_from_use_paths_to_loaded_files() {
     use trellis_ide::DocumentLink;
-    let a = analysis();
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use [["lexikon.trellis"]]
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
     assert_eq!(
-        ide::document_links(&a, M),
+        a.document_links(id(&a, "main.trellis")),
         vec![DocumentLink {
-            span: at(MAIN, "\"lexikon.trellis\"", 0),
-            target: L
+            span: spans::<1>(&f, "main.trellis")[0],
+            target: id(&a, "lexikon.trellis")
         }]
     );
-    let a = grammar_lang::analyze_text("use \"fehlt.trellis\"\n");
-    assert_eq!(ide::document_links(&a, M), Vec::new());
+    let (_, a) = analyse("use \"fehlt.trellis\"\n");
+    assert_eq!(a.document_links(id(&a, "grammar.trellis")), Vec::new());
 }
 
 #[test]
-fn document_highlights_mark_definitions_and_uses_in_one_file() {
+fn document_highlights_mark_definitions_and_uses_of_a_non_terminal_in_one_file() {
     use trellis_ide::Highlight;
-    let a = analysis();
-    let got = ide::document_highlights(&a, M, inside(MAIN, "Fahrkarte", 2, 0));
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch [[Fahrkarte]]
+          0.30  [[Fahrkarte]] Bitte      # höflich
+          15%   [[$0Fahrkarte]]
+        }
+
+        [[Fahrkarte]] {
+          1/2   Anzahl Art "Fahrkarte"
+          1/2   Art "Fahrkarte"
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage ([[Fahrkarte]] (Art "Tages") "Fahrkarte"))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
+    );
+    let (file, offset) = cursor(&f, &a);
+    let [in_first, in_second, in_third, definition, test_label] = spans(&f, "main.trellis");
     let h = |span, definition| Highlight { span, definition };
     assert_eq!(
-        got,
+        a.document_highlights(file, offset),
         vec![
-            h(at(MAIN, "Fahrkarte", 0), false),
-            h(at(MAIN, "Fahrkarte", 1), false),
-            h(at(MAIN, "Fahrkarte", 2), false),
-            h(at(MAIN, "Fahrkarte", 3), true),
-            h(at(MAIN, "Fahrkarte", 8), false),
+            h(in_first, false),
+            h(in_second, false),
+            h(in_third, false),
+            h(definition, true),
+            h(test_label, false),
         ]
     );
-    // A word: the same quoted word everywhere in the file.
-    let got = ide::document_highlights(&a, M, inside(MAIN, "\"Fahrkarte\"", 0, 2));
-    assert_eq!(
-        got,
-        vec![
-            h(at(MAIN, "\"Fahrkarte\"", 0), false),
-            h(at(MAIN, "\"Fahrkarte\"", 1), false),
-            h(at(MAIN, "\"Fahrkarte\"", 2), false),
-        ]
+}
+
+#[test]
+fn document_highlights_of_a_word_mark_the_same_quoted_word_everywhere_in_the_file() {
+    use trellis_ide::Highlight;
+    let (f, a) = analyse_clean(
+        r#"
+        === main.trellis ===
+        grammar fähre
+        start Anfrage
+        use "lexikon.trellis"
+
+        ## Was ein Fahrgast am Automaten sagt.
+        Anfrage {
+          0.55  Wunsch Fahrkarte
+          0.30  Fahrkarte Bitte      # höflich
+          15%   Fahrkarte
+        }
+
+        Fahrkarte {
+          1/2   Anzahl Art [["F$0ahrkarte"]]
+          1/2   Art [["Fahrkarte"]]
+        }
+
+        Wunsch { "ich"  "möchte" }
+
+        test "Bestellungen" {
+          accept "eine Rückfahrt Fahrkarte bitte"
+          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") [["Fahrkarte"]]))
+        }
+        === lexikon.trellis ===
+        ## Die Art der Fahrkarte.
+        Art {
+          "Rückfahrt" | "Einzel" | "Tages"
+        }
+
+        Anzahl relative {
+          6   "eine"
+          3   "zwei"
+          1   "drei"
+        }
+
+        Bitte { "bitte" }
+        "#,
     );
+    let (file, offset) = cursor(&f, &a);
+    let expected: Vec<Highlight> = spans::<3>(&f, "main.trellis")
+        .into_iter()
+        .map(|span| Highlight {
+            span,
+            definition: false,
+        })
+        .collect();
+    assert_eq!(a.document_highlights(file, offset), expected);
 }

@@ -37,7 +37,8 @@
 //!    `CARETS SEVERITY CODE == MESSAGE`:
 //!    * a run of n ≥ 1 carets marks the n characters above it, columns
 //!      counted in characters (not bytes), so `Fähre` is five columns wide;
-//!      `$0` markers on the annotated line are not counted;
+//!      the markers of 4. and 5. (`$0`, `[[`, `]]`) on the annotated line
+//!      are not counted;
 //!    * a single caret directly followed by `0` (`^0`) marks the empty span
 //!      at its column;
 //!    * a span that runs past the end of its line (a span over several
@@ -54,13 +55,29 @@
 //!    Several annotation lines may follow one line.
 //! 4. **Cursor.** `$0` in a (non-annotation) line marks a place and is
 //!    removed from the text; [`Fixture::cursor`] records its file and byte
-//!    offset. A fixture has at most one `$0`, or two in the same file, which
-//!    mark a range (first to second). A grammar that needs the text `$0`
-//!    cannot be written as a fixture.
+//!    offset ([`Fixture::cursor_offset`], [`Fixture::cursor_file`]). A
+//!    fixture has at most one `$0`, or two in the same file, which mark a
+//!    range (first to second, [`Fixture::cursor_range`]).
+//! 5. **Marked ranges.** `[[` and `]]` in a (non-annotation) line mark a
+//!    range of that file, from the end of `[[` to the start of `]]`; both
+//!    are removed from the text, and [`FixtureFile::ranges`] holds the byte
+//!    ranges in the order written ([`FixtureFile::marked`] their texts).
+//!    Any number of ranges may be marked, in every file, for answers that
+//!    are several spans (references, highlights, folds); a range may span
+//!    lines and may be empty (`[[]]`), but ranges do not nest. A `$0` may
+//!    stand inside a marked range (`[[Art$0]]`).
+//!
+//! A grammar that needs the text `$0`, `[[` or `]]` cannot be written as a
+//! fixture.
 //!
 //! A malformed fixture (an unknown severity or code, an annotation without
-//! a line above it, a third `$0`) panics with a message that names the
-//! fixture line (1-based, counting the text as written).
+//! a line above it, a third `$0`, an unclosed or nested `[[`) panics with a
+//! message that names the fixture line (1-based, counting the text as
+//! written).
+//!
+//! Edits an editor feature answers with are checked by applying them to
+//! the text and comparing the result with the text expected:
+//! [`apply_edits`].
 
 use grammar_lang::source::normalize;
 use grammar_lang::{analyze, Analysis, Code, Config, Diagnostic, MemoryLoader, Severity};
@@ -87,6 +104,8 @@ pub struct FixtureFile {
     pub text: String,
     /// The diagnostics expected in this file, in the order written.
     pub annotations: Vec<Annotation>,
+    /// The byte ranges marked `[[…]]` in this file's text, in order.
+    pub ranges: Vec<Range<usize>>,
 }
 
 /// One expected diagnostic, written as a caret line.
@@ -155,8 +174,10 @@ pub struct Cursor {
 /// A file while its lines are being collected.
 struct Draft {
     path: PathBuf,
-    /// Lines as written (with `$0`), each with its line ending.
+    /// Lines as written (with their markers), each with its line ending.
     lines: Vec<String>,
+    /// The fixture line each of `lines` is written on.
+    fixture_lines: Vec<usize>,
     /// (index into `lines`, the annotation line, its fixture line).
     annotations: Vec<(usize, String, usize)>,
 }
@@ -166,6 +187,7 @@ impl Draft {
         Draft {
             path: path.into(),
             lines: Vec::new(),
+            fixture_lines: Vec::new(),
             annotations: Vec::new(),
         }
     }
@@ -218,6 +240,7 @@ impl Fixture {
                 continue;
             }
             draft.lines.push(line.to_string());
+            draft.fixture_lines.push(fixture_line);
         }
         if drafts.len() > 1
             && drafts[0].annotations.is_empty()
@@ -230,21 +253,50 @@ impl Fixture {
         let mut files = Vec::new();
         for (index, draft) in drafts.into_iter().enumerate() {
             let mut text = String::new();
+            let mut ranges = Vec::new();
+            // The start of the range opened by `[[` and not yet closed, and
+            // the fixture line it was opened on.
+            let mut open: Option<(usize, usize)> = None;
             // Per line: the character columns (in the clean line) where
             // markers were removed.
             let mut removed: Vec<Vec<usize>> = Vec::new();
-            for line in &draft.lines {
+            for (line, &fixture_line) in draft.lines.iter().zip(&draft.fixture_lines) {
                 let mut columns = Vec::new();
                 let mut rest = line.as_str();
-                while let Some(at) = rest.find("$0") {
+                while let Some((at, marker)) = next_marker(rest) {
                     text.push_str(&rest[..at]);
                     let line_start = text.rfind('\n').map_or(0, |n| n + 1);
                     columns.push(text[line_start..].chars().count());
-                    markers.push((index, text.len()));
+                    let offset = text.len();
+                    match (marker, open) {
+                        ("$0", _) => markers.push((index, offset)),
+                        ("[[", None) => open = Some((offset, fixture_line)),
+                        ("]]", Some((start, _))) => {
+                            ranges.push(start..offset);
+                            open = None;
+                        }
+                        ("[[", Some(_)) => malformed(
+                            fixture_line,
+                            line.trim_end(),
+                            "`[[` inside a marked range: marked ranges do not nest",
+                        ),
+                        _ => malformed(
+                            fixture_line,
+                            line.trim_end(),
+                            "`]]` without a `[[` before it",
+                        ),
+                    }
                     rest = &rest[at + 2..];
                 }
                 text.push_str(rest);
                 removed.push(columns);
+            }
+            if let Some((_, fixture_line)) = open {
+                malformed(
+                    fixture_line,
+                    "[[",
+                    "a `[[` without a `]]` after it in the same file",
+                );
             }
             let clean_lines: Vec<&str> = text.split('\n').collect();
             let annotations = draft
@@ -264,6 +316,7 @@ impl Fixture {
                 path: draft.path,
                 text,
                 annotations,
+                ranges,
             });
         }
 
@@ -286,6 +339,33 @@ impl Fixture {
             ),
         };
         Fixture { files, cursor }
+    }
+
+    /// The byte offset of the cursor (the first `$0`) in its file; panics
+    /// if the fixture has no `$0`.
+    #[track_caller]
+    pub fn cursor_offset(&self) -> usize {
+        self.expect_cursor().offset
+    }
+
+    /// The range between the two `$0` markers; panics unless there are two.
+    #[track_caller]
+    pub fn cursor_range(&self) -> Range<usize> {
+        self.expect_cursor()
+            .range
+            .clone()
+            .expect("the fixture marks a range with two `$0`")
+    }
+
+    /// The file the cursor is in; panics if the fixture has no `$0`.
+    #[track_caller]
+    pub fn cursor_file(&self) -> &FixtureFile {
+        &self.files[self.expect_cursor().file]
+    }
+
+    #[track_caller]
+    fn expect_cursor(&self) -> &Cursor {
+        self.cursor.as_ref().expect("the fixture has a `$0` cursor")
     }
 
     /// The first file, where the analysis starts.
@@ -320,6 +400,50 @@ impl Fixture {
         let root = self.root();
         analyze(&root.path, &root.text, &self.loader(), config)
     }
+}
+
+impl FixtureFile {
+    /// The texts of the ranges marked `[[…]]`, in order.
+    pub fn marked(&self) -> Vec<&str> {
+        self.ranges.iter().map(|r| &self.text[r.clone()]).collect()
+    }
+}
+
+/// `text` with `edits` applied: each replaces a byte range of the original
+/// `text` with new text. The edits may come in any order; they must not
+/// overlap (two insertions at the same offset are applied in the order
+/// given). Panics on overlapping edits or a range that is not in `text`.
+#[track_caller]
+pub fn apply_edits<R, S>(text: &str, edits: impl IntoIterator<Item = (R, S)>) -> String
+where
+    R: Into<Range<usize>>,
+    S: AsRef<str>,
+{
+    let mut edits: Vec<(Range<usize>, S)> = edits.into_iter().map(|(r, s)| (r.into(), s)).collect();
+    // Stable: insertions at one offset keep their order.
+    edits.sort_by_key(|(r, _)| (r.start, r.end));
+    let mut out = String::with_capacity(text.len());
+    let mut done = 0;
+    for (range, new_text) in &edits {
+        assert!(
+            range.start >= done,
+            "the edit of {range:?} overlaps the edit before it (which ends at {done})"
+        );
+        out.push_str(&text[done..range.start]);
+        out.push_str(new_text.as_ref());
+        done = range.end;
+    }
+    out.push_str(&text[done..]);
+    out
+}
+
+/// The first marker (`$0`, `[[` or `]]`) in `text`: its byte offset and
+/// the marker.
+fn next_marker(text: &str) -> Option<(usize, &'static str)> {
+    ["$0", "[[", "]]"]
+        .into_iter()
+        .filter_map(|m| text.find(m).map(|at| (at, m)))
+        .min_by_key(|&(at, _)| at)
 }
 
 /// The number of leading spaces of `line`.
@@ -569,7 +693,7 @@ pub fn assert_diagnostics(fixture: &Fixture, analysis: &Analysis) {
 }
 
 /// The fixture written back with the reported diagnostics as annotations
-/// (full messages) and its `$0` markers in place.
+/// (full messages) and its `$0` and `[[…]]` markers in place.
 fn render(fixture: &Fixture, reported: &[Reported]) -> String {
     let mut out = String::new();
     let headers = fixture.files.len() > 1 || fixture.root().path != Path::new(DEFAULT_PATH);
@@ -577,13 +701,20 @@ fn render(fixture: &Fixture, reported: &[Reported]) -> String {
         if headers {
             let _ = writeln!(out, "=== {} ===", file.path.display());
         }
-        let markers: Vec<usize> = match &fixture.cursor {
+        // (offset, rank, marker): at one offset, ranges close, then empty
+        // ranges open and close, then ranges open, then the cursor.
+        let mut markers: Vec<(usize, u8, &str)> = match &fixture.cursor {
             Some(c) if c.file == index => match &c.range {
-                Some(r) => vec![r.start, r.end],
-                None => vec![c.offset],
+                Some(r) => vec![(r.start, 4, "$0"), (r.end, 4, "$0")],
+                None => vec![(c.offset, 4, "$0")],
             },
             _ => Vec::new(),
         };
+        for r in &file.ranges {
+            let (start_rank, end_rank) = if r.is_empty() { (1, 2) } else { (3, 0) };
+            markers.extend([(r.start, start_rank, "[["), (r.end, end_rank, "]]")]);
+        }
+        markers.sort_by_key(|&(offset, rank, _)| (offset, rank));
         let lines: Vec<&str> = file.text.split('\n').collect();
         let mut line_start = 0;
         for (n, line) in lines.iter().enumerate() {
@@ -599,18 +730,17 @@ fn render(fixture: &Fixture, reported: &[Reported]) -> String {
             let mut written = String::new();
             let mut marker_columns = Vec::new();
             for (i, c) in line.char_indices() {
-                for _ in markers.iter().filter(|&&m| m == line_start + i) {
+                for (_, _, marker) in markers.iter().filter(|m| m.0 == line_start + i) {
                     marker_columns.push(written.chars().count() - 2 * marker_columns.len());
-                    written.push_str("$0");
+                    written.push_str(marker);
                 }
                 written.push(c);
             }
-            for _ in markers
-                .iter()
-                .filter(|&&m| m == line_start + line.len() && (!last || m == file.text.len()))
-            {
+            for (_, _, marker) in markers.iter().filter(|&&(m, _, _)| {
+                m == line_start + line.len() && (!last || m == file.text.len())
+            }) {
                 marker_columns.push(written.chars().count() - 2 * marker_columns.len());
-                written.push_str("$0");
+                written.push_str(marker);
             }
             out.push_str(&written);
             out.push('\n');
@@ -748,6 +878,108 @@ mod tests {
         let range = cursor.range.expect("a range");
         assert_eq!(&f.root().text[range], "Ticket");
         assert_eq!(f.root().text, "start S\nS { Ticket }\n");
+    }
+
+    #[test]
+    fn cursor_offset_range_and_file_read_the_cursor_markers() {
+        let f =
+            Fixture::parse("=== a.trellis ===\nA\n=== b.trellis ===\nFähre { $0Rückfahrt$0 }\n");
+        assert_eq!(f.cursor_file().path, Path::new("b.trellis"));
+        assert_eq!(f.cursor_offset(), "Fähre { ".len());
+        assert_eq!(&f.cursor_file().text[f.cursor_range()], "Rückfahrt");
+    }
+
+    #[test]
+    #[should_panic(expected = "the fixture has a `$0` cursor")]
+    fn cursor_offset_without_a_cursor_panics() {
+        Fixture::parse("start S\n").cursor_offset();
+    }
+
+    #[test]
+    fn marked_ranges_are_byte_ranges_in_order_in_every_file_and_are_removed() {
+        let f = Fixture::parse(
+            "=== a.trellis ===\nstart [[Fähre]]\n[[Fähre]] { [[]]\"ü\" $0[[Bötchen]] }\n=== b.trellis ===\n[[Bötchen {\n  \"b\"\n}]]\n",
+        );
+        let a = f.file("a.trellis");
+        assert_eq!(a.text, "start Fähre\nFähre { \"ü\" Bötchen }\n");
+        assert_eq!(a.marked(), ["Fähre", "Fähre", "", "Bötchen"]);
+        assert_eq!(a.ranges[0], 6..12, "byte offsets: `ä` is two bytes");
+        assert_eq!(a.ranges[2], 22..22, "`[[]]` is an empty range");
+        assert_eq!(
+            &a.text[f.cursor_offset()..],
+            "Bötchen }\n",
+            "a cursor may stand at a range"
+        );
+        let b = f.file("b.trellis");
+        assert_eq!(
+            b.marked(),
+            ["Bötchen {\n  \"b\"\n}"],
+            "a range may span lines"
+        );
+        assert_eq!(b.text, "Bötchen {\n  \"b\"\n}\n");
+    }
+
+    #[test]
+    fn annotation_columns_do_not_count_range_markers() {
+        let f = Fixture::parse("S { [[Tiket]] $0T }\n                ^ error undefined\n");
+        assert_eq!(f.root().text, "S { Tiket T }\n");
+        assert_eq!(
+            f.root().annotations[0].columns,
+            10..11,
+            "`T` once the markers are removed"
+        );
+    }
+
+    #[test]
+    #[should_panic(expected = "fixture line 2: a `[[` without a `]]` after it")]
+    fn an_unclosed_range_names_its_fixture_line() {
+        Fixture::parse("start S\nS { [[T }\n=== b.trellis ===\n]]\n");
+    }
+
+    #[test]
+    #[should_panic(expected = "fixture line 1: `[[` inside a marked range")]
+    fn nested_ranges_are_refused() {
+        Fixture::parse("S { [[T [[U]] ]] }\n");
+    }
+
+    #[test]
+    #[should_panic(expected = "fixture line 1: `]]` without a `[[`")]
+    fn a_range_end_without_a_start_is_refused() {
+        Fixture::parse("S { T ]] }\n");
+    }
+
+    #[test]
+    fn apply_edits_replaces_ranges_of_the_original_text_in_any_order() {
+        let text = "Fähre { \"Rückfahrt\" }";
+        let edits = [
+            (text.len()..text.len(), "\n"),
+            (0..6, "Schiff"),
+            (10..20, "Hinfahrt"),
+            (text.len()..text.len(), "# Ende"),
+        ];
+        assert_eq!(
+            apply_edits(text, edits),
+            "Schiff { \"Hinfahrt\" }\n# Ende",
+            "insertions at one offset keep their order"
+        );
+        assert_eq!(apply_edits(text, Vec::<(Range<usize>, &str)>::new()), text);
+    }
+
+    #[test]
+    #[should_panic(expected = "overlaps the edit before it")]
+    fn apply_edits_refuses_overlapping_edits() {
+        apply_edits("abcdef", [(0..3, "x"), (2..4, "y")]);
+    }
+
+    #[test]
+    fn the_reannotated_fixture_keeps_marked_ranges() {
+        let message = panic_message(|| {
+            check("start S\nS { [[\"s\"]] | [[]]$0[[T]] }\n");
+        });
+        assert!(
+            message.ends_with("start S\nS { [[\"s\"]] | [[]][[$0T]] }\n                      ^ error undefined == `T` is used but has no block; did you mean `S`?\n"),
+            "{message}"
+        );
     }
 
     #[test]

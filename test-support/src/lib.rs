@@ -5,8 +5,9 @@
 //!
 //! * [`fixture`] — grammar texts written with their expected diagnostics
 //!   as caret annotations under the lines they point at, one or more files
-//!   in one string, and a cursor marker; [`check`] analyses a fixture and
-//!   insists that exactly the annotated diagnostics are reported.
+//!   in one string, a cursor marker and marked ranges; [`check`] analyses a
+//!   fixture and insists that exactly the annotated diagnostics are
+//!   reported; [`apply_edits`] applies an answer's edits to a text.
 //! * [`grammars`] — the small grammars (with their sources and hand-worked
 //!   numbers) that more than one suite uses, and the rule-list writer.
 //! * [`stats`] — the statistics the sampling tests are judged by.
@@ -16,5 +17,6 @@ pub mod grammars;
 pub mod stats;
 
 pub use fixture::{
-    assert_diagnostics, check, check_with, Annotation, Cursor, Fixture, FixtureFile, Message,
+    apply_edits, assert_diagnostics, check, check_with, Annotation, Cursor, Fixture, FixtureFile,
+    Message,
 };
