@@ -415,14 +415,32 @@ fn the_same_right_hand_side_in_two_blocks_is_fine() {
 }
 
 #[test]
-fn a_grammar_without_start_says_how_to_declare_it() {
-    // Without a start symbol nothing is called unreachable.
+fn a_file_without_start_or_tests_is_a_library_with_nothing_to_report() {
+    // A lexicon checked on its own: nothing in it needs a start symbol, and
+    // without one nothing is called unreachable.
+    check(
+        r#"
+        ## Kinds of ticket.
+        Kind { "return" | "single" | "day" }
+        Count { "one" | "two" }
+        "#,
+    );
+}
+
+#[test]
+fn test_blocks_without_start_say_how_to_declare_it() {
+    // Test sentences are parsed from the start symbol, so a grammar with
+    // tests needs one; the finding sits at the first test.
     let a = check(
         r#"
         # kiosk
-        ^0 error no-start
         Request { "hello" }
         Other { "x" }
+        test "greetings" {
+        ^^^^^^^^^^^^^^^^^^ error no-start: has 2 test blocks but no `start` declaration
+          accept "hello"
+        }
+        test "partings" { reject "hello" }
         "#,
     );
     let help = a.diagnostics[0].help.as_ref();

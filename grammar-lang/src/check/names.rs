@@ -4,8 +4,7 @@ use super::suggest::Suggester;
 use super::FastHash;
 use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::model::{Grammar, RuleId, Sym};
-use crate::source::{FileId, SourceMap};
-use crate::span::Span;
+use crate::source::SourceMap;
 use std::collections::HashMap;
 
 pub fn check(grammar: &Grammar, sources: &SourceMap, out: &mut Vec<Diagnostic>) {
@@ -124,21 +123,37 @@ fn start(grammar: &Grammar, sources: &SourceMap, suggester: &mut Lazy, out: &mut
             );
         }
         _ => {
+            // A file without `start` is a library (a lexicon, shared
+            // blocks): nothing in it needs a start symbol. Test blocks do —
+            // every case is parsed from the start — so only a grammar with
+            // tests is told to declare one, at its first test.
+            let Some(first_test) = grammar.tests.first() else {
+                return;
+            };
             if sources.is_empty() {
                 return;
             }
             let example = defined_in_source_order(grammar)
                 .next()
                 .map_or("Name", |nt| grammar.nt_name(nt));
+            let tests = grammar.tests.len();
             out.push(
                 Diagnostic::new(
                     Code::NoStart,
-                    Location::new(FileId(0), Span::point(0)),
-                    "the grammar has no `start` declaration",
+                    first_test.location,
+                    format!(
+                        "the grammar has {} but no `start` declaration; test sentences are parsed from the start symbol",
+                        if tests == 1 {
+                            "a test block".to_string()
+                        } else {
+                            format!("{tests} test blocks")
+                        }
+                    ),
                 )
-                .with_label("no start symbol")
+                .with_label("needs a start symbol")
                 .with_help(format!(
-                    "declare where derivations begin, e.g. `start {example}` at the top of the file"
+                    "declare where derivations begin, e.g. `start {example}` at the top of the file; \
+                     a file without tests needs no `start` (it is a library of blocks)"
                 )),
             );
         }
