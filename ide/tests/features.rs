@@ -14,7 +14,10 @@ use grammar_lang::source::FileId;
 use grammar_lang::syntax::lexer::TokenKind;
 use grammar_lang::{Config, Location, Span};
 use std::path::Path;
-use trellis_ide::{self as ide, Analysis, EngineFacts, Lookup, NtRole, RenameError, TextEdit};
+use trellis_ide::{
+    self as ide, Analysis, EngineFacts, FoldKind, FoldingRange, Lookup, NtRole, RenameError,
+    TextEdit,
+};
 use trellis_test_support::{apply_edits, assert_diagnostics, Fixture};
 
 /// Analyses a fixture through the façade, its first file as the root.
@@ -61,6 +64,20 @@ fn spans<const N: usize>(f: &Fixture, path: &str) -> [Span; N] {
 #[track_caller]
 fn places<const N: usize>(f: &Fixture, path: &str) -> [usize; N] {
     spans::<N>(f, path).map(|s| s.start as usize)
+}
+
+/// Every range marked `[[…]]` in the fixture as a location, file by file
+/// in the order the files are written.
+fn marked_locations(f: &Fixture, a: &Analysis) -> Vec<Location> {
+    f.files
+        .iter()
+        .flat_map(|file| {
+            let id = id(a, file.path.to_str().unwrap());
+            file.ranges
+                .iter()
+                .map(move |r| Location::new(id, Span::new(r.start, r.end)))
+        })
+        .collect()
 }
 
 /// Every offset from the start of `span` to its end (both included) that
@@ -508,13 +525,8 @@ fn references_to_a_non_terminal_cover_rhs_uses_and_test_labels_in_every_file() {
         $0Ermäßigung { "halb" | "frei" }
         "#,
     );
-    let m = id(&a, "main.trellis");
     let (file, offset) = cursor(&f, &a);
-    let expected: Vec<Location> = spans::<3>(&f, "main.trellis")
-        .into_iter()
-        .map(|s| Location::new(m, s))
-        .collect();
-    assert_eq!(a.references(file, offset, false), expected);
+    assert_eq!(a.references(file, offset, false), marked_locations(&f, &a));
 }
 
 #[test]
@@ -526,18 +538,15 @@ fn references_with_the_definition_include_start_and_block_head() {
         test "t" { accept "hin" as ([[Fähre]] "hin") }
         "#,
     );
-    let m = id(&a, "grammar.trellis");
     let (file, offset) = cursor(&f, &a);
-    let expected: Vec<Location> = spans::<3>(&f, "grammar.trellis")
-        .into_iter()
-        .map(|s| Location::new(m, s))
-        .collect();
-    assert_eq!(a.references(file, offset, true), expected);
+    assert_eq!(a.references(file, offset, true), marked_locations(&f, &a));
 }
 
 #[test]
 fn references_to_a_word_cover_every_right_hand_side_and_tree_leaf_with_it() {
-    // Not the sentence of the test case: that is not a word of the grammar.
+    // Marked, in order: on a right-hand side and a tree leaf in main, on a
+    // right-hand side in the lexikon; not the test case's sentence, which
+    // is not a word of the grammar.
     let (f, a) = analyse_clean(
         r#"
         === main.trellis ===
@@ -549,18 +558,8 @@ fn references_to_a_word_cover_every_right_hand_side_and_tree_leaf_with_it() {
         Art { "Einzel" | [[$0"Rückfahrt"]] }
         "#,
     );
-    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
     let (file, offset) = cursor(&f, &a);
-    let [on_right_hand_side, in_tree] = spans(&f, "main.trellis");
-    let [in_lexikon] = spans(&f, "lexikon.trellis");
-    assert_eq!(
-        a.references(file, offset, true),
-        vec![
-            Location::new(m, on_right_hand_side),
-            Location::new(m, in_tree),
-            Location::new(l, in_lexikon)
-        ]
-    );
+    assert_eq!(a.references(file, offset, true), marked_locations(&f, &a));
 }
 
 // ── rename ──────────────────────────────────────────────────────────────
@@ -1102,11 +1101,28 @@ fn code_lenses_sit_on_start_and_on_each_test() {
 
 // ── folding, links, highlights ──────────────────────────────────────────
 
+/// The folds of a one-file fixture that analyses cleanly are the ranges
+/// it marks `[[…]]`, all of `kind`.
+#[track_caller]
+fn assert_folds(kind: FoldKind, fixture: &str) {
+    let (f, a) = analyse_clean(fixture);
+    let marked: Vec<FoldingRange> = f
+        .root()
+        .ranges
+        .iter()
+        .map(|r| FoldingRange {
+            span: Span::new(r.start, r.end),
+            kind,
+        })
+        .collect();
+    assert_eq!(a.folding_ranges(id(&a, "grammar.trellis")), marked);
+}
+
 #[test]
 fn folding_ranges_cover_multi_line_blocks_and_tests() {
-    use trellis_ide::{FoldKind, FoldingRange};
     // `Wunsch { … }` fits on one line: no fold.
-    let (f, a) = analyse_clean(
+    assert_folds(
+        FoldKind::Declaration,
         r#"
         start Fahrt
         [[Fahrt {
@@ -1119,22 +1135,14 @@ fn folding_ranges_cover_multi_line_blocks_and_tests() {
         }]]
         "#,
     );
-    let folds: Vec<FoldingRange> = spans::<2>(&f, "grammar.trellis")
-        .into_iter()
-        .map(|span| FoldingRange {
-            span,
-            kind: FoldKind::Declaration,
-        })
-        .collect();
-    assert_eq!(a.folding_ranges(id(&a, "grammar.trellis")), folds);
 }
 
 #[test]
 fn folding_ranges_cover_runs_of_comment_lines() {
-    use trellis_ide::{FoldKind, FoldingRange};
     // Comment lines in a row fold; a comment after code does not count, and
     // a blank line ends a run.
-    let (f, a) = analyse(
+    assert_folds(
+        FoldKind::Comment,
         r#"
         [[# eins
         ## zwei
@@ -1147,14 +1155,6 @@ fn folding_ranges_cover_runs_of_comment_lines() {
         S { "s" }
         "#,
     );
-    let folds: Vec<FoldingRange> = spans::<2>(&f, "grammar.trellis")
-        .into_iter()
-        .map(|span| FoldingRange {
-            span,
-            kind: FoldKind::Comment,
-        })
-        .collect();
-    assert_eq!(a.folding_ranges(id(&a, "grammar.trellis")), folds);
 }
 
 #[test]
