@@ -248,6 +248,13 @@ fn lookup_finds_nothing_on_comments_blank_lines_past_the_end_or_in_unknown_files
     assert_eq!(a.lookup(FileId(7), 0), None);
 }
 
+/// What hover says at the fixture's `$0`, with the engine's facts if given.
+#[track_caller]
+fn hover_at_cursor(f: &Fixture, a: &Analysis, facts: Option<&EngineFacts>) -> ide::Hover {
+    let (file, offset) = cursor(f, a);
+    ide::hover(a, a.index(), file, offset, facts).expect("a hover at the cursor")
+}
+
 // ── hover ───────────────────────────────────────────────────────────────
 
 #[test]
@@ -262,8 +269,7 @@ fn hover_on_a_weight_gives_the_rule_exact_probability_share_and_total() {
         }
         "#,
     );
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    let h = hover_at_cursor(&f, &a, None);
     assert_eq!(h.span, spans::<1>(&f, "grammar.trellis")[0]);
     assert_eq!(
         h.markdown,
@@ -298,8 +304,7 @@ fn hover_on_a_relative_alternative_shows_the_division_and_expected_uses() {
         rule_expected_uses: uses,
         ..EngineFacts::default()
     };
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, Some(&facts)).unwrap();
+    let h = hover_at_cursor(&f, &a, Some(&facts));
     assert_eq!(h.span, spans::<1>(&f, "grammar.trellis")[0]);
     assert_eq!(
         h.markdown,
@@ -318,8 +323,7 @@ fn hover_on_a_relative_alternative_shows_the_division_and_expected_uses() {
 fn hover_on_an_unweighted_alternative_explains_the_shared_remainder() {
     // One unweighted alternative gets everything.
     let (f, a) = analyse_clean("start Wunsch\nWunsch { \"ich\" $0 \"möchte\" }\n");
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    let h = hover_at_cursor(&f, &a, None);
     assert!(
         h.markdown.contains(
             "- unweighted: shares what the weighted alternatives leave\n- probability: 1\n"
@@ -353,8 +357,7 @@ fn hover_on_a_non_terminal_shows_doc_rules_reachability_and_termination() {
             .collect(),
         rule_expected_uses: Vec::new(),
     };
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, Some(&facts)).unwrap();
+    let h = hover_at_cursor(&f, &a, Some(&facts));
     assert_eq!(h.span, spans::<1>(&f, "main.trellis")[0]);
     assert_eq!(
         h.markdown,
@@ -379,8 +382,7 @@ fn hover_without_engine_facts_still_answers_without_the_termination_line() {
         $0Anfrage { "hin" | "zurück" | "bitte" }
         "#,
     );
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    let h = hover_at_cursor(&f, &a, None);
     assert_eq!(
         h.markdown,
         "**start symbol** `Anfrage`\n\
@@ -425,8 +427,7 @@ fn hover_on_a_terminal_tables_the_rules_that_produce_it() {
         }
         "#,
     );
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    let h = hover_at_cursor(&f, &a, None);
     assert_eq!(h.span, spans::<1>(&f, "grammar.trellis")[0]);
     assert_eq!(
         h.markdown,
@@ -450,8 +451,7 @@ fn hover_on_a_test_tree_word_that_no_rule_has_says_so() {
         test "t" { accept "a" as (S "$0zz") }
         "#,
     );
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    let h = hover_at_cursor(&f, &a, None);
     assert_eq!(
         h.markdown,
         "**terminal** `\"zz\"`\n\nno rule produces this word\n"
