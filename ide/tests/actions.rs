@@ -65,6 +65,15 @@ fn action(a: &Analysis, file: FileId, span: Span, prefix: &str) -> CodeAction {
         .unwrap_or_else(|| panic!("no {prefix:?} among {actions:#?}"))
 }
 
+/// The action titled like `prefix…` offered at `span` of the one-file
+/// grammar `text`, and `text` with its edits applied.
+fn apply_action(text: &str, span: Span, prefix: &str) -> (CodeAction, String) {
+    let a = analyze_text(text);
+    let fix = action(&a, M, span, prefix);
+    let fixed = apply(text, M, &fix.edits);
+    (fix, fixed)
+}
+
 fn probabilities(a: &Analysis, name: &str) -> Vec<Ratio> {
     let nt = a.grammar.nt(name).unwrap();
     a.grammar
@@ -113,10 +122,7 @@ fn renormalizing_thirds_written_as_decimals_gives_exact_fractions_and_keeps_comm
 fn renormalizing_keeps_decimal_style_when_the_results_are_short_decimals() {
     let (text, [block]) =
         marked("start S\n[[S {]] 0.2 \"a\" | 0.2 \"b\" | 0.1 \"c\" }  # halbe Masse\n");
-    let text = text.as_str();
-    let a = analyze_text(text);
-    let fix = action(&a, M, block, "Renormalize");
-    let fixed = apply(text, M, &fix.edits);
+    let (_, fixed) = apply_action(&text, block, "Renormalize");
     assert_eq!(
         fixed,
         "start S\nS { 0.4 \"a\" | 0.4 \"b\" | 0.2 \"c\" }  # halbe Masse\n"
@@ -129,10 +135,7 @@ fn renormalizing_keeps_decimal_style_when_the_results_are_short_decimals() {
 #[test]
 fn renormalizing_a_percent_block_writes_percentages() {
     let (text, [block]) = marked("start S\n[[S {]]\n  30%  \"a\"\n  30%  \"b\"\n  20%  \"c\"\n}\n");
-    let text = text.as_str();
-    let a = analyze_text(text);
-    let fix = action(&a, M, block, "Renormalize");
-    let fixed = apply(text, M, &fix.edits);
+    let (_, fixed) = apply_action(&text, block, "Renormalize");
     assert_eq!(
         fixed,
         "start S\nS {\n  37.5%  \"a\"\n  37.5%  \"b\"\n  25%  \"c\"\n}\n"
@@ -146,12 +149,9 @@ fn renormalizing_a_block_with_fractions_writes_fractions_and_only_changed_weight
     // but the block is written in fractions).
     let (text, [block]) =
         marked("start S\n[[S {]]\n  1/2 \"a\"\n  1/4 \"b\"\n  1/2 \"c\"\n  0 \"d\"\n}\n");
-    let text = text.as_str();
-    let a = analyze_text(text);
-    let fix = action(&a, M, block, "Renormalize");
+    let (renormalize, fixed) = apply_action(&text, block, "Renormalize");
     // The zero weight stays 0 and is not rewritten.
-    assert_eq!(fix.edits.len(), 3);
-    let fixed = apply(text, M, &fix.edits);
+    assert_eq!(renormalize.edits.len(), 3);
     assert_eq!(
         fixed,
         "start S\nS {\n  2/5 \"a\"\n  1/5 \"b\"\n  2/5 \"c\"\n  0 \"d\"\n}\n"
@@ -214,10 +214,7 @@ fn defining_a_missing_symbol_inserts_a_stub_block_after_the_user() {
 #[test]
 fn a_stub_for_a_block_on_the_last_line_without_newline_starts_on_its_own_line() {
     let (text, [use_of_a]) = marked("start S\nS { [[A]] }");
-    let text = text.as_str();
-    let a = analyze_text(text);
-    let fix = action(&a, M, use_of_a, "Define");
-    let fixed = apply(text, M, &fix.edits);
+    let (_, fixed) = apply_action(&text, use_of_a, "Define");
     assert_eq!(
         fixed,
         "start S\nS { A }\n\nA {\n  \"A\"  # TODO: the words or symbols `A` stands for\n}\n"
@@ -287,10 +284,8 @@ fn removing_an_unreachable_block_deletes_its_lines_doc_and_one_blank_line() {
 #[test]
 fn removing_the_last_block_of_a_file_takes_the_blank_line_before_it() {
     let (text, [block]) = marked("start S\nS { \"a\" }\n\n## Rest\n[[T {]] \"b\" }\n");
-    let text = text.as_str();
-    let a = analyze_text(text);
-    let fix = action(&a, M, block, "Remove");
-    assert_eq!(apply(text, M, &fix.edits), "start S\nS { \"a\" }\n");
+    let (_, fixed) = apply_action(&text, block, "Remove");
+    assert_eq!(fixed, "start S\nS { \"a\" }\n");
 }
 
 #[test]
@@ -335,13 +330,8 @@ fn writing_out_a_relative_block_gives_plain_probabilities_and_the_same_model() {
     assert_eq!(probabilities(&b, "Zahl"), probabilities(&a, "Zahl"));
     // Thirds have no decimal: fractions.
     let (text, [head]) = marked("start S\n[[S relative]] { \"a\" | \"b\" | \"c\" }\n");
-    let text = text.as_str();
-    let a = analyze_text(text);
-    let fix = action(&a, M, head, "Write out");
-    assert_eq!(
-        apply(text, M, &fix.edits),
-        "start S\nS { 1/3 \"a\" | 1/3 \"b\" | 1/3 \"c\" }\n"
-    );
+    let (_, fixed) = apply_action(&text, head, "Write out");
+    assert_eq!(fixed, "start S\nS { 1/3 \"a\" | 1/3 \"b\" | 1/3 \"c\" }\n");
 }
 
 #[test]

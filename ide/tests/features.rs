@@ -1,17 +1,23 @@
-//! Editor services, specified by example on a small two-file grammar with
-//! non-ASCII names: what is found where, what hover says, where navigation
-//! leads and what rename changes.
+//! Editor services, specified by example: what is found where, what hover
+//! says, where navigation leads and what rename changes.
 //!
 //! Every test states its grammar as a fixture (`trellis_test_support`):
 //! `$0` is the cursor, `[[…]]` marks an expected span (or, empty, another
 //! place a request is made at). Marked ranges are named by destructuring
-//! them in the order they are written.
+//! them in the order they are written. Each fixture is the smallest
+//! grammar that shows its rule: names such as `Fähre` and `Rückfahrt`
+//! stand before the places where byte offsets matter (they are wider in
+//! bytes than in characters), and a second file is there when the feature
+//! crosses files.
 
 use grammar_lang::source::FileId;
 use grammar_lang::syntax::lexer::TokenKind;
 use grammar_lang::{Config, Location, Span};
 use std::path::Path;
-use trellis_ide::{self as ide, Analysis, EngineFacts, Lookup, NtRole, RenameError, TextEdit};
+use trellis_ide::{
+    self as ide, Analysis, EngineFacts, FoldKind, FoldingRange, Lookup, NtRole, RenameError,
+    TextEdit,
+};
 use trellis_test_support::{apply_edits, assert_diagnostics, Fixture};
 
 /// Analyses a fixture through the façade, its first file as the root.
@@ -60,6 +66,20 @@ fn places<const N: usize>(f: &Fixture, path: &str) -> [usize; N] {
     spans::<N>(f, path).map(|s| s.start as usize)
 }
 
+/// Every range marked `[[…]]` in the fixture as a location, file by file
+/// in the order the files are written.
+fn marked_locations(f: &Fixture, a: &Analysis) -> Vec<Location> {
+    f.files
+        .iter()
+        .flat_map(|file| {
+            let id = id(a, file.path.to_str().unwrap());
+            file.ranges
+                .iter()
+                .map(move |r| Location::new(id, Span::new(r.start, r.end)))
+        })
+        .collect()
+}
+
 /// Every offset from the start of `span` to its end (both included) that
 /// is a character boundary of `text`.
 fn offsets(text: &str, span: Span) -> impl Iterator<Item = usize> + '_ {
@@ -87,66 +107,36 @@ fn lookup_names_the_role_of_every_non_terminal_occurrence_wherever_the_cursor_to
     let (f, a) = analyse_clean(
         r#"
         === main.trellis ===
-        grammar fähre
-        start [[Anfrage]]
+        start [[Fähre]]
         use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        [[Anfrage]] {
-          0.55  Wunsch [[Fahrkarte]]
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
+        [[Fähre]] {
+          0.5  "hin" [[Rückfahrt]]
+          0.5  "zurück"
         }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte ([[Art]] "Tages") "Fahrkarte"))
-        }
+        test "t" { accept "hin ab" as (Fähre "hin" ([[Rückfahrt]] "ab")) }
         === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        [[Art]] {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        [[Rückfahrt]] { "ab" }
         "#,
     );
     let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
     let g = &a.grammar;
-    let (anfrage, fahrkarte, art) = (
-        g.nt("Anfrage").unwrap(),
-        g.nt("Fahrkarte").unwrap(),
-        g.nt("Art").unwrap(),
-    );
+    let (faehre, rueckfahrt) = (g.nt("Fähre").unwrap(), g.nt("Rückfahrt").unwrap());
     let [start, definition, use_in_first_rule, test_label] = spans(&f, "main.trellis");
     let [definition_in_lexikon] = spans(&f, "lexikon.trellis");
     let expected = [
-        (m, start, anfrage, NtRole::Start),
-        (m, definition, anfrage, NtRole::Definition),
-        // `0.55  Wunsch Fahrkarte` is the first rule of `Anfrage`.
+        (m, start, faehre, NtRole::Start),
+        (m, definition, faehre, NtRole::Definition),
+        // `0.5  "hin" Rückfahrt` is the first rule of `Fähre`.
         (
             m,
             use_in_first_rule,
-            fahrkarte,
+            rueckfahrt,
             NtRole::Use {
-                rule: Some(g.nonterminal(anfrage).rules[0]),
+                rule: Some(g.nonterminal(faehre).rules[0]),
             },
         ),
-        (m, test_label, art, NtRole::TestLabel),
-        (l, definition_in_lexikon, art, NtRole::Definition),
+        (m, test_label, rueckfahrt, NtRole::TestLabel),
+        (l, definition_in_lexikon, rueckfahrt, NtRole::Definition),
     ];
     for (file, span, nt, role) in expected {
         // From the name's first character to right after its last.
@@ -165,50 +155,18 @@ fn lookup_finds_terminals_weights_keywords_and_use_paths() {
     let (f, a) = analyse_clean(
         r#"
         === main.trellis ===
-        grammar fähre
-        start Anfrage
+        start Fahrt
         use [["lexikon.trellis"]]
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          [[15%]]   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
+        Fahrt [[relative]] { [[3]] [["Rückfahrt"]] | 1 Art }
         === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          [["Rückfahrt"]] | "Einzel" | "Tages"
-        }
-
-        Anzahl [[relative]] {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        Art { "Einzel" }
         "#,
     );
     let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
     let g = &a.grammar;
-    let [use_path, weight] = spans(&f, "main.trellis");
-    let [rueckfahrt, relative] = spans(&f, "lexikon.trellis");
+    let [use_path, relative, weight, rueckfahrt] = spans(&f, "main.trellis");
     let expected = [
         (
-            l,
             rueckfahrt,
             Lookup::Terminal {
                 term: Some(g.term("Rückfahrt").unwrap()),
@@ -217,15 +175,13 @@ fn lookup_finds_terminals_weights_keywords_and_use_paths() {
             },
         ),
         (
-            m,
             weight,
             Lookup::Weight {
-                rule: g.nonterminal(g.nt("Anfrage").unwrap()).rules[2],
+                rule: g.nonterminal(g.nt("Fahrt").unwrap()).rules[0],
                 span: weight,
             },
         ),
         (
-            l,
             relative,
             Lookup::Keyword {
                 keyword: TokenKind::KwRelative,
@@ -233,7 +189,6 @@ fn lookup_finds_terminals_weights_keywords_and_use_paths() {
             },
         ),
         (
-            m,
             use_path,
             Lookup::UsePath {
                 target: Some(l),
@@ -241,62 +196,32 @@ fn lookup_finds_terminals_weights_keywords_and_use_paths() {
             },
         ),
     ];
-    for (file, span, found) in expected {
-        for offset in offsets(&a.sources.get(file).text, span) {
-            assert_eq!(a.lookup(file, offset), Some(found.clone()), "at {offset}");
+    for (span, found) in expected {
+        for offset in offsets(&f.file("main.trellis").text, span) {
+            assert_eq!(a.lookup(m, offset), Some(found.clone()), "at {offset}");
         }
     }
 }
 
 #[test]
 fn lookup_between_a_weight_and_the_first_item_finds_the_whole_alternative() {
+    // The alternative ends with its last item: the comment is not part of it.
     let (f, a) = analyse_clean(
         r#"
-        === main.trellis ===
-        grammar fähre
-        start Anfrage
-        use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          [[0.30 $0 Fahrkarte Bitte]]      # höflich
-          15%   Fahrkarte
+        start Fähre
+        Fähre {
+          0.7  "hin"
+          [[0.3 $0 "Rückfahrt" "bitte"]]  # höflich
         }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
         "#,
     );
     let (file, offset) = cursor(&f, &a);
-    let [alternative] = spans(&f, "main.trellis");
-    let anfrage = a.grammar.nt("Anfrage").unwrap();
+    let [alternative] = spans(&f, "grammar.trellis");
+    let faehre = a.grammar.nt("Fähre").unwrap();
     assert_eq!(
         a.lookup(file, offset),
         Some(Lookup::Alternative {
-            rule: a.grammar.nonterminal(anfrage).rules[1],
+            rule: a.grammar.nonterminal(faehre).rules[1],
             span: alternative
         })
     );
@@ -306,156 +231,70 @@ fn lookup_between_a_weight_and_the_first_item_finds_the_whole_alternative() {
 fn lookup_finds_nothing_on_comments_blank_lines_past_the_end_or_in_unknown_files() {
     let (f, a) = analyse_clean(
         r#"
-        === main.trellis ===
-        grammar fähre
-        start Anfrage
-        use "lexikon.trellis"
+        start Fähre
         [[]]
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      [[# höflich]]
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        Fähre { "hin" }  [[# höflich]]
         "#,
     );
-    let m = id(&a, "main.trellis");
-    let main = &f.file("main.trellis").text;
-    let [blank_line, comment] = spans(&f, "main.trellis");
+    let m = id(&a, "grammar.trellis");
+    let text = &f.root().text;
+    let [blank_line, comment] = spans(&f, "grammar.trellis");
     for span in [blank_line, comment] {
-        for offset in offsets(main, span) {
+        for offset in offsets(text, span) {
             assert_eq!(a.lookup(m, offset), None, "at {offset}");
         }
     }
-    assert_eq!(a.lookup(m, main.len() + 100), None);
+    assert_eq!(a.lookup(m, text.len() + 100), None);
     assert_eq!(a.lookup(FileId(7), 0), None);
+}
+
+/// What hover says at the fixture's `$0`, with the engine's facts if given.
+#[track_caller]
+fn hover_at_cursor(f: &Fixture, a: &Analysis, facts: Option<&EngineFacts>) -> ide::Hover {
+    let (file, offset) = cursor(f, a);
+    ide::hover(a, a.index(), file, offset, facts).expect("a hover at the cursor")
 }
 
 // ── hover ───────────────────────────────────────────────────────────────
 
 #[test]
 fn hover_on_a_weight_gives_the_rule_exact_probability_share_and_total() {
+    // 0.55 + 0.45 = 1: the weight is the probability, 11/20.
     let (f, a) = analyse_clean(
         r#"
-        === main.trellis ===
-        grammar fähre
-        start Anfrage
-        use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          [[0.$055]]  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
+        start Fähre
+        Fähre {
+          [[0.$055]]  "hin"
+          0.45  "zurück"
         }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
         "#,
     );
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
-    assert_eq!(h.span, spans::<1>(&f, "main.trellis")[0]);
+    let h = hover_at_cursor(&f, &a, None);
+    assert_eq!(h.span, spans::<1>(&f, "grammar.trellis")[0]);
     assert_eq!(
         h.markdown,
-        "**rule** `Anfrage → Wunsch Fahrkarte`\n\
+        "**rule** `Fähre → \"hin\"`\n\
          \n\
          - weight as written: `0.55` (decimal)\n\
          - probability: 11/20 = 0.55\n\
-         - share of `Anfrage`: 55% of its total\n\
-         - total of `Anfrage`: 1\n"
+         - share of `Fähre`: 55% of its total\n\
+         - total of `Fähre`: 1\n"
     );
 }
 
 #[test]
 fn hover_on_a_relative_alternative_shows_the_division_and_expected_uses() {
     // The cursor on the space between weight and word: anywhere on the
-    // alternative.
+    // alternative. The expected uses are the engine's to compute; here
+    // they are given.
     let (f, a) = analyse_clean(
         r#"
-        === main.trellis ===
-        grammar fähre
-        start Anfrage
-        use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
+        start Anzahl
         Anzahl relative {
           6   "eine"
           [[3 $0  "zwei"]]
           1   "drei"
         }
-
-        Bitte { "bitte" }
         "#,
     );
     let zwei = a.grammar.nonterminal(a.grammar.nt("Anzahl").unwrap()).rules[1];
@@ -465,9 +304,8 @@ fn hover_on_a_relative_alternative_shows_the_division_and_expected_uses() {
         rule_expected_uses: uses,
         ..EngineFacts::default()
     };
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, Some(&facts)).unwrap();
-    assert_eq!(h.span, spans::<1>(&f, "lexikon.trellis")[0]);
+    let h = hover_at_cursor(&f, &a, Some(&facts));
+    assert_eq!(h.span, spans::<1>(&f, "grammar.trellis")[0]);
     assert_eq!(
         h.markdown,
         "**rule** `Anzahl → \"zwei\"`\n\
@@ -483,49 +321,9 @@ fn hover_on_a_relative_alternative_shows_the_division_and_expected_uses() {
 
 #[test]
 fn hover_on_an_unweighted_alternative_explains_the_shared_remainder() {
-    // `Wunsch { "ich"  "möchte" }`: one unweighted alternative gets everything.
-    let (f, a) = analyse_clean(
-        r#"
-        === main.trellis ===
-        grammar fähre
-        start Anfrage
-        use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich" $0 "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
-        "#,
-    );
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    // One unweighted alternative gets everything.
+    let (f, a) = analyse_clean("start Wunsch\nWunsch { \"ich\" $0 \"möchte\" }\n");
+    let h = hover_at_cursor(&f, &a, None);
     assert!(
         h.markdown.contains(
             "- unweighted: shares what the weighted alternatives leave\n- probability: 1\n"
@@ -541,41 +339,15 @@ fn hover_on_a_non_terminal_shows_doc_rules_reachability_and_termination() {
     let (f, a) = analyse_clean(
         r#"
         === main.trellis ===
-        grammar fähre
-        start Anfrage
+        start Fähre
         use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl [[A$0rt]] "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        Fähre {
+          0.5  [[A$0rt]] "Fahrkarte"
+          0.5  Art
         }
         === lexikon.trellis ===
         ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        Art { "Rückfahrt" | "Einzel" | "Tages" }
         "#,
     );
     let art = a.grammar.nt("Art").unwrap();
@@ -585,8 +357,7 @@ fn hover_on_a_non_terminal_shows_doc_rules_reachability_and_termination() {
             .collect(),
         rule_expected_uses: Vec::new(),
     };
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, Some(&facts)).unwrap();
+    let h = hover_at_cursor(&f, &a, Some(&facts));
     assert_eq!(h.span, spans::<1>(&f, "main.trellis")[0]);
     assert_eq!(
         h.markdown,
@@ -595,7 +366,7 @@ fn hover_on_a_non_terminal_shows_doc_rules_reachability_and_termination() {
          Die Art der Fahrkarte.\n\
          \n\
          - 3 rules\n\
-         - reachable from the start symbol `Anfrage`\n\
+         - reachable from the start symbol `Fähre`\n\
          - productive: derives at least one string of words\n\
          - used 2 times on right-hand sides\n\
          - termination probability: 1\n"
@@ -606,46 +377,12 @@ fn hover_on_a_non_terminal_shows_doc_rules_reachability_and_termination() {
 fn hover_without_engine_facts_still_answers_without_the_termination_line() {
     let (f, a) = analyse_clean(
         r#"
-        === main.trellis ===
-        grammar fähre
         start Anfrage
-        use "lexikon.trellis"
-
         ## Was ein Fahrgast am Automaten sagt.
-        $0Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        $0Anfrage { "hin" | "zurück" | "bitte" }
         "#,
     );
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    let h = hover_at_cursor(&f, &a, None);
     assert_eq!(
         h.markdown,
         "**start symbol** `Anfrage`\n\
@@ -683,47 +420,15 @@ fn hover_reports_unreachable_unproductive_and_undefined_symbols() {
 fn hover_on_a_terminal_tables_the_rules_that_produce_it() {
     let (f, a) = analyse_clean(
         r#"
-        === main.trellis ===
-        grammar fähre
-        start Anfrage
-        use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
+        start Fahrkarte
         Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art [["$0Fahrkarte"]]
+          1/2   "Rückfahrt" "Fahrkarte"
+          1/2   [["$0Fahrkarte"]]
         }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
         "#,
     );
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
-    assert_eq!(h.span, spans::<1>(&f, "main.trellis")[0]);
+    let h = hover_at_cursor(&f, &a, None);
+    assert_eq!(h.span, spans::<1>(&f, "grammar.trellis")[0]);
     assert_eq!(
         h.markdown,
         "**terminal** `\"Fahrkarte\"`\n\
@@ -732,8 +437,8 @@ fn hover_on_a_terminal_tables_the_rules_that_produce_it() {
          \n\
          | non-terminal | rule | probability |\n\
          |---|---|---|\n\
-         | `Fahrkarte` | `Fahrkarte → Anzahl Art \"Fahrkarte\"` | 1/2 = 0.5 |\n\
-         | `Fahrkarte` | `Fahrkarte → Art \"Fahrkarte\"` | 1/2 = 0.5 |\n"
+         | `Fahrkarte` | `Fahrkarte → \"Rückfahrt\" \"Fahrkarte\"` | 1/2 = 0.5 |\n\
+         | `Fahrkarte` | `Fahrkarte → \"Fahrkarte\"` | 1/2 = 0.5 |\n"
     );
 }
 
@@ -746,8 +451,7 @@ fn hover_on_a_test_tree_word_that_no_rule_has_says_so() {
         test "t" { accept "a" as (S "$0zz") }
         "#,
     );
-    let (file, offset) = cursor(&f, &a);
-    let h = ide::hover(&a, a.index(), file, offset, None).unwrap();
+    let h = hover_at_cursor(&f, &a, None);
     assert_eq!(
         h.markdown,
         "**terminal** `\"zz\"`\n\nno rule produces this word\n"
@@ -756,50 +460,10 @@ fn hover_on_a_test_tree_word_that_no_rule_has_says_so() {
 
 #[test]
 fn hover_explains_keywords_and_nothing_on_comments() {
-    let (f, a) = analyse_clean(
-        r#"
-        === main.trellis ===
-        grammar fähre
-        start Anfrage
-        use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # [[]]höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl [[]]relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
-        "#,
-    );
-    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
-    let [comment] = places(&f, "main.trellis");
-    let [relative] = places(&f, "lexikon.trellis");
-    let h = ide::hover(&a, a.index(), l, relative, None).unwrap();
+    let (f, a) = analyse_clean("start S\nS [[]]relative { 1 \"ja\" }  # [[]]höflich\n");
+    let m = id(&a, "grammar.trellis");
+    let [relative, comment] = places(&f, "grammar.trellis");
+    let h = ide::hover(&a, a.index(), m, relative, None).unwrap();
     assert!(h.markdown.starts_with("`relative`:"), "{}", h.markdown);
     assert_eq!(ide::hover(&a, a.index(), m, comment, None), None);
 }
@@ -808,50 +472,24 @@ fn hover_explains_keywords_and_nothing_on_comments() {
 
 #[test]
 fn definition_jumps_across_used_files() {
+    // Empty ranges are the places asked at; `Fähre`'s definition and
+    // `Anzahl`'s are the spans expected.
     let (f, a) = analyse_clean(
         r#"
         === main.trellis ===
-        grammar fähre
-        start [[]]Anfrage
+        start [[]]Fähre
         use "le[[]]xikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        [[Anfrage]] {
-          [[]]0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   An[[]]zahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        [[Fähre]] {
+          [[]]0.5  An[[]]zahl "Fahrkarten"
+          0.5  "keine"
         }
         === lexikon.trellis ===
-        [[]]## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        [[Anzahl]] relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        [[]]## Wie viele.
+        [[Anzahl]] relative { 6 "eine" | 3 "zwei" }
         "#,
     );
     let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
-    // Empty ranges are the places asked at; `Anfrage`'s definition and
-    // `Anzahl`'s are the spans expected.
-    let [start, use_path, anfrage_definition, weight, anzahl] = spans(&f, "main.trellis");
+    let [start, use_path, faehre_definition, weight, anzahl] = spans(&f, "main.trellis");
     let [start, use_path, weight, anzahl] =
         [start, use_path, weight, anzahl].map(|s| s.start as usize);
     let [start_of_lexikon, anzahl_definition] = spans(&f, "lexikon.trellis");
@@ -861,9 +499,10 @@ fn definition_jumps_across_used_files() {
     );
     assert_eq!(
         a.definition(m, start),
-        Some(Location::new(m, anfrage_definition))
+        Some(Location::new(m, faehre_definition))
     );
-    // The path of a `use` leads to the start of that file.
+    // The path of a `use` leads to the start of that file, not to its
+    // first block.
     assert_eq!(
         a.definition(m, use_path),
         Some(Location::new(l, start_of_lexikon))
@@ -874,216 +513,83 @@ fn definition_jumps_across_used_files() {
 
 #[test]
 fn references_to_a_non_terminal_cover_rhs_uses_and_test_labels_in_every_file() {
+    // Asked at the definition in the lexikon; the references are in main.
     let (f, a) = analyse_clean(
         r#"
         === main.trellis ===
-        grammar fähre
-        start Anfrage
+        start Fahrkarte
         use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl [[Art]] "Fahrkarte"
-          1/2   [[Art]] "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte ([[Art]] "Tages") "Fahrkarte"))
-        }
+        Fahrkarte { 0.5 "eine" [[Ermäßigung]] | 0.5 [[Ermäßigung]] }
+        test "t" { accept "halb" as (Fahrkarte ([[Ermäßigung]] "halb")) }
         === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        $0Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        $0Ermäßigung { "halb" | "frei" }
         "#,
     );
-    let m = id(&a, "main.trellis");
     let (file, offset) = cursor(&f, &a);
-    let expected: Vec<Location> = spans::<3>(&f, "main.trellis")
-        .into_iter()
-        .map(|s| Location::new(m, s))
-        .collect();
-    assert_eq!(a.references(file, offset, false), expected);
+    assert_eq!(a.references(file, offset, false), marked_locations(&f, &a));
 }
 
 #[test]
 fn references_with_the_definition_include_start_and_block_head() {
     let (f, a) = analyse_clean(
         r#"
-        === main.trellis ===
-        grammar fähre
-        start [[$0Anfrage]]
-        use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        [[Anfrage]] {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as ([[Anfrage]] (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        start [[$0Fähre]]
+        [[Fähre]] { "hin" | "zurück" }
+        test "t" { accept "hin" as ([[Fähre]] "hin") }
         "#,
     );
-    let m = id(&a, "main.trellis");
     let (file, offset) = cursor(&f, &a);
-    let expected: Vec<Location> = spans::<3>(&f, "main.trellis")
-        .into_iter()
-        .map(|s| Location::new(m, s))
-        .collect();
-    assert_eq!(a.references(file, offset, true), expected);
+    assert_eq!(a.references(file, offset, true), marked_locations(&f, &a));
 }
 
 #[test]
 fn references_to_a_word_cover_every_right_hand_side_and_tree_leaf_with_it() {
+    // Marked, in order: on a right-hand side and a tree leaf in main, on a
+    // right-hand side in the lexikon; not the test case's sentence, which
+    // is not a word of the grammar.
     let (f, a) = analyse_clean(
         r#"
         === main.trellis ===
-        grammar fähre
-        start Anfrage
+        start Fahrt
         use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art [["Tages"]]) "Fahrkarte"))
-        }
+        Fahrt { 0.5 "eine" [["Rückfahrt"]] | 0.5 Art }
+        test "t" { accept "eine Rückfahrt" as (Fahrt "eine" [["Rückfahrt"]]) }
         === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | [[$0"Tages"]]
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        Art { "Einzel" | [[$0"Rückfahrt"]] }
         "#,
     );
-    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
     let (file, offset) = cursor(&f, &a);
-    let [in_tree] = spans(&f, "main.trellis");
-    let [in_lexikon] = spans(&f, "lexikon.trellis");
-    assert_eq!(
-        a.references(file, offset, true),
-        vec![Location::new(m, in_tree), Location::new(l, in_lexikon)]
-    );
+    assert_eq!(a.references(file, offset, true), marked_locations(&f, &a));
 }
 
 // ── rename ──────────────────────────────────────────────────────────────
 
 #[test]
 fn rename_changes_every_occurrence_in_every_file_including_test_trees() {
-    // Marked: every occurrence of `Art`, the cursor on a use.
+    // Marked: every occurrence of `Fähre`, the cursor on a use.
     let (f, a) = analyse_clean(
         r#"
         === main.trellis ===
-        grammar fähre
-        start Anfrage
+        start Überfahrt
         use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl [[A$0rt]] "Fahrkarte"
-          1/2   [[Art]] "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte ([[Art]] "Tages") "Fahrkarte"))
+        Überfahrt { [[Fä$0hre]] "über" [[Fähre]] }
+        test "hin und zurück" {
+          accept "Boot über Boot" as (Überfahrt ([[Fähre]] "Boot") "über" ([[Fähre]] "Boot"))
         }
         === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        [[Art]] {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        [[Fähre]] { "Boot" }
         "#,
     );
     let (file, offset) = cursor(&f, &a);
     assert_eq!(
         a.prepare_rename(file, offset),
-        Ok(spans::<3>(&f, "main.trellis")[0])
+        Ok(spans::<4>(&f, "main.trellis")[0])
     );
-    let edits = a.rename(file, offset, "Kartenart").unwrap();
-    assert_eq!(edits.len(), 4);
+    let edits = a.rename(file, offset, "Kahn").unwrap();
+    assert_eq!(edits.len(), 5);
     let renamed = |path: &str| {
         let file = f.file(path);
-        apply_edits(
-            &file.text,
-            file.ranges.iter().map(|r| (r.clone(), "Kartenart")),
-        )
+        apply_edits(&file.text, file.ranges.iter().map(|r| (r.clone(), "Kahn")))
     };
     let (main, lexikon) = (renamed("main.trellis"), renamed("lexikon.trellis"));
     assert_eq!(apply(&a, &edits), vec![main.clone(), lexikon.clone()]);
@@ -1091,14 +597,14 @@ fn rename_changes_every_occurrence_in_every_file_including_test_trees() {
         "=== main.trellis ===\n{main}=== lexikon.trellis ===\n{lexikon}"
     ));
     assert_eq!(g.files.len(), 2);
-    assert!(b.grammar.nt("Art").is_none());
+    assert!(b.grammar.nt("Fähre").is_none());
     assert_eq!(
-        b.grammar.tests[0].cases[1]
+        b.grammar.tests[0].cases[0]
             .tree
             .as_ref()
             .unwrap()
             .to_brackets(),
-        "(Anfrage (Fahrkarte (Kartenart \"Tages\") \"Fahrkarte\"))"
+        "(Überfahrt (Kahn \"Boot\") \"über\" (Kahn \"Boot\"))"
     );
 }
 
@@ -1106,50 +612,20 @@ fn rename_changes_every_occurrence_in_every_file_including_test_trees() {
 fn rename_refuses_terminals_keywords_bad_names_and_collisions() {
     let (f, a) = analyse_clean(
         r#"
-        === main.trellis ===
-        grammar fähre
-        start Anfrage
-        use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0[[]].55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
+        start Fahrt
+        Fahrt r[[]]elative {
+          1[[]]0  "[[]]Einzel" [[]]Art
+          5   Bitte
         }
-
-        Fahrkarte {
-          1/2   Anzahl [[]]Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "[[]]Einzel" | "Tages"
-        }
-
-        Anzahl r[[]]elative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
+        Art { "hin" }
         Bitte { "bitte" }
         "#,
     );
-    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
-    let [weight, art] = places(&f, "main.trellis");
-    let [terminal, keyword] = places(&f, "lexikon.trellis");
-    assert_eq!(a.prepare_rename(l, terminal), Err(RenameError::Terminal));
+    let m = id(&a, "grammar.trellis");
+    let [keyword, weight, terminal, art] = places(&f, "grammar.trellis");
+    assert_eq!(a.prepare_rename(m, terminal), Err(RenameError::Terminal));
     assert_eq!(
-        a.prepare_rename(l, keyword),
+        a.prepare_rename(m, keyword),
         Err(RenameError::Keyword("relative"))
     );
     assert_eq!(a.prepare_rename(m, weight), Err(RenameError::NotASymbol));
@@ -1254,44 +730,29 @@ fn semantic_tokens_classify_every_token_and_mark_definitions() {
 #[test]
 fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
     use trellis_ide::{DocumentSymbol, SymbolKind};
+    // Each file has its own outline; between the two `$0`: `Anzahl`'s block.
     let (f, a) = analyse_clean(
         r#"
         === main.trellis ===
         grammar fähre
         start Anfrage
         use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
         Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
+          0.55  Wunsch Art
+          0.45  Anzahl Art
         }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
+        Wunsch { "ich" }
         test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+          accept "ich Rückfahrt"
+          accept "zwei Einzel" as (Anfrage (Anzahl "zwei") (Art "Einzel"))
         }
         === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
+        Art { "Rückfahrt" | "Einzel" }
         $0[[Anzahl]] relative {
           [[6   "eine"]]
           3   "zwei"
           1   "drei"
         }$0
-
-        Bitte { "bitte" }
         "#,
     );
     let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
@@ -1310,12 +771,10 @@ fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
     assert_eq!(
         summary,
         vec![
-            ("Art", SymbolKind::Block, Some("3 rules"), 3),
+            ("Art", SymbolKind::Block, Some("2 rules"), 2),
             ("Anzahl", SymbolKind::Block, Some("3 rules · relative"), 3),
-            ("Bitte", SymbolKind::Block, Some("1 rule"), 1),
         ]
     );
-    // The block is the range between the two `$0`.
     let lexikon = &f.file("lexikon.trellis").text;
     let block = f.cursor_range();
     let [name, alternative] = spans(&f, "lexikon.trellis");
@@ -1330,6 +789,7 @@ fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
         anzahl.children[0],
         DocumentSymbol {
             name: "\"eine\"".into(),
+            // 6 / (6 + 3 + 1) = 3/5.
             detail: Some("6 · p = 3/5 = 0.6".into()),
             kind: SymbolKind::Rule,
             span: alternative,
@@ -1351,62 +811,34 @@ fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
             (SymbolKind::Start, "Anfrage"),
             (SymbolKind::Use, "lexikon.trellis"),
             (SymbolKind::Block, "Anfrage"),
-            (SymbolKind::Block, "Fahrkarte"),
             (SymbolKind::Block, "Wunsch"),
             (SymbolKind::Test, "Bestellungen"),
         ]
     );
-    let test = &outline[6];
+    let test = &outline[5];
     assert_eq!(test.detail.as_deref(), Some("test · 2 cases"));
-    assert_eq!(test.children[1].name, "Tages Fahrkarte");
+    assert_eq!(test.children[1].name, "zwei Einzel");
     assert_eq!(test.children[1].detail.as_deref(), Some("accept as tree"));
     assert_eq!(
         outline[3].children[0].detail.as_deref(),
         Some("0.55 · p = 11/20 = 0.55")
     );
-    assert_eq!(outline[5].children[0].detail.as_deref(), Some("p = 1"));
+    assert_eq!(outline[4].children[0].detail.as_deref(), Some("p = 1"));
 }
 
 #[test]
 fn workspace_symbols_rank_exact_prefix_substring_then_fuzzy_matches() {
+    // Four blocks in two files.
     let (f, a) = analyse_clean(
         r#"
         === main.trellis ===
-        grammar fähre
         start Anfrage
         use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
+        Anfrage { 0.5 Anzahl Fahrkarte | 0.5 Fahrkarte }
+        Fahrkarte { Art "Fahrkarte" }
         === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        [[Anzahl]] relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        Art { "Rückfahrt" | "Einzel" }
+        [[Anzahl]] relative { 6 "eine" | 3 "zwei" }
         "#,
     );
     let names = |q: &str| -> Vec<String> {
@@ -1415,12 +847,13 @@ fn workspace_symbols_rank_exact_prefix_substring_then_fuzzy_matches() {
             .map(|s| s.name)
             .collect()
     };
+    // Exact, then the substring in `Fahrkarte`.
     assert_eq!(names("art"), vec!["Art", "Fahrkarte"]);
     assert_eq!(names("an"), vec!["Anzahl", "Anfrage"]);
     // Fuzzy: the characters in order.
     assert_eq!(names("fkt"), vec!["Fahrkarte"]);
     assert_eq!(names("zz"), Vec::<String>::new());
-    assert_eq!(names("").len(), 6);
+    assert_eq!(names("").len(), 4);
     assert_eq!(a.workspace_symbols("", 2).len(), 2);
     let anzahl = &a.workspace_symbols("Anzahl", 10)[0];
     let [definition] = spans(&f, "lexikon.trellis");
@@ -1428,10 +861,10 @@ fn workspace_symbols_rank_exact_prefix_substring_then_fuzzy_matches() {
         anzahl.location,
         Location::new(id(&a, "lexikon.trellis"), definition)
     );
-    assert_eq!(anzahl.detail, "3 rules · relative");
+    assert_eq!(anzahl.detail, "2 rules · relative");
     assert_eq!(
         a.workspace_symbols("anfrage", 10)[0].detail,
-        "3 rules · start"
+        "2 rules · start"
     );
 }
 
@@ -1561,83 +994,50 @@ fn completion_in_tests_offers_case_keywords_as_and_tree_labels() {
 fn inlay_hints_show_resolved_probabilities_of_unweighted_and_relative_alternatives() {
     // Marked `[[]]`: where each hint stands (before an unweighted
     // alternative's first item, after a relative weight); between the two
-    // `$0`: one line of the lexikon.
+    // `$0`: one line. `Fahrt`'s weighted alternatives get none.
     let (f, a) = analyse_clean(
         r#"
-        === main.trellis ===
-        grammar fähre
-        start Anfrage
-        use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
+        start Fahrt
+        Fahrt {
+          0.5  Anzahl Art
+          0.5  Art Bitte
         }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { [[]]"ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          [[]]"Rückfahrt" | [[]]"Einzel" | [[]]"Tages"
-        }
-
+        Art { [[]]"Rückfahrt" | [[]]"Einzel" }
         Anzahl relative {
           6[[]]   "eine"
         $0  3[[]]   "zwei"$0
           1[[]]   "drei"
         }
-
         Bitte { [[]]"bitte" }
         "#,
     );
-    let (m, l) = (id(&a, "main.trellis"), id(&a, "lexikon.trellis"));
-    let lexikon = &f.file("lexikon.trellis").text;
-    let whole = Span::new(0, lexikon.len());
+    let m = id(&a, "grammar.trellis");
+    let whole = Span::new(0, f.root().text.len());
     let hints: Vec<(usize, String, bool, bool)> = a
-        .inlay_hints(l, whole)
+        .inlay_hints(m, whole)
         .into_iter()
         .map(|h| (h.offset, h.label, h.pad_left, h.pad_right))
         .collect();
-    let [rueckfahrt, einzel, tages, eine, zwei, drei, bitte] = spans(&f, "lexikon.trellis");
-    let at = |s: Span| s.start as usize;
+    let [rueckfahrt, einzel, eine, zwei, drei, bitte] = places(&f, "grammar.trellis");
     assert_eq!(
         hints,
         vec![
-            (at(rueckfahrt), "= 1/3".to_string(), false, true),
-            (at(einzel), "= 1/3".to_string(), false, true),
-            (at(tages), "= 1/3".to_string(), false, true),
-            (at(eine), "= 3/5".to_string(), true, false),
-            (at(zwei), "= 3/10".to_string(), true, false),
-            (at(drei), "= 1/10".to_string(), true, false),
-            (at(bitte), "= 1".to_string(), false, true),
+            (rueckfahrt, "= 1/2".to_string(), false, true),
+            (einzel, "= 1/2".to_string(), false, true),
+            (eine, "= 3/5".to_string(), true, false),
+            (zwei, "= 3/10".to_string(), true, false),
+            (drei, "= 1/10".to_string(), true, false),
+            (bitte, "= 1".to_string(), false, true),
         ]
     );
-    let tooltip = &a.inlay_hints(l, whole)[3].tooltip;
+    let tooltip = &a.inlay_hints(m, whole)[2].tooltip;
     assert_eq!(
         tooltip,
         "probability of `Anzahl → \"eine\"`: 3/5 = 0.6 (weight divided by the block's sum)"
     );
-    // Only the requested range; weighted alternatives of plain blocks get none.
+    // Only the requested range.
     let line = f.cursor_range();
-    assert_eq!(a.inlay_hints(l, Span::new(line.start, line.end)).len(), 1);
-    let [ich] = places(&f, "main.trellis");
-    let main = &f.file("main.trellis").text;
-    assert!(a
-        .inlay_hints(m, Span::new(0, main.len()))
-        .iter()
-        .all(|h| h.offset == ich));
+    assert_eq!(a.inlay_hints(m, Span::new(line.start, line.end)).len(), 1);
 }
 
 #[test]
@@ -1656,46 +1056,19 @@ fn inlay_hints_approximate_long_fractions() {
 
 #[test]
 fn code_lenses_sit_on_start_and_on_each_test() {
-    // Parse, sample and run every test above `start`; run one above each test.
+    // Parse, sample and run every test above `start`; run one above each
+    // test; none in a used file that has neither.
     use trellis_ide::{CodeLens, CodeLensKind};
     let (f, a) = analyse_clean(
         r#"
         === main.trellis ===
-        grammar fähre
-        [[start Anfrage]]
+        [[start Fähre]]
         use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        [[test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
+        [[test "Überfahrt" {
+          accept "hin"
         }]]
         === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        Fähre { "hin" | "zurück" }
         "#,
     );
     let [start, test] = spans(&f, "main.trellis");
@@ -1718,7 +1091,7 @@ fn code_lenses_sit_on_start_and_on_each_test() {
                 span: test,
                 kind: CodeLensKind::RunTest {
                     test: 0,
-                    name: "Bestellungen".into()
+                    name: "Überfahrt".into()
                 }
             },
         ]
@@ -1728,66 +1101,48 @@ fn code_lenses_sit_on_start_and_on_each_test() {
 
 // ── folding, links, highlights ──────────────────────────────────────────
 
-#[test]
-fn folding_ranges_cover_multi_line_blocks_and_tests() {
-    use trellis_ide::{FoldKind, FoldingRange};
-    // `Wunsch { … }` fits on one line: no fold.
-    let (f, a) = analyse_clean(
-        r#"
-        === main.trellis ===
-        grammar fähre
-        start Anfrage
-        use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        [[Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }]]
-
-        [[Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }]]
-
-        Wunsch { "ich"  "möchte" }
-
-        [[test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }]]
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
-        "#,
-    );
-    let folds: Vec<FoldingRange> = spans::<3>(&f, "main.trellis")
-        .into_iter()
-        .map(|span| FoldingRange {
-            span,
-            kind: FoldKind::Declaration,
+/// The folds of a one-file fixture that analyses cleanly are the ranges
+/// it marks `[[…]]`, all of `kind`.
+#[track_caller]
+fn assert_folds(kind: FoldKind, fixture: &str) {
+    let (f, a) = analyse_clean(fixture);
+    let marked: Vec<FoldingRange> = f
+        .root()
+        .ranges
+        .iter()
+        .map(|r| FoldingRange {
+            span: Span::new(r.start, r.end),
+            kind,
         })
         .collect();
-    assert_eq!(a.folding_ranges(id(&a, "main.trellis")), folds);
+    assert_eq!(a.folding_ranges(id(&a, "grammar.trellis")), marked);
+}
+
+#[test]
+fn folding_ranges_cover_multi_line_blocks_and_tests() {
+    // `Wunsch { … }` fits on one line: no fold.
+    assert_folds(
+        FoldKind::Declaration,
+        r#"
+        start Fahrt
+        [[Fahrt {
+          0.5  "hin"
+          0.5  Wunsch
+        }]]
+        Wunsch { "zurück" }
+        [[test "Überfahrt" {
+          accept "hin"
+        }]]
+        "#,
+    );
 }
 
 #[test]
 fn folding_ranges_cover_runs_of_comment_lines() {
-    use trellis_ide::{FoldKind, FoldingRange};
     // Comment lines in a row fold; a comment after code does not count, and
     // a blank line ends a run.
-    let (f, a) = analyse(
+    assert_folds(
+        FoldKind::Comment,
         r#"
         [[# eins
         ## zwei
@@ -1800,14 +1155,6 @@ fn folding_ranges_cover_runs_of_comment_lines() {
         S { "s" }
         "#,
     );
-    let folds: Vec<FoldingRange> = spans::<2>(&f, "grammar.trellis")
-        .into_iter()
-        .map(|span| FoldingRange {
-            span,
-            kind: FoldKind::Comment,
-        })
-        .collect();
-    assert_eq!(a.folding_ranges(id(&a, "grammar.trellis")), folds);
 }
 
 #[test]
@@ -1816,41 +1163,10 @@ fn document_links_lead_from_use_paths_to_loaded_files() {
     let (f, a) = analyse_clean(
         r#"
         === main.trellis ===
-        grammar fähre
-        start Anfrage
+        start Fähre
         use [["lexikon.trellis"]]
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") "Fahrkarte"))
-        }
         === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        Fähre { "hin" }
         "#,
     );
     assert_eq!(
@@ -1867,55 +1183,26 @@ fn document_links_lead_from_use_paths_to_loaded_files() {
 #[test]
 fn document_highlights_mark_definitions_and_uses_of_a_non_terminal_in_one_file() {
     use trellis_ide::Highlight;
+    // The word `"Fähre"` is another thing than the name `Fähre`.
     let (f, a) = analyse_clean(
         r#"
-        === main.trellis ===
-        grammar fähre
-        start Anfrage
-        use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch [[Fahrkarte]]
-          0.30  [[Fahrkarte]] Bitte      # höflich
-          15%   [[$0Fahrkarte]]
+        start Fahrt
+        Fahrt {
+          0.5  "hin" [[Fähre]]
+          0.5  [[$0Fähre]]
         }
-
-        [[Fahrkarte]] {
-          1/2   Anzahl Art "Fahrkarte"
-          1/2   Art "Fahrkarte"
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage ([[Fahrkarte]] (Art "Tages") "Fahrkarte"))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        [[Fähre]] { "Fähre" }
+        test "t" { accept "hin Fähre" as (Fahrt "hin" ([[Fähre]] "Fähre")) }
         "#,
     );
     let (file, offset) = cursor(&f, &a);
-    let [in_first, in_second, in_third, definition, test_label] = spans(&f, "main.trellis");
+    let [in_first, in_second, definition, test_label] = spans(&f, "grammar.trellis");
     let h = |span, definition| Highlight { span, definition };
     assert_eq!(
         a.document_highlights(file, offset),
         vec![
             h(in_first, false),
             h(in_second, false),
-            h(in_third, false),
             h(definition, true),
             h(test_label, false),
         ]
@@ -1927,46 +1214,13 @@ fn document_highlights_of_a_word_mark_the_same_quoted_word_everywhere_in_the_fil
     use trellis_ide::Highlight;
     let (f, a) = analyse_clean(
         r#"
-        === main.trellis ===
-        grammar fähre
-        start Anfrage
-        use "lexikon.trellis"
-
-        ## Was ein Fahrgast am Automaten sagt.
-        Anfrage {
-          0.55  Wunsch Fahrkarte
-          0.30  Fahrkarte Bitte      # höflich
-          15%   Fahrkarte
-        }
-
-        Fahrkarte {
-          1/2   Anzahl Art [["F$0ahrkarte"]]
-          1/2   Art [["Fahrkarte"]]
-        }
-
-        Wunsch { "ich"  "möchte" }
-
-        test "Bestellungen" {
-          accept "eine Rückfahrt Fahrkarte bitte"
-          accept "Tages Fahrkarte" as (Anfrage (Fahrkarte (Art "Tages") [["Fahrkarte"]]))
-        }
-        === lexikon.trellis ===
-        ## Die Art der Fahrkarte.
-        Art {
-          "Rückfahrt" | "Einzel" | "Tages"
-        }
-
-        Anzahl relative {
-          6   "eine"
-          3   "zwei"
-          1   "drei"
-        }
-
-        Bitte { "bitte" }
+        start Fahrt
+        Fahrt { [["F$0ähre"]] | "hin" [["Fähre"]] }
+        test "t" { accept "hin Fähre" as (Fahrt "hin" [["Fähre"]]) }
         "#,
     );
     let (file, offset) = cursor(&f, &a);
-    let expected: Vec<Highlight> = spans::<3>(&f, "main.trellis")
+    let expected: Vec<Highlight> = spans::<3>(&f, "grammar.trellis")
         .into_iter()
         .map(|span| Highlight {
             span,
