@@ -15,12 +15,21 @@ use trellis_project::{Analysed, LoadError};
 /// [`trellis_project::analyse_paths`]). An invalid trellis.toml stops
 /// everything: it is reported (on stdout as JSON too, for `--format json`)
 /// and the run ends with [`Outcome::Failure`].
-pub fn analyse(paths: &[PathBuf], format: Format, term: Term) -> Result<Analysed, Stop> {
-    trellis_project::analyse_paths(paths).map_err(|stop| {
+pub fn analyse(
+    paths: &[PathBuf],
+    changed: &[PathBuf],
+    format: Format,
+    term: Term,
+) -> Result<Analysed, Stop> {
+    let mut analysed = trellis_project::analyse_paths(paths).map_err(|stop| {
         report_config_problems(&stop.problems, format, term);
         report_failures(&stop.failures);
         Stop(Outcome::Failure)
-    })
+    })?;
+    if !changed.is_empty() {
+        analysed.checked = trellis_project::affected_by(analysed.checked, changed);
+    }
+    Ok(analysed)
 }
 
 /// Reports invalid configuration files; nothing else is checked.
@@ -60,12 +69,21 @@ pub fn report_failures(failures: &[String]) {
 }
 
 /// Says on stderr that `paths` held no grammar file.
-pub fn note_nothing_found(paths: &[PathBuf]) {
-    let shown: Vec<String> = paths.iter().map(|p| p.display().to_string()).collect();
-    emit(
-        Stream::Stderr,
-        &format!("note: no .trellis files found in {}\n", shown.join(", ")),
-    );
+pub fn note_nothing_found(paths: &[PathBuf], changed: &[PathBuf]) {
+    let shown = |list: &[PathBuf]| -> String {
+        let names: Vec<String> = list.iter().map(|p| p.display().to_string()).collect();
+        names.join(", ")
+    };
+    let note = if changed.is_empty() {
+        format!("note: no .trellis files found in {}\n", shown(paths))
+    } else {
+        format!(
+            "note: no grammar in {} reads {}\n",
+            shown(paths),
+            shown(changed)
+        )
+    };
+    emit(Stream::Stderr, &note);
 }
 
 /// Reads and analyses the grammar at `path` with its trellis.toml and

@@ -3,7 +3,7 @@
 //! reporting a finding that several grammars share only once.
 
 use crate::config::{ConfigProblem, Resolver};
-use crate::discover::{discover, Root};
+use crate::discover::{discover, identity, Root};
 use crate::files::{read_text, DiskLoader};
 use grammar_lang::{Code, Diagnostic, Span};
 use std::collections::HashSet;
@@ -66,21 +66,21 @@ pub struct Selection<'a> {
 
 /// The files of each analysed root's grammar, as identities: the root first.
 fn grammar_files(checked: &[Checked], identity: &impl Fn(&Path) -> PathBuf) -> Vec<Vec<PathBuf>> {
-    checked
+    checked.iter().map(|c| files_of(c, identity)).collect()
+}
+
+/// The files one analysed root's grammar read, as identities: the root first.
+fn files_of(c: &Checked, identity: &impl Fn(&Path) -> PathBuf) -> Vec<PathBuf> {
+    let mut ids: Vec<PathBuf> = c
+        .analysis
+        .sources
         .iter()
-        .map(|c| {
-            let mut ids: Vec<PathBuf> = c
-                .analysis
-                .sources
-                .iter()
-                .map(|(_, f)| identity(&f.path))
-                .collect();
-            if ids.is_empty() {
-                ids.push(identity(&c.root.path));
-            }
-            ids
-        })
-        .collect()
+        .map(|(_, f)| identity(&f.path))
+        .collect();
+    if ids.is_empty() {
+        ids.push(identity(&c.root.path));
+    }
+    ids
 }
 
 /// Which roots stand as grammars of their own (indices into `checked`): a
@@ -126,6 +126,19 @@ pub fn select<'a>(checked: &'a [Checked], identity: impl Fn(&Path) -> PathBuf) -
         findings,
         files: all_files.len(),
     }
+}
+
+/// Keeps the grammars that read one of `changed` — as their root or through
+/// `use` — and drops the others: what a commit hook checks when these files
+/// changed (a lexicon changed alone is checked as part of every grammar
+/// that uses it). Files are compared by identity, so `./a.trellis` and
+/// `sub/../a.trellis` are one file.
+pub fn affected_by(checked: Vec<Checked>, changed: &[PathBuf]) -> Vec<Checked> {
+    let changed: HashSet<PathBuf> = changed.iter().map(|p| identity(p)).collect();
+    checked
+        .into_iter()
+        .filter(|c| files_of(c, &identity).iter().any(|f| changed.contains(f)))
+        .collect()
 }
 
 /// Every root grammar found for the command-line paths, analysed, and a

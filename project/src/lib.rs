@@ -21,5 +21,7 @@ pub mod test_run;
 pub use config::{ConfigProblem, Resolver, Settings, Stamps};
 pub use discover::{discover, identity, paths_or_here, Root};
 pub use files::{read_text, DiskLoader, Overlay};
-pub use grammars::{analyse_paths, grammar_roots, select, speakers, Analysed, Checked, Repeats};
+pub use grammars::{
+    affected_by, analyse_paths, grammar_roots, select, speakers, Analysed, Checked, Repeats,
+};
 pub use load::{load_grammar, LoadError};

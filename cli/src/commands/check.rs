@@ -29,6 +29,12 @@ pub struct CheckArgs {
     #[arg(value_name = "PATH")]
     pub paths: Vec<PathBuf>,
 
+    /// Only the grammars that read one of these files, as their root or
+    /// through `use` (for commit hooks: the files a commit changes; a
+    /// lexicon brings in every grammar that uses it)
+    #[arg(long, value_name = "FILE", num_args = 1..)]
+    pub changed: Vec<PathBuf>,
+
     /// How to print findings: `human` shows source snippets, `json` prints
     /// one object {"diagnostics": [...]} with 1-based lines and columns
     /// counted in characters
@@ -86,7 +92,7 @@ pub fn outcome(counts: Counts, deny_warnings: bool, failed: bool) -> Outcome {
 /// Runs `trellis check`.
 pub fn run(args: &CheckArgs, term: Term) -> Ran {
     let paths = paths_or_here(&args.paths);
-    let Analysed { checked, failures } = analyse(&paths, args.format, term)?;
+    let Analysed { checked, failures } = analyse(&paths, &args.changed, args.format, term)?;
 
     let selection = select(&checked, identity);
     let mut counts = Counts::default();
@@ -115,7 +121,7 @@ pub fn run(args: &CheckArgs, term: Term) -> Ran {
                 ),
             );
             if checked.is_empty() && failures.is_empty() {
-                note_nothing_found(&paths);
+                note_nothing_found(&paths, &args.changed);
             }
         }
     }

@@ -33,6 +33,12 @@ pub struct TestArgs {
     #[arg(value_name = "PATH")]
     pub paths: Vec<PathBuf>,
 
+    /// Only the grammars that read one of these files, as their root or
+    /// through `use` (for commit hooks: the files a commit changes; a
+    /// lexicon brings in every grammar that uses it)
+    #[arg(long, value_name = "FILE", num_args = 1..)]
+    pub changed: Vec<PathBuf>,
+
     /// Run only tests whose name contains TEXT (repeat for several)
     #[arg(long, short = 'f', value_name = "TEXT")]
     pub filter: Vec<String>,
@@ -59,7 +65,7 @@ pub struct TestArgs {
 /// Runs `trellis test`.
 pub fn run(args: &TestArgs, term: Term) -> Ran {
     let paths = paths_or_here(&args.paths);
-    let Analysed { checked, failures } = analyse(&paths, args.format, term)?;
+    let Analysed { checked, failures } = analyse(&paths, &args.changed, args.format, term)?;
     let max_chart_bytes = args.max_chart_mib.saturating_mul(1 << 20);
 
     let selection = test_run::Selection::NameContains(&args.filter);
@@ -100,7 +106,7 @@ pub fn run(args: &TestArgs, term: Term) -> Ran {
             out.push('\n');
             emit(Stream::Stdout, &out);
             if checked.is_empty() && failures.is_empty() {
-                note_nothing_found(&paths);
+                note_nothing_found(&paths, &args.changed);
             }
         }
         Format::Json => json::write(&json::test_document(&suite.grammars, &suite.tally)),
