@@ -16,6 +16,27 @@ use trellis_lsp::{serve, Options};
 #[allow(unused_imports)]
 pub use trellis_test_support::grammars::HARBOUR;
 
+/// Two test blocks for the harbour grammar: "good" holds (2 cases), "bad"
+/// has 2 failing cases of 3 ("boats sail" parses; "ferrys" is no word).
+/// "ferries sail" has the one tree 0.6 · 1/2 · 0.75 = 0.225 (worked by hand).
+pub const HARBOUR_TESTS: &str = "test \"good\" {
+  accept \"ferries sail\" as (S (NP \"ferries\") (VP \"sail\"))
+  reject \"sail ferries\"
+}
+
+test \"bad\" {
+  accept \"boats sink\"
+  reject \"boats sail\"
+  accept \"ferrys sail\"
+}
+";
+
+/// [`HARBOUR`] followed by [`HARBOUR_TESTS`], which start on line 8
+/// (0-based).
+pub fn harbour_with_tests() -> String {
+    format!("{HARBOUR}\n{HARBOUR_TESTS}")
+}
+
 /// Asserts that `response` is the error LSP 3.17 calls `RequestFailed`
 /// (-32803) and that its message contains `says`.
 pub fn assert_request_failed(response: &Value, says: &str) {
