@@ -10,6 +10,10 @@ use tokio::io::{AsyncBufReadExt, AsyncReadExt, AsyncWriteExt, BufReader, DuplexS
 use tokio::sync::mpsc;
 use trellis_lsp::{serve, Options};
 
+pub mod fixture;
+#[allow(unused_imports)]
+pub use fixture::{assert_published, sorted_locations, FixtureWorkspace};
+
 /// A small harbour grammar in which every sentence has one tree (its
 /// hand-worked numbers are with it in the shared test grammars). Not every
 /// test file that includes this module uses it.
