@@ -254,19 +254,26 @@ impl Published<'_> {
     }
 
     fn describe(&self, path: &Path) -> String {
-        let d = self.diagnostic;
+        let (severity, code, message) = self.parts();
         format!(
-            "{}:{}:{}-{} {} {}: {}",
+            "{}:{}:{}-{} {severity} {code}: {message}",
             path.display(),
             self.line + 1,
             self.columns.start + 1,
             self.columns.end + 1,
+        )
+    }
+
+    /// The severity's name, the code and the message (on one line).
+    fn parts(&self) -> (String, &str, String) {
+        let d = self.diagnostic;
+        (
             severity_name(&d["severity"]),
             d["code"].as_str().unwrap_or("(no code)"),
             d["message"]
                 .as_str()
                 .unwrap_or_default()
-                .replace('\n', "\\n")
+                .replace('\n', "\\n"),
         )
     }
 }
@@ -368,7 +375,6 @@ fn render(file: &FixtureFile, published: &[Published]) -> String {
         }
         let _ = writeln!(out, "{line}");
         for p in here {
-            let d = p.diagnostic;
             let start = chars(n, p.columns.start);
             let end = chars(n, p.columns.end);
             let carets = if end == start {
@@ -376,16 +382,11 @@ fn render(file: &FixtureFile, published: &[Published]) -> String {
             } else {
                 "^".repeat(end - start)
             };
+            let (severity, code, message) = p.parts();
             let _ = writeln!(
                 out,
-                "{}{carets} {} {} == {}",
-                " ".repeat(start),
-                severity_name(&d["severity"]),
-                d["code"].as_str().unwrap_or("(no code)"),
-                d["message"]
-                    .as_str()
-                    .unwrap_or_default()
-                    .replace('\n', "\\n")
+                "{}{carets} {severity} {code} == {message}",
+                " ".repeat(start)
             );
         }
     }
