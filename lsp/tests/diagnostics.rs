@@ -1,22 +1,15 @@
 //! Diagnostics over the protocol: what is published, where, for which
-//! version, and when it is cleared.
+//! version, and when it is cleared. Grammars are fixtures
+//! (`trellis_test_support`): what is published is written as annotations
+//! under the text it points at, columns compared in UTF-16 units.
 
 mod common;
 
-use common::{codes, file_uri, TestClient};
+use common::{assert_published, codes, FixtureWorkspace, TestClient};
 use serde_json::{json, Value};
-use std::fs;
+use trellis_test_support::fixture::DEFAULT_PATH;
 
 const MAIN: &str = "file:///grammars/kiosk.trellis";
-
-fn diagnostic_with_code<'a>(params: &'a Value, code: &str) -> &'a Value {
-    params["diagnostics"]
-        .as_array()
-        .expect("diagnostics array")
-        .iter()
-        .find(|d| d["code"] == code)
-        .unwrap_or_else(|| panic!("no `{code}` diagnostic in {params}"))
-}
 
 #[tokio::test]
 async fn initialize_announces_full_sync_utf16_positions_and_the_commands() {
@@ -42,25 +35,23 @@ async fn initialize_announces_full_sync_utf16_positions_and_the_commands() {
 async fn opening_a_broken_grammar_publishes_its_diagnostics_with_code_source_and_version() {
     let mut client = TestClient::start();
     client.initialize().await;
-    client
-        .open(
-            MAIN,
-            7,
-            "start Request\nRequest {\n  1/2  \"ticket\" Island\n  1/2  \"ticket\"\n}\n",
-        )
-        .await;
-    let params = client.diagnostics(MAIN).await;
-    assert_eq!(params["version"], 7);
-    assert_eq!(codes(&params), ["undefined"]);
-    let d = diagnostic_with_code(&params, "undefined");
-    assert_eq!(d["source"], "trellis");
-    // DiagnosticSeverity.Error = 1 (LSP 3.17 specification).
-    assert_eq!(d["severity"], 1);
-    assert_eq!(
-        d["range"],
-        json!({"start": {"line": 2, "character": 16}, "end": {"line": 2, "character": 22}})
+    let ws = FixtureWorkspace::new(
+        r#"
+        === kiosk.trellis ===
+        start Request
+        Request {
+          1/2  "ticket" Island
+                        ^^^^^^ error undefined: Island
+          1/2  "ticket"
+        }
+        "#,
     );
-    assert!(d["message"].as_str().unwrap().contains("Island"), "{d}");
+    let uri = ws.uri("kiosk.trellis");
+    client.open(&uri, 7, ws.text("kiosk.trellis")).await;
+    // DiagnosticSeverity.Error = 1 (LSP 3.17 specification).
+    let params = client.check_diagnostics(&ws, "kiosk.trellis").await;
+    assert_eq!(params["version"], 7);
+    assert_eq!(params["diagnostics"][0]["source"], "trellis");
     client.shutdown().await;
 }
 
@@ -72,15 +63,21 @@ async fn columns_count_utf16_code_units_after_non_ascii_terminals() {
     // U+1D11E, outside the BMP: two UTF-16 units (a surrogate pair), four
     // UTF-8 bytes, one character (Unicode Standard, section 3.9). So
     // `Ziel` starts at byte 20, character 16, UTF-16 unit 17.
-    let text = "start S\nS { \"Fähre\" \"𝄞\" Ziel | \"x\" }\n";
-    assert_eq!(text.lines().nth(1).unwrap().find("Ziel"), Some(20));
-    client.open(MAIN, 1, text).await;
-    let params = client.diagnostics(MAIN).await;
-    let d = diagnostic_with_code(&params, "undefined");
-    assert_eq!(
-        d["range"],
-        json!({"start": {"line": 1, "character": 17}, "end": {"line": 1, "character": 21}})
-    );
+    let ws = client
+        .open_fixture(
+            r#"
+            start S
+            S { "Fähre" "𝄞" Ziel | "x" }
+                            ^^^^ error undefined
+            "#,
+        )
+        .await;
+    let file = ws.file(DEFAULT_PATH);
+    let annotation = &file.annotations[0];
+    assert_eq!(file.line(1).find("Ziel"), Some(20));
+    assert_eq!(annotation.columns, 16..20, "characters");
+    assert_eq!(file.utf16_columns(annotation), 17..21, "UTF-16 units");
+    client.check_diagnostics(&ws, DEFAULT_PATH).await;
     client.shutdown().await;
 }
 
@@ -88,46 +85,54 @@ async fn columns_count_utf16_code_units_after_non_ascii_terminals() {
 async fn a_duplicate_block_points_at_the_first_one_as_related_information() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let text = "start S\nS { \"a\" }\nS { \"b\" }\n";
-    client.open(MAIN, 1, text).await;
-    let params = client.diagnostics(MAIN).await;
-    let d = diagnostic_with_code(&params, "duplicate-block");
-    assert_eq!(d["range"]["start"]["line"], 2);
-    let related = d["relatedInformation"]
+    let ws = client
+        .open_fixture(
+            r#"
+            start S
+            [[S]] { "a" }
+            S { "b" }
+            ^ error duplicate-block
+            "#,
+        )
+        .await;
+    let params = client.check_diagnostics(&ws, DEFAULT_PATH).await;
+    let [first] = ws.ranges(DEFAULT_PATH);
+    let related = params["diagnostics"][0]["relatedInformation"]
         .as_array()
         .expect("related information");
     assert_eq!(related.len(), 1);
-    assert_eq!(related[0]["location"]["uri"], MAIN);
-    assert_eq!(related[0]["location"]["range"]["start"]["line"], 1);
+    assert_eq!(
+        related[0]["location"],
+        json!({"uri": ws.uri(DEFAULT_PATH), "range": first})
+    );
     assert!(!related[0]["message"].as_str().unwrap().is_empty());
     client.shutdown().await;
 }
 
 #[tokio::test]
 async fn problems_in_a_used_file_are_published_under_that_files_uri() {
-    let dir = tempfile::tempdir().unwrap();
-    let main = dir.path().join("kiosk.trellis");
-    let lexicon = dir.path().join("lexicon.trellis");
-    fs::write(
-        &main,
-        "start Request\nuse \"lexicon.trellis\"\nRequest { Count \"ticket\" }\n",
-    )
-    .unwrap();
     // 1/2 + 1/3 = 5/6: the block does not sum to one.
-    fs::write(&lexicon, "Count {\n  1/2 \"one\"\n  1/3 \"two\"\n}\n").unwrap();
-    let (main_uri, lexicon_uri) = (file_uri(&main), file_uri(&lexicon));
+    let ws = FixtureWorkspace::new(
+        r#"
+        === kiosk.trellis ===
+        start Request
+        use "lexicon.trellis"
+        Request { Count "ticket" }
+        === lexicon.trellis ===
+        Count {
+        ^^^^^ error sum-not-one
+          1/2 "one"
+          1/3 "two"
+        }
+        "#,
+    );
+    let (main_uri, lexicon_uri) = (ws.uri("kiosk.trellis"), ws.uri("lexicon.trellis"));
 
     let mut client = TestClient::start();
     client.initialize().await;
-    client
-        .open(&main_uri, 1, &fs::read_to_string(&main).unwrap())
-        .await;
-    assert_eq!(
-        codes(&client.diagnostics(&main_uri).await),
-        Vec::<String>::new()
-    );
-    let lex = client.diagnostics(&lexicon_uri).await;
-    assert_eq!(codes(&lex), ["sum-not-one"]);
+    client.open(&main_uri, 1, ws.text("kiosk.trellis")).await;
+    client.check_diagnostics(&ws, "kiosk.trellis").await;
+    let lex = client.check_diagnostics(&ws, "lexicon.trellis").await;
     // Not an open buffer: no version.
     assert_eq!(lex["version"], Value::Null);
 
@@ -151,7 +156,7 @@ async fn problems_in_a_used_file_are_published_under_that_files_uri() {
                 && !m["params"]["diagnostics"].as_array().unwrap().is_empty()
         })
         .await;
-    assert_eq!(codes(&lex["params"]), ["sum-not-one"]);
+    assert_published(ws.file("lexicon.trellis"), &lex["params"]);
 
     // Closing the grammar too: nothing open uses the lexicon any more.
     client.close(&main_uri).await;
@@ -170,10 +175,19 @@ async fn problems_in_a_used_file_are_published_under_that_files_uri() {
 async fn closing_a_document_clears_its_diagnostics() {
     let mut client = TestClient::start();
     client.initialize().await;
-    client.open(MAIN, 1, "start S\nS { T | \"t\" }\n").await;
-    assert_eq!(codes(&client.diagnostics(MAIN).await), ["undefined"]);
-    client.close(MAIN).await;
-    let params = client.diagnostics(MAIN).await;
+    let ws = client
+        .open_fixture(
+            r#"
+            start S
+            S { T | "t" }
+                ^ error undefined
+            "#,
+        )
+        .await;
+    client.check_diagnostics(&ws, DEFAULT_PATH).await;
+    let uri = ws.uri(DEFAULT_PATH);
+    client.close(&uri).await;
+    let params = client.diagnostics(&uri).await;
     assert_eq!(params["diagnostics"], json!([]));
     client.shutdown().await;
 }

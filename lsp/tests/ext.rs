@@ -4,7 +4,7 @@
 
 mod common;
 
-use common::{TestClient, HARBOUR};
+use common::{harbour_with_tests, TestClient};
 use serde_json::{json, Value};
 use trellis_lsp::ext::{
     ExtCommand, Parse, ParseParams, RunTest, RunTestParams, RunTestResult, Sample, SampleParams,
@@ -13,24 +13,6 @@ use trellis_lsp::ext::{
 use trellis_project::test_run::{self, RunOptions, Selection};
 
 const URI: &str = "file:///grammars/harbour.trellis";
-
-/// Two test blocks for the harbour grammar: "good" holds (2 cases), "bad"
-/// has 2 failing cases of 3 ("boats sail" parses; "ferrys" is no word).
-const TESTS: &str = "test \"good\" {
-  accept \"ferries sail\" as (S (NP \"ferries\") (VP \"sail\"))
-  reject \"sail ferries\"
-}
-
-test \"bad\" {
-  accept \"boats sink\"
-  reject \"boats sail\"
-  accept \"ferrys sail\"
-}
-";
-
-fn grammar() -> String {
-    format!("{HARBOUR}\n{TESTS}")
-}
 
 fn uri() -> tower_lsp::lsp_types::Url {
     URI.parse().unwrap()
@@ -57,7 +39,7 @@ fn lens_params<C: ExtCommand>(lens: &Value) -> C::Params {
 
 #[tokio::test]
 async fn code_lens_arguments_are_taken_by_execute_command_as_they_are() {
-    let mut client = TestClient::ready(URI, &grammar()).await;
+    let mut client = TestClient::ready(URI, &harbour_with_tests()).await;
     let lenses = client
         .request(
             "textDocument/codeLens",
@@ -136,7 +118,7 @@ async fn code_lens_arguments_are_taken_by_execute_command_as_they_are() {
 
 #[tokio::test]
 async fn run_test_gives_the_counts_of_the_project_test_run() {
-    let text = grammar();
+    let text = harbour_with_tests();
     let analysis = trellis_ide::analyze_text(&text);
     let mut client = TestClient::ready(URI, &text).await;
     for name in [None, Some("good"), Some("bad")] {

@@ -1,67 +1,32 @@
 //! The editor features over the protocol, each checked for the LSP shape of
 //! its answer and for positions in UTF-16 code units.
+//!
+//! Every test states its grammar as a fixture (`trellis_test_support`) of
+//! two files, opened in the server: `$0` is where a request is made,
+//! `[[…]]` marks an expected range (or, empty, another place a request is
+//! made at), named by destructuring the ranges of a file in the order they
+//! are written. The grammar is the same in most tests: a terminal with
+//! `ä` (one UTF-16 unit, two bytes) and one with `𝄞` (a surrogate pair of
+//! two units, four bytes) stand before `Island` on its first line, so that
+//! its UTF-16 column (20) differs from its character (19) and byte (23)
+//! columns.
 
 mod common;
 
-use common::{codes, file_uri, TestClient};
+use common::fixture::range;
+use common::{sorted_locations, FixtureWorkspace, TestClient};
 use serde_json::{json, Value};
-use std::fs;
-use std::path::PathBuf;
 
-/// A grammar of two files in a temporary directory, both open.
-struct Workspace {
-    _dir: tempfile::TempDir,
-    main: String,
-    lexicon: String,
-    main_text: String,
-    lexicon_text: String,
-}
+const MAIN: &str = "kiosk.trellis";
+const LEXICON: &str = "lexicon.trellis";
 
-const MAIN_TEXT: &str = "grammar fähre
-start Request
-use \"lexicon.trellis\"
-
-## What a passenger asks for.
-Request {
-  0.6  \"Fähre\" \"𝄞\" Island
-  0.4  Island
-}
-";
-
-const LEXICON_TEXT: &str = "Island { \"tolsey\" | \"oxna\" | \"quillan\" }
-";
-
-async fn workspace(client: &mut TestClient) -> Workspace {
-    let dir = tempfile::tempdir().unwrap();
-    let main: PathBuf = dir.path().join("kiosk.trellis");
-    let lexicon: PathBuf = dir.path().join("lexicon.trellis");
-    fs::write(&main, MAIN_TEXT).unwrap();
-    fs::write(&lexicon, LEXICON_TEXT).unwrap();
-    let ws = Workspace {
-        main: file_uri(&main),
-        lexicon: file_uri(&lexicon),
-        main_text: MAIN_TEXT.to_string(),
-        lexicon_text: LEXICON_TEXT.to_string(),
-        _dir: dir,
-    };
-    client.open(&ws.main, 1, &ws.main_text).await;
-    client.open(&ws.lexicon, 1, &ws.lexicon_text).await;
-    assert_eq!(
-        codes(&client.diagnostics_for_version(&ws.main, 1).await),
-        Vec::<String>::new()
-    );
+/// Opens the fixture's files and checks that the main file is published
+/// with exactly its annotations (none, in most tests).
+async fn workspace(client: &mut TestClient, fixture: &str) -> FixtureWorkspace {
+    let ws = client.open_fixture(fixture).await;
+    client.check_diagnostics(&ws, MAIN).await;
     ws
 }
-
-fn at(uri: &str, line: u32, character: u32) -> Value {
-    json!({"textDocument": {"uri": uri}, "position": {"line": line, "character": character}})
-}
-
-/// Line 6 of MAIN_TEXT is `  0.6  "Fähre" "𝄞" Island`: `Island` starts at
-/// byte 23, character 19, UTF-16 unit 20 ("ä" is two bytes and one unit;
-/// "𝄞" is four bytes and a surrogate pair of two units).
-const ISLAND_LINE: u32 = 6;
-const ISLAND_COL: u32 = 20;
 
 #[tokio::test]
 async fn capabilities_cover_every_wired_feature() {
@@ -93,21 +58,29 @@ async fn capabilities_cover_every_wired_feature() {
 async fn hover_on_a_symbol_after_non_ascii_words_covers_it_in_utf16_units() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let ws = workspace(&mut client).await;
-    assert_eq!(
-        MAIN_TEXT
-            .lines()
-            .nth(ISLAND_LINE as usize)
-            .unwrap()
-            .find("Island"),
-        Some(23)
-    );
-    let hover = client
-        .request(
-            "textDocument/hover",
-            at(&ws.main, ISLAND_LINE, ISLAND_COL + 2),
-        )
-        .await;
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        grammar fähre
+        start Request
+        use "lexicon.trellis"
+        [[]]
+        ## What a passenger asks for.
+        Request {
+          0.6  "Fähre" "𝄞" [[Is$0land]]
+          0.4  Island
+        }
+        === lexicon.trellis ===
+        Island { "tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
+    let [blank, island] = ws.ranges(MAIN);
+    // `Island` starts at byte 23, character 19, UTF-16 unit 20.
+    assert_eq!(ws.file(MAIN).line(6).find("Island"), Some(23));
+    assert_eq!(island["start"], json!({"line": 6, "character": 20}));
+    let hover = client.request("textDocument/hover", ws.at_cursor()).await;
     assert_eq!(hover["contents"]["kind"], "markdown");
     assert!(
         hover["contents"]["value"]
@@ -116,14 +89,10 @@ async fn hover_on_a_symbol_after_non_ascii_words_covers_it_in_utf16_units() {
             .contains("Island"),
         "{hover}"
     );
-    assert_eq!(
-        hover["range"],
-        json!({"start": {"line": ISLAND_LINE, "character": ISLAND_COL},
-               "end": {"line": ISLAND_LINE, "character": ISLAND_COL + 6}})
-    );
+    assert_eq!(hover["range"], island);
     // Nothing to say on a blank line.
     let nothing = client
-        .request("textDocument/hover", at(&ws.main, 3, 0))
+        .request("textDocument/hover", ws.at(MAIN, &blank["start"]))
         .await;
     assert_eq!(nothing, Value::Null);
     client.shutdown().await;
@@ -133,18 +102,34 @@ async fn hover_on_a_symbol_after_non_ascii_words_covers_it_in_utf16_units() {
 async fn hover_on_a_rule_shows_the_engines_expected_uses() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let ws = workspace(&mut client).await;
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        grammar fähre
+        start Request
+        use "lexicon.trellis"
+
+        ## What a passenger asks for.
+        Re[[]]quest {
+          0$0.6  "Fähre" "𝄞" Island
+          0.4  Island
+        }
+        === lexicon.trellis ===
+        Island { "tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
+    let [request] = ws.places(MAIN);
     // `Request` is used exactly once per sentence and picks its first rule
     // with probability 0.6, so that rule is used 0.6 times per sentence
     // (linearity of expectation).
-    let hover = client
-        .request("textDocument/hover", at(&ws.main, ISLAND_LINE, 3))
-        .await;
+    let hover = client.request("textDocument/hover", ws.at_cursor()).await;
     let text = hover["contents"]["value"].as_str().unwrap();
     assert!(text.contains("expected uses per sentence: 0.6"), "{text}");
     // A grammar without recursion ends with probability 1.
     let hover = client
-        .request("textDocument/hover", at(&ws.main, 5, 2))
+        .request("textDocument/hover", ws.at(MAIN, &request))
         .await;
     let text = hover["contents"]["value"].as_str().unwrap();
     assert!(text.contains("termination probability: 1"), "{text}");
@@ -155,18 +140,30 @@ async fn hover_on_a_rule_shows_the_engines_expected_uses() {
 async fn definition_jumps_into_the_used_file() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let ws = workspace(&mut client).await;
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        grammar fähre
+        start Request
+        use "lexicon.trellis"
+
+        ## What a passenger asks for.
+        Request {
+          0.6  "Fähre" "𝄞" $0Island
+          0.4  Island
+        }
+        === lexicon.trellis ===
+        [[Island]] { "tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
+    let [island] = ws.ranges(LEXICON);
     let found = client
-        .request(
-            "textDocument/definition",
-            at(&ws.main, ISLAND_LINE, ISLAND_COL),
-        )
+        .request("textDocument/definition", ws.at_cursor())
         .await;
-    assert_eq!(found["uri"], ws.lexicon);
-    assert_eq!(
-        found["range"],
-        json!({"start": {"line": 0, "character": 0}, "end": {"line": 0, "character": 6}})
-    );
+    assert_eq!(found["uri"], ws.uri(LEXICON));
+    assert_eq!(found["range"], island);
     client.shutdown().await;
 }
 
@@ -174,35 +171,41 @@ async fn definition_jumps_into_the_used_file() {
 async fn references_list_every_use_in_every_file() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let ws = workspace(&mut client).await;
-    let mut params = at(&ws.lexicon, 0, 2);
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        grammar fähre
+        start Request
+        use "lexicon.trellis"
+
+        ## What a passenger asks for.
+        Request {
+          0.6  "Fähre" "𝄞" [[Island]]
+          0.4  [[Island]]
+        }
+        === lexicon.trellis ===
+        [[Is$0land]] { "tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
+    let mut params = ws.at_cursor();
     params["context"] = json!({"includeDeclaration": true});
     let found = client
         .request("textDocument/references", params.clone())
         .await;
-    let mut places: Vec<(String, u64, u64)> = found
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|l| {
-            (
-                l["uri"].as_str().unwrap().to_string(),
-                l["range"]["start"]["line"].as_u64().unwrap(),
-                l["range"]["start"]["character"].as_u64().unwrap(),
-            )
-        })
-        .collect();
-    places.sort();
-    let mut expected = vec![
-        (ws.main.clone(), 6, u64::from(ISLAND_COL)),
-        (ws.main.clone(), 7, 7),
-        (ws.lexicon.clone(), 0, 0),
-    ];
-    expected.sort();
-    assert_eq!(places, expected);
+    assert_eq!(
+        sorted_locations(found.as_array().unwrap().clone()),
+        ws.locations()
+    );
     params["context"] = json!({"includeDeclaration": false});
     let found = client.request("textDocument/references", params).await;
-    assert_eq!(found.as_array().unwrap().len(), 2);
+    let uses: Vec<Value> = ws
+        .locations()
+        .into_iter()
+        .filter(|l| l["uri"] == ws.uri(MAIN))
+        .collect();
+    assert_eq!(sorted_locations(found.as_array().unwrap().clone()), uses);
     client.shutdown().await;
 }
 
@@ -210,18 +213,33 @@ async fn references_list_every_use_in_every_file() {
 async fn rename_is_prepared_on_names_refused_on_words_and_edits_every_file() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let ws = workspace(&mut client).await;
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        grammar fähre
+        start Request
+        use "lexicon.trellis"
+
+        ## What a passenger asks for.
+        Request {
+          0.6  "F[[]]ähre" "𝄞" [[$0Island]]
+          0.4  [[Island]]
+        }
+        === lexicon.trellis ===
+        [[Island]] { "tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
+    let [word, first, second] = ws.ranges(MAIN);
+    let [declaration] = ws.ranges(LEXICON);
     let range = client
-        .request(
-            "textDocument/prepareRename",
-            at(&ws.main, ISLAND_LINE, ISLAND_COL),
-        )
+        .request("textDocument/prepareRename", ws.at_cursor())
         .await;
-    assert_eq!(range["start"]["character"], ISLAND_COL);
-    assert_eq!(range["end"]["character"], ISLAND_COL + 6);
+    assert_eq!(range, first);
     // On the quoted word "Fähre": not a name.
     let refused = client
-        .call("textDocument/prepareRename", at(&ws.main, ISLAND_LINE, 9))
+        .call("textDocument/prepareRename", ws.at(MAIN, &word["start"]))
         .await;
     assert!(
         refused["error"]["message"]
@@ -231,12 +249,22 @@ async fn rename_is_prepared_on_names_refused_on_words_and_edits_every_file() {
         "{refused}"
     );
 
-    let mut params = at(&ws.main, ISLAND_LINE, ISLAND_COL);
+    let mut params = ws.at_cursor();
     params["newName"] = json!("Harbour");
     let edit = client.request("textDocument/rename", params.clone()).await;
     let changes = edit["changes"].as_object().unwrap();
-    assert_eq!(changes[&ws.main].as_array().unwrap().len(), 2);
-    assert_eq!(changes[&ws.lexicon].as_array().unwrap().len(), 1);
+    let ranges = |uri: String| -> Vec<Value> {
+        let mut ranges: Vec<Value> = changes[&uri]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|e| json!({"uri": uri, "range": e["range"]}))
+            .collect();
+        ranges = sorted_locations(ranges);
+        ranges.into_iter().map(|l| l["range"].clone()).collect()
+    };
+    assert_eq!(ranges(ws.uri(MAIN)), [first, second]);
+    assert_eq!(ranges(ws.uri(LEXICON)), [declaration]);
     assert!(changes
         .values()
         .flat_map(|v| v.as_array().unwrap())
@@ -252,11 +280,28 @@ async fn rename_is_prepared_on_names_refused_on_words_and_edits_every_file() {
 async fn document_and_workspace_symbols_list_the_blocks() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let ws = workspace(&mut client).await;
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        grammar fähre
+        start Request
+        use "lexicon.trellis"
+
+        ## What a passenger asks for.
+        Request {
+          0.6  "Fähre" "𝄞" Island
+          0.4  Island
+        }
+        === lexicon.trellis ===
+        Island { "tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
     let symbols = client
         .request(
             "textDocument/documentSymbol",
-            json!({"textDocument": {"uri": ws.main}}),
+            json!({"textDocument": {"uri": ws.uri(MAIN)}}),
         )
         .await;
     let names: Vec<&str> = symbols
@@ -281,7 +326,7 @@ async fn document_and_workspace_symbols_list_the_blocks() {
         .await;
     let found = found.as_array().unwrap();
     assert_eq!(found[0]["name"], "Island");
-    assert_eq!(found[0]["location"]["uri"], ws.lexicon);
+    assert_eq!(found[0]["location"]["uri"], ws.uri(LEXICON));
     client.shutdown().await;
 }
 
@@ -289,11 +334,28 @@ async fn document_and_workspace_symbols_list_the_blocks() {
 async fn completion_offers_symbols_with_an_edit_over_the_typed_prefix() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let ws = workspace(&mut client).await;
-    let text = ws.main_text.replace("  0.4  Island\n", "  0.4  Isl\n");
-    client.change(&ws.main, 2, &text).await;
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        grammar fähre
+        start Request
+        use "lexicon.trellis"
+
+        ## What a passenger asks for.
+        Request {
+          0.6  "Fähre" "𝄞" Island
+          0.4  [[Isl$0]]
+                 ^^^ error undefined
+        }
+        === lexicon.trellis ===
+        Island { "tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
+    let [prefix] = ws.ranges(MAIN);
     let list = client
-        .request("textDocument/completion", at(&ws.main, 7, 10))
+        .request("textDocument/completion", ws.at_cursor())
         .await;
     let item = list["items"]
         .as_array()
@@ -302,10 +364,7 @@ async fn completion_offers_symbols_with_an_edit_over_the_typed_prefix() {
         .find(|i| i["label"] == "Island")
         .unwrap_or_else(|| panic!("no Island in {list}"))
         .clone();
-    assert_eq!(
-        item["textEdit"]["range"],
-        json!({"start": {"line": 7, "character": 7}, "end": {"line": 7, "character": 10}})
-    );
+    assert_eq!(item["textEdit"]["range"], prefix);
     assert_eq!(item["textEdit"]["newText"], "Island");
     client.shutdown().await;
 }
@@ -338,27 +397,59 @@ async fn semantic_tokens_are_classified_with_utf16_lengths() {
         .iter()
         .map(|t| t.as_str().unwrap().to_string())
         .collect();
-    let ws = workspace(&mut client).await;
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        [[grammar]] fähre
+        start [[Request]]
+        use "lexicon.trellis"
+
+        ## What a passenger asks for.
+        Request {
+          [[0.6]]  [["Fähre"]] [["𝄞"]] [[Island]]
+          0.4  Island
+        }
+        === lexicon.trellis ===
+        Island { "tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
     let tokens = client
         .request(
             "textDocument/semanticTokens/full",
-            json!({"textDocument": {"uri": ws.main}}),
+            json!({"textDocument": {"uri": ws.uri(MAIN)}}),
         )
         .await;
     let tokens = decode(tokens["data"].as_array().unwrap());
-    let kind = |line: u64, start: u64| {
-        tokens
+    // The token that starts where `range` starts, as (UTF-16 length, type)
+    // next to what the range says its length is.
+    let kind = |range: &Value| {
+        let n = |v: &Value| v.as_u64().unwrap();
+        let (line, start) = (n(&range["start"]["line"]), n(&range["start"]["character"]));
+        assert_eq!(range["end"]["line"], range["start"]["line"]);
+        let token = tokens
             .iter()
             .find(|t| t.0 == line && t.1 == start)
-            .map(|t| (t.2, legend[t.3 as usize].as_str()))
+            .map(|t| (t.2, legend[t.3 as usize].as_str()));
+        (token, n(&range["end"]["character"]) - start)
     };
-    assert_eq!(kind(0, 0), Some((7, "keyword")));
-    assert_eq!(kind(1, 6), Some((7, "type")));
-    assert_eq!(kind(6, 2), Some((3, "number")));
-    // "Fähre" with quotes: 7 UTF-16 units; "𝄞" with quotes: 4.
-    assert_eq!(kind(6, 7), Some((7, "string")));
-    assert_eq!(kind(6, 15), Some((4, "string")));
-    assert_eq!(kind(6, u64::from(ISLAND_COL)), Some((6, "type")));
+    let [keyword, start, weight, faehre, clef, island] = ws.ranges(MAIN);
+    let expected = [
+        (keyword, "keyword"),
+        (start, "type"),
+        (weight, "number"),
+        // "Fähre" with quotes: 7 UTF-16 units; "𝄞" with quotes: 4.
+        (faehre, "string"),
+        (clef, "string"),
+        (island, "type"),
+    ];
+    for (range, kind_name) in &expected {
+        let (token, length) = kind(range);
+        assert_eq!(token, Some((length, *kind_name)), "at {range}");
+    }
+    assert_eq!(kind(&expected[3].0).1, 7);
+    assert_eq!(kind(&expected[4].0).1, 4);
     client.shutdown().await;
 }
 
@@ -396,11 +487,21 @@ fn apply(text: &str, edits: &[Value]) -> String {
 async fn the_renormalize_quick_fix_makes_the_block_sum_to_one() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let uri = "file:///grammars/count.trellis";
-    let text = "start Count\nCount {\n  1/2 \"one\"\n  1/3 \"two\"\n}\n";
-    client.open(uri, 1, text).await;
-    let published = client.diagnostics(uri).await;
-    assert_eq!(codes(&published), ["sum-not-one"]);
+    let ws = client
+        .open_fixture(
+            r#"
+            === count.trellis ===
+            start Count
+            Count {
+            ^^^^^ error sum-not-one
+              1/2 "one"
+              1/3 "two"
+            }
+            "#,
+        )
+        .await;
+    let (uri, text) = (ws.uri("count.trellis"), ws.text("count.trellis"));
+    let published = client.check_diagnostics(&ws, "count.trellis").await;
     let diagnostic = published["diagnostics"][0].clone();
     let actions = client
         .request(
@@ -418,11 +519,11 @@ async fn the_renormalize_quick_fix_makes_the_block_sum_to_one() {
         .iter()
         .find(|a| a["kind"] == "quickfix" && a["title"].as_str().unwrap().contains("ormali"))
         .unwrap_or_else(|| panic!("no renormalize fix in {actions:?}"));
-    let fixed = apply(text, fix["edit"]["changes"][uri].as_array().unwrap());
+    let fixed = apply(text, fix["edit"]["changes"][&uri].as_array().unwrap());
     // 1/2 : 1/3 renormalised is 3/5 : 2/5.
     assert!(fixed.contains("3/5") && fixed.contains("2/5"), "{fixed}");
-    client.change(uri, 2, &fixed).await;
-    let after = client.diagnostics_for_version(uri, 2).await;
+    client.change(&uri, 2, &fixed).await;
+    let after = client.diagnostics_for_version(&uri, 2).await;
     assert_eq!(after["diagnostics"], json!([]));
     client.shutdown().await;
 }
@@ -431,12 +532,31 @@ async fn the_renormalize_quick_fix_makes_the_block_sum_to_one() {
 async fn inlay_hints_show_the_share_of_unweighted_alternatives() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let ws = workspace(&mut client).await;
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        grammar fähre
+        start Request
+        use "lexicon.trellis"
+
+        ## What a passenger asks for.
+        Request {
+          0.6  "Fähre" "𝄞" Island
+          0.4  Island
+        }
+        === lexicon.trellis ===
+        Island { [[]]"tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
+    let [first] = ws.places(LEXICON);
+    let lexicon = ws.file(LEXICON);
+    let whole = range(lexicon.utf16_range(&(0..lexicon.text.len())));
     let hints = client
         .request(
             "textDocument/inlayHint",
-            json!({"textDocument": {"uri": ws.lexicon},
-                   "range": {"start": {"line": 0, "character": 0}, "end": {"line": 1, "character": 0}}}),
+            json!({"textDocument": {"uri": ws.uri(LEXICON)}, "range": whole}),
         )
         .await;
     // Three unweighted alternatives share the whole mass: 1/3 each (the
@@ -449,8 +569,7 @@ async fn inlay_hints_show_the_share_of_unweighted_alternatives() {
         .collect();
     assert_eq!(labels.len(), 3, "{hints}");
     assert!(labels.iter().all(|l| l.contains("1/3")), "{labels:?}");
-    let first = &hints[0]["position"];
-    assert_eq!(first, &json!({"line": 0, "character": 9}));
+    assert_eq!(hints[0]["position"], first);
     client.shutdown().await;
 }
 
@@ -458,11 +577,29 @@ async fn inlay_hints_show_the_share_of_unweighted_alternatives() {
 async fn code_lenses_above_start_parse_and_sample_through_the_commands() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let ws = workspace(&mut client).await;
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        grammar fähre
+        [[]]start Request
+        use "lexicon.trellis"
+
+        ## What a passenger asks for.
+        Request {
+          0.6  "Fähre" "𝄞" Island
+          0.4  Island
+        }
+        === lexicon.trellis ===
+        Island { "tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
+    let [start] = ws.places(MAIN);
     let lenses = client
         .request(
             "textDocument/codeLens",
-            json!({"textDocument": {"uri": ws.main}}),
+            json!({"textDocument": {"uri": ws.uri(MAIN)}}),
         )
         .await;
     let lenses = lenses.as_array().unwrap();
@@ -471,7 +608,9 @@ async fn code_lenses_above_start_parse_and_sample_through_the_commands() {
         .map(|l| l["command"]["command"].as_str().unwrap())
         .collect();
     assert_eq!(commands, ["trellis.parse", "trellis.sample"]);
-    assert!(lenses.iter().all(|l| l["range"]["start"]["line"] == 1));
+    assert!(lenses
+        .iter()
+        .all(|l| l["range"]["start"]["line"] == start["line"]));
     // Running the sample lens's command shows the sentences to the user.
     let sample = &lenses[1]["command"];
     let result = client
@@ -495,18 +634,38 @@ async fn code_lenses_above_start_parse_and_sample_through_the_commands() {
 async fn folding_ranges_cover_multi_line_blocks() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let ws = workspace(&mut client).await;
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        grammar fähre
+        start Request
+        use "lexicon.trellis"
+
+        ## What a passenger asks for.
+        [[Request {
+          0.6  "Fähre" "𝄞" Island
+          0.4  Island
+        }]]
+        === lexicon.trellis ===
+        Island { "tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
+    let [block] = ws.ranges(MAIN);
     let ranges = client
         .request(
             "textDocument/foldingRange",
-            json!({"textDocument": {"uri": ws.main}}),
+            json!({"textDocument": {"uri": ws.uri(MAIN)}}),
         )
         .await;
     let ranges = ranges.as_array().unwrap();
     assert!(
         ranges
             .iter()
-            .any(|r| r["startLine"] == 5 && r["endLine"] == 8 && r["kind"] == "region"),
+            .any(|r| r["startLine"] == block["start"]["line"]
+                && r["endLine"] == block["end"]["line"]
+                && r["kind"] == "region"),
         "{ranges:?}"
     );
     client.shutdown().await;
@@ -516,19 +675,34 @@ async fn folding_ranges_cover_multi_line_blocks() {
 async fn use_paths_are_links_to_the_used_file() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let ws = workspace(&mut client).await;
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        grammar fähre
+        start Request
+        use [["lexicon.trellis"]]
+
+        ## What a passenger asks for.
+        Request {
+          0.6  "Fähre" "𝄞" Island
+          0.4  Island
+        }
+        === lexicon.trellis ===
+        Island { "tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
+    let [path] = ws.ranges(MAIN);
     let links = client
         .request(
             "textDocument/documentLink",
-            json!({"textDocument": {"uri": ws.main}}),
+            json!({"textDocument": {"uri": ws.uri(MAIN)}}),
         )
         .await;
     assert_eq!(links.as_array().unwrap().len(), 1);
-    assert_eq!(links[0]["target"], ws.lexicon);
-    assert_eq!(
-        links[0]["range"],
-        json!({"start": {"line": 2, "character": 4}, "end": {"line": 2, "character": 21}})
-    );
+    assert_eq!(links[0]["target"], ws.uri(LEXICON));
+    assert_eq!(links[0]["range"], path);
     client.shutdown().await;
 }
 
@@ -536,28 +710,36 @@ async fn use_paths_are_links_to_the_used_file() {
 async fn highlights_mark_every_occurrence_in_the_file() {
     let mut client = TestClient::start();
     client.initialize().await;
-    let ws = workspace(&mut client).await;
+    let ws = workspace(
+        &mut client,
+        r#"
+        === kiosk.trellis ===
+        grammar fähre
+        start Request
+        use "lexicon.trellis"
+
+        ## What a passenger asks for.
+        Request {
+          0.6  "Fähre" "𝄞" [[$0Island]]
+          0.4  [[Island]]
+        }
+        === lexicon.trellis ===
+        Island { "tolsey" | "oxna" | "quillan" }
+        "#,
+    )
+    .await;
     let found = client
-        .request(
-            "textDocument/documentHighlight",
-            at(&ws.main, ISLAND_LINE, ISLAND_COL),
-        )
+        .request("textDocument/documentHighlight", ws.at_cursor())
         .await;
-    let mut lines: Vec<(u64, u64)> = found
-        .as_array()
-        .unwrap()
-        .iter()
-        .map(|h| {
-            (
-                h["range"]["start"]["line"].as_u64().unwrap(),
-                h["range"]["start"]["character"].as_u64().unwrap(),
-            )
-        })
-        .collect();
-    lines.sort();
-    assert_eq!(lines, [(6, u64::from(ISLAND_COL)), (7, 7)]);
+    let found = found.as_array().unwrap();
+    let highlights = sorted_locations(
+        found
+            .iter()
+            .map(|h| json!({"uri": ws.uri(MAIN), "range": h["range"]})),
+    );
+    assert_eq!(highlights, ws.locations());
     // DocumentHighlightKind.Read = 2 (LSP 3.17): both are uses.
-    assert!(found.as_array().unwrap().iter().all(|h| h["kind"] == 2));
+    assert!(found.iter().all(|h| h["kind"] == 2));
     client.shutdown().await;
 }
 
@@ -568,17 +750,23 @@ async fn a_leaky_grammar_gets_the_engines_leaky_warning() {
     // S → S S (0.6) | "a" (0.4): the termination probability q solves
     // q = 0.4 + 0.6 q², whose least root is 2/3 (a supercritical branching
     // process; T. E. Harris, "The Theory of Branching Processes", 1963), so
-    // 1/3 of the mass leaks.
-    let uri = "file:///grammars/leaky.trellis";
-    client
-        .open(uri, 1, "start S\nS {\n  0.6 S S\n  0.4 \"a\"\n}\n")
+    // 1/3 of the mass leaks. `leaky` is a warning by default
+    // (DiagnosticSeverity.Warning = 2).
+    let ws = client
+        .open_fixture(
+            r#"
+            === leaky.trellis ===
+            start S
+                  ^ warning leaky
+            S {
+              0.6 S S
+              0.4 "a"
+            }
+            "#,
+        )
         .await;
-    let published = client.diagnostics(uri).await;
-    assert_eq!(codes(&published), ["leaky"]);
-    let d = &published["diagnostics"][0];
-    // DiagnosticSeverity.Warning = 2: `leaky` is a warning by default.
-    assert_eq!(d["severity"], 2);
-    let message = d["message"].as_str().unwrap();
+    let published = client.check_diagnostics(&ws, "leaky.trellis").await;
+    let message = published["diagnostics"][0]["message"].as_str().unwrap();
     assert!(
         message.contains("0.333") || message.contains("1/3"),
         "{message}"

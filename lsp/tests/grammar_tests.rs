@@ -2,28 +2,10 @@
 
 mod common;
 
-use common::{assert_request_failed, TestClient, HARBOUR};
+use common::{assert_request_failed, harbour_with_tests, TestClient};
 use serde_json::{json, Value};
 
 const URI: &str = "file:///grammars/harbour.trellis";
-
-/// Two test blocks for the harbour grammar, from line 8 (0-based) on;
-/// "ferries sail" has the one tree 0.6 · 1/2 · 0.75 = 0.225 (worked by hand).
-const TESTS: &str = "test \"good\" {
-  accept \"ferries sail\" as (S (NP \"ferries\") (VP \"sail\"))
-  reject \"sail ferries\"
-}
-
-test \"bad\" {
-  accept \"boats sink\"
-  reject \"boats sail\"
-  accept \"ferrys sail\"
-}
-";
-
-fn harbour_with_tests() -> String {
-    format!("{HARBOUR}\n{TESTS}")
-}
 
 async fn ready(text: &str) -> TestClient {
     TestClient::ready(URI, text).await

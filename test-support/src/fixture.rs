@@ -78,9 +78,19 @@
 //! Edits an editor feature answers with are checked by applying them to
 //! the text and comparing the result with the text expected:
 //! [`apply_edits`].
+//!
+//! # Positions for the Language Server Protocol
+//!
+//! Offsets and annotation columns are in bytes and characters; LSP counts
+//! columns in UTF-16 code units. [`FixtureFile::utf16`] gives the position
+//! of a byte offset (of the cursor, of a marked range's ends) and
+//! [`FixtureFile::utf16_columns`] the columns of an annotation, so that a
+//! test of the language server can compare what it is told with a fixture.
 
 use grammar_lang::source::normalize;
-use grammar_lang::{analyze, Analysis, Code, Config, Diagnostic, MemoryLoader, Severity};
+use grammar_lang::{
+    analyze, Analysis, Code, Config, Diagnostic, LineCol, LineIndex, MemoryLoader, Severity,
+};
 use std::fmt::Write as _;
 use std::ops::Range;
 use std::path::{Path, PathBuf};
@@ -406,6 +416,42 @@ impl FixtureFile {
     /// The texts of the ranges marked `[[…]]`, in order.
     pub fn marked(&self) -> Vec<&str> {
         self.ranges.iter().map(|r| &self.text[r.clone()]).collect()
+    }
+
+    /// The 0-based line and UTF-16 column (as the Language Server Protocol
+    /// counts) of byte `offset` of the text.
+    pub fn utf16(&self, offset: usize) -> LineCol {
+        LineIndex::new(&self.text).utf16(&self.text, offset)
+    }
+
+    /// The UTF-16 positions of the start and end of byte range `range`.
+    pub fn utf16_range(&self, range: &Range<usize>) -> Range<LineCol> {
+        self.utf16(range.start)..self.utf16(range.end)
+    }
+
+    /// The columns of `annotation` (an annotation of this file) in UTF-16
+    /// code units instead of characters, on the same line.
+    pub fn utf16_columns(&self, annotation: &Annotation) -> Range<usize> {
+        let line = self.line(annotation.line);
+        let units = |column: usize| line.chars().take(column).map(char::len_utf16).sum();
+        units(annotation.columns.start)..units(annotation.columns.end)
+    }
+
+    /// The length of 0-based line `line` in UTF-16 code units (without its
+    /// line ending): where an annotation of a span that runs past the line
+    /// ends.
+    pub fn utf16_line_len(&self, line: usize) -> usize {
+        self.line(line).chars().map(char::len_utf16).sum()
+    }
+
+    /// 0-based line `line` of the text without its line ending (empty past
+    /// the last line).
+    pub fn line(&self, line: usize) -> &str {
+        self.text
+            .split('\n')
+            .nth(line)
+            .unwrap_or("")
+            .trim_end_matches('\r')
     }
 }
 
@@ -946,6 +992,32 @@ mod tests {
     #[should_panic(expected = "fixture line 1: `]]` without a `[[`")]
     fn a_range_end_without_a_start_is_refused() {
         Fixture::parse("S { T ]] }\n");
+    }
+
+    #[test]
+    fn utf16_positions_count_surrogate_pairs_as_two_units() {
+        // `ä` is one unit and two bytes; `𝄞` (U+1D11E) is a surrogate pair:
+        // two units, four bytes, one character.
+        let f = Fixture::parse(
+            "start S\nS { \"Fähre\" \"𝄞\" [[$0Ziel]] | \"x\" }\n                    ^^^^ error undefined\n",
+        );
+        let file = f.root();
+        assert_eq!(file.ranges[0], 28..32, "bytes");
+        assert_eq!(file.utf16(f.cursor_offset()), LineCol { line: 1, col: 17 });
+        assert_eq!(
+            file.utf16_range(&file.ranges[0]),
+            LineCol { line: 1, col: 17 }..LineCol { line: 1, col: 21 }
+        );
+        let a = &file.annotations[0];
+        assert_eq!(a.columns, 16..20, "characters");
+        assert_eq!(file.utf16_columns(a), 17..21);
+        assert_eq!(
+            file.utf16_line_len(1),
+            29,
+            "28 characters, one of them two units"
+        );
+        assert_eq!(file.line(1), "S { \"Fähre\" \"𝄞\" Ziel | \"x\" }");
+        assert_eq!(file.utf16_line_len(5), 0, "past the last line");
     }
 
     #[test]

@@ -7,7 +7,9 @@
 //!   as caret annotations under the lines they point at, one or more files
 //!   in one string, a cursor marker and marked ranges; [`check`] analyses a
 //!   fixture and insists that exactly the annotated diagnostics are
-//!   reported; [`apply_edits`] applies an answer's edits to a text.
+//!   reported; [`apply_edits`] applies an answer's edits to a text;
+//!   [`FixtureFile::utf16`] and its kin give positions as the Language
+//!   Server Protocol counts them (UTF-16 columns).
 //! * [`grammars`] — the small grammars (with their sources and hand-worked
 //!   numbers) that more than one suite uses, and the rule-list writer.
 //! * [`stats`] — the statistics the sampling tests are judged by.

@@ -10,11 +10,36 @@ use tokio::io::{AsyncBufReadExt, AsyncReadExt, AsyncWriteExt, BufReader, DuplexS
 use tokio::sync::mpsc;
 use trellis_lsp::{serve, Options};
 
+pub mod fixture;
+#[allow(unused_imports)]
+pub use fixture::{assert_published, sorted_locations, FixtureWorkspace};
+
 /// A small harbour grammar in which every sentence has one tree (its
 /// hand-worked numbers are with it in the shared test grammars). Not every
 /// test file that includes this module uses it.
 #[allow(unused_imports)]
 pub use trellis_test_support::grammars::HARBOUR;
+
+/// Two test blocks for the harbour grammar: "good" holds (2 cases), "bad"
+/// has 2 failing cases of 3 ("boats sail" parses; "ferrys" is no word).
+/// "ferries sail" has the one tree 0.6 · 1/2 · 0.75 = 0.225 (worked by hand).
+pub const HARBOUR_TESTS: &str = "test \"good\" {
+  accept \"ferries sail\" as (S (NP \"ferries\") (VP \"sail\"))
+  reject \"sail ferries\"
+}
+
+test \"bad\" {
+  accept \"boats sink\"
+  reject \"boats sail\"
+  accept \"ferrys sail\"
+}
+";
+
+/// [`HARBOUR`] followed by [`HARBOUR_TESTS`], which start on line 8
+/// (0-based).
+pub fn harbour_with_tests() -> String {
+    format!("{HARBOUR}\n{HARBOUR_TESTS}")
+}
 
 /// Asserts that `response` is the error LSP 3.17 calls `RequestFailed`
 /// (-32803) and that its message contains `says`.
