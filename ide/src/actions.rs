@@ -8,18 +8,13 @@ use super::locate::{self, line_start, next_line_start};
 use super::TextEdit;
 use grammar_lang::analysis::Analysis;
 use grammar_lang::diagnostic::{Code, Diagnostic, Location};
-use grammar_lang::model::{fraction, Notation, Ratio};
+use grammar_lang::model::{Notation, Ratio};
 use grammar_lang::source::FileId;
 use grammar_lang::span::Span;
 use grammar_lang::syntax::ast::{Block, Decl};
 use grammar_lang::syntax::lexer::quote;
-use grammar_lang::weight::exact_decimal;
-use num_bigint::BigInt;
+use grammar_lang::weight::{write_block, BlockWeights};
 use num_traits::{Signed, Zero};
-
-/// Longest decimal expansion (digits after the point) a renormalised
-/// weight may have to be written as a decimal rather than a fraction.
-const SHORT_DECIMAL: usize = 6;
 
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum CodeActionKind {
@@ -42,14 +37,21 @@ pub struct CodeAction {
 /// The fixes for the diagnostics of `file` that overlap `span`:
 ///
 /// * `sum-not-one` — **renormalize** the block: every weight is divided by
-///   the block's sum, so ratios are kept and the sum is exactly 1. Weights
-///   are written as decimals (or percentages, if the block wrote only
-///   percentages) when the block wrote no fraction and every new value has
-///   a terminating decimal expansion of at most six digits; otherwise as
-///   exact fractions. Only weight tokens change. (A block reported as
-///   `sum-not-one` has a weight on every alternative: unweighted
-///   alternatives would take the remainder.) Also offered: **mark the
-///   block `relative`**, which inserts ` relative` after its name.
+///   the block's sum, so ratios are kept and the sum is exactly 1. The new
+///   weights keep the block's notation
+///   ([`write_block`](grammar_lang::weight::write_block)): the notation
+///   most of its weights use (ties: fraction, decimal, percent), written
+///   exactly. When some value cannot be written exactly in it (a repeating
+///   expansion such as 8/21 = 38.095…%, or more than
+///   [`MAX_DECIMALS`](grammar_lang::weight::MAX_DECIMALS) digits after the
+///   point) the whole block is written in exact fractions and the title
+///   says why: `… (percentages cannot be exact here: 3/7 has no finite
+///   decimal expansion; writes fractions)`. Nothing is ever rounded. Only
+///   weight tokens whose value changes are edited (a zero keeps its text).
+///   (A block reported as `sum-not-one` has a weight on every
+///   alternative: unweighted alternatives would take the remainder.) Also
+///   offered: **mark the block `relative`**, which inserts ` relative`
+///   after its name.
 /// * `undefined` — **define the symbol** with a stub block
 ///   `Name {\n  "Name"  # TODO: …\n}` inserted on the line after the block
 ///   that uses it, separated by a blank line. The same for
@@ -60,9 +62,10 @@ pub struct CodeAction {
 /// Besides the fixes, one refactor is offered when `span` lies on the head
 /// of a `relative` block (its name or the keyword): **write out the
 /// probabilities**, which replaces every weight by the alternative's exact
-/// probability (inserting one before unweighted alternatives, in the style
-/// chosen as for renormalizing) and removes `relative`; the model is
-/// unchanged.
+/// probability (inserting one before unweighted alternatives, in the
+/// block's notation as for renormalizing — decimals when no weight is
+/// written — with the same fallback and title) and removes `relative`; the
+/// model is unchanged.
 ///
 /// Cost: a pass over the file's diagnostics plus the size of the blocks
 /// concerned.
@@ -101,28 +104,14 @@ pub fn code_actions(analysis: &Analysis, file: FileId, span: Span) -> Vec<CodeAc
     out
 }
 
-/// Writes exact values in the style of a block whose weights were written
-/// in `notations`: percentages when every weight was a percentage, else
-/// decimals when none was a fraction, provided every value has a short
-/// terminating decimal expansion; exact fractions otherwise.
-fn write_values(values: &[Ratio], notations: &[Notation]) -> Vec<String> {
-    let no_fraction = notations.iter().all(|n| *n != Notation::Fraction);
-    let all_percent = !notations.is_empty() && notations.iter().all(|n| *n == Notation::Percent);
-    let hundred = Ratio::from_integer(BigInt::from(100));
-    let styled: Option<Vec<String>> = if no_fraction && all_percent {
-        values
-            .iter()
-            .map(|r| exact_decimal(&(r * &hundred), SHORT_DECIMAL).map(|d| format!("{d}%")))
-            .collect()
-    } else if no_fraction {
-        values
-            .iter()
-            .map(|r| exact_decimal(r, SHORT_DECIMAL))
-            .collect()
-    } else {
-        None
-    };
-    styled.unwrap_or_else(|| values.iter().map(fraction).collect())
+/// `title`, followed by the reason when `written` could not keep the
+/// block's notation: `… (percentages cannot be exact here: 8/21 has no
+/// finite decimal expansion; writes fractions)`.
+fn titled(title: String, written: &BlockWeights) -> String {
+    match &written.fallback {
+        None => title,
+        Some(why) => format!("{title} ({why}; writes fractions)"),
+    }
 }
 
 /// Refactor offered on the head of a `relative` block: write every
@@ -152,18 +141,18 @@ fn write_out_relative(analysis: &Analysis, file: FileId, span: Span) -> Option<C
         .filter_map(|r| r.weight.as_ref().map(|w| w.notation))
         .collect();
     let values: Vec<Ratio> = rules.iter().map(|r| r.probability.clone()).collect();
-    let texts = write_values(&values, &notations);
+    let written = write_block(&values, &notations);
     let mut edits = vec![TextEdit {
         file,
         span: Span::new(block.name.span.end as usize, relative.end as usize),
         new_text: String::new(),
     }];
-    for ((alt, rule), text) in block.alternatives.iter().zip(&rules).zip(texts) {
+    for ((alt, rule), text) in block.alternatives.iter().zip(&rules).zip(&written.texts) {
         edits.push(match (&rule.weight, alt.weight) {
             (Some(_), Some(w)) => TextEdit {
                 file,
                 span: w,
-                new_text: text,
+                new_text: text.clone(),
             },
             _ => TextEdit {
                 file,
@@ -174,7 +163,10 @@ fn write_out_relative(analysis: &Analysis, file: FileId, span: Span) -> Option<C
     }
     let name = grammar.nt_name(nt);
     Some(CodeAction {
-        title: format!("Write out the probabilities of `{name}` and drop `relative`"),
+        title: titled(
+            format!("Write out the probabilities of `{name}` and drop `relative`"),
+            &written,
+        ),
         kind: CodeActionKind::Refactor,
         diagnostic_code: None,
         diagnostic_location: None,
@@ -226,24 +218,29 @@ fn renormalize(
     }
     let new: Vec<Ratio> = weights.iter().map(|w| &w.value / &sum).collect();
     let notations: Vec<Notation> = weights.iter().map(|w| w.notation).collect();
-    let texts = write_values(&new, &notations);
+    let written = write_block(&new, &notations);
+    // A weight whose value stays (a zero) keeps its text.
     let edits: Vec<TextEdit> = weights
         .iter()
-        .zip(texts)
-        .filter(|(w, text)| w.text != *text)
-        .map(|(w, text)| TextEdit {
+        .zip(&new)
+        .zip(&written.texts)
+        .filter(|((w, value), _)| w.value != **value)
+        .map(|((w, _), text)| TextEdit {
             file: w.location.file,
             span: w.location.span,
-            new_text: text,
+            new_text: text.clone(),
         })
         .collect();
     if edits.is_empty() {
         return None;
     }
     Some(quick_fix(
-        format!(
-            "Renormalize `{}` so its weights sum to 1",
-            grammar.nt_name(nt)
+        titled(
+            format!(
+                "Renormalize `{}` so its weights sum to 1",
+                grammar.nt_name(nt)
+            ),
+            &written,
         ),
         d,
         edits,

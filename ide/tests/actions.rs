@@ -99,8 +99,13 @@ fn renormalizing_thirds_written_as_decimals_gives_exact_fractions_and_keeps_comm
     let fix = action(&a, M, wahl, "Renormalize");
     assert_eq!(fix.kind, CodeActionKind::QuickFix);
     assert_eq!(fix.diagnostic_code, Some(Code::SumNotOne));
-    assert_eq!(fix.title, "Renormalize `Wahl` so its weights sum to 1");
-    // 0.33/0.99 = 1/3 has no terminating decimal: fractions.
+    // 0.33/0.99 = 1/3 has no terminating decimal: fractions, and the title
+    // says so.
+    assert_eq!(
+        fix.title,
+        "Renormalize `Wahl` so its weights sum to 1 \
+         (decimals cannot be exact here: 1/3 has no finite decimal expansion; writes fractions)"
+    );
     let fixed = apply(text, M, &fix.edits);
     assert_eq!(
         fixed,
@@ -330,7 +335,12 @@ fn writing_out_a_relative_block_gives_plain_probabilities_and_the_same_model() {
     assert_eq!(probabilities(&b, "Zahl"), probabilities(&a, "Zahl"));
     // Thirds have no decimal: fractions.
     let (text, [head]) = marked("start S\n[[S relative]] { \"a\" | \"b\" | \"c\" }\n");
-    let (_, fixed) = apply_action(&text, head, "Write out");
+    let (fix, fixed) = apply_action(&text, head, "Write out");
+    assert_eq!(
+        fix.title,
+        "Write out the probabilities of `S` and drop `relative` \
+         (decimals cannot be exact here: 1/3 has no finite decimal expansion; writes fractions)"
+    );
     assert_eq!(fixed, "start S\nS { 1/3 \"a\" | 1/3 \"b\" | 1/3 \"c\" }\n");
 }
 
@@ -349,4 +359,248 @@ fn an_unknown_start_symbol_gets_a_stub_block_after_the_start_line() {
     );
     let b = analyze_text(&fixed);
     assert_eq!(codes(&b), vec![Code::Unreachable]);
+}
+
+/// A block `S` with one alternative per weight (`None`: unweighted), a
+/// comment on every line, its head marked `[[…]]` (`S {` or, for a
+/// `relative` block, `S relative`).
+fn block_fixture(weights: &[Option<&str>], relative: bool) -> String {
+    let head = if relative {
+        "[[S relative]] {"
+    } else {
+        "[[S {]]"
+    };
+    let mut text = format!("start S\n# vorher\n{head}  # Kopf\n");
+    for (i, w) in weights.iter().enumerate() {
+        match w {
+            Some(w) => text += &format!("  {w}  \"w{i}\"  # Zeile {i}\n"),
+            None => text += &format!("  \"w{i}\"  # Zeile {i}\n"),
+        }
+    }
+    text + "}  # Ende\n"
+}
+
+/// The text of [`block_fixture`]`(before, …)` after an action that writes
+/// the weights `after` and leaves (or makes) the block plain, not
+/// `relative`: a replaced weight keeps its spacing, an inserted one is
+/// followed by one space.
+fn block_after(before: &[Option<&str>], after: &[&str]) -> String {
+    let weights: Vec<Option<&str>> = after.iter().map(|a| Some(*a)).collect();
+    let mut text = block_fixture(&weights, false).replace("[[S {]]", "S {");
+    for (i, (b, a)) in before.iter().zip(after).enumerate() {
+        if b.is_none() {
+            text = text.replace(&format!("  {a}  \"w{i}\""), &format!("  {a} \"w{i}\""));
+        }
+    }
+    text
+}
+
+/// Asks for the action `prefix` on the head of the block written with
+/// `before`; checks the text it gives (`after`), the reason in its title
+/// (`fallback`, `None` when the block's notation is kept), that comments
+/// are kept, and that the block now sums to exactly 1 with the ratios of
+/// `before` kept.
+#[track_caller]
+fn rewrites_block(prefix: &str, before: &[Option<&str>], after: &[&str], fallback: Option<&str>) {
+    let relative = prefix == "Write out";
+    let (text, [head]) = marked(&block_fixture(before, relative));
+    let text = text.as_str();
+    let a = analyze_text(text);
+    let fix = action(&a, M, head, prefix);
+    let context = format!("{prefix} {before:?}");
+    match fallback {
+        Some(why) => assert!(
+            fix.title.ends_with(&format!(" ({why}; writes fractions)")),
+            "{context}: {}",
+            fix.title
+        ),
+        None => assert!(
+            !fix.title.contains("cannot be exact"),
+            "{context}: {}",
+            fix.title
+        ),
+    }
+    let fixed = apply(text, M, &fix.edits);
+    assert_eq!(fixed, block_after(before, after), "{context}");
+    assert_eq!(comments(&fixed), comments(text), "{context}");
+    let b = analyze_text(&fixed);
+    assert!(
+        !codes(&b).contains(&Code::SumNotOne),
+        "{context}: {:#?}",
+        b.diagnostics
+    );
+    let p = probabilities(&b, "S");
+    assert_eq!(
+        p.iter().sum::<Ratio>(),
+        r(1, 1),
+        "{context}: sums to exactly 1"
+    );
+    if relative {
+        assert_eq!(p, probabilities(&a, "S"), "{context}: the same model");
+    } else {
+        // Renormalizing keeps the ratios: new weight = old weight / sum.
+        let old: Vec<Ratio> = before
+            .iter()
+            .map(|w| grammar_lang::weight::parse_weight(w.unwrap()).unwrap().0)
+            .collect();
+        let sum: Ratio = old.iter().sum();
+        let expected: Vec<Ratio> = old.iter().map(|w| w / &sum).collect();
+        assert_eq!(p, expected, "{context}: ratios kept");
+    }
+}
+
+#[test]
+fn renormalizing_keeps_the_blocks_notation_exactly_or_says_why_not() {
+    const P: &str = "percentages cannot be exact here";
+    const D: &str = "decimals cannot be exact here";
+    let cases: &[(&[&str], &[&str], Option<String>)] = &[
+        // Percent blocks.
+        // 60+30+20+15 = 125: 60/125 = 48%, 30/125 = 24%, 20/125 = 16%, 15/125 = 12%.
+        (
+            &["60%", "30%", "20%", "15%"],
+            &["48%", "24%", "16%", "12%"],
+            None,
+        ),
+        // 35+25+20 = 80: 43.75%, 31.25%, 25%.
+        (&["35%", "25%", "20%"], &["43.75%", "31.25%", "25%"], None),
+        // 45+25+20+15 = 105: 45/105 = 3/7 = 42.857142…% repeats; 5/21, 4/21, 1/7.
+        (
+            &["45%", "25%", "20%", "15%"],
+            &["3/7", "5/21", "4/21", "1/7"],
+            Some(format!("{P}: 3/7 has no finite decimal expansion")),
+        ),
+        // 40+30+20+15 = 105: 40/105 = 8/21 = 800/21 % = 38.095238…%.
+        (
+            &["40%", "30%", "20%", "15%"],
+            &["8/21", "2/7", "4/21", "1/7"],
+            Some(format!("{P}: 8/21 has no finite decimal expansion")),
+        ),
+        // 50+30+20+20 = 120: 50/120 = 5/12 = 41.666…%; 30/120 = 1/4 would be
+        // 25%, but the block is written wholly in fractions.
+        (
+            &["50%", "30%", "20%", "20%"],
+            &["5/12", "1/4", "1/6", "1/6"],
+            Some(format!("{P}: 5/12 has no finite decimal expansion")),
+        ),
+        // 25.6+25.5+0.1 = 51.2: 50%, then 25.5/51.2 = 255/512 = 49.8046875%,
+        // exact but with seven places (more than MAX_DECIMALS = 6).
+        (
+            &["25.6%", "25.5%", "0.1%"],
+            &["1/2", "255/512", "1/512"],
+            Some(format!(
+                "{P}: 255/512 needs 7 decimal places as a percentage, more than 6"
+            )),
+        ),
+        // A zero keeps its text; 30+30+20 = 80 as above with 30%.
+        (
+            &["30%", "30%", "20%", "0"],
+            &["37.5%", "37.5%", "25%", "0"],
+            None,
+        ),
+        // Decimal blocks.
+        // 0.3+0.3+0.15+0.05 = 0.8: 0.375, 0.375, 0.1875, 0.0625.
+        (
+            &["0.3", "0.3", "0.15", "0.05"],
+            &["0.375", "0.375", "0.1875", "0.0625"],
+            None,
+        ),
+        // Integers are decimals: 3+1 = 4: 0.75, 0.25.
+        (&["3", "1"], &["0.75", "0.25"], None),
+        // 0.5+0.3+0.2+0.2 = 1.2: 5/12 = 0.41666… repeats.
+        (
+            &["0.5", "0.3", "0.2", "0.2"],
+            &["5/12", "1/4", "1/6", "1/6"],
+            Some(format!("{D}: 5/12 has no finite decimal expansion")),
+        ),
+        // 0.5+0.3+0.2+0.024 = 1.024: 0.5/1.024 = 125/256 = 0.48828125, eight places.
+        (
+            &["0.5", "0.3", "0.2", "0.024"],
+            &["125/256", "75/256", "25/128", "3/128"],
+            Some(format!("{D}: 125/256 needs 8 decimal places, more than 6")),
+        ),
+        // Fraction blocks stay fractions even where a decimal exists:
+        // 4 · 1/3 = 4/3, each 1/4 (not 0.25).
+        (
+            &["1/3", "1/3", "1/3", "1/3"],
+            &["1/4", "1/4", "1/4", "1/4"],
+            None,
+        ),
+        // 3/4+1/2 = 5/4: 3/5, 2/5.
+        (&["3/4", "1/2"], &["3/5", "2/5"], None),
+        // Mixed blocks: the notation most weights use.
+        // Two decimals, one fraction; 0.5+1/4+0.5 = 1.25: 0.4, 0.2, 0.4.
+        (&["0.5", "1/4", "0.5"], &["0.4", "0.2", "0.4"], None),
+        // Two percentages, one decimal; 30%+30%+0.2 = 0.8: 37.5%, 37.5%, 25%.
+        (&["30%", "30%", "0.2"], &["37.5%", "37.5%", "25%"], None),
+        // Ties: fraction before decimal before percent.
+        // 0.6+0.4+1/2+1/2 = 2: 3/10, 1/5, 1/4, 1/4 (not 0.3, 0.2, 0.25, 0.25).
+        (
+            &["0.6", "0.4", "1/2", "1/2"],
+            &["3/10", "1/5", "1/4", "1/4"],
+            None,
+        ),
+        // 60%+40%+0.6+0.4 = 2: 0.3, 0.2, 0.3, 0.2 (not 30%, 20%, …).
+        (
+            &["60%", "40%", "0.6", "0.4"],
+            &["0.3", "0.2", "0.3", "0.2"],
+            None,
+        ),
+    ];
+    for (before, after, fallback) in cases {
+        let before: Vec<Option<&str>> = before.iter().map(|w| Some(*w)).collect();
+        rewrites_block("Renormalize", &before, after, fallback.as_deref());
+    }
+}
+
+/// The weights of a `relative` block (`None`: unweighted), the weights
+/// written out, the reason in the title when the notation is not kept.
+type WriteOutCase = (
+    &'static [Option<&'static str>],
+    &'static [&'static str],
+    Option<String>,
+);
+
+#[test]
+fn writing_out_a_relative_block_keeps_its_notation_exactly_or_says_why_not() {
+    const P: &str = "percentages cannot be exact here";
+    const D: &str = "decimals cannot be exact here";
+    let cases: &[WriteOutCase] = &[
+        // 30 : 10 → 75%, 25%.
+        (&[Some("30%"), Some("10%")], &["75%", "25%"], None),
+        // 3 : 4 → 3/7 = 42.857…%: fractions.
+        (
+            &[Some("3%"), Some("4%")],
+            &["3/7", "4/7"],
+            Some(format!("{P}: 3/7 has no finite decimal expansion")),
+        ),
+        // 6 : 3 : 1 (the unweighted alternative counts as 1) → 0.6, 0.3, 0.1.
+        (&[Some("6"), Some("3"), None], &["0.6", "0.3", "0.1"], None),
+        // 2 : 1 → 2/3: fractions.
+        (
+            &[Some("2"), None],
+            &["2/3", "1/3"],
+            Some(format!("{D}: 2/3 has no finite decimal expansion")),
+        ),
+        // 2/3 : 1/3 : 1/3 (sum 4/3) → 1/2, 1/4, 1/4, still fractions.
+        (
+            &[Some("2/3"), Some("1/3"), Some("1/3")],
+            &["1/2", "1/4", "1/4"],
+            None,
+        ),
+        // Two fractions, one decimal: 2 : 1/2 : 1/2 (sum 3) → 2/3, 1/6, 1/6.
+        (
+            &[Some("2"), Some("1/2"), Some("1/2")],
+            &["2/3", "1/6", "1/6"],
+            None,
+        ),
+        // No written weight: decimals; 1 : 1 : 1 : 1 → 0.25 each.
+        (
+            &[None, None, None, None],
+            &["0.25", "0.25", "0.25", "0.25"],
+            None,
+        ),
+    ];
+    for (before, after, fallback) in cases {
+        rewrites_block("Write out", before, after, fallback.as_deref());
+    }
 }
