@@ -8,12 +8,14 @@
 //! — shows up as uncovered.
 //!
 //! [`coverage`] counts per block and overall; [`uncovered_diagnostics`]
-//! turns the uncovered rules into `uncovered` findings for the editor.
+//! turns the uncovered rules into `uncovered` findings, and
+//! [`uncovered_findings`] runs a grammar's tests for them, for the editor.
 
-use crate::test_run::TestResult;
+use crate::test_run::{run, selected, RunOptions, Selection, TestResult};
 use grammar_lang::model::{Grammar, NtId, RuleId};
 use grammar_lang::{Code, Config, Diagnostic};
 use trellis_engine::testing::tree_rules;
+use trellis_ide::Analysis;
 
 /// How many rules of one block the tests cover.
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -132,10 +134,28 @@ pub fn uncovered_diagnostics(
         .collect()
 }
 
+/// For the editor: the `uncovered` findings of `analysis`'s grammar, from
+/// running every test block, when `config` turns the code on
+/// (`[editor] uncovered-rules = "hint"`). None when it is off (then no test
+/// runs), when the grammar has no tests (a library of blocks such as a
+/// lexicon, opened on its own) or cannot run (it has errors, shown already).
+pub fn uncovered_findings(analysis: &Analysis, config: &Config) -> Vec<Diagnostic> {
+    if config.level(Code::Uncovered).is_none() || analysis.grammar.tests.is_empty() {
+        return Vec::new();
+    }
+    let tests = selected(analysis, Selection::All);
+    match run(analysis, tests, RunOptions::default(), &|| false) {
+        Ok(Some(done)) => {
+            let coverage = coverage(&analysis.grammar, &done.tests);
+            uncovered_diagnostics(&analysis.grammar, &coverage, config)
+        }
+        Ok(None) | Err(_) => Vec::new(),
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::test_run::{run, selected, RunOptions, Selection};
 
     /// "ferries sail" uses S → NP VP, NP → "ferries", VP → "sail"; the
     /// failing "boats" covers nothing, and the passing reject has no tree.
@@ -195,5 +215,21 @@ test \"t\" {
         assert_eq!(d.severity, grammar_lang::Severity::Note);
         assert_eq!(d.location.span.text(HARBOUR), "0.4  VP");
         assert!(d.message.contains("`S → VP`"), "{}", d.message);
+    }
+
+    #[test]
+    fn the_editor_gets_uncovered_findings_only_when_turned_on_and_tests_exist() {
+        let on = crate::config::parse("[editor]\nuncovered-rules = \"hint\"\n").unwrap();
+        let analysis = trellis_ide::analyze_text(HARBOUR);
+        assert!(uncovered_findings(&analysis, &Config::default()).is_empty());
+        let found = uncovered_findings(&analysis, &on);
+        let texts: Vec<&str> = found
+            .iter()
+            .map(|d| d.location.span.text(HARBOUR))
+            .collect();
+        assert_eq!(texts, ["0.4  VP", "1/2 \"boats\"", "0.25 \"sink\""]);
+        // A library of blocks without tests: nothing to measure.
+        let lexicon = trellis_ide::analyze_text("NP { \"ferries\" | \"boats\" }\n");
+        assert!(uncovered_findings(&lexicon, &on).is_empty());
     }
 }
