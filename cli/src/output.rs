@@ -16,6 +16,56 @@ pub enum Format {
     Json,
 }
 
+/// The output formats of `check`: the shared ones and the two that code
+/// hosts and CI systems read.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+pub enum CheckFormat {
+    /// Source snippets with every finding.
+    #[value(alias = "text")]
+    Human,
+    /// One JSON object {"diagnostics": [...]}.
+    Json,
+    /// A SARIF 2.1.0 log: one run, a rule per check, a result per finding.
+    Sarif,
+    /// GitHub Actions workflow commands (`::error file=…::…`), one line per
+    /// finding, shown on the pull request's diff.
+    Github,
+}
+
+impl From<Format> for CheckFormat {
+    fn from(format: Format) -> Self {
+        match format {
+            Format::Human => CheckFormat::Human,
+            Format::Json => CheckFormat::Json,
+        }
+    }
+}
+
+/// The output formats of `test`: the shared ones and JUnit XML.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+pub enum TestFormat {
+    /// A report per grammar with the failing cases and why.
+    #[value(alias = "text")]
+    Human,
+    /// One JSON object with every grammar, test and case.
+    Json,
+    /// JUnit XML: a test suite per test block, a test case per
+    /// `accept`/`reject` case, for CI systems.
+    Junit,
+}
+
+impl From<TestFormat> for CheckFormat {
+    /// How findings that stop a test run (an invalid trellis.toml) are
+    /// shown: JUnit has no place for them, so they are shown for people
+    /// on standard error.
+    fn from(format: TestFormat) -> Self {
+        match format {
+            TestFormat::Human | TestFormat::Junit => CheckFormat::Human,
+            TestFormat::Json => CheckFormat::Json,
+        }
+    }
+}
+
 /// The output formats of `parse`: the shared ones and `brackets`.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
 pub enum ParseFormat {

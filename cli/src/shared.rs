@@ -3,8 +3,8 @@
 //! engine can run, choosing the symbol to start from.
 
 use crate::commands::{Outcome, Stop};
-use crate::output::{emit, Format, Stream, Term};
-use crate::render::{human, json};
+use crate::output::{emit, CheckFormat, Stream, Term};
+use crate::render::{github, human, json, sarif};
 use grammar_lang::model::NtId;
 use std::path::{Path, PathBuf};
 use trellis_ide::Analysis;
@@ -13,14 +13,16 @@ use trellis_project::{Analysed, LoadError};
 
 /// Finds and analyses the grammars for `paths` (see
 /// [`trellis_project::analyse_paths`]). An invalid trellis.toml stops
-/// everything: it is reported (on stdout as JSON too, for `--format json`)
-/// and the run ends with [`Outcome::Failure`].
+/// everything: it is reported (on stdout too, as the findings of `check`
+/// in the machine-readable formats) and the run ends with
+/// [`Outcome::Failure`].
 pub fn analyse(
     paths: &[PathBuf],
     changed: &[PathBuf],
-    format: Format,
+    format: impl Into<CheckFormat>,
     term: Term,
 ) -> Result<Analysed, Stop> {
+    let format = format.into();
     let mut analysed = trellis_project::analyse_paths(paths).map_err(|stop| {
         report_config_problems(&stop.problems, format, term);
         report_failures(&stop.failures);
@@ -33,22 +35,31 @@ pub fn analyse(
 }
 
 /// Reports invalid configuration files; nothing else is checked.
-fn report_config_problems(problems: &[ConfigProblem], format: Format, term: Term) {
-    let mut found = Vec::new();
+fn report_config_problems(problems: &[ConfigProblem], format: CheckFormat, term: Term) {
+    let found: Vec<_> = problems.iter().map(ConfigProblem::diagnostics).collect();
+    let all = || {
+        found
+            .iter()
+            .flat_map(|(sources, ds)| ds.iter().map(move |d| (d, sources)))
+    };
     let mut human = String::new();
     let color = term.color(Stream::Stderr);
-    for problem in problems {
-        let (sources, diagnostics) = problem.diagnostics();
-        match format {
-            Format::Json => {
-                found.extend(
-                    diagnostics
-                        .iter()
-                        .map(|d| json::json_diagnostic(d, &sources)),
-                );
+    match format {
+        CheckFormat::Json => json::write(&json::CheckDocument {
+            diagnostics: all().map(|(d, s)| json::json_diagnostic(d, s)).collect(),
+        }),
+        CheckFormat::Sarif => json::write(&sarif::check_log(all(), working_directory().as_deref())),
+        CheckFormat::Github => emit(
+            Stream::Stdout,
+            &github::check_annotations(all(), working_directory().as_deref()),
+        ),
+        CheckFormat::Human => {
+            for (sources, diagnostics) in &found {
+                human.push_str(&human::diagnostics(sources, diagnostics, color));
             }
-            Format::Human => human.push_str(&human::diagnostics(&sources, &diagnostics, color)),
         }
+    }
+    for problem in problems {
         human.push_str(&format!(
             "error: {} is not a valid trellis configuration, so nothing was checked; \
              fix the entries shown above (`trellis check --help` lists every check \
@@ -56,10 +67,14 @@ fn report_config_problems(problems: &[ConfigProblem], format: Format, term: Term
             problem.path.display()
         ));
     }
-    if format == Format::Json {
-        json::write(&json::CheckDocument { diagnostics: found });
-    }
     emit(Stream::Stderr, &human);
+}
+
+/// The working directory, against which reports for CI systems name files.
+pub fn working_directory() -> Option<PathBuf> {
+    std::env::current_dir()
+        .ok()
+        .map(|cwd| grammar_lang::source::normalize(&cwd))
 }
 
 /// Reports on stderr the paths that could not be checked.

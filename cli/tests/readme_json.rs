@@ -333,6 +333,7 @@ fn test_prints_what_readme_documents() {
         &[
             &["ferry_kiosk.trellis"],
             &["kiosk.trellis", "erring.trellis"],
+            &["kiosk.trellis", "erring.trellis", "--coverage"],
         ],
     );
 }

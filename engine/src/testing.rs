@@ -21,7 +21,7 @@
 
 use crate::explain::Explanation;
 use crate::parser::{ParseError, ParseOptions, ParsedTree, Parser};
-use grammar_lang::model::{fraction, to_f64, Expectation, Grammar, Ratio, Sym, TestCase};
+use grammar_lang::model::{fraction, to_f64, Expectation, Grammar, Ratio, RuleId, Sym, TestCase};
 use grammar_lang::syntax::lexer::quote;
 use grammar_lang::tree::Tree;
 use num_traits::One;
@@ -223,6 +223,21 @@ pub fn standing(grammar: &Grammar, words: &[&str], tree: &Tree) -> Standing {
 /// Iterative, so arbitrarily deep trees are fine.
 pub fn tree_probability(grammar: &Grammar, tree: &Tree) -> Result<Ratio, String> {
     let mut probability = Ratio::one();
+    for rule in tree_rules(grammar, tree)? {
+        probability *= &grammar.rule(rule).probability;
+    }
+    Ok(probability)
+}
+
+/// The rule used at each node of `tree` (in pre-order, once per node): the
+/// rule of `grammar` that rewrites the node's label as its children, the
+/// most probable one should a block list the same alternative twice (the
+/// one a most probable parse uses). `Err` says which node no rule accounts
+/// for.
+///
+/// Iterative, so arbitrarily deep trees are fine.
+pub fn tree_rules(grammar: &Grammar, tree: &Tree) -> Result<Vec<RuleId>, String> {
+    let mut rules = Vec::new();
     let mut stack = vec![tree];
     while let Some(node) = stack.pop() {
         let Tree::Node { label, children } = node else {
@@ -249,15 +264,14 @@ pub fn tree_probability(grammar: &Grammar, tree: &Tree) -> Result<Ratio, String>
         let best = grammar
             .rules_of(lhs)
             .filter(|(_, rule)| rule.rhs == rhs)
-            .map(|(_, rule)| &rule.probability)
-            .max();
+            .max_by(|(_, a), (_, b)| a.probability.cmp(&b.probability));
         match best {
-            Some(p) => probability *= p,
+            Some((id, _)) => rules.push(id),
             None => return Err(format!("no rule {}", rule_text(label, children))),
         }
         stack.extend(children.iter().rev());
     }
-    Ok(probability)
+    Ok(rules)
 }
 
 /// `Label → child child …` as written in the grammar.

@@ -10,7 +10,8 @@ use grammar_lang::{FileId, Location, Span};
 use parse_support::*;
 use trellis_engine::parser::{ParseError, Parser, DEFAULT_MAX_CHART_BYTES};
 use trellis_engine::testing::{
-    first_difference, run_case, standing, tree_probability, CaseOutcome, Failure, Standing,
+    first_difference, run_case, standing, tree_probability, tree_rules, CaseOutcome, Failure,
+    Standing,
 };
 
 fn case(expect: Expectation, sentence: &str, tree: Option<&str>) -> TestCase {
@@ -107,6 +108,27 @@ fn exact_scoring_of_a_written_tree_is_the_product_of_its_rules() {
     assert_eq!(
         tree_probability(&g, &brackets(NP_ATTACHED)),
         Ok(ratio(9072, 10_000_000))
+    );
+}
+
+#[test]
+fn a_tree_names_the_rule_at_each_node_the_most_probable_of_duplicates() {
+    let g = grammar(
+        "S",
+        &[
+            ("S", "A A", "1/4"),
+            ("S", "A A", "3/4"),
+            ("A", "\"x\"", "1"),
+        ],
+    );
+    let rules = tree_rules(&g, &brackets(r#"(S (A "x") (A "x"))"#)).unwrap();
+    let texts: Vec<String> = rules.iter().map(|&r| g.rule_text(r)).collect();
+    assert_eq!(texts, ["S → A A", "A → \"x\"", "A → \"x\""]);
+    // The second `S → A A`, with 3/4, is the one a most probable parse uses.
+    assert_eq!(g.rule(rules[0]).probability, ratio(3, 4));
+    assert_eq!(
+        tree_rules(&g, &brackets(r#"(S (A "y"))"#)),
+        Err("no rule S → A".to_string())
     );
 }
 

@@ -32,11 +32,14 @@ impl Default for Config {
 }
 
 impl Config {
-    /// The severity a diagnostic of `code` should get, or `None` if disabled.
+    /// The severity a diagnostic of `code` should get, or `None` if disabled
+    /// (a code [off by default](Code::off_by_default) is disabled unless a
+    /// level is set).
     pub fn level(&self, code: Code) -> Option<Severity> {
         match self.levels.get(&code) {
             Some(Level::Off) => None,
             Some(Level::At(sev)) => Some(*sev),
+            None if code.off_by_default() => None,
             None => Some(code.default_severity()),
         }
     }
@@ -49,6 +52,7 @@ impl Config {
         match self.levels.get(&code) {
             Some(Level::Off) => None,
             Some(Level::At(sev)) => Some(*sev),
+            None if code.off_by_default() => None,
             None => Some(emitted),
         }
     }

@@ -39,12 +39,12 @@ impl fmt::Display for Severity {
 }
 
 macro_rules! codes {
-    ($( $(#[$doc:meta])* $variant:ident = $name:literal, $sev:ident; )*) => {
+    ($( $variant:ident = $name:literal, $sev:ident, $desc:literal; )*) => {
         /// The stable code of every check. The string form is what users
         /// write in `trellis.toml` and what JSON output carries.
         #[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord, Hash)]
         pub enum Code {
-            $( $(#[$doc])* $variant, )*
+            $( #[doc = $desc] $variant, )*
         }
 
         impl Code {
@@ -54,9 +54,18 @@ macro_rules! codes {
                 match self { $( Code::$variant => $name, )* }
             }
 
-            /// The severity used when `trellis.toml` says nothing.
+            /// The severity used when `trellis.toml` says nothing (for a
+            /// code that is [off by default](Code::off_by_default), the
+            /// severity it gets when turned on).
             pub fn default_severity(self) -> Severity {
                 match self { $( Code::$variant => Severity::$sev, )* }
+            }
+
+            /// What the code finds, in one sentence: shown by
+            /// `trellis check --help` and in reports that describe their
+            /// rules (SARIF).
+            pub fn description(self) -> &'static str {
+                match self { $( Code::$variant => $desc, )* }
             }
 
             pub fn parse(s: &str) -> Option<Code> {
@@ -67,48 +76,63 @@ macro_rules! codes {
 }
 
 codes! {
-    /// A token or construct the parser could not accept.
-    Syntax = "syntax", Error;
-    /// A weight that is written wrongly (e.g. division by zero).
-    BadWeight = "bad-weight", Error;
-    /// A non-`relative` block whose probabilities do not add up to exactly 1.
-    SumNotOne = "sum-not-one", Error;
-    /// Unweighted alternatives in a block whose weighted ones use all the mass.
-    NoMassLeft = "no-mass-left", Error;
-    /// A rule with weight 0: it can never be used.
-    ZeroWeight = "zero-weight", Warning;
-    /// A rule with a negative weight.
-    NegativeWeight = "negative-weight", Error;
-    /// An empty alternative or an empty terminal: epsilon rules are not supported.
-    EmptyRule = "empty-rule", Error;
-    /// A non-terminal used but never given a block.
-    Undefined = "undefined", Error;
-    /// Two blocks for one non-terminal.
-    DuplicateBlock = "duplicate-block", Error;
-    /// The same right-hand side twice in one block.
-    DuplicateRule = "duplicate-rule", Warning;
-    /// `grammar` or `start` declared more than once.
-    DuplicateDeclaration = "duplicate-declaration", Error;
-    /// No `start` declaration anywhere in the grammar.
-    NoStart = "no-start", Error;
-    /// `start` names a symbol that has no block.
-    UnknownStart = "unknown-start", Error;
-    /// A block that cannot be reached from the start symbol.
-    Unreachable = "unreachable", Warning;
-    /// A non-terminal that derives no string of terminals.
-    Unproductive = "unproductive", Error;
-    /// A cycle of unary rules A → B → … → A.
-    UnaryCycle = "unary-cycle", Warning;
-    /// A rule longer than the configured maximum arity.
-    Arity = "arity", Warning;
-    /// `use` of a file that cannot be read.
-    UseMissing = "use-missing", Error;
-    /// `use` that leads back to a file already being used.
-    UseCycle = "use-cycle", Error;
-    /// An unknown key or value in `trellis.toml`.
-    Config = "config", Error;
-    /// The start symbol's derivations end with probability below 1.
-    Leaky = "leaky", Warning;
+    Syntax = "syntax", Error,
+        "Text the parser cannot read.";
+    BadWeight = "bad-weight", Error,
+        "A weight that is not a number, e.g. a division by zero.";
+    SumNotOne = "sum-not-one", Error,
+        "A block (not `relative`) whose probabilities do not add up to exactly 1.";
+    NoMassLeft = "no-mass-left", Error,
+        "Unweighted alternatives in a block whose weighted ones already use all the mass.";
+    ZeroWeight = "zero-weight", Warning,
+        "A rule with weight 0, which can never be used.";
+    NegativeWeight = "negative-weight", Error,
+        "A rule with a negative weight.";
+    EmptyRule = "empty-rule", Error,
+        "An empty alternative or an empty terminal (epsilon rules are not supported).";
+    Undefined = "undefined", Error,
+        "A symbol used but never given a block.";
+    DuplicateBlock = "duplicate-block", Error,
+        "Two blocks for one symbol.";
+    DuplicateRule = "duplicate-rule", Warning,
+        "The same right-hand side twice in one block.";
+    DuplicateDeclaration = "duplicate-declaration", Error,
+        "`grammar` or `start` declared more than once.";
+    NoStart = "no-start", Error,
+        "Test blocks but no `start` declaration to parse them from.";
+    UnknownStart = "unknown-start", Error,
+        "`start` names a symbol that has no block.";
+    Unreachable = "unreachable", Warning,
+        "A block that no derivation from the start symbol uses.";
+    Unproductive = "unproductive", Error,
+        "A symbol that derives no string of words.";
+    UnaryCycle = "unary-cycle", Warning,
+        "A cycle of unary rules A → B → … → A (an error when its probability product is 1).";
+    Arity = "arity", Warning,
+        "A right-hand side longer than the configured `max-arity`.";
+    UseMissing = "use-missing", Error,
+        "A `use` of a file that cannot be read.";
+    UseCycle = "use-cycle", Error,
+        "Files that `use` each other in a circle.";
+    Config = "config", Error,
+        "An unknown key or value in `trellis.toml`.";
+    Leaky = "leaky", Warning,
+        "The start symbol's derivations end with probability below 1: mass leaks into derivations that never end.";
+    Uncovered = "uncovered", Note,
+        "A rule that the most probable tree of no passing test case uses (from running the tests; shown by the editor when `trellis.toml` turns it on).";
+}
+
+impl Code {
+    /// Whether `trellis check` can report the code. `uncovered` comes from
+    /// running a grammar's tests, not from checking it.
+    pub fn is_check(self) -> bool {
+        self != Code::Uncovered
+    }
+
+    /// Whether the code is silent unless `trellis.toml` turns it on.
+    pub fn off_by_default(self) -> bool {
+        self == Code::Uncovered
+    }
 }
 
 impl fmt::Display for Code {
@@ -194,5 +218,14 @@ mod tests {
             assert_eq!(Code::parse(code.as_str()), Some(code));
         }
         assert_eq!(Code::parse("no-such-check"), None);
+    }
+
+    #[test]
+    fn every_code_has_a_one_line_description() {
+        for &code in Code::ALL {
+            let d = code.description();
+            assert!(!d.is_empty() && !d.contains('\n'), "{code}: {d:?}");
+            assert!(d.ends_with('.'), "{code}: {d:?}");
+        }
     }
 }

@@ -223,6 +223,13 @@ impl Analysis {
         }
     }
 
+    /// Adds findings that come from beyond the analysis — from running the
+    /// grammar's tests (`uncovered`, computed by the project layer) — so
+    /// that they are reported with the others.
+    pub fn add_findings(&mut self, findings: Vec<Diagnostic>) {
+        self.core.diagnostics.extend(findings);
+    }
+
     /// The findings located in `file`, in order.
     pub fn diagnostics_in(&self, file: FileId) -> impl Iterator<Item = &Diagnostic> {
         self.core

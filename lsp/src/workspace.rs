@@ -83,8 +83,11 @@ pub fn analyze_root(root: &Path, snapshot: &Snapshot, seq: u64) -> Option<RootRe
     let doc = snapshot.docs.get(root)?;
     let loader = Overlay(|path: &Path| snapshot.docs.get(path).map(|d| d.text.as_str().to_owned()));
     let settings = Settings::for_grammar(root, &loader);
-    // The façade's analysis: what `trellis check` reports, the editor reports.
-    let analysis = trellis_ide::analyze(root, &doc.text, &loader, &settings.config);
+    // The façade's analysis: what `trellis check` reports, the editor reports;
+    // and, when trellis.toml asks for them, the rules no passing test uses.
+    let mut analysis = trellis_ide::analyze(root, &doc.text, &loader, &settings.config);
+    let uncovered = trellis_project::coverage::uncovered_findings(&analysis, &settings.config);
+    analysis.add_findings(uncovered);
     let inputs = analysis
         .sources
         .iter()

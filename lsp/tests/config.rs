@@ -124,3 +124,52 @@ async fn without_file_watching_the_server_notices_configuration_edits_itself() {
         .await;
     client.shutdown().await;
 }
+
+#[tokio::test]
+async fn uncovered_rules_are_hints_when_trellis_toml_turns_them_on() {
+    // "a" is the only sentence the test accepts: `S → "a"` is covered,
+    // `S → "b"` is not (and `Spare` stays unreachable).
+    let grammar =
+        "start S\nS { \"a\" | \"b\" }\nSpare { \"c\" }\ntest \"t\" {\n  accept \"a\"\n}\n";
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("g.trellis");
+    fs::write(&path, grammar).unwrap();
+    fs::write(
+        dir.path().join("trellis.toml"),
+        "[editor]\nuncovered-rules = \"hint\"\n",
+    )
+    .unwrap();
+    let uri = file_uri(&path);
+    let mut client = TestClient::start();
+    client.initialize().await;
+    client.open(&uri, 1, grammar).await;
+    let published = client
+        .wait_for(|m| {
+            m["method"] == "textDocument/publishDiagnostics"
+                && m["params"]["uri"] == uri.as_str()
+                && severities(&m["params"])
+                    .iter()
+                    .any(|(c, _)| c == "uncovered")
+        })
+        .await;
+    let mut found = severities(&published["params"]);
+    found.sort();
+    // 4 is HINT; `Spare → "c"` is uncovered too.
+    assert_eq!(
+        found,
+        [
+            ("uncovered".to_string(), 4),
+            ("uncovered".to_string(), 4),
+            ("unreachable".to_string(), 2)
+        ]
+    );
+    let lines: Vec<u64> = published["params"]["diagnostics"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter(|d| d["code"] == "uncovered")
+        .map(|d| d["range"]["start"]["line"].as_u64().unwrap())
+        .collect();
+    assert_eq!(lines, [1, 2]);
+    client.shutdown().await;
+}

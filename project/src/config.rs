@@ -10,7 +10,15 @@
 //! [checks]
 //! unreachable = "error"
 //! duplicate-rule = "off"
+//!
+//! [editor]
+//! uncovered-rules = "hint"   # or "off", the default
 //! ```
+//!
+//! `[editor] uncovered-rules` sets the level of the `uncovered` code, which
+//! only the language server reports (it comes from running the grammar's
+//! tests, not from checking it), so it has a section of its own rather than
+//! an entry in `[checks]`.
 
 use crate::files;
 use grammar_lang::config::Level;
@@ -36,6 +44,15 @@ struct RawConfig {
     max_arity: Option<toml::Spanned<i64>>,
     #[serde(default)]
     checks: BTreeMap<toml::Spanned<String>, toml::Spanned<String>>,
+    #[serde(default)]
+    editor: RawEditor,
+}
+
+/// `[editor]`: what the language server shows beyond the checks.
+#[derive(serde::Deserialize, Default)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+struct RawEditor {
+    uncovered_rules: Option<toml::Spanned<String>>,
 }
 
 /// Reads a `trellis.toml` text. Every problem is reported, not just the first.
@@ -58,9 +75,41 @@ pub fn parse(text: &str) -> Result<Config, Vec<ConfigError>> {
             }),
         }
     }
+    if let Some(value) = raw.editor.uncovered_rules {
+        match value.get_ref().as_str() {
+            "off" => {}
+            "hint" => {
+                config.levels.insert(
+                    Code::Uncovered,
+                    Level::At(Code::Uncovered.default_severity()),
+                );
+            }
+            other => errors.push(ConfigError {
+                message: format!(
+                    "`{other}` is not a setting for `uncovered-rules`: use \"hint\" or \"off\""
+                ),
+                span: Some(value.span()),
+            }),
+        }
+    }
     for (key, value) in raw.checks {
-        let Some(code) = Code::parse(key.get_ref()) else {
-            let known: Vec<_> = Code::ALL.iter().map(|c| c.as_str()).collect();
+        let code = Code::parse(key.get_ref());
+        if let Some(code) = code.filter(|c| !c.is_check()) {
+            errors.push(ConfigError {
+                message: format!(
+                    "`{code}` is not a check that `[checks]` can set: the editor shows it \
+                     when `[editor]` says `uncovered-rules = \"hint\"`"
+                ),
+                span: Some(key.span()),
+            });
+            continue;
+        }
+        let Some(code) = code else {
+            let known: Vec<_> = Code::ALL
+                .iter()
+                .filter(|c| c.is_check())
+                .map(|c| c.as_str())
+                .collect();
             errors.push(ConfigError {
                 message: format!(
                     "unknown check `{}`; known checks: {}",
@@ -361,6 +410,26 @@ mod tests {
         assert!(errs[0].message.contains("unknown check `unreachble`"));
         assert_eq!(&text[errs[0].span.clone().unwrap()], "unreachble");
         assert!(errs[1].message.contains("`loud`"));
+    }
+
+    #[test]
+    fn uncovered_rules_are_off_unless_the_editor_section_asks_for_hints() {
+        let off = parse("").unwrap();
+        assert_eq!(off.level(Code::Uncovered), None);
+        let off = parse("[editor]\nuncovered-rules = \"off\"\n").unwrap();
+        assert_eq!(off.level(Code::Uncovered), None);
+        let on = parse("[editor]\nuncovered-rules = \"hint\"\n").unwrap();
+        assert_eq!(on.level(Code::Uncovered), Some(Severity::Note));
+    }
+
+    #[test]
+    fn uncovered_rules_are_set_in_the_editor_section_only() {
+        let text = "[checks]\nuncovered = \"note\"\n[editor]\nuncovered-rules = \"loud\"\n";
+        let errs = parse(text).unwrap_err();
+        assert_eq!(errs.len(), 2, "{errs:?}");
+        assert_eq!(&text[errs[0].span.clone().unwrap()], "uncovered");
+        assert!(errs[0].message.contains("[editor]"), "{}", errs[0].message);
+        assert!(errs[1].message.contains("`loud`"), "{}", errs[1].message);
     }
 
     #[test]

@@ -6,12 +6,13 @@
 //! changes, discovering grammars under directories, deciding which grammar
 //! speaks for a file and reporting a finding shared by several grammars
 //! once, loading a grammar through the analysis façade, and running test
-//! blocks with their counts.
+//! blocks with their counts and the rules they cover.
 //!
 //! I/O is allowed here; protocol types (LSP) and terminal output are not:
 //! every answer is data or a message for the shell to present.
 
 pub mod config;
+pub mod coverage;
 pub mod discover;
 pub mod files;
 pub mod grammars;

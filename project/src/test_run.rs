@@ -6,6 +6,7 @@
 //! run, spreads the cases over the cores when asked, stops between cases
 //! when the caller cancels, and counts.
 
+use crate::coverage::{coverage, Coverage};
 use crate::discover::identity;
 use crate::grammars::{grammar_roots, Checked};
 use grammar_lang::model::GrammarTest;
@@ -186,6 +187,9 @@ pub struct GrammarRun<'g> {
     /// Why none of its tests ran, if they did not.
     pub blocked: Option<NotRunnable>,
     pub tests: Vec<TestResult<'g>>,
+    /// Which rules the passing cases' most probable trees use (when the
+    /// tests ran).
+    pub coverage: Option<Coverage>,
 }
 
 /// Counts over a run of several grammars.
@@ -269,11 +273,15 @@ pub fn run_suite<'g>(
             // Never cancelled: a command-line run goes to the end.
             Ok(None) => (None, not_run(&tests)),
         };
+        let coverage = blocked
+            .is_none()
+            .then(|| coverage(&analysis.grammar, &tests));
         grammars.push(GrammarRun {
             analysis,
             path: checked[i].root.path.clone(),
             blocked,
             tests,
+            coverage,
         });
     }
     available.sort_unstable();

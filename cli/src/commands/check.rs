@@ -1,9 +1,9 @@
 //! `trellis check`: run the static checks over grammar files and report.
 
 use super::{Outcome, Ran};
-use crate::output::{emit, Format, Stream, Term};
-use crate::render::{human, json, Counts};
-use crate::shared::{analyse, note_nothing_found, report_failures};
+use crate::output::{emit, CheckFormat, Stream, Term};
+use crate::render::{github, human, json, sarif, Counts};
+use crate::shared::{analyse, note_nothing_found, report_failures, working_directory};
 use grammar_lang::Code;
 use std::path::PathBuf;
 use trellis_project::{identity, paths_or_here, select, Analysed};
@@ -36,10 +36,11 @@ pub struct CheckArgs {
     pub changed: Vec<PathBuf>,
 
     /// How to print findings: `human` shows source snippets, `json` prints
-    /// one object {"diagnostics": [...]} with 1-based lines and columns
-    /// counted in characters
-    #[arg(long, value_enum, default_value_t = Format::Human)]
-    pub format: Format,
+    /// one object {"diagnostics": [...]}, `sarif` a SARIF 2.1.0 log for
+    /// code-scanning services, `github` one GitHub Actions annotation per
+    /// finding; lines and columns are 1-based, columns counted in characters
+    #[arg(long, value_enum, default_value_t = CheckFormat::Human)]
+    pub format: CheckFormat,
 
     /// Fail (exit status 1) on warnings too, not only on errors
     #[arg(long)]
@@ -58,21 +59,24 @@ fn checks_help() -> String {
          to \"error\", \"warning\", \"note\" or \"off\"):\n",
     );
     for &code in Code::ALL {
-        let note = match code {
+        let (level, note) = match code {
             // Problems in trellis.toml itself stop the run; not a grammar check.
             Code::Config => continue,
-            Code::Syntax => " (always)",
-            _ => "",
+            Code::Syntax => (code.default_severity().as_str(), " (always)"),
+            _ if !code.is_check() => ("off", " (editor only)"),
+            _ => (code.default_severity().as_str(), ""),
         };
         out.push_str(&format!(
-            "  {:width$}  {}{note}\n",
+            "  {:width$}  {:7}  {}{note}\n",
             code.as_str(),
-            code.default_severity()
+            level,
+            code.description()
         ));
     }
     out.push_str(&format!(
         "\n`max-arity = N` in trellis.toml sets the longest right-hand side accepted \
-         without an `arity` finding (default {}).\n",
+         without an `arity` finding (default {}). `[editor] uncovered-rules = \"hint\"` \
+         makes the language server mark rules that no passing test case uses.\n",
         grammar_lang::config::DEFAULT_MAX_ARITY
     ));
     out
@@ -100,15 +104,27 @@ pub fn run(args: &CheckArgs, term: Term) -> Ran {
         counts.add(d.severity);
     }
 
+    let findings = || {
+        selection
+            .findings
+            .iter()
+            .map(|&(i, d)| (d, &checked[i].analysis.sources))
+    };
     match args.format {
-        Format::Json => json::write(&json::CheckDocument {
-            diagnostics: selection
-                .findings
-                .iter()
-                .map(|&(i, d)| json::json_diagnostic(d, &checked[i].analysis.sources))
+        CheckFormat::Json => json::write(&json::CheckDocument {
+            diagnostics: findings()
+                .map(|(d, sources)| json::json_diagnostic(d, sources))
                 .collect(),
         }),
-        Format::Human => {
+        CheckFormat::Sarif => json::write(&sarif::check_log(
+            findings(),
+            working_directory().as_deref(),
+        )),
+        CheckFormat::Github => emit(
+            Stream::Stdout,
+            &github::check_annotations(findings(), working_directory().as_deref()),
+        ),
+        CheckFormat::Human => {
             emit(
                 Stream::Stdout,
                 &human::check_report(

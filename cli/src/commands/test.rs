@@ -1,10 +1,10 @@
 //! `trellis test`: run the `test` blocks written in grammars.
 
 use super::{Outcome, Ran, Stop};
-use crate::output::{emit, Format, Stream, Term};
+use crate::output::{emit, Stream, Term, TestFormat};
 use crate::render::human::{self, TestDetail};
-use crate::render::json;
-use crate::shared::{analyse, note_nothing_found, report_failures};
+use crate::render::{json, junit};
+use crate::shared::{analyse, note_nothing_found, report_failures, working_directory};
 use grammar_lang::syntax::lexer::quote;
 use std::path::PathBuf;
 use trellis_project::test_run;
@@ -22,9 +22,14 @@ pub const LONG_ABOUT: &str = "Run the tests written in grammars.\n\n\
     Paths are found as by `trellis check`: files, or every .trellis file under \
     a directory, each file that another one `use`s being tested as part of \
     that grammar. A grammar with errors is not run (its errors are shown).\n\n\
-    Exit status: 0 when every case holds; 1 when some case fails or a grammar \
-    has errors; 2 when a path cannot be read, trellis.toml is invalid, or \
-    --filter matches no test.";
+    With --coverage, each grammar's rule coverage follows its tests: how many \
+    of its rules (those of the files it `use`s included) the most probable \
+    tree of some passing case uses, per block, and every rule none uses, at \
+    its place. --min-coverage PERCENT fails a run in which a grammar's tests \
+    cover less.\n\n\
+    Exit status: 0 when every case holds; 1 when some case fails, a grammar \
+    has errors or its coverage is below --min-coverage; 2 when a path cannot \
+    be read, trellis.toml is invalid, or --filter matches no test.";
 
 /// Arguments of `trellis test`.
 #[derive(clap::Args, Debug, Clone)]
@@ -57,9 +62,29 @@ pub struct TestArgs {
     pub max_chart_mib: u64,
 
     /// `human` for people; `json` prints one object with every grammar,
-    /// test and case
-    #[arg(long, value_enum, default_value_t = Format::Human)]
-    pub format: Format,
+    /// test and case; `junit` prints JUnit XML for CI systems (a test suite
+    /// per test block, a test case per accept/reject case)
+    #[arg(long, value_enum, default_value_t = TestFormat::Human)]
+    pub format: TestFormat,
+
+    /// Report which rules the passing cases' most probable trees use: the
+    /// share per grammar and per block, and every rule none uses
+    #[arg(long)]
+    pub coverage: bool,
+
+    /// Fail (exit status 1) when a grammar's tests cover less than PERCENT
+    /// of its rules (implies --coverage)
+    #[arg(long, value_name = "PERCENT", value_parser = percentage)]
+    pub min_coverage: Option<f64>,
+}
+
+/// A percentage between 0 and 100 (a trailing `%` is allowed).
+fn percentage(text: &str) -> Result<f64, String> {
+    let number = text.trim().trim_end_matches('%');
+    match number.parse::<f64>() {
+        Ok(p) if (0.0..=100.0).contains(&p) => Ok(p),
+        _ => Err(format!("`{text}` is not a percentage from 0 to 100")),
+    }
 }
 
 /// Runs `trellis test`.
@@ -91,8 +116,18 @@ pub fn run(args: &TestArgs, term: Term) -> Ran {
         return Err(Stop(Outcome::Failure));
     }
 
+    let coverage = args.coverage || args.min_coverage.is_some();
+    let below: Vec<&test_run::GrammarRun> = match args.min_coverage {
+        Some(minimum) => suite
+            .grammars
+            .iter()
+            .filter(|run| run.coverage.as_ref().is_some_and(|c| !c.reaches(minimum)))
+            .collect(),
+        None => Vec::new(),
+    };
+
     match args.format {
-        Format::Human => {
+        TestFormat::Human => {
             let color = term.color(Stream::Stdout);
             let detail = TestDetail {
                 every_case: args.verbose,
@@ -102,6 +137,11 @@ pub fn run(args: &TestArgs, term: Term) -> Ran {
             for run in &suite.grammars {
                 out.push_str(&human::test_grammar(run, detail, color));
             }
+            if coverage {
+                for run in &suite.grammars {
+                    out.push_str(&human::coverage(run, args.min_coverage, color));
+                }
+            }
             out.push_str(&human::test_summary(&suite.tally));
             out.push('\n');
             emit(Stream::Stdout, &out);
@@ -109,14 +149,55 @@ pub fn run(args: &TestArgs, term: Term) -> Ran {
                 note_nothing_found(&paths, &args.changed);
             }
         }
-        Format::Json => json::write(&json::test_document(&suite.grammars, &suite.tally)),
+        TestFormat::Json => json::write(&json::test_document(
+            &suite.grammars,
+            &suite.tally,
+            coverage,
+        )),
+        TestFormat::Junit => emit(
+            Stream::Stdout,
+            &junit::test_report(&suite.grammars, working_directory().as_deref()),
+        ),
+    }
+    if let (Some(minimum), false) = (args.min_coverage, below.is_empty()) {
+        if args.format != TestFormat::Human {
+            let text: String = below
+                .iter()
+                .filter_map(|run| {
+                    let c = run.coverage.as_ref()?;
+                    Some(format!(
+                        "error: {}: the tests cover {:.1}% of the rules ({} of {}), \
+                         below --min-coverage {minimum}\n",
+                        run.path.display(),
+                        c.percent(),
+                        c.covered,
+                        c.rules
+                    ))
+                })
+                .collect();
+            emit(Stream::Stderr, &text);
+        }
     }
     report_failures(&failures);
     Ok(if !failures.is_empty() {
         Outcome::Failure
-    } else if suite.tally.all_held() {
+    } else if suite.tally.all_held() && below.is_empty() {
         Outcome::Clean
     } else {
         Outcome::Findings
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_minimum_coverage_is_a_percentage() {
+        assert_eq!(percentage("80"), Ok(80.0));
+        assert_eq!(percentage("62.5%"), Ok(62.5));
+        assert!(percentage("101").is_err());
+        assert!(percentage("-1").is_err());
+        assert!(percentage("most").is_err());
+    }
 }

@@ -471,6 +471,59 @@ pub struct TestDetail {
     pub trees: bool,
 }
 
+/// The rule coverage of one grammar's tests: the share of rules covered,
+/// each block's count, and every uncovered rule at its place. `minimum` is
+/// the `--min-coverage` asked for, if any.
+pub fn coverage(run: &GrammarRun, minimum: Option<f64>, color: bool) -> String {
+    let Some(coverage) = &run.coverage else {
+        return String::new();
+    };
+    let paint = Paint(color);
+    let grammar = &run.analysis.grammar;
+    let mut out = format!(
+        "coverage of {}: {} of {} covered ({:.1}%)",
+        run.path.display(),
+        coverage.covered,
+        plural(coverage.rules, "rule", "rules"),
+        coverage.percent()
+    );
+    if let Some(minimum) = minimum.filter(|&m| !coverage.reaches(m)) {
+        out.push_str(&format!(
+            ", {} --min-coverage {minimum}",
+            paint.paint("below", Tone::Failed)
+        ));
+    }
+    out.push('\n');
+    let width = coverage
+        .blocks
+        .iter()
+        .map(|b| grammar.nt_name(b.block).chars().count())
+        .max()
+        .unwrap_or(0);
+    for block in &coverage.blocks {
+        out.push_str(&format!(
+            "  {:width$}  {}/{}\n",
+            grammar.nt_name(block.block),
+            block.covered,
+            block.rules
+        ));
+    }
+    if !coverage.uncovered.is_empty() {
+        out.push_str("  rules no passing case uses:\n");
+        for &id in &coverage.uncovered {
+            let (file, at) = place(&run.analysis.sources, grammar.rule(id).location);
+            out.push_str(&format!(
+                "    {file}:{}:{}  {}\n",
+                at.line,
+                at.column,
+                grammar.rule_text(id)
+            ));
+        }
+    }
+    out.push('\n');
+    out
+}
+
 /// The closing line of a test run.
 pub fn test_summary(tally: &Tally) -> String {
     let total = tally.tests();

@@ -429,6 +429,68 @@ struct JsonGrammar {
     #[serde(skip_serializing_if = "Vec::is_empty")]
     diagnostics: Vec<JsonDiagnostic>,
     tests: Vec<JsonTest>,
+    /// With `--coverage`, when the tests ran.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    coverage: Option<JsonCoverage>,
+}
+
+#[derive(Serialize)]
+struct JsonCoverage {
+    covered: usize,
+    rules: usize,
+    percent: f64,
+    blocks: Vec<JsonBlockCoverage>,
+    uncovered: Vec<JsonRule>,
+}
+
+#[derive(Serialize)]
+struct JsonBlockCoverage {
+    name: String,
+    covered: usize,
+    rules: usize,
+}
+
+#[derive(Serialize)]
+struct JsonRule {
+    block: String,
+    rule: String,
+    file: String,
+    line: u32,
+    column: u32,
+}
+
+fn json_coverage(run: &GrammarRun) -> Option<JsonCoverage> {
+    let coverage = run.coverage.as_ref()?;
+    let grammar = &run.analysis.grammar;
+    Some(JsonCoverage {
+        covered: coverage.covered,
+        rules: coverage.rules,
+        percent: coverage.percent(),
+        blocks: coverage
+            .blocks
+            .iter()
+            .map(|b| JsonBlockCoverage {
+                name: grammar.nt_name(b.block).to_string(),
+                covered: b.covered,
+                rules: b.rules,
+            })
+            .collect(),
+        uncovered: coverage
+            .uncovered
+            .iter()
+            .map(|&id| {
+                let rule = grammar.rule(id);
+                let (file, at) = place(&run.analysis.sources, rule.location);
+                JsonRule {
+                    block: grammar.nt_name(rule.lhs).to_string(),
+                    rule: grammar.rule_text(id),
+                    file,
+                    line: at.line,
+                    column: at.column,
+                }
+            })
+            .collect(),
+    })
 }
 
 #[derive(Serialize)]
@@ -464,9 +526,11 @@ struct JsonCase {
     failure: Vec<String>,
 }
 
-pub fn test_document(runs: &[GrammarRun], tally: &Tally) -> TestDocument {
+/// The document for a test run; `coverage` adds each grammar's rule
+/// coverage.
+pub fn test_document(runs: &[GrammarRun], tally: &Tally, coverage: bool) -> TestDocument {
     TestDocument {
-        grammars: runs.iter().map(json_grammar).collect(),
+        grammars: runs.iter().map(|run| json_grammar(run, coverage)).collect(),
         tests: JsonCount {
             passed: tally.counts.tests_passed,
             failed: tally.counts.tests_failed,
@@ -478,7 +542,7 @@ pub fn test_document(runs: &[GrammarRun], tally: &Tally) -> TestDocument {
     }
 }
 
-fn json_grammar(run: &GrammarRun) -> JsonGrammar {
+fn json_grammar(run: &GrammarRun, coverage: bool) -> JsonGrammar {
     let (reason, diagnostics) = match &run.blocked {
         Some(blocked @ NotRunnable::Errors(_)) => (Some(blocked.to_string()), errors(run.analysis)),
         Some(blocked) => (Some(blocked.to_string()), Vec::new()),
@@ -513,6 +577,7 @@ fn json_grammar(run: &GrammarRun) -> JsonGrammar {
         reason,
         diagnostics,
         tests,
+        coverage: if coverage { json_coverage(run) } else { None },
     }
 }
 

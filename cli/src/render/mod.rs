@@ -8,12 +8,16 @@
 //! [`position`] here.
 
 pub mod brackets;
+pub mod github;
 pub mod human;
 pub mod json;
+pub mod junit;
+pub mod sarif;
 
 use grammar_lang::source::SourceFile;
 use grammar_lang::{FileId, Location, Severity, SourceMap, Span};
 use std::ops::Range;
+use std::path::{Path, PathBuf};
 
 /// The file `id` of `sources`, if there is one.
 pub fn file(sources: &SourceMap, id: FileId) -> Option<&SourceFile> {
@@ -57,6 +61,21 @@ pub fn place(sources: &SourceMap, location: Location) -> (String, Position) {
             position(f, clamp(&f.text, location.span).start),
         ),
         None => (String::new(), Position { line: 1, column: 1 }),
+    }
+}
+
+/// `path` relative to the working directory `cwd` when it lies below it
+/// (`Ok`), or made absolute (`Err`); `.` and `..` are resolved. Reports that
+/// CI systems read name files relative to the checkout they run in.
+pub fn relative_to(path: &Path, cwd: Option<&Path>) -> Result<PathBuf, PathBuf> {
+    let absolute = match cwd {
+        Some(cwd) if path.is_relative() => cwd.join(path),
+        _ => path.to_path_buf(),
+    };
+    let absolute = grammar_lang::source::normalize(&absolute);
+    match cwd.and_then(|cwd| absolute.strip_prefix(cwd).ok()) {
+        Some(relative) => Ok(relative.to_path_buf()),
+        None => Err(absolute),
     }
 }
 
