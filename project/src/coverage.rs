@@ -156,23 +156,22 @@ pub fn uncovered_findings(analysis: &Analysis, config: &Config) -> Vec<Diagnosti
 #[cfg(test)]
 mod tests {
     use super::*;
+    use trellis_test_support::grammars::HARBOUR;
 
     /// "ferries sail" uses S → NP VP, NP → "ferries", VP → "sail"; the
     /// failing "boats" covers nothing, and the passing reject has no tree.
-    const HARBOUR: &str = "start S
-S {
-  0.6  NP VP
-  0.4  VP
-}
-NP { 1/2 \"ferries\" | 1/2 \"boats\" }
-VP { 0.75 \"sail\" | 0.25 \"sink\" }
-
+    const TESTS: &str = "
 test \"t\" {
   accept \"ferries sail\"
   reject \"sink boats\"
   accept \"boats\"
 }
 ";
+
+    /// The shared harbour grammar with these tests.
+    fn harbour() -> String {
+        format!("{HARBOUR}{TESTS}")
+    }
 
     fn coverage_of(text: &str) -> (trellis_ide::Analysis, Coverage) {
         let analysis = trellis_ide::analyze_text(text);
@@ -186,7 +185,7 @@ test \"t\" {
 
     #[test]
     fn a_rule_is_covered_when_a_passing_case_s_best_tree_uses_it() {
-        let (analysis, c) = coverage_of(HARBOUR);
+        let (analysis, c) = coverage_of(&harbour());
         let g = &analysis.grammar;
         assert_eq!((c.covered, c.rules), (3, 6));
         assert_eq!(c.percent(), 50.0);
@@ -204,7 +203,8 @@ test \"t\" {
 
     #[test]
     fn uncovered_rules_become_findings_only_when_configured() {
-        let (analysis, c) = coverage_of(HARBOUR);
+        let text = harbour();
+        let (analysis, c) = coverage_of(&text);
         let g = &analysis.grammar;
         assert!(uncovered_diagnostics(g, &c, &Config::default()).is_empty());
         let config = crate::config::parse("[editor]\nuncovered-rules = \"hint\"\n").unwrap();
@@ -213,20 +213,18 @@ test \"t\" {
         let d = &found[0];
         assert_eq!(d.code, Code::Uncovered);
         assert_eq!(d.severity, grammar_lang::Severity::Note);
-        assert_eq!(d.location.span.text(HARBOUR), "0.4  VP");
+        assert_eq!(d.location.span.text(&text), "0.4  VP");
         assert!(d.message.contains("`S → VP`"), "{}", d.message);
     }
 
     #[test]
     fn the_editor_gets_uncovered_findings_only_when_turned_on_and_tests_exist() {
         let on = crate::config::parse("[editor]\nuncovered-rules = \"hint\"\n").unwrap();
-        let analysis = trellis_ide::analyze_text(HARBOUR);
+        let text = harbour();
+        let analysis = trellis_ide::analyze_text(&text);
         assert!(uncovered_findings(&analysis, &Config::default()).is_empty());
         let found = uncovered_findings(&analysis, &on);
-        let texts: Vec<&str> = found
-            .iter()
-            .map(|d| d.location.span.text(HARBOUR))
-            .collect();
+        let texts: Vec<&str> = found.iter().map(|d| d.location.span.text(&text)).collect();
         assert_eq!(texts, ["0.4  VP", "1/2 \"boats\"", "0.25 \"sink\""]);
         // A library of blocks without tests: nothing to measure.
         let lexicon = trellis_ide::analyze_text("NP { \"ferries\" | \"boats\" }\n");

@@ -296,17 +296,12 @@ pub fn run_suite<'g>(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use trellis_test_support::grammars::HARBOUR;
 
-    /// Every sentence of this grammar has exactly one tree: "ferries sail"
-    /// has probability 0.6 · 1/2 · 0.75 = 0.225 (worked by hand).
-    const HARBOUR: &str = "start S
-S {
-  0.6  NP VP
-  0.4  VP
-}
-NP { 1/2 \"ferries\" | 1/2 \"boats\" }
-VP { 0.75 \"sail\" | 0.25 \"sink\" }
-
+    /// Test blocks for the shared harbour grammar, in which every sentence
+    /// has exactly one tree: "ferries sail" has probability
+    /// 0.6 · 1/2 · 0.75 = 0.225 (worked by hand).
+    const TESTS: &str = "
 test \"sailing\" {
   accept \"ferries sail\"
   accept \"sail\" as (S (VP \"sail\"))
@@ -319,9 +314,14 @@ test \"sinking\" {
 }
 ";
 
+    /// The shared harbour grammar with these tests.
+    fn harbour() -> String {
+        format!("{HARBOUR}{TESTS}")
+    }
+
     #[test]
     fn cases_are_counted_per_test_and_per_case_in_order() {
-        let analysis = trellis_ide::analyze_text(HARBOUR);
+        let analysis = trellis_ide::analyze_text(&harbour());
         let tests = selected(&analysis, Selection::All);
         for parallel in [false, true] {
             let options = RunOptions {
@@ -351,7 +351,7 @@ test \"sinking\" {
 
     #[test]
     fn a_selection_picks_by_name_part_or_by_exact_name_in_a_file() {
-        let analysis = trellis_ide::analyze_text(HARBOUR);
+        let analysis = trellis_ide::analyze_text(&harbour());
         let names = |s: Selection| -> Vec<String> {
             selected(&analysis, s)
                 .iter()
@@ -384,7 +384,7 @@ test \"sinking\" {
 
     #[test]
     fn a_cancelled_run_stops_between_cases() {
-        let analysis = trellis_ide::analyze_text(HARBOUR);
+        let analysis = trellis_ide::analyze_text(&harbour());
         let tests = selected(&analysis, Selection::All);
         let outcome = run(&analysis, tests, RunOptions::default(), &|| true).unwrap();
         assert!(outcome.is_none());

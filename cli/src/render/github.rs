@@ -31,28 +31,24 @@ fn command(severity: Severity) -> &'static str {
 
 /// `text` escaped for the message part of a workflow command.
 pub fn escape_message(text: &str) -> String {
-    let mut out = String::with_capacity(text.len());
-    for c in text.chars() {
-        match c {
-            '%' => out.push_str("%25"),
-            '\r' => out.push_str("%0D"),
-            '\n' => out.push_str("%0A"),
-            c => out.push(c),
-        }
-    }
-    out
+    escape(text, false)
 }
 
-/// `text` escaped for a property value of a workflow command.
+/// `text` escaped for a property value of a workflow command: as a
+/// message, and `:` and `,` too (they separate properties).
 pub fn escape_property(text: &str) -> String {
+    escape(text, true)
+}
+
+fn escape(text: &str, property: bool) -> String {
     let mut out = String::with_capacity(text.len());
     for c in text.chars() {
         match c {
             '%' => out.push_str("%25"),
             '\r' => out.push_str("%0D"),
             '\n' => out.push_str("%0A"),
-            ':' => out.push_str("%3A"),
-            ',' => out.push_str("%2C"),
+            ':' if property => out.push_str("%3A"),
+            ',' if property => out.push_str("%2C"),
             c => out.push(c),
         }
     }
