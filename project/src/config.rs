@@ -10,6 +10,9 @@
 //! [checks]
 //! unreachable = "error"
 //! duplicate-rule = "off"
+//!
+//! [format]
+//! width = 100
 //! ```
 
 use crate::files;
@@ -36,7 +39,17 @@ struct RawConfig {
     max_arity: Option<toml::Spanned<i64>>,
     #[serde(default)]
     checks: BTreeMap<toml::Spanned<String>, toml::Spanned<String>>,
+    format: Option<RawFormat>,
 }
+
+#[derive(serde::Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+struct RawFormat {
+    width: Option<toml::Spanned<i64>>,
+}
+
+/// The narrowest and widest line width `[format] width` accepts.
+const WIDTHS: std::ops::RangeInclusive<usize> = 20..=1000;
 
 /// Reads a `trellis.toml` text. Every problem is reported, not just the first.
 pub fn parse(text: &str) -> Result<Config, Vec<ConfigError>> {
@@ -54,6 +67,20 @@ pub fn parse(text: &str) -> Result<Config, Vec<ConfigError>> {
             Ok(n) if n >= 2 => config.max_arity = n,
             _ => errors.push(ConfigError {
                 message: "`max-arity` must be a whole number of at least 2".into(),
+                span: Some(span),
+            }),
+        }
+    }
+    if let Some(width) = raw.format.and_then(|f| f.width) {
+        let span = width.span();
+        match usize::try_from(*width.get_ref()) {
+            Ok(n) if WIDTHS.contains(&n) => config.format.width = n,
+            _ => errors.push(ConfigError {
+                message: format!(
+                    "`width` in `[format]` must be a whole number from {} to {}",
+                    WIDTHS.start(),
+                    WIDTHS.end()
+                ),
                 span: Some(span),
             }),
         }
@@ -361,6 +388,18 @@ mod tests {
         assert!(errs[0].message.contains("unknown check `unreachble`"));
         assert_eq!(&text[errs[0].span.clone().unwrap()], "unreachble");
         assert!(errs[1].message.contains("`loud`"));
+    }
+
+    #[test]
+    fn the_format_width_is_read_and_checked() {
+        assert_eq!(parse("").unwrap().format.width, 100);
+        assert_eq!(parse("[format]\nwidth = 80\n").unwrap().format.width, 80);
+        let text = "[format]\nwidth = 5\n";
+        let errs = parse(text).unwrap_err();
+        assert!(errs[0].message.contains("`width`"), "{errs:?}");
+        assert_eq!(&text[errs[0].span.clone().unwrap()], "5");
+        let errs = parse("[format]\nwidht = 80\n").unwrap_err();
+        assert!(errs[0].message.contains("widht"), "{errs:?}");
     }
 
     #[test]
