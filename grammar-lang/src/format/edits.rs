@@ -72,24 +72,23 @@ fn line_starts(text: &str) -> Vec<usize> {
     starts
 }
 
-fn hunks(old: &str, new: &str) -> Vec<Hunk> {
+/// A run of changed lines: old lines `old` (0-based, end exclusive) are
+/// replaced by new lines `new`. Between two changes at least one line is
+/// the same in both texts.
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct LineChange {
+    pub old: std::ops::Range<usize>,
+    pub new: std::ops::Range<usize>,
+}
+
+/// The runs of lines that differ between `old` and `new`, in order (lines
+/// end after their `\n`; the comparison is the one [`minimal_edits`] uses).
+pub fn changed_lines(old: &str, new: &str) -> Vec<LineChange> {
     if old == new {
         return Vec::new();
     }
     let a = lines(old);
     let b = lines(new);
-    let offsets = |lines: &[&str]| {
-        let mut out = Vec::with_capacity(lines.len() + 1);
-        let mut at = 0;
-        out.push(0);
-        for l in lines {
-            at += l.len();
-            out.push(at);
-        }
-        out
-    };
-    let a_at = offsets(&a);
-    let b_at = offsets(&b);
     let prefix = a.iter().zip(&b).take_while(|(x, y)| x == y).count();
     let suffix = a[prefix..]
         .iter()
@@ -98,28 +97,50 @@ fn hunks(old: &str, new: &str) -> Vec<Hunk> {
         .take_while(|(x, y)| x == y)
         .count();
     let (a_mid, b_mid) = (&a[prefix..a.len() - suffix], &b[prefix..b.len() - suffix]);
-    let ops = diff(a_mid, b_mid).unwrap_or_else(|| vec![(a_mid.len(), b_mid.len(), 0)]);
-    // `ops`: runs of (deleted, inserted, then equal) lines, in order.
-    let mut hunks = Vec::new();
+    let runs = diff(a_mid, b_mid).unwrap_or_else(|| vec![(a_mid.len(), b_mid.len(), 0)]);
+    let mut changes = Vec::new();
     let (mut i, mut j) = (prefix, prefix);
-    for (deleted, inserted, equal) in ops {
-        if deleted == inserted {
-            for k in 0..deleted {
-                hunks.push(Hunk {
-                    old_lines: (i + k, i + k + 1),
-                    old: Span::new(a_at[i + k], a_at[i + k + 1]),
-                    new: Span::new(b_at[j + k], b_at[j + k + 1]),
-                });
-            }
-        } else {
-            hunks.push(Hunk {
-                old_lines: (i, i + deleted),
-                old: Span::new(a_at[i], a_at[i + deleted]),
-                new: Span::new(b_at[j], b_at[j + inserted]),
+    for (deleted, inserted, equal) in runs {
+        if deleted + inserted > 0 {
+            changes.push(LineChange {
+                old: i..i + deleted,
+                new: j..j + inserted,
             });
         }
         i += deleted + equal;
         j += inserted + equal;
+    }
+    changes
+}
+
+fn hunks(old: &str, new: &str) -> Vec<Hunk> {
+    let offsets = |text: &str| {
+        let mut out = vec![0];
+        out.extend(text.split_inclusive('\n').scan(0, |at, l| {
+            *at += l.len();
+            Some(*at)
+        }));
+        out
+    };
+    let (a_at, b_at) = (offsets(old), offsets(new));
+    let mut hunks = Vec::new();
+    for LineChange { old: o, new: n } in changed_lines(old, new) {
+        if o.len() == n.len() {
+            for k in 0..o.len() {
+                let (i, j) = (o.start + k, n.start + k);
+                hunks.push(Hunk {
+                    old_lines: (i, i + 1),
+                    old: Span::new(a_at[i], a_at[i + 1]),
+                    new: Span::new(b_at[j], b_at[j + 1]),
+                });
+            }
+        } else {
+            hunks.push(Hunk {
+                old_lines: (o.start, o.end),
+                old: Span::new(a_at[o.start], a_at[o.end]),
+                new: Span::new(b_at[n.start], b_at[n.end]),
+            });
+        }
     }
     hunks
 }

@@ -49,7 +49,7 @@
 mod edits;
 mod layout;
 
-pub use edits::{minimal_edits, minimal_edits_in_range};
+pub use edits::{changed_lines, minimal_edits, minimal_edits_in_range, LineChange};
 
 use crate::diagnostic::Diagnostic;
 use crate::source::FileId;
