@@ -123,23 +123,43 @@ fn hunks(old: &str, new: &str) -> Vec<Hunk> {
         out
     };
     let (a_at, b_at) = (offsets(old), offsets(new));
+    let a: Vec<&str> = lines(old);
+    let b: Vec<&str> = lines(new);
+    let blank = |line: &str| line.trim_end_matches(['\n', '\r']).is_empty();
     let mut hunks = Vec::new();
-    for LineChange { old: o, new: n } in changed_lines(old, new) {
+    let mut push = |o: std::ops::Range<usize>, n: std::ops::Range<usize>| {
+        hunks.push(Hunk {
+            old_lines: (o.start, o.end),
+            old: Span::new(a_at[o.start], a_at[o.end]),
+            new: Span::new(b_at[n.start], b_at[n.end]),
+        })
+    };
+    for LineChange {
+        old: mut o,
+        new: mut n,
+    } in changed_lines(old, new)
+    {
+        // Blank lines added or removed at the start of a change are edits
+        // of their own (the usual change: a blank line between blocks), so
+        // the lines after them can pair up one to one.
+        while o.len() != n.len() {
+            if n.len() > o.len() && blank(b[n.start]) && (o.is_empty() || !blank(a[o.start])) {
+                push(o.start..o.start, n.start..n.start + 1);
+                n.start += 1;
+            } else if o.len() > n.len() && blank(a[o.start]) && (n.is_empty() || !blank(b[n.start]))
+            {
+                push(o.start..o.start + 1, n.start..n.start);
+                o.start += 1;
+            } else {
+                break;
+            }
+        }
         if o.len() == n.len() {
             for k in 0..o.len() {
-                let (i, j) = (o.start + k, n.start + k);
-                hunks.push(Hunk {
-                    old_lines: (i, i + 1),
-                    old: Span::new(a_at[i], a_at[i + 1]),
-                    new: Span::new(b_at[j], b_at[j + 1]),
-                });
+                push(o.start + k..o.start + k + 1, n.start + k..n.start + k + 1);
             }
         } else {
-            hunks.push(Hunk {
-                old_lines: (o.start, o.end),
-                old: Span::new(a_at[o.start], a_at[o.end]),
-                new: Span::new(b_at[n.start], b_at[n.end]),
-            });
+            push(o, n);
         }
     }
     hunks
@@ -302,6 +322,19 @@ mod tests {
             vec![
                 (Span::new(2, 4), String::new()),
                 (Span::new(9, 11), String::new())
+            ]
+        );
+    }
+
+    #[test]
+    fn a_blank_line_added_before_a_changed_line_is_an_edit_of_its_own() {
+        let old = "}\nA {\"x\"}\n";
+        let new = "}\n\nA { \"x\" }\n";
+        assert_eq!(
+            minimal_edits(old, new),
+            vec![
+                (Span::new(2, 2), "\n".to_string()),
+                (Span::new(5, 8), " \"x\" ".to_string()),
             ]
         );
     }

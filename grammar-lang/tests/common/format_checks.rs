@@ -115,7 +115,8 @@ pub fn skeleton(text: &str) -> Vec<String> {
 
 /// Formats `text` and checks the result: idempotent, same model (and same
 /// findings), same tokens and comments in the same places, no trailing
-/// spaces, one final newline. Returns the formatted text.
+/// spaces, one final newline; the minimal edits give the formatted text.
+/// Returns the formatted text.
 pub fn check_formatting(text: &str, options: &FormatOptions) -> Result<String, String> {
     let formatted = format(text, options).map_err(|e| format!("{e}: {:?}", e.errors))?;
     let again = format(&formatted, options)
@@ -135,6 +136,19 @@ pub fn check_formatting(text: &str, options: &FormatOptions) -> Result<String, S
     if before != after {
         return Err(format!(
             "tokens or comments moved:\n{before:?}\n{after:?}\n--- input ---\n{text}\n--- formatted ---\n{formatted}"
+        ));
+    }
+    let edits = grammar_lang::format::minimal_edits(text, &formatted);
+    if !edits.windows(2).all(|w| w[0].0.end <= w[1].0.start) {
+        return Err(format!("edits overlap or are out of order: {edits:?}"));
+    }
+    let mut edited = text.to_string();
+    for (span, new) in edits.iter().rev() {
+        edited.replace_range(span.range(), new);
+    }
+    if edited != formatted {
+        return Err(format!(
+            "the minimal edits do not give the formatted text: {edits:?}"
         ));
     }
     if let Some(line) = formatted.lines().find(|l| l.ends_with([' ', '\t'])) {
