@@ -11,6 +11,8 @@ use grammar_lang::{analyze_text, format, FormatOptions};
 /// A rule without ids or spans: right-hand side, probability, weight as
 /// written, doc.
 type RuleFacts = (Vec<String>, String, Option<String>, Option<String>);
+/// A test case: accept?, sentence, expected tree.
+type CaseFacts = (bool, String, Option<Tree>);
 
 /// The facts of a model formatting must keep, free of ids and spans.
 #[derive(Debug, PartialEq)]
@@ -19,7 +21,7 @@ pub struct Facts {
     start: Option<String>,
     /// Each block in order: name, relative, doc, rules in order.
     blocks: Vec<(String, bool, Option<String>, Vec<RuleFacts>)>,
-    tests: Vec<(String, Option<String>, Vec<(bool, String, Option<Tree>)>)>,
+    tests: Vec<(String, Option<String>, Vec<CaseFacts>)>,
     /// Every finding's code and message (positions left out).
     findings: Vec<(String, String)>,
 }
