@@ -199,3 +199,31 @@ fn a_missing_path_or_an_invalid_configuration_stops_with_status_2() {
         MESSY
     );
 }
+
+#[test]
+fn json_reports_every_file_with_its_change_and_its_syntax_errors() {
+    let dir = tempfile::tempdir().unwrap();
+    fs::write(dir.path().join("kiosk.trellis"), MESSY).unwrap();
+    fs::write(dir.path().join("tidy.trellis"), TIDY).unwrap();
+    fs::write(dir.path().join("broken.trellis"), "B = \"y\"\n").unwrap();
+    let run = trellis(dir.path(), &["fmt", "--check", "--format", "json"]);
+    assert_eq!(run.code, 1, "{}", run.stderr);
+    let doc: serde_json::Value = serde_json::from_str(&run.stdout).unwrap();
+    let files = doc["files"].as_array().unwrap();
+    let find = |name: &str| {
+        files
+            .iter()
+            .find(|f| f["file"] == name)
+            .unwrap_or_else(|| panic!("{name} missing in {doc}"))
+    };
+    assert_eq!(find("kiosk.trellis")["changed"], true);
+    assert_eq!(find("tidy.trellis")["changed"], false);
+    assert_eq!(find("broken.trellis")["diagnostics"][0]["code"], "syntax");
+    assert_eq!(find("broken.trellis")["diagnostics"][0]["line"], 1);
+    assert_eq!(
+        fs::read_to_string(dir.path().join("kiosk.trellis")).unwrap(),
+        MESSY
+    );
+    let refused = trellis(dir.path(), &["fmt", "-", "--format", "json"]);
+    assert_eq!(refused.code, 2);
+}

@@ -1,8 +1,8 @@
 //! `trellis fmt`: lay grammar files out in the one canonical layout.
 
 use super::{Outcome, Ran, Stop};
-use crate::output::{emit, Stream, Term};
-use crate::render::{diff, human};
+use crate::output::{emit, Format, Stream, Term};
+use crate::render::{diff, human, json};
 use crate::shared::{fail, note_nothing_found, report_failures};
 use grammar_lang::SourceMap;
 use std::io::Read;
@@ -44,6 +44,11 @@ pub struct FmtArgs {
     /// status 1 if anything would)
     #[arg(long)]
     pub diff: bool,
+
+    /// How to report: `human` lists files and shows errors as snippets,
+    /// `json` prints one object {"files": [...]} (not with `-`)
+    #[arg(long, value_enum, default_value_t = Format::Human)]
+    pub format: Format,
 }
 
 /// Runs `trellis fmt`.
@@ -52,6 +57,12 @@ pub fn run(args: &FmtArgs, term: Term) -> Ran {
         if args.paths.len() > 1 {
             return Err(fail(
                 "`-` (standard input) cannot be combined with other paths",
+                Outcome::Failure,
+            ));
+        }
+        if args.format == Format::Json {
+            return Err(fail(
+                "`--format json` reports on files; `-` prints the formatted text itself",
                 Outcome::Failure,
             ));
         }
@@ -74,11 +85,32 @@ pub fn run(args: &FmtArgs, term: Term) -> Ran {
         Outcome::Failure
     };
     let dry = args.check || args.diff;
+    let as_json = args.format == Format::Json;
     let mut changed = 0;
+    let mut document = json::FmtDocument { files: Vec::new() };
     for file in &run.files {
         let shown = file.path.display().to_string();
-        if let Err(stop) = refuse_on_errors(file, term) {
-            outcome = outcome.max(stop.0);
+        let (sources, diagnostics) = file.diagnostics();
+        let unified = match (&file.result, args.diff) {
+            (Ok(formatted), true) => Some(diff::unified(&shown, &file.original, formatted)),
+            _ => None,
+        };
+        if as_json {
+            document.files.push(json::FmtFile {
+                file: shown.clone(),
+                changed: file.changed(),
+                diff: unified.clone(),
+                diagnostics: diagnostics
+                    .iter()
+                    .map(|d| json::json_diagnostic(d, &sources))
+                    .collect(),
+            });
+        }
+        if !diagnostics.is_empty() {
+            if !as_json {
+                report_syntax_errors(&sources, &diagnostics, &shown, term);
+            }
+            outcome = outcome.max(Outcome::Findings);
             continue;
         }
         let Ok(formatted) = &file.result else {
@@ -88,14 +120,11 @@ pub fn run(args: &FmtArgs, term: Term) -> Ran {
             continue;
         }
         changed += 1;
-        if args.check {
+        if args.check && !as_json {
             emit(Stream::Stdout, &format!("{shown}\n"));
         }
-        if args.diff {
-            emit(
-                Stream::Stdout,
-                &diff::unified(&shown, &file.original, formatted),
-            );
+        if let (Some(unified), false) = (&unified, as_json) {
+            emit(Stream::Stdout, unified);
         }
         if dry {
             outcome = outcome.max(Outcome::Findings);
@@ -107,10 +136,13 @@ pub fn run(args: &FmtArgs, term: Term) -> Ran {
             outcome = Outcome::Failure;
         }
     }
+    if as_json {
+        json::write(&document);
+    }
     report_failures(&run.failures);
     if run.files.is_empty() && run.failures.is_empty() && run.problems.is_empty() {
         note_nothing_found(&paths);
-    } else if !dry && changed > 0 {
+    } else if !dry && !as_json && changed > 0 {
         emit(
             Stream::Stderr,
             &format!(
