@@ -5,14 +5,20 @@
 //! after stripping the common first and last lines). A run of changed lines
 //! that replaces as many lines as it removes becomes one edit per line; any
 //! other run is one edit. Each edit is then narrowed to the characters that
-//! differ. Beyond [`MAX_DISTANCE`] changed lines the middle is replaced in
-//! one edit rather than searched further.
+//! differ. Beyond [`MAX_DISTANCE`] changed lines the search for the
+//! shortest script would cost too much, and a linear greedy comparison
+//! takes over: it resynchronises after each difference on the nearest
+//! matching pair of lines within [`WINDOW`] lines, which finds what a
+//! formatter changes (local edits) though not always the fewest lines.
 
 use crate::span::Span;
 
 /// How many inserted plus deleted lines the line comparison searches for
 /// before it settles for one edit over the differing middle.
 pub const MAX_DISTANCE: usize = 1000;
+
+/// How far ahead the greedy comparison looks to resynchronise.
+pub const WINDOW: usize = 16;
 
 /// The replacements, in order and not overlapping, that turn `old` into
 /// `new`: each is a byte span of `old` and the text to put there.
@@ -97,7 +103,7 @@ pub fn changed_lines(old: &str, new: &str) -> Vec<LineChange> {
         .take_while(|(x, y)| x == y)
         .count();
     let (a_mid, b_mid) = (&a[prefix..a.len() - suffix], &b[prefix..b.len() - suffix]);
-    let runs = diff(a_mid, b_mid).unwrap_or_else(|| vec![(a_mid.len(), b_mid.len(), 0)]);
+    let runs = diff(a_mid, b_mid).unwrap_or_else(|| greedy(a_mid, b_mid));
     let mut changes = Vec::new();
     let (mut i, mut j) = (prefix, prefix);
     for (deleted, inserted, equal) in runs {
@@ -255,6 +261,49 @@ fn diff(a: &[&str], b: &[&str]) -> Option<Vec<(usize, usize, usize)>> {
     Some(runs)
 }
 
+/// A linear comparison for texts too different for [`diff`]: runs of
+/// (deleted, inserted, then equal) lines. After the equal lines, the
+/// nearest pair of equal lines within [`WINDOW`] lines ahead (fewest lines
+/// skipped first) ends the difference; when there is none, one line of each
+/// side is taken as changed.
+fn greedy(a: &[&str], b: &[&str]) -> Vec<(usize, usize, usize)> {
+    let (n, m) = (a.len(), b.len());
+    let mut runs = Vec::new();
+    let (mut i, mut j) = (0, 0);
+    let mut current = (0, 0, 0);
+    while i < n || j < m {
+        if i < n && j < m && a[i] == b[j] {
+            current.2 += 1;
+            i += 1;
+            j += 1;
+            continue;
+        }
+        if current.2 > 0 {
+            runs.push(current);
+            current = (0, 0, 0);
+        }
+        let resync = (1..=2 * WINDOW).find_map(|skipped| {
+            (0..=skipped.min(WINDOW)).find_map(|di| {
+                let dj = skipped - di;
+                (dj <= WINDOW && i + di < n && j + dj < m && a[i + di] == b[j + dj])
+                    .then_some((di, dj))
+            })
+        });
+        let (di, dj) = match resync {
+            Some(step) => step,
+            None if i >= n => (0, m - j),
+            None if j >= m => (n - i, 0),
+            None => (1, 1),
+        };
+        current.0 += di;
+        current.1 += dj;
+        i += di;
+        j += dj;
+    }
+    runs.push(current);
+    runs
+}
+
 /// The hunk as one replacement narrowed to the characters that differ.
 fn narrow(old: &str, new: &str, hunk: &Hunk) -> (Span, String) {
     let o = hunk.old.text(old);
@@ -310,6 +359,25 @@ mod tests {
             assert_eq!(apply(old, &edits), new, "{old:?} → {new:?}: {edits:?}");
             assert!(edits.windows(2).all(|w| w[0].0.end <= w[1].0.start));
         }
+    }
+
+    #[test]
+    fn texts_too_different_for_the_shortest_script_still_get_line_edits() {
+        let old: String = (0..3000).map(|i| format!("line {i}\n")).collect();
+        // Every other line changes, some lines go, some come: far more than
+        // MAX_DISTANCE lines differ.
+        let new: String = (0..3000)
+            .filter(|i| i % 7 != 3)
+            .map(|i| match i % 2 {
+                0 => format!("line {i}\n"),
+                _ => format!("line  {i}\n\n"),
+            })
+            .collect();
+        let edits = minimal_edits(&old, &new);
+        assert_eq!(apply(&old, &edits), new);
+        assert!(edits.len() > 1000, "{} edits", edits.len());
+        let largest = edits.iter().map(|(s, t)| s.len().max(t.len())).max();
+        assert!(largest < Some(40), "{largest:?}");
     }
 
     #[test]
