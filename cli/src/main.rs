@@ -62,6 +62,10 @@ enum Command {
     /// reject, and expected most probable trees.
     #[command(long_about = commands::test::LONG_ABOUT)]
     Test(commands::test::TestArgs),
+    /// Lay grammar files out in the canonical layout (or, with --check or
+    /// --diff, say what would change).
+    #[command(long_about = commands::fmt::LONG_ABOUT)]
+    Fmt(commands::fmt::FmtArgs),
     /// Run the language server (LSP over standard input and output) for
     /// editors.
     #[command(long_about = commands::lsp::LONG_ABOUT)]
@@ -87,6 +91,7 @@ fn main() -> ExitCode {
         Command::Sample(args) => commands::sample::run(&args, term),
         Command::Stats(args) => commands::stats::run(&args, term),
         Command::Test(args) => commands::test::run(&args, term),
+        Command::Fmt(args) => commands::fmt::run(&args, term),
         Command::Lsp(args) => commands::lsp::run(&args),
         Command::Parse(args) => commands::parse::run(&args, term),
     };

@@ -281,7 +281,15 @@ fn readme_lists_every_command_and_the_diagnostic() {
     let names: Vec<String> = documented().into_keys().collect();
     assert_eq!(
         names,
-        ["check", "diagnostic", "parse", "sample", "stats", "test"]
+        [
+            "check",
+            "diagnostic",
+            "fmt",
+            "parse",
+            "sample",
+            "stats",
+            "test"
+        ]
     );
 }
 
@@ -292,6 +300,19 @@ fn check_prints_what_readme_documents() {
         "check",
         dir.path(),
         &[&["ferry_kiosk.trellis"], &["broken.trellis"]],
+    );
+}
+
+#[test]
+fn fmt_prints_what_readme_documents() {
+    let dir = setup();
+    check_command(
+        "fmt",
+        dir.path(),
+        &[
+            &["--check", "ferry_kiosk.trellis", "broken.trellis"],
+            &["--diff", "ferry_lexicon.trellis"],
+        ],
     );
 }
 

@@ -1,4 +1,5 @@
-//! Check configuration: the level of each check and the arity limit.
+//! Configuration: the level of each check, the arity limit and the
+//! formatter's line width.
 //!
 //! Reading it from a `trellis.toml` file (and finding that file) is the
 //! project layer's job (`trellis-project`); the core only applies it.
@@ -20,6 +21,8 @@ pub enum Level {
 pub struct Config {
     pub levels: BTreeMap<Code, Level>,
     pub max_arity: usize,
+    /// How the formatter lays out files (`[format]` in `trellis.toml`).
+    pub format: crate::format::FormatOptions,
 }
 
 impl Default for Config {
@@ -27,6 +30,7 @@ impl Default for Config {
         Config {
             levels: BTreeMap::new(),
             max_arity: DEFAULT_MAX_ARITY,
+            format: crate::format::FormatOptions::default(),
         }
     }
 }

@@ -307,16 +307,7 @@ impl Lowerer<'_> {
     fn lower_file(&mut self, file: FileId) {
         let syntax = std::mem::take(&mut self.syntax[file.0 as usize]);
         for error in &syntax.errors {
-            let code = if error.empty_rule {
-                Code::EmptyRule
-            } else {
-                Code::Syntax
-            };
-            let mut d = Diagnostic::new(code, Location::new(file, error.span), &error.message);
-            if let Some(help) = &error.help {
-                d = d.with_help(help);
-            }
-            self.diagnostics.push(d);
+            self.diagnostics.push(error.to_diagnostic(file));
         }
         for decl in &syntax.decls {
             match decl {

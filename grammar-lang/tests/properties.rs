@@ -790,3 +790,128 @@ proptest! {
         prop_assert_eq!(facts(&second.grammar).tests, facts(&first).tests);
     }
 }
+
+// ---------------------------------------------------------------------------
+// Formatting
+// ---------------------------------------------------------------------------
+
+mod common;
+
+use common::format_checks::check_formatting;
+use grammar_lang::FormatOptions;
+
+/// Lays a printed grammar out again at random: other spaces and
+/// indentation, blank lines, comments and `##` lines sprinkled above and
+/// after lines, alternatives joined with `|` (sometimes with a leading
+/// `|`), first lines pulled onto `{` and `}` onto last lines. `dice` drives
+/// every choice. The result still has no syntax errors.
+fn scramble(text: &str, dice: &[u8]) -> String {
+    let mut dice = dice.iter().cycle().copied();
+    let mut roll = move |n: u8| dice.next().unwrap_or(0) % n;
+    let lines: Vec<&str> = text.lines().collect();
+    let kind = |line: &str| {
+        let t = line.trim();
+        if t.is_empty() {
+            'b'
+        } else if t.starts_with('#') {
+            'c'
+        } else if t == "}" {
+            '}'
+        } else if t.ends_with('{') {
+            if t.starts_with("test ") {
+                't'
+            } else {
+                '{'
+            }
+        } else if line.starts_with("  ") {
+            'a'
+        } else {
+            'd'
+        }
+    };
+    let spaces = [" ", "  ", "\t", " \t "];
+    let mut out = String::new();
+    let mut in_test = false;
+    let mut joined = false;
+    for (i, line) in lines.iter().enumerate() {
+        let k = kind(line);
+        let next = lines.get(i + 1).map_or('b', |l| kind(l));
+        if !joined {
+            match roll(10) {
+                0 => out.push('\n'),
+                1 => out.push_str("  # a note\n"),
+                2 => out.push_str("## a doc line?\n"),
+                _ => {}
+            }
+            out.push_str(["", "  ", "    ", "\t"][roll(4) as usize]);
+            if k == 'a' && !in_test && roll(6) == 0 {
+                out.push_str("| ");
+            }
+        }
+        match k {
+            't' => in_test = true,
+            '}' => in_test = false,
+            _ => {}
+        }
+        let trimmed = line.trim();
+        for token in lexer::lex(trimmed) {
+            match token.kind {
+                lexer::TokenKind::Whitespace => out.push_str(spaces[roll(4) as usize]),
+                _ => out.push_str(token.span.text(trimmed)),
+            }
+        }
+        let code = !matches!(k, 'b' | 'c');
+        if code && roll(5) == 0 {
+            out.push_str([" # after", "   ## not a doc", "\t#"][roll(3) as usize]);
+            out.push('\n');
+            joined = false;
+            continue;
+        }
+        joined = match (k, next) {
+            ('a', 'a') if !in_test && roll(3) == 0 => {
+                out.push_str(" | ");
+                true
+            }
+            ('{' | 't', 'a') | ('a', '}') if roll(3) == 0 => {
+                out.push(' ');
+                true
+            }
+            _ => false,
+        };
+        if !joined {
+            out.push('\n');
+        }
+    }
+    out
+}
+
+proptest! {
+    #![proptest_config(ProptestConfig::with_cases(256))]
+
+    #[test]
+    fn formatting_a_scrambled_grammar_is_idempotent_and_keeps_model_and_comments(
+        spec in model_spec(),
+        dice in proptest::collection::vec(any::<u8>(), 1..64),
+        width in prop_oneof![Just(100usize), 20usize..60],
+    ) {
+        let text = scramble(&print_grammar(&build(&spec)), &dice);
+        let errors = syntax::parse(&text).errors;
+        prop_assert!(errors.is_empty(), "the scrambled text does not parse:\n{}\n{:?}", text, errors);
+        if let Err(problem) = check_formatting(&text, &FormatOptions { width }) {
+            return Err(TestCaseError::fail(problem));
+        }
+    }
+}
+
+proptest! {
+    // About a third of the soups have syntax errors and are skipped.
+    #![proptest_config(ProptestConfig { max_global_rejects: 1 << 20, ..ProptestConfig::with_cases(256) })]
+
+    #[test]
+    fn formatting_any_soup_that_parses_keeps_model_and_comments(text in grammar_soup()) {
+        prop_assume!(syntax::parse(&text).errors.is_empty());
+        if let Err(problem) = check_formatting(&text, &FormatOptions::default()) {
+            return Err(TestCaseError::fail(problem));
+        }
+    }
+}

@@ -50,6 +50,7 @@
 //! | folding | `folding_ranges` | `Vec<FoldingRange>` |
 //! | links on `use` paths | `document_links` | `Vec<DocumentLink>` |
 //! | highlight occurrences | `document_highlights` | `Vec<Highlight>` |
+//! | formatting (whole file or a range) | `formatting` | `Vec<TextEdit>`, or the syntax errors |
 //!
 //! Each method calls the function of the same name in this crate, which
 //! takes the front end's `grammar_lang::Analysis` (and the index or the
@@ -58,6 +59,7 @@
 mod actions;
 mod analysis;
 mod completion;
+mod formatting;
 mod hints;
 mod hover;
 mod locate;
@@ -72,6 +74,7 @@ mod walk;
 pub use actions::{code_actions, CodeAction, CodeActionKind};
 pub use analysis::{analyze, analyze_text, Analysis, NotRunnable};
 pub use completion::{completions, CompletionItem, CompletionKind, CompletionList};
+pub use formatting::formatting;
 pub use hints::{code_lenses, inlay_hints, CodeLens, CodeLensKind, InlayHint};
 pub use hover::{hover, EngineFacts, Hover};
 pub use lookup::{lookup, Lookup, NtRole};

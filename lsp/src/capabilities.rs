@@ -52,6 +52,8 @@ pub fn capabilities() -> ServerCapabilities {
         code_lens_provider: Some(CodeLensOptions {
             resolve_provider: Some(false),
         }),
+        document_formatting_provider: Some(OneOf::Left(true)),
+        document_range_formatting_provider: Some(OneOf::Left(true)),
         execute_command_provider: Some(ExecuteCommandOptions {
             commands: ext::COMMANDS.iter().map(|s| s.to_string()).collect(),
             work_done_progress_options: Default::default(),

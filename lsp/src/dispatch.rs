@@ -133,6 +133,20 @@ impl LanguageServer for Backend {
         handlers::structure::document_links(self, params).await
     }
 
+    async fn formatting(
+        &self,
+        params: DocumentFormattingParams,
+    ) -> jsonrpc::Result<Option<Vec<TextEdit>>> {
+        handlers::formatting::formatting(self, params).await
+    }
+
+    async fn range_formatting(
+        &self,
+        params: DocumentRangeFormattingParams,
+    ) -> jsonrpc::Result<Option<Vec<TextEdit>>> {
+        handlers::formatting::range_formatting(self, params).await
+    }
+
     async fn execute_command(
         &self,
         params: ExecuteCommandParams,

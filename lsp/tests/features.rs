@@ -46,6 +46,8 @@ async fn capabilities_cover_every_wired_feature() {
         "foldingRangeProvider",
         "documentLinkProvider",
         "documentHighlightProvider",
+        "documentFormattingProvider",
+        "documentRangeFormattingProvider",
     ] {
         assert!(!caps[key].is_null(), "{key} missing in {caps}");
     }

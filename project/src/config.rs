@@ -11,6 +11,9 @@
 //! unreachable = "error"
 //! duplicate-rule = "off"
 //!
+//! [format]
+//! width = 100
+//!
 //! [editor]
 //! uncovered-rules = "hint"   # or "off", the default
 //! ```
@@ -46,6 +49,7 @@ struct RawConfig {
     checks: BTreeMap<toml::Spanned<String>, toml::Spanned<String>>,
     #[serde(default)]
     editor: RawEditor,
+    format: Option<RawFormat>,
 }
 
 /// `[editor]`: what the language server shows beyond the checks.
@@ -54,6 +58,15 @@ struct RawConfig {
 struct RawEditor {
     uncovered_rules: Option<toml::Spanned<String>>,
 }
+
+#[derive(serde::Deserialize)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+struct RawFormat {
+    width: Option<toml::Spanned<i64>>,
+}
+
+/// The narrowest and widest line width `[format] width` accepts.
+const WIDTHS: std::ops::RangeInclusive<usize> = 20..=1000;
 
 /// Reads a `trellis.toml` text. Every problem is reported, not just the first.
 pub fn parse(text: &str) -> Result<Config, Vec<ConfigError>> {
@@ -89,6 +102,20 @@ pub fn parse(text: &str) -> Result<Config, Vec<ConfigError>> {
                     "`{other}` is not a setting for `uncovered-rules`: use \"hint\" or \"off\""
                 ),
                 span: Some(value.span()),
+            }),
+        }
+    }
+    if let Some(width) = raw.format.and_then(|f| f.width) {
+        let span = width.span();
+        match usize::try_from(*width.get_ref()) {
+            Ok(n) if WIDTHS.contains(&n) => config.format.width = n,
+            _ => errors.push(ConfigError {
+                message: format!(
+                    "`width` in `[format]` must be a whole number from {} to {}",
+                    WIDTHS.start(),
+                    WIDTHS.end()
+                ),
+                span: Some(span),
             }),
         }
     }
@@ -430,6 +457,18 @@ mod tests {
         assert_eq!(&text[errs[0].span.clone().unwrap()], "uncovered");
         assert!(errs[0].message.contains("[editor]"), "{}", errs[0].message);
         assert!(errs[1].message.contains("`loud`"), "{}", errs[1].message);
+    }
+
+    #[test]
+    fn the_format_width_is_read_and_checked() {
+        assert_eq!(parse("").unwrap().format.width, 100);
+        assert_eq!(parse("[format]\nwidth = 80\n").unwrap().format.width, 80);
+        let text = "[format]\nwidth = 5\n";
+        let errs = parse(text).unwrap_err();
+        assert!(errs[0].message.contains("`width`"), "{errs:?}");
+        assert_eq!(&text[errs[0].span.clone().unwrap()], "5");
+        let errs = parse("[format]\nwidht = 80\n").unwrap_err();
+        assert!(errs[0].message.contains("widht"), "{errs:?}");
     }
 
     #[test]

@@ -52,6 +52,52 @@ pub fn decode(bytes: Vec<u8>) -> Result<String, String> {
     })
 }
 
+/// Replaces the file at `path` with `text` atomically: the text goes to a
+/// temporary file in the same directory, which takes the old file's
+/// permissions and is then renamed over it, so a reader (or an interrupted
+/// run) sees the old file or the new one, never half of one. The error is a
+/// short reason, phrased to follow "cannot write <path>: ".
+pub fn write_atomic(path: &Path, text: &str) -> Result<(), String> {
+    use std::io::Write;
+    static COUNTER: std::sync::atomic::AtomicU64 = std::sync::atomic::AtomicU64::new(0);
+    let dir = match path.parent() {
+        Some(dir) if !dir.as_os_str().is_empty() => dir,
+        _ => Path::new("."),
+    };
+    let name = path
+        .file_name()
+        .ok_or_else(|| "it is not a file name".to_string())?
+        .to_string_lossy();
+    let permissions = std::fs::metadata(path).ok().map(|m| m.permissions());
+    let mut attempt = 0;
+    let (temp, mut file) = loop {
+        let n = COUNTER.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+        let temp = dir.join(format!(".{name}.{}-{n}.tmp", std::process::id()));
+        match std::fs::OpenOptions::new()
+            .write(true)
+            .create_new(true)
+            .open(&temp)
+        {
+            Ok(file) => break (temp, file),
+            Err(e) if e.kind() == ErrorKind::AlreadyExists && attempt < 100 => attempt += 1,
+            Err(e) => return Err(io_reason(&e)),
+        }
+    };
+    let written = file
+        .write_all(text.as_bytes())
+        .and_then(|()| file.sync_all())
+        .and_then(|()| match permissions {
+            Some(p) => std::fs::set_permissions(&temp, p),
+            None => Ok(()),
+        })
+        .and_then(|()| std::fs::rename(&temp, path));
+    drop(file);
+    written.map_err(|e| {
+        let _ = std::fs::remove_file(&temp);
+        io_reason(&e)
+    })
+}
+
 /// A short, stable description of an I/O failure.
 pub fn io_reason(e: &std::io::Error) -> String {
     match e.kind() {
@@ -79,6 +125,38 @@ mod tests {
     fn valid_utf8_with_non_ascii_text_is_kept_as_is() {
         let text = "S { \"Fähre\" }\n";
         assert_eq!(decode(text.as_bytes().to_vec()).unwrap(), text);
+    }
+
+    #[test]
+    fn an_atomic_write_replaces_the_text_keeps_permissions_and_leaves_no_temporary_file() {
+        let dir = tempfile::tempdir().unwrap();
+        let path = dir.path().join("g.trellis");
+        std::fs::write(&path, "old\n").unwrap();
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            std::fs::set_permissions(&path, std::fs::Permissions::from_mode(0o640)).unwrap();
+        }
+        write_atomic(&path, "new\n").unwrap();
+        assert_eq!(std::fs::read_to_string(&path).unwrap(), "new\n");
+        #[cfg(unix)]
+        {
+            use std::os::unix::fs::PermissionsExt;
+            let mode = std::fs::metadata(&path).unwrap().permissions().mode();
+            assert_eq!(mode & 0o777, 0o640);
+        }
+        let names: Vec<_> = std::fs::read_dir(dir.path())
+            .unwrap()
+            .map(|e| e.unwrap().file_name())
+            .collect();
+        assert_eq!(names, vec![std::ffi::OsString::from("g.trellis")]);
+    }
+
+    #[test]
+    fn a_failed_atomic_write_says_why() {
+        let dir = tempfile::tempdir().unwrap();
+        let err = write_atomic(&dir.path().join("no/such/dir/g.trellis"), "x").unwrap_err();
+        assert_eq!(err, "no such file or directory");
     }
 
     #[test]

@@ -5,8 +5,9 @@
 //! every failure), finding and reading `trellis.toml` and noticing when it
 //! changes, discovering grammars under directories, deciding which grammar
 //! speaks for a file and reporting a finding shared by several grammars
-//! once, loading a grammar through the analysis façade, and running test
-//! blocks with their counts and the rules they cover.
+//! once, formatting files and writing them back atomically, loading a
+//! grammar through the analysis façade, and running test blocks with their
+//! counts and the rules they cover.
 //!
 //! I/O is allowed here; protocol types (LSP) and terminal output are not:
 //! every answer is data or a message for the shell to present.
@@ -15,13 +16,15 @@ pub mod config;
 pub mod coverage;
 pub mod discover;
 pub mod files;
+pub mod format;
 pub mod grammars;
 pub mod load;
 pub mod test_run;
 
 pub use config::{ConfigProblem, Resolver, Settings, Stamps};
 pub use discover::{discover, identity, paths_or_here, Root};
-pub use files::{read_text, DiskLoader, Overlay};
+pub use files::{read_text, write_atomic, DiskLoader, Overlay};
+pub use format::{format_paths, options_for_dir, FormatRun, Formatted};
 pub use grammars::{
     affected_by, analyse_paths, grammar_roots, select, speakers, Analysed, Checked, Repeats,
 };

@@ -5,6 +5,7 @@
 //! Only `main` turns either into the process exit status.
 
 pub mod check;
+pub mod fmt;
 pub mod lsp;
 pub mod parse;
 pub mod sample;

@@ -134,6 +134,25 @@ pub struct CheckDocument {
     pub diagnostics: Vec<JsonDiagnostic>,
 }
 
+// --- `trellis fmt` ---
+
+/// `trellis fmt --format json`: every file, whether formatting changes it
+/// (with `--check` or `--diff`) or changed it, its unified diff (with
+/// `--diff`) and its syntax errors (a file with any is not formatted).
+#[derive(Serialize)]
+pub struct FmtDocument {
+    pub files: Vec<FmtFile>,
+}
+
+#[derive(Serialize)]
+pub struct FmtFile {
+    pub file: String,
+    pub changed: bool,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub diff: Option<String>,
+    pub diagnostics: Vec<JsonDiagnostic>,
+}
+
 // --- `trellis parse` ---
 
 /// One line of `trellis parse --format json`: one sentence.

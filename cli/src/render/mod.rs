@@ -1,6 +1,6 @@
 //! Turning what the commands found into output, one module per format:
 //! [`human`] for people, [`json`] for tools, [`brackets`] for treebank
-//! tools. Commands build data and hand it to one of them.
+//! tools, [`diff`] for `fmt --diff`. Commands build data and hand it to one of them.
 //!
 //! Spans in the core are byte ranges; people and editors count columns in
 //! characters. Human reports hand ariadne byte offsets, JSON positions are
@@ -8,6 +8,7 @@
 //! [`position`] here.
 
 pub mod brackets;
+pub mod diff;
 pub mod github;
 pub mod human;
 pub mod json;

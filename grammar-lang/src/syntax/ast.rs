@@ -52,6 +52,24 @@ impl Decl {
     }
 }
 
+impl SyntaxError {
+    /// The error as the diagnostic the analysis reports: `empty-rule` for
+    /// an empty alternative, `syntax` otherwise.
+    pub fn to_diagnostic(&self, file: crate::source::FileId) -> crate::diagnostic::Diagnostic {
+        use crate::diagnostic::{Code, Diagnostic, Location};
+        let code = if self.empty_rule {
+            Code::EmptyRule
+        } else {
+            Code::Syntax
+        };
+        let mut d = Diagnostic::new(code, Location::new(file, self.span), &self.message);
+        if let Some(help) = &self.help {
+            d = d.with_help(help);
+        }
+        d
+    }
+}
+
 /// A name as written.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub struct Name {

@@ -8,6 +8,7 @@ pub mod code_actions;
 pub mod commands;
 pub mod completion;
 pub mod documents;
+pub mod formatting;
 pub mod hints;
 pub mod hover;
 pub mod lenses;
