@@ -49,7 +49,7 @@ fail() { echo "FAILED: $*" >&2; exit 1; }
 
 # 1. A clean grammar in canonical layout, with a lexicon and a test.
 mkdir -p grammars
-printf 'start Request\nuse "words.trellis"\n\nRequest { Kind "ticket" }\n\ntest "tickets" {\n  accept "day ticket"\n}\n' > grammars/kiosk.trellis
+printf 'start Request\nuse "words.trellis"\n\nRequest {\n  Kind "ticket"\n}\n\ntest "tickets" {\n  accept "day ticket"\n}\n' > grammars/kiosk.trellis
 printf 'Kind { "day" | "return" }\n' > grammars/words.trellis
 git add grammars
 git commit --quiet -m "kiosk" > "$work/out1" 2>&1 || { cat "$work/out1"; fail "a clean grammar was refused"; }
