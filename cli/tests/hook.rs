@@ -64,7 +64,11 @@ impl Repo {
         let mut args = vec!["add", "--"];
         args.extend_from_slice(names);
         let out = self.git(&args);
-        assert!(out.status.success(), "{}", String::from_utf8_lossy(&out.stderr));
+        assert!(
+            out.status.success(),
+            "{}",
+            String::from_utf8_lossy(&out.stderr)
+        );
     }
 
     /// Tries to commit what is staged: whether the commit was made, and
@@ -156,7 +160,10 @@ fn a_lexicon_changed_alone_is_checked_as_part_of_the_grammars_that_use_it() {
     let repo = repo_with_kiosk();
     // The lexicon on its own is fine (a library), but the kiosk's test
     // needs "day".
-    repo.write("grammars/words.trellis", "Kind { \"single\" | \"return\" }\n");
+    repo.write(
+        "grammars/words.trellis",
+        "Kind { \"single\" | \"return\" }\n",
+    );
     repo.stage(&["grammars/words.trellis"]);
     let (made, said) = repo.commit("words");
     assert!(!made, "{said}");

@@ -249,18 +249,83 @@ impl<'a> Printer<'a> {
             .filter_map(|a| a.weight)
             .map(|w| self.src(w).chars().count())
             .max();
-        let anchors: Vec<(crate::span::Span, String, bool)> = b
-            .alternatives
-            .iter()
-            .map(|alt| {
-                (
+        let mut anchors: Vec<(crate::span::Span, String, bool)> =
+            Vec::with_capacity(b.alternatives.len());
+        let mut k = 0;
+        while k < b.alternatives.len() {
+            let row = self.row_end(&b.alternatives, k);
+            if row > k + 1 {
+                self.rows(&b.alternatives[k..row], &mut anchors);
+            } else {
+                let alt = &b.alternatives[k];
+                anchors.push((
                     alt.span,
                     self.alternative(alt, weight_width),
                     alt.doc.is_none(),
-                )
-            })
-            .collect();
+                ));
+            }
+            k = row;
+        }
         self.body(header, b.open.end as usize, anchors, close);
+    }
+
+    /// Whether `alt` may share a line with its neighbours: an unweighted
+    /// single word without a doc comment.
+    fn is_word(alt: &Alternative) -> bool {
+        alt.weight.is_none()
+            && alt.doc.is_none()
+            && matches!(alt.items.as_slice(), [Item::Terminal(_)])
+    }
+
+    /// The end of the row of words starting at `alts[k]`: the alternatives
+    /// the user wrote on the same line as it (only `|` and spaces between),
+    /// all words. `k + 1` when `alts[k]` stands alone.
+    fn row_end(&self, alts: &[Alternative], k: usize) -> usize {
+        if !Self::is_word(&alts[k]) {
+            return k + 1;
+        }
+        let mut end = k + 1;
+        while end < alts.len() && Self::is_word(&alts[end]) {
+            let between = self
+                .text
+                .get(alts[end - 1].span.end as usize..alts[end].span.start as usize)
+                .unwrap_or("\n");
+            if !between.chars().all(|c| c == '|' || c == ' ' || c == '\t') {
+                break;
+            }
+            end += 1;
+        }
+        end
+    }
+
+    /// Words the user wrote side by side stay side by side, `|` between
+    /// them, as many to a line as fit the width (a lexicon's rows of
+    /// words keep their shape); a row too long for the width is wrapped.
+    fn rows(&self, words: &[Alternative], anchors: &mut Vec<(crate::span::Span, String, bool)>) {
+        let room = self.width.saturating_sub(INDENT.len());
+        let mut line = String::new();
+        let mut first = 0;
+        for (i, alt) in words.iter().enumerate() {
+            let word = self.src(alt.items[0].span());
+            let grown = line.chars().count() + " | ".len() + word.chars().count();
+            if !line.is_empty() && grown > room {
+                let span = crate::span::Span::new(
+                    words[first].span.start as usize,
+                    words[i - 1].span.end as usize,
+                );
+                anchors.push((span, std::mem::take(&mut line), false));
+                first = i;
+            }
+            if !line.is_empty() {
+                line.push_str(" | ");
+            }
+            line.push_str(word);
+        }
+        let span = crate::span::Span::new(
+            words[first].span.start as usize,
+            words[words.len() - 1].span.end as usize,
+        );
+        anchors.push((span, line, false));
     }
 
     /// The block on one line, if it was written on one line, holds only
