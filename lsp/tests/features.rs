@@ -33,6 +33,13 @@ async fn open(fixture: &str) -> (TestClient, FixtureWorkspace) {
     (client, ws)
 }
 
+/// A request whose only parameter is the document at `uri`.
+async fn on_file(client: &mut TestClient, method: &str, uri: String) -> Value {
+    client
+        .request(method, json!({"textDocument": {"uri": uri}}))
+        .await
+}
+
 /// Opens the fixture's files in `client` and checks what is published for
 /// each against its annotations.
 async fn open_in(client: &mut TestClient, fixture: &str) -> FixtureWorkspace {
@@ -256,12 +263,7 @@ async fn document_and_workspace_symbols_list_the_blocks() {
         "#,
     )
     .await;
-    let symbols = client
-        .request(
-            "textDocument/documentSymbol",
-            json!({"textDocument": {"uri": ws.uri(MAIN)}}),
-        )
-        .await;
+    let symbols = on_file(&mut client, "textDocument/documentSymbol", ws.uri(MAIN)).await;
     let names: Vec<&str> = symbols
         .as_array()
         .unwrap()
@@ -352,12 +354,12 @@ async fn semantic_tokens_are_classified_with_utf16_lengths() {
         "#,
     )
     .await;
-    let tokens = client
-        .request(
-            "textDocument/semanticTokens/full",
-            json!({"textDocument": {"uri": ws.uri(DEFAULT_PATH)}}),
-        )
-        .await;
+    let tokens = on_file(
+        &mut client,
+        "textDocument/semanticTokens/full",
+        ws.uri(DEFAULT_PATH),
+    )
+    .await;
     let tokens = decode(tokens["data"].as_array().unwrap());
     // The token that starts where `range` starts, as (UTF-16 length, type)
     // next to what the range says its length is.
@@ -512,12 +514,7 @@ async fn code_lenses_above_start_parse_and_sample_through_the_commands() {
     )
     .await;
     let [start] = ws.places(DEFAULT_PATH);
-    let lenses = client
-        .request(
-            "textDocument/codeLens",
-            json!({"textDocument": {"uri": ws.uri(DEFAULT_PATH)}}),
-        )
-        .await;
+    let lenses = on_file(&mut client, "textDocument/codeLens", ws.uri(DEFAULT_PATH)).await;
     let lenses = lenses.as_array().unwrap();
     let commands: Vec<&str> = lenses
         .iter()
@@ -558,12 +555,12 @@ async fn folding_ranges_cover_multi_line_blocks() {
     )
     .await;
     let [block] = ws.ranges(DEFAULT_PATH);
-    let ranges = client
-        .request(
-            "textDocument/foldingRange",
-            json!({"textDocument": {"uri": ws.uri(DEFAULT_PATH)}}),
-        )
-        .await;
+    let ranges = on_file(
+        &mut client,
+        "textDocument/foldingRange",
+        ws.uri(DEFAULT_PATH),
+    )
+    .await;
     let ranges = ranges.as_array().unwrap();
     assert!(
         ranges
@@ -590,12 +587,7 @@ async fn use_paths_are_links_to_the_used_file() {
     )
     .await;
     let [path] = ws.ranges(MAIN);
-    let links = client
-        .request(
-            "textDocument/documentLink",
-            json!({"textDocument": {"uri": ws.uri(MAIN)}}),
-        )
-        .await;
+    let links = on_file(&mut client, "textDocument/documentLink", ws.uri(MAIN)).await;
     assert_eq!(links.as_array().unwrap().len(), 1);
     assert_eq!(links[0]["target"], ws.uri(LEXICON));
     assert_eq!(links[0]["range"], path);
