@@ -11,6 +11,17 @@ use trellis_test_support::fixture::DEFAULT_PATH;
 
 const MAIN: &str = "file:///grammars/kiosk.trellis";
 
+/// A started server with the fixture's files open; what is published
+/// first for its root file is checked against that file's annotations
+/// and returned.
+async fn open(fixture: &str) -> (TestClient, FixtureWorkspace, Value) {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    let ws = client.open_fixture(fixture).await;
+    let params = client.check_diagnostics(&ws, DEFAULT_PATH).await;
+    (client, ws, params)
+}
+
 #[tokio::test]
 async fn initialize_announces_full_sync_utf16_positions_and_the_commands() {
     let mut client = TestClient::start();
@@ -37,19 +48,15 @@ async fn opening_a_broken_grammar_publishes_its_diagnostics_with_code_source_and
     client.initialize().await;
     let ws = FixtureWorkspace::new(
         r#"
-        === kiosk.trellis ===
-        start Request
-        Request {
-          1/2  "ticket" Island
-                        ^^^^^^ error undefined: Island
-          1/2  "ticket"
-        }
+        start S
+        S { Island | "ticket" }
+            ^^^^^^ error undefined: Island
         "#,
     );
-    let uri = ws.uri("kiosk.trellis");
-    client.open(&uri, 7, ws.text("kiosk.trellis")).await;
+    let uri = ws.uri(DEFAULT_PATH);
+    client.open(&uri, 7, ws.text(DEFAULT_PATH)).await;
     // DiagnosticSeverity.Error = 1 (LSP 3.17 specification).
-    let params = client.check_diagnostics(&ws, "kiosk.trellis").await;
+    let params = client.check_diagnostics(&ws, DEFAULT_PATH).await;
     assert_eq!(params["version"], 7);
     assert_eq!(params["diagnostics"][0]["source"], "trellis");
     client.shutdown().await;
@@ -57,45 +64,37 @@ async fn opening_a_broken_grammar_publishes_its_diagnostics_with_code_source_and
 
 #[tokio::test]
 async fn columns_count_utf16_code_units_after_non_ascii_terminals() {
-    let mut client = TestClient::start();
-    client.initialize().await;
     // "Fähre": ä is U+00E4, one UTF-16 unit but two UTF-8 bytes; "𝄞" is
     // U+1D11E, outside the BMP: two UTF-16 units (a surrogate pair), four
     // UTF-8 bytes, one character (Unicode Standard, section 3.9). So
     // `Ziel` starts at byte 20, character 16, UTF-16 unit 17.
-    let ws = client
-        .open_fixture(
-            r#"
-            start S
-            S { "Fähre" "𝄞" Ziel | "x" }
-                            ^^^^ error undefined
-            "#,
-        )
-        .await;
+    let (client, ws, _) = open(
+        r#"
+        start S
+        S { "Fähre" "𝄞" Ziel | "x" }
+                        ^^^^ error undefined
+        "#,
+    )
+    .await;
     let file = ws.file(DEFAULT_PATH);
     let annotation = &file.annotations[0];
     assert_eq!(file.line(1).find("Ziel"), Some(20));
     assert_eq!(annotation.columns, 16..20, "characters");
     assert_eq!(file.utf16_columns(annotation), 17..21, "UTF-16 units");
-    client.check_diagnostics(&ws, DEFAULT_PATH).await;
     client.shutdown().await;
 }
 
 #[tokio::test]
 async fn a_duplicate_block_points_at_the_first_one_as_related_information() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = client
-        .open_fixture(
-            r#"
-            start S
-            [[S]] { "a" }
-            S { "b" }
-            ^ error duplicate-block
-            "#,
-        )
-        .await;
-    let params = client.check_diagnostics(&ws, DEFAULT_PATH).await;
+    let (client, ws, params) = open(
+        r#"
+        start S
+        [[S]] { "a" }
+        S { "b" }
+        ^ error duplicate-block
+        "#,
+    )
+    .await;
     let [first] = ws.ranges(DEFAULT_PATH);
     let related = params["diagnostics"][0]["relatedInformation"]
         .as_array()
@@ -115,9 +114,9 @@ async fn problems_in_a_used_file_are_published_under_that_files_uri() {
     let ws = FixtureWorkspace::new(
         r#"
         === kiosk.trellis ===
-        start Request
+        start S
         use "lexicon.trellis"
-        Request { Count "ticket" }
+        S { Count }
         === lexicon.trellis ===
         Count {
         ^^^^^ error sum-not-one
@@ -173,18 +172,14 @@ async fn problems_in_a_used_file_are_published_under_that_files_uri() {
 
 #[tokio::test]
 async fn closing_a_document_clears_its_diagnostics() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = client
-        .open_fixture(
-            r#"
-            start S
-            S { T | "t" }
-                ^ error undefined
-            "#,
-        )
-        .await;
-    client.check_diagnostics(&ws, DEFAULT_PATH).await;
+    let (mut client, ws, _) = open(
+        r#"
+        start S
+        S { T | "t" }
+            ^ error undefined
+        "#,
+    )
+    .await;
     let uri = ws.uri(DEFAULT_PATH);
     client.close(&uri).await;
     let params = client.diagnostics(&uri).await;

@@ -1,30 +1,53 @@
 //! The editor features over the protocol, each checked for the LSP shape of
 //! its answer and for positions in UTF-16 code units.
 //!
-//! Every test states its grammar as a fixture (`trellis_test_support`) of
-//! two files, opened in the server: `$0` is where a request is made,
-//! `[[…]]` marks an expected range (or, empty, another place a request is
-//! made at), named by destructuring the ranges of a file in the order they
-//! are written. The grammar is the same in most tests: a terminal with
-//! `ä` (one UTF-16 unit, two bytes) and one with `𝄞` (a surrogate pair of
-//! two units, four bytes) stand before `Island` on its first line, so that
-//! its UTF-16 column (20) differs from its character (19) and byte (23)
-//! columns.
+//! Every test states the smallest grammar that shows its feature as a
+//! fixture (`trellis_test_support`), opened in the server: `$0` is where a
+//! request is made, `[[…]]` marks an expected range (or, empty, another
+//! place a request is made at), named by destructuring the ranges of a
+//! file in the order they are written. A fixture has two files only where
+//! the feature crosses files (`kiosk.trellis` uses `lexicon.trellis`);
+//! otherwise it is the one file `grammar.trellis`. Where a test is about
+//! positions, a terminal with `ä` (one UTF-16 unit, two bytes) and one
+//! with `𝄞` (a surrogate pair of two units, four bytes) stand before what
+//! it points at, so that UTF-16, character and byte columns all differ.
 
 mod common;
 
 use common::fixture::range;
 use common::{sorted_locations, FixtureWorkspace, TestClient};
 use serde_json::{json, Value};
+use trellis_test_support::fixture::DEFAULT_PATH;
 
+/// The file that uses another, in the fixtures that cross files.
 const MAIN: &str = "kiosk.trellis";
+/// The file `MAIN` uses.
 const LEXICON: &str = "lexicon.trellis";
 
-/// Opens the fixture's files and checks that the main file is published
+/// A started server with every file of the fixture open, each published
 /// with exactly its annotations (none, in most tests).
-async fn workspace(client: &mut TestClient, fixture: &str) -> FixtureWorkspace {
+async fn open(fixture: &str) -> (TestClient, FixtureWorkspace) {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    let ws = open_in(&mut client, fixture).await;
+    (client, ws)
+}
+
+/// A request whose only parameter is the document at `uri`.
+async fn on_file(client: &mut TestClient, method: &str, uri: String) -> Value {
+    client
+        .request(method, json!({"textDocument": {"uri": uri}}))
+        .await
+}
+
+/// Opens the fixture's files in `client` and checks what is published for
+/// each against its annotations.
+async fn open_in(client: &mut TestClient, fixture: &str) -> FixtureWorkspace {
     let ws = client.open_fixture(fixture).await;
-    client.check_diagnostics(&ws, MAIN).await;
+    for file in &ws.fixture.files {
+        let path = file.path.to_str().expect("a UTF-8 path");
+        client.check_diagnostics(&ws, path).await;
+    }
     ws
 }
 
@@ -58,30 +81,21 @@ async fn capabilities_cover_every_wired_feature() {
 
 #[tokio::test]
 async fn hover_on_a_symbol_after_non_ascii_words_covers_it_in_utf16_units() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = workspace(
-        &mut client,
+    let (mut client, ws) = open(
         r#"
-        === kiosk.trellis ===
-        grammar fähre
-        start Request
-        use "lexicon.trellis"
+        start S
         [[]]
-        ## What a passenger asks for.
-        Request {
-          0.6  "Fähre" "𝄞" [[Is$0land]]
-          0.4  Island
-        }
-        === lexicon.trellis ===
-        Island { "tolsey" | "oxna" | "quillan" }
+        S { "Fähre" "𝄞" [[Is$0land]] }
+        Island { "tolsey" }
         "#,
     )
     .await;
-    let [blank, island] = ws.ranges(MAIN);
-    // `Island` starts at byte 23, character 19, UTF-16 unit 20.
-    assert_eq!(ws.file(MAIN).line(6).find("Island"), Some(23));
-    assert_eq!(island["start"], json!({"line": 6, "character": 20}));
+    let [blank, island] = ws.ranges(DEFAULT_PATH);
+    // Before `Island`: `S { ` (4 of each), `"Fähre"` (7 characters, 8
+    // bytes, 7 UTF-16 units), a space, `"𝄞"` (3 characters, 6 bytes, 4
+    // units) and a space: it starts at byte 20, character 16, unit 17.
+    assert_eq!(ws.file(DEFAULT_PATH).line(2).find("Island"), Some(20));
+    assert_eq!(island["start"], json!({"line": 2, "character": 17}));
     let hover = client.request("textDocument/hover", ws.at_cursor()).await;
     assert_eq!(hover["contents"]["kind"], "markdown");
     assert!(
@@ -94,7 +108,7 @@ async fn hover_on_a_symbol_after_non_ascii_words_covers_it_in_utf16_units() {
     assert_eq!(hover["range"], island);
     // Nothing to say on a blank line.
     let nothing = client
-        .request("textDocument/hover", ws.at(MAIN, &blank["start"]))
+        .request("textDocument/hover", ws.at(DEFAULT_PATH, &blank["start"]))
         .await;
     assert_eq!(nothing, Value::Null);
     client.shutdown().await;
@@ -102,27 +116,14 @@ async fn hover_on_a_symbol_after_non_ascii_words_covers_it_in_utf16_units() {
 
 #[tokio::test]
 async fn hover_on_a_rule_shows_the_engines_expected_uses() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = workspace(
-        &mut client,
+    let (mut client, ws) = open(
         r#"
-        === kiosk.trellis ===
-        grammar fähre
         start Request
-        use "lexicon.trellis"
-
-        ## What a passenger asks for.
-        Re[[]]quest {
-          0$0.6  "Fähre" "𝄞" Island
-          0.4  Island
-        }
-        === lexicon.trellis ===
-        Island { "tolsey" | "oxna" | "quillan" }
+        Re[[]]quest { 0$0.6 "ticket" | 0.4 "pass" }
         "#,
     )
     .await;
-    let [request] = ws.places(MAIN);
+    let [request] = ws.places(DEFAULT_PATH);
     // `Request` is used exactly once per sentence and picks its first rule
     // with probability 0.6, so that rule is used 0.6 times per sentence
     // (linearity of expectation).
@@ -131,7 +132,7 @@ async fn hover_on_a_rule_shows_the_engines_expected_uses() {
     assert!(text.contains("expected uses per sentence: 0.6"), "{text}");
     // A grammar without recursion ends with probability 1.
     let hover = client
-        .request("textDocument/hover", ws.at(MAIN, &request))
+        .request("textDocument/hover", ws.at(DEFAULT_PATH, &request))
         .await;
     let text = hover["contents"]["value"].as_str().unwrap();
     assert!(text.contains("termination probability: 1"), "{text}");
@@ -140,23 +141,14 @@ async fn hover_on_a_rule_shows_the_engines_expected_uses() {
 
 #[tokio::test]
 async fn definition_jumps_into_the_used_file() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = workspace(
-        &mut client,
+    let (mut client, ws) = open(
         r#"
         === kiosk.trellis ===
-        grammar fähre
-        start Request
+        start S
         use "lexicon.trellis"
-
-        ## What a passenger asks for.
-        Request {
-          0.6  "Fähre" "𝄞" $0Island
-          0.4  Island
-        }
+        S { $0Island }
         === lexicon.trellis ===
-        [[Island]] { "tolsey" | "oxna" | "quillan" }
+        [[Island]] { "tolsey" }
         "#,
     )
     .await;
@@ -171,23 +163,14 @@ async fn definition_jumps_into_the_used_file() {
 
 #[tokio::test]
 async fn references_list_every_use_in_every_file() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = workspace(
-        &mut client,
+    let (mut client, ws) = open(
         r#"
         === kiosk.trellis ===
-        grammar fähre
-        start Request
+        start S
         use "lexicon.trellis"
-
-        ## What a passenger asks for.
-        Request {
-          0.6  "Fähre" "𝄞" [[Island]]
-          0.4  [[Island]]
-        }
+        S { [[Island]] [[Island]] }
         === lexicon.trellis ===
-        [[Is$0land]] { "tolsey" | "oxna" | "quillan" }
+        [[Is$0land]] { "tolsey" }
         "#,
     )
     .await;
@@ -213,23 +196,14 @@ async fn references_list_every_use_in_every_file() {
 
 #[tokio::test]
 async fn rename_is_prepared_on_names_refused_on_words_and_edits_every_file() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = workspace(
-        &mut client,
+    let (mut client, ws) = open(
         r#"
         === kiosk.trellis ===
-        grammar fähre
-        start Request
+        start S
         use "lexicon.trellis"
-
-        ## What a passenger asks for.
-        Request {
-          0.6  "F[[]]ähre" "𝄞" [[$0Island]]
-          0.4  [[Island]]
-        }
+        S { "F[[]]ähre" [[$0Island]] [[Island]] }
         === lexicon.trellis ===
-        [[Island]] { "tolsey" | "oxna" | "quillan" }
+        [[Island]] { "tolsey" }
         "#,
     )
     .await;
@@ -280,32 +254,18 @@ async fn rename_is_prepared_on_names_refused_on_words_and_edits_every_file() {
 
 #[tokio::test]
 async fn document_and_workspace_symbols_list_the_blocks() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = workspace(
-        &mut client,
+    let (mut client, ws) = open(
         r#"
         === kiosk.trellis ===
-        grammar fähre
         start Request
         use "lexicon.trellis"
-
-        ## What a passenger asks for.
-        Request {
-          0.6  "Fähre" "𝄞" Island
-          0.4  Island
-        }
+        Request { Island | "ticket" }
         === lexicon.trellis ===
-        Island { "tolsey" | "oxna" | "quillan" }
+        Island { "tolsey" }
         "#,
     )
     .await;
-    let symbols = client
-        .request(
-            "textDocument/documentSymbol",
-            json!({"textDocument": {"uri": ws.uri(MAIN)}}),
-        )
-        .await;
+    let symbols = on_file(&mut client, "textDocument/documentSymbol", ws.uri(MAIN)).await;
     let names: Vec<&str> = symbols
         .as_array()
         .unwrap()
@@ -334,28 +294,16 @@ async fn document_and_workspace_symbols_list_the_blocks() {
 
 #[tokio::test]
 async fn completion_offers_symbols_with_an_edit_over_the_typed_prefix() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = workspace(
-        &mut client,
+    let (mut client, ws) = open(
         r#"
-        === kiosk.trellis ===
-        grammar fähre
-        start Request
-        use "lexicon.trellis"
-
-        ## What a passenger asks for.
-        Request {
-          0.6  "Fähre" "𝄞" Island
-          0.4  [[Isl$0]]
-                 ^^^ error undefined
-        }
-        === lexicon.trellis ===
-        Island { "tolsey" | "oxna" | "quillan" }
+        start S
+        S { Island | [[Isl$0]] }
+                       ^^^ error undefined
+        Island { "tolsey" }
         "#,
     )
     .await;
-    let [prefix] = ws.ranges(MAIN);
+    let [prefix] = ws.ranges(DEFAULT_PATH);
     let list = client
         .request("textDocument/completion", ws.at_cursor())
         .await;
@@ -399,30 +347,21 @@ async fn semantic_tokens_are_classified_with_utf16_lengths() {
         .iter()
         .map(|t| t.as_str().unwrap().to_string())
         .collect();
-    let ws = workspace(
+    let ws = open_in(
         &mut client,
         r#"
-        === kiosk.trellis ===
-        [[grammar]] fähre
-        start [[Request]]
-        use "lexicon.trellis"
-
-        ## What a passenger asks for.
-        Request {
-          [[0.6]]  [["Fähre"]] [["𝄞"]] [[Island]]
-          0.4  Island
-        }
-        === lexicon.trellis ===
-        Island { "tolsey" | "oxna" | "quillan" }
+        [[start]] [[S]]
+        S { [[0.6]] [["Fähre"]] [["𝄞"]] [[Island]] | 0.4 "pass" }
+        Island { "tolsey" }
         "#,
     )
     .await;
-    let tokens = client
-        .request(
-            "textDocument/semanticTokens/full",
-            json!({"textDocument": {"uri": ws.uri(MAIN)}}),
-        )
-        .await;
+    let tokens = on_file(
+        &mut client,
+        "textDocument/semanticTokens/full",
+        ws.uri(DEFAULT_PATH),
+    )
+    .await;
     let tokens = decode(tokens["data"].as_array().unwrap());
     // The token that starts where `range` starts, as (UTF-16 length, type)
     // next to what the range says its length is.
@@ -436,7 +375,7 @@ async fn semantic_tokens_are_classified_with_utf16_lengths() {
             .map(|t| (t.2, legend[t.3 as usize].as_str()));
         (token, n(&range["end"]["character"]) - start)
     };
-    let [keyword, start, weight, faehre, clef, island] = ws.ranges(MAIN);
+    let [keyword, start, weight, faehre, clef, island] = ws.ranges(DEFAULT_PATH);
     let expected = [
         (keyword, "keyword"),
         (start, "type"),
@@ -444,6 +383,7 @@ async fn semantic_tokens_are_classified_with_utf16_lengths() {
         // "Fähre" with quotes: 7 UTF-16 units; "𝄞" with quotes: 4.
         (faehre, "string"),
         (clef, "string"),
+        // After both: at UTF-16 column 4 + 4 + 8 + 5 = 21 (character 20).
         (island, "type"),
     ];
     for (range, kind_name) in &expected {
@@ -452,6 +392,7 @@ async fn semantic_tokens_are_classified_with_utf16_lengths() {
     }
     assert_eq!(kind(&expected[3].0).1, 7);
     assert_eq!(kind(&expected[4].0).1, 4);
+    assert_eq!(expected[5].0["start"]["character"], 21);
     client.shutdown().await;
 }
 
@@ -485,26 +426,28 @@ fn apply(text: &str, edits: &[Value]) -> String {
     out
 }
 
+/// The diagnostics last published for `uri` (already received).
+fn last_published(client: &TestClient, uri: &str) -> Value {
+    let published = client.published(uri);
+    let last = published.last().expect("diagnostics published");
+    last["diagnostics"].clone()
+}
+
 #[tokio::test]
 async fn the_renormalize_quick_fix_makes_the_block_sum_to_one() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = client
-        .open_fixture(
-            r#"
-            === count.trellis ===
-            start Count
-            Count {
-            ^^^^^ error sum-not-one
-              1/2 "one"
-              1/3 "two"
-            }
-            "#,
-        )
-        .await;
-    let (uri, text) = (ws.uri("count.trellis"), ws.text("count.trellis"));
-    let published = client.check_diagnostics(&ws, "count.trellis").await;
-    let diagnostic = published["diagnostics"][0].clone();
+    let (mut client, ws) = open(
+        r#"
+        start Count
+        Count {
+        ^^^^^ error sum-not-one
+          1/2 "one"
+          1/3 "two"
+        }
+        "#,
+    )
+    .await;
+    let (uri, text) = (ws.uri(DEFAULT_PATH), ws.text(DEFAULT_PATH));
+    let diagnostic = last_published(&client, &uri)[0].clone();
     let actions = client
         .request(
             "textDocument/codeAction",
@@ -532,33 +475,20 @@ async fn the_renormalize_quick_fix_makes_the_block_sum_to_one() {
 
 #[tokio::test]
 async fn inlay_hints_show_the_share_of_unweighted_alternatives() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = workspace(
-        &mut client,
+    let (mut client, ws) = open(
         r#"
-        === kiosk.trellis ===
-        grammar fähre
-        start Request
-        use "lexicon.trellis"
-
-        ## What a passenger asks for.
-        Request {
-          0.6  "Fähre" "𝄞" Island
-          0.4  Island
-        }
-        === lexicon.trellis ===
-        Island { [[]]"tolsey" | "oxna" | "quillan" }
+        start Kind
+        Kind { [[]]"tolsey" | "oxna" | "quillan" }
         "#,
     )
     .await;
-    let [first] = ws.places(LEXICON);
-    let lexicon = ws.file(LEXICON);
-    let whole = range(lexicon.utf16_range(&(0..lexicon.text.len())));
+    let [first] = ws.places(DEFAULT_PATH);
+    let file = ws.file(DEFAULT_PATH);
+    let whole = range(file.utf16_range(&(0..file.text.len())));
     let hints = client
         .request(
             "textDocument/inlayHint",
-            json!({"textDocument": {"uri": ws.uri(LEXICON)}, "range": whole}),
+            json!({"textDocument": {"uri": ws.uri(DEFAULT_PATH)}, "range": whole}),
         )
         .await;
     // Three unweighted alternatives share the whole mass: 1/3 each (the
@@ -577,33 +507,16 @@ async fn inlay_hints_show_the_share_of_unweighted_alternatives() {
 
 #[tokio::test]
 async fn code_lenses_above_start_parse_and_sample_through_the_commands() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = workspace(
-        &mut client,
+    // `start` on the second line, so that lenses on the first line fail.
+    let (mut client, ws) = open(
         r#"
-        === kiosk.trellis ===
-        grammar fähre
-        [[]]start Request
-        use "lexicon.trellis"
-
-        ## What a passenger asks for.
-        Request {
-          0.6  "Fähre" "𝄞" Island
-          0.4  Island
-        }
-        === lexicon.trellis ===
-        Island { "tolsey" | "oxna" | "quillan" }
+        S { "tolsey" }
+        [[]]start S
         "#,
     )
     .await;
-    let [start] = ws.places(MAIN);
-    let lenses = client
-        .request(
-            "textDocument/codeLens",
-            json!({"textDocument": {"uri": ws.uri(MAIN)}}),
-        )
-        .await;
+    let [start] = ws.places(DEFAULT_PATH);
+    let lenses = on_file(&mut client, "textDocument/codeLens", ws.uri(DEFAULT_PATH)).await;
     let lenses = lenses.as_array().unwrap();
     let commands: Vec<&str> = lenses
         .iter()
@@ -634,33 +547,22 @@ async fn code_lenses_above_start_parse_and_sample_through_the_commands() {
 
 #[tokio::test]
 async fn folding_ranges_cover_multi_line_blocks() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = workspace(
-        &mut client,
+    let (mut client, ws) = open(
         r#"
-        === kiosk.trellis ===
-        grammar fähre
-        start Request
-        use "lexicon.trellis"
-
-        ## What a passenger asks for.
-        [[Request {
-          0.6  "Fähre" "𝄞" Island
-          0.4  Island
+        start S
+        [[S {
+          "tolsey"
         }]]
-        === lexicon.trellis ===
-        Island { "tolsey" | "oxna" | "quillan" }
         "#,
     )
     .await;
-    let [block] = ws.ranges(MAIN);
-    let ranges = client
-        .request(
-            "textDocument/foldingRange",
-            json!({"textDocument": {"uri": ws.uri(MAIN)}}),
-        )
-        .await;
+    let [block] = ws.ranges(DEFAULT_PATH);
+    let ranges = on_file(
+        &mut client,
+        "textDocument/foldingRange",
+        ws.uri(DEFAULT_PATH),
+    )
+    .await;
     let ranges = ranges.as_array().unwrap();
     assert!(
         ranges
@@ -675,33 +577,19 @@ async fn folding_ranges_cover_multi_line_blocks() {
 
 #[tokio::test]
 async fn use_paths_are_links_to_the_used_file() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = workspace(
-        &mut client,
+    let (mut client, ws) = open(
         r#"
         === kiosk.trellis ===
-        grammar fähre
-        start Request
+        start S
         use [["lexicon.trellis"]]
-
-        ## What a passenger asks for.
-        Request {
-          0.6  "Fähre" "𝄞" Island
-          0.4  Island
-        }
+        S { Island }
         === lexicon.trellis ===
-        Island { "tolsey" | "oxna" | "quillan" }
+        Island { "tolsey" }
         "#,
     )
     .await;
     let [path] = ws.ranges(MAIN);
-    let links = client
-        .request(
-            "textDocument/documentLink",
-            json!({"textDocument": {"uri": ws.uri(MAIN)}}),
-        )
-        .await;
+    let links = on_file(&mut client, "textDocument/documentLink", ws.uri(MAIN)).await;
     assert_eq!(links.as_array().unwrap().len(), 1);
     assert_eq!(links[0]["target"], ws.uri(LEXICON));
     assert_eq!(links[0]["range"], path);
@@ -710,26 +598,15 @@ async fn use_paths_are_links_to_the_used_file() {
 
 #[tokio::test]
 async fn highlights_mark_every_occurrence_in_the_file() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    let ws = workspace(
-        &mut client,
+    let (mut client, ws) = open(
         r#"
-        === kiosk.trellis ===
-        grammar fähre
-        start Request
-        use "lexicon.trellis"
-
-        ## What a passenger asks for.
-        Request {
-          0.6  "Fähre" "𝄞" [[$0Island]]
-          0.4  [[Island]]
-        }
-        === lexicon.trellis ===
-        Island { "tolsey" | "oxna" | "quillan" }
+        start S
+        S { [[$0Island]] [[Island]] }
+        [[Island]] { "tolsey" }
         "#,
     )
     .await;
+    let [first, second, declaration] = ws.ranges(DEFAULT_PATH);
     let found = client
         .request("textDocument/documentHighlight", ws.at_cursor())
         .await;
@@ -737,38 +614,38 @@ async fn highlights_mark_every_occurrence_in_the_file() {
     let highlights = sorted_locations(
         found
             .iter()
-            .map(|h| json!({"uri": ws.uri(MAIN), "range": h["range"]})),
+            .map(|h| json!({"uri": ws.uri(DEFAULT_PATH), "range": h["range"]})),
     );
     assert_eq!(highlights, ws.locations());
-    // DocumentHighlightKind.Read = 2 (LSP 3.17): both are uses.
-    assert!(found.iter().all(|h| h["kind"] == 2));
+    // DocumentHighlightKind (LSP 3.17): the two uses are Read = 2, the
+    // block that defines `Island` is Write = 3.
+    let kind = |range: &Value| {
+        let h = found.iter().find(|h| h["range"] == *range);
+        h.map(|h| h["kind"].clone())
+    };
+    assert_eq!(kind(&first), Some(json!(2)));
+    assert_eq!(kind(&second), Some(json!(2)));
+    assert_eq!(kind(&declaration), Some(json!(3)));
     client.shutdown().await;
 }
 
 #[tokio::test]
 async fn a_leaky_grammar_gets_the_engines_leaky_warning() {
-    let mut client = TestClient::start();
-    client.initialize().await;
     // S → S S (0.6) | "a" (0.4): the termination probability q solves
     // q = 0.4 + 0.6 q², whose least root is 2/3 (a supercritical branching
     // process; T. E. Harris, "The Theory of Branching Processes", 1963), so
     // 1/3 of the mass leaks. `leaky` is a warning by default
     // (DiagnosticSeverity.Warning = 2).
-    let ws = client
-        .open_fixture(
-            r#"
-            === leaky.trellis ===
-            start S
-                  ^ warning leaky
-            S {
-              0.6 S S
-              0.4 "a"
-            }
-            "#,
-        )
-        .await;
-    let published = client.check_diagnostics(&ws, "leaky.trellis").await;
-    let message = published["diagnostics"][0]["message"].as_str().unwrap();
+    let (client, ws) = open(
+        r#"
+        start S
+              ^ warning leaky
+        S { 0.6 S S | 0.4 "a" }
+        "#,
+    )
+    .await;
+    let diagnostics = last_published(&client, &ws.uri(DEFAULT_PATH));
+    let message = diagnostics[0]["message"].as_str().unwrap();
     assert!(
         message.contains("0.333") || message.contains("1/3"),
         "{message}"
