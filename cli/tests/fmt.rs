@@ -3,38 +3,12 @@
 
 mod common;
 
-use common::trellis;
+use common::{trellis, trellis_stdin};
 use std::fs;
-use std::io::Write;
 use std::path::Path;
-use std::process::{Command, Stdio};
 
 const MESSY: &str = "start Request\nRequest {  0.5 Ticket   # most\n 0.5   \"hello\" }\nTicket {\"return\"|\"single\"}\n";
 const TIDY: &str = "start Request\n\nRequest {\n  0.5  Ticket  # most\n  0.5  \"hello\"\n}\n\nTicket { \"return\" | \"single\" }\n";
-
-/// Runs `trellis <args>` in `dir` with `input` on standard input.
-fn trellis_stdin(dir: &Path, args: &[&str], input: &str) -> (i32, String, String) {
-    let mut child = Command::new(env!("CARGO_BIN_EXE_trellis"))
-        .args(args)
-        .current_dir(dir)
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .expect("the trellis binary runs");
-    child
-        .stdin
-        .take()
-        .unwrap()
-        .write_all(input.as_bytes())
-        .unwrap();
-    let out = child.wait_with_output().unwrap();
-    (
-        out.status.code().unwrap(),
-        String::from_utf8(out.stdout).unwrap(),
-        String::from_utf8(out.stderr).unwrap(),
-    )
-}
 
 fn names(dir: &Path) -> Vec<String> {
     let mut names: Vec<String> = fs::read_dir(dir)

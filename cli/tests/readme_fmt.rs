@@ -2,8 +2,9 @@
 //! before/after example is exactly what `trellis fmt -` prints, and the
 //! "after" text is already formatted.
 
-use std::io::Write;
-use std::process::{Command, Stdio};
+mod common;
+
+use common::trellis_stdin;
 
 /// The first two ```trellis code blocks of README's "Formatting" section.
 fn example() -> (String, String) {
@@ -38,27 +39,10 @@ fn example() -> (String, String) {
 
 fn fmt_stdin(input: &str, extra: &[&str]) -> (i32, String) {
     let dir = tempfile::tempdir().unwrap();
-    let mut child = Command::new(env!("CARGO_BIN_EXE_trellis"))
-        .arg("fmt")
-        .arg("-")
-        .args(extra)
-        .current_dir(dir.path())
-        .stdin(Stdio::piped())
-        .stdout(Stdio::piped())
-        .stderr(Stdio::piped())
-        .spawn()
-        .unwrap();
-    child
-        .stdin
-        .take()
-        .unwrap()
-        .write_all(input.as_bytes())
-        .unwrap();
-    let out = child.wait_with_output().unwrap();
-    (
-        out.status.code().unwrap(),
-        String::from_utf8(out.stdout).unwrap(),
-    )
+    let mut args = vec!["fmt", "-"];
+    args.extend_from_slice(extra);
+    let (code, stdout, _) = trellis_stdin(dir.path(), &args, input);
+    (code, stdout)
 }
 
 #[test]

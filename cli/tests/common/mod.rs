@@ -1,7 +1,11 @@
 //! What every CLI test needs: running the built `trellis` binary.
 
+// Each test file uses only some of these.
+#![allow(dead_code)]
+
+use std::io::Write;
 use std::path::Path;
-use std::process::Command;
+use std::process::{Command, Stdio};
 
 /// What one run of `trellis` left behind.
 pub struct Run {
@@ -41,7 +45,6 @@ pub fn trellis_with_env(dir: &Path, args: &[&str], env: &[(&str, &str)]) -> Run 
 ///   (Request "a" (Ticket (Kind "day") "ticket"))  1/2 · 1/2 · 1/3 = 1/12
 /// — a tie — while "a a day ticket" has the one tree
 ///   (Request "a" (Ticket "a" (Kind "day") "ticket"))  1/2 · 1/2 · 1/3 = 1/12.
-#[allow(dead_code)]
 pub const KIOSK: &str = r#"
 start Request
 
@@ -57,3 +60,27 @@ Ticket {
 
 Kind { "day" | "single" | "return" }
 "#;
+
+/// Runs `trellis <args>` in `dir` with `input` on standard input.
+pub fn trellis_stdin(dir: &Path, args: &[&str], input: &str) -> (i32, String, String) {
+    let mut child = Command::new(env!("CARGO_BIN_EXE_trellis"))
+        .args(args)
+        .current_dir(dir)
+        .stdin(Stdio::piped())
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .expect("the trellis binary runs");
+    child
+        .stdin
+        .take()
+        .unwrap()
+        .write_all(input.as_bytes())
+        .unwrap();
+    let out = child.wait_with_output().unwrap();
+    (
+        out.status.code().unwrap(),
+        String::from_utf8(out.stdout).unwrap(),
+        String::from_utf8(out.stderr).unwrap(),
+    )
+}
