@@ -74,6 +74,10 @@ enum Command {
     /// why a sentence does not parse.
     #[command(long_about = commands::parse::LONG_ABOUT)]
     Parse(commands::parse::ParseArgs),
+    /// Write a starter project: a small grammar with tests, the lexicon it
+    /// uses and a commented trellis.toml.
+    #[command(long_about = commands::init::LONG_ABOUT)]
+    Init(commands::init::InitArgs),
 }
 
 fn main() -> ExitCode {
@@ -94,6 +98,7 @@ fn main() -> ExitCode {
         Command::Fmt(args) => commands::fmt::run(&args, term),
         Command::Lsp(args) => commands::lsp::run(&args),
         Command::Parse(args) => commands::parse::run(&args, term),
+        Command::Init(args) => commands::init::run(&args),
     };
     commands::ended(ran).into()
 }

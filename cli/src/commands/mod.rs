@@ -6,6 +6,7 @@
 
 pub mod check;
 pub mod fmt;
+pub mod init;
 pub mod lsp;
 pub mod parse;
 pub mod sample;
