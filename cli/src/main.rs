@@ -12,7 +12,7 @@ mod output;
 mod render;
 mod shared;
 
-use clap::{Parser, Subcommand};
+use clap::{CommandFactory, Parser, Subcommand};
 use output::{ColorChoice, Term};
 
 /// The front end allocates many small objects (names, rules, syntax
@@ -78,6 +78,14 @@ enum Command {
     /// uses and a commented trellis.toml.
     #[command(long_about = commands::init::LONG_ABOUT)]
     Init(commands::init::InitArgs),
+    /// Print the completion script for a shell (bash, zsh, fish, elvish or
+    /// powershell).
+    #[command(long_about = commands::completions::LONG_ABOUT)]
+    Completions(commands::completions::CompletionsArgs),
+    /// Print the manual page (roff), or write one page per command with
+    /// --dir.
+    #[command(long_about = commands::man::LONG_ABOUT)]
+    Man(commands::man::ManArgs),
 }
 
 fn main() -> ExitCode {
@@ -99,6 +107,8 @@ fn main() -> ExitCode {
         Command::Lsp(args) => commands::lsp::run(&args),
         Command::Parse(args) => commands::parse::run(&args, term),
         Command::Init(args) => commands::init::run(&args),
+        Command::Completions(args) => commands::completions::run(&args, Cli::command()),
+        Command::Man(args) => commands::man::run(&args, Cli::command()),
     };
     commands::ended(ran).into()
 }
@@ -106,7 +116,6 @@ fn main() -> ExitCode {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use clap::CommandFactory;
 
     #[test]
     fn the_argument_definitions_are_consistent() {

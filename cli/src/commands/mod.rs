@@ -5,9 +5,11 @@
 //! Only `main` turns either into the process exit status.
 
 pub mod check;
+pub mod completions;
 pub mod fmt;
 pub mod init;
 pub mod lsp;
+pub mod man;
 pub mod parse;
 pub mod sample;
 pub mod stats;
