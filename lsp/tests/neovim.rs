@@ -286,4 +286,15 @@ fn neovim_shows_diagnostics_hover_definition_fixes_parses_and_runs_tests_through
         "{text}"
     );
     assert!(text.contains("expected no parse"), "{text}");
+    // The whole reason is kept, down to the tree it found (on the one line
+    // a quickfix entry has).
+    assert!(
+        text.contains(
+            "its most probable tree: (Request (Purchase (Order (Tickets (CountMany \"two\")"
+        ),
+        "{text}"
+    );
+    assert!(text.contains("(Island \"tolsey\")"), "{text}");
+    assert!(text.contains("(p ≈ "), "{text}");
+    assert!(!text.contains('\n'), "{text}");
 }

@@ -77,6 +77,27 @@ local function byte_column(fname, position)
   return position.character + 1
 end
 
+--- A failed case's reason, all its lines on one quickfix line: a line that
+--- ends with ":" runs on into the next ("its most probable tree: (Request
+--- …)"), other lines are separated by " — ", and aligned spaces are
+--- collapsed.
+local function reason_text(lines)
+  local text = ""
+  for _, line in ipairs(lines or {}) do
+    line = vim.trim(line):gsub("%s+", " ")
+    if line ~= "" then
+      if text == "" then
+        text = line
+      elseif text:sub(-1) == ":" then
+        text = text .. " " .. line
+      else
+        text = text .. " — " .. line
+      end
+    end
+  end
+  return text ~= "" and text or "failed"
+end
+
 --- Runs the grammar's test blocks through the server (only the block named
 --- `name` when given) and puts every failing case in the quickfix list.
 --- `done(result, err)` is called with the server's answer.
@@ -109,7 +130,7 @@ function M.run_tests(bufnr, name, done)
             lnum = start.line + 1,
             col = byte_column(fname, start),
             text = string.format('test "%s": %s "%s" — %s', test.name, case.expect, case.sentence,
-              (case.failure or {})[1] or "failed"),
+              reason_text(case.failure)),
           })
         end
       end
