@@ -173,6 +173,9 @@ pub struct Diagnostic {
     pub related: Vec<Related>,
     /// What the user can do about it.
     pub help: Option<String>,
+    /// Text that likely fixes the finding when it replaces the text at
+    /// `location` (the known name a misspelt one is closest to).
+    pub suggestion: Option<String>,
 }
 
 impl Diagnostic {
@@ -186,6 +189,7 @@ impl Diagnostic {
             label: None,
             related: Vec::new(),
             help: None,
+            suggestion: None,
         }
     }
 
@@ -204,6 +208,12 @@ impl Diagnostic {
 
     pub fn with_help(mut self, help: impl Into<String>) -> Self {
         self.help = Some(help.into());
+        self
+    }
+
+    /// Sets [`Diagnostic::suggestion`].
+    pub fn with_suggestion(mut self, suggestion: Option<impl Into<String>>) -> Self {
+        self.suggestion = suggestion.map(Into::into);
         self
     }
 }

@@ -32,6 +32,8 @@ pub struct CodeAction {
     /// Where that diagnostic is reported.
     pub diagnostic_location: Option<Location>,
     pub edits: Vec<TextEdit>,
+    /// The fix most likely meant (an editor may apply it with one key).
+    pub is_preferred: bool,
 }
 
 /// The fixes for the diagnostics of `file` that overlap `span`:
@@ -52,6 +54,9 @@ pub struct CodeAction {
 ///   alternative: unweighted alternatives would take the remainder.) Also
 ///   offered: **mark the block `relative`**, which inserts ` relative`
 ///   after its name.
+/// * `undefined` and `unknown-start` with a close known name (`did you
+///   mean `Observation`?`) — **replace the name** at that use with the
+///   known one; the preferred fix.
 /// * `undefined` — **define the symbol** with a stub block
 ///   `Name {\n  "Name"  # TODO: …\n}` inserted on the line after the block
 ///   that uses it, separated by a blank line. The same for
@@ -85,7 +90,10 @@ pub fn code_actions(analysis: &Analysis, file: FileId, span: Span) -> Vec<CodeAc
                 }
                 v
             }
-            Code::Undefined | Code::UnknownStart => define_stub(analysis, d).into_iter().collect(),
+            Code::Undefined | Code::UnknownStart => replace_name(analysis, d)
+                .into_iter()
+                .chain(define_stub(analysis, d))
+                .collect(),
             Code::Unreachable => block_named_at(analysis, d.location)
                 .map(|block| remove_block(analysis, file, block, d))
                 .into_iter()
@@ -171,6 +179,7 @@ fn write_out_relative(analysis: &Analysis, file: FileId, span: Span) -> Option<C
         diagnostic_code: None,
         diagnostic_location: None,
         edits,
+        is_preferred: false,
     })
 }
 
@@ -181,6 +190,7 @@ fn quick_fix(title: String, d: &Diagnostic, edits: Vec<TextEdit>) -> CodeAction 
         diagnostic_code: Some(d.code),
         diagnostic_location: Some(d.location),
         edits,
+        is_preferred: false,
     }
 }
 
@@ -258,6 +268,28 @@ fn make_relative(analysis: &Analysis, file: FileId, block: &Block, d: &Diagnosti
             new_text: " relative".to_string(),
         }],
     )
+}
+
+/// Replaces a misspelt name by the known name the diagnostic suggests.
+fn replace_name(analysis: &Analysis, d: &Diagnostic) -> Option<CodeAction> {
+    let suggestion = d.suggestion.as_deref()?;
+    let file = d.location.file;
+    let wrong = d.location.span.text(locate::text(analysis, file));
+    if wrong.is_empty() || wrong == suggestion {
+        return None;
+    }
+    Some(CodeAction {
+        is_preferred: true,
+        ..quick_fix(
+            format!("Replace `{wrong}` with `{suggestion}`"),
+            d,
+            vec![TextEdit {
+                file,
+                span: d.location.span,
+                new_text: suggestion.to_string(),
+            }],
+        )
+    })
 }
 
 fn define_stub(analysis: &Analysis, d: &Diagnostic) -> Option<CodeAction> {

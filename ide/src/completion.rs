@@ -5,13 +5,15 @@ use grammar_lang::analysis::Analysis;
 use grammar_lang::source::FileId;
 use grammar_lang::span::Span;
 use grammar_lang::syntax::ast::Decl;
-use grammar_lang::syntax::lexer::{Token, TokenKind};
+use grammar_lang::syntax::lexer::{quote, unquote, Token, TokenKind};
 
 /// What a completion inserts.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum CompletionKind {
     NonTerminal,
     Keyword,
+    /// A known word (a terminal of the grammar), inside quotes.
+    Word,
 }
 
 #[derive(Clone, Debug, PartialEq, Eq)]
@@ -57,6 +59,8 @@ enum Context {
     AfterSentence,
     /// After `(` in an expected tree: a label.
     TreeLabel,
+    /// After `accept`/`reject`: the sentence.
+    Sentence,
     Nothing,
 }
 
@@ -66,6 +70,13 @@ enum Context {
 /// block); `relative` after a block name; `accept`/`reject` and `as` in
 /// tests. Names are filtered by the word being typed (its characters in
 /// order, ignoring case) and ranked like [`super::workspace_symbols`].
+///
+/// Inside quotes — a terminal on a right-hand side, or an `accept` or
+/// `reject` sentence — the grammar's known words (its terminals), filtered
+/// and ranked the same way by the partial word at the cursor; the answer
+/// replaces that word only (from the space or quote before it to the
+/// space or quote after it), never the quotes. A word with `"` or `\` is
+/// offered escaped, as it is written between quotes.
 ///
 /// Cost: binary searches, a look at the current line, and one pass over
 /// the non-terminals when names are offered.
@@ -86,6 +97,31 @@ pub fn completions(analysis: &Analysis, file: FileId, offset: usize) -> Completi
     let tokens = &syntax.tokens;
     // The token the cursor is in, or right after.
     let i = tokens.partition_point(|t| (t.span.end as usize) < offset);
+    if let Some(t) = tokens.get(i) {
+        if let Some((replace, prefix)) = in_quotes(text, t, offset) {
+            let at = t.span.start as usize;
+            return match context(analysis, file, tokens, at) {
+                Context::Rhs => {
+                    // The terminal being typed is a known word only if it
+                    // is written somewhere else too.
+                    let typing = unquote(t.span.text(text).trim_end_matches('"'));
+                    let elsewhere = analysis.syntax.iter().enumerate().any(|(f, s)| {
+                        let f = FileId(f as u32);
+                        let source = locate::text(analysis, f);
+                        s.tokens.iter().any(|u| {
+                            u.kind == TokenKind::String
+                                && (f, u.span) != (file, t.span)
+                                && unquote(u.span.text(source)) == typing
+                        })
+                    });
+                    let skip = (!elsewhere).then_some(typing.as_str());
+                    words(analysis, replace, prefix, skip)
+                }
+                Context::Sentence => words(analysis, replace, prefix, None),
+                _ => empty(Span::point(offset)),
+            };
+        }
+    }
     let (replace, prefix) = match tokens.get(i) {
         Some(t) if (t.span.start as usize) < offset && is_word(t.kind) => (
             t.span,
@@ -196,8 +232,68 @@ pub fn completions(analysis: &Analysis, file: FileId, offset: usize) -> Completi
                 items.push(keyword("as"));
             }
         }
-        Context::Nothing => {}
+        Context::Sentence | Context::Nothing => {}
     }
+    CompletionList {
+        items,
+        replace,
+        incomplete,
+    }
+}
+
+/// When `offset` is between the quotes of string token `t`: the partial
+/// word around it (up to the whitespace or quote on either side) and its
+/// text before the cursor.
+fn in_quotes<'t>(text: &'t str, t: &Token, offset: usize) -> Option<(Span, &'t str)> {
+    let (start, end) = (t.span.start as usize, t.span.end as usize);
+    let inner_end = match t.kind {
+        TokenKind::String => end - 1,
+        TokenKind::UnterminatedString => end,
+        _ => return None,
+    };
+    if !(start < offset && offset <= inner_end) {
+        return None;
+    }
+    let inner = start + 1;
+    let from = text[inner..offset]
+        .rfind(char::is_whitespace)
+        .map_or(inner, |i| {
+            inner + i + text[inner + i..].chars().next().map_or(1, char::len_utf8)
+        });
+    let to = text[offset..inner_end]
+        .find(char::is_whitespace)
+        .map_or(inner_end, |i| offset + i);
+    Some((Span::new(from, to), &text[from..offset]))
+}
+
+/// The grammar's known words that match `prefix`, best first.
+fn words(analysis: &Analysis, replace: Span, prefix: &str, skip: Option<&str>) -> CompletionList {
+    let query: Vec<char> = prefix.chars().flat_map(char::to_lowercase).collect();
+    let mut found: Vec<(u8, usize, &str)> = analysis
+        .grammar
+        .terminals
+        .iter()
+        .filter(|w| Some(w.as_str()) != skip)
+        .filter_map(|w| {
+            let rank = super::symbols::rank(w, &query)?;
+            Some((rank, w.chars().count(), w.as_str()))
+        })
+        .collect();
+    found.sort_unstable();
+    found.dedup();
+    let incomplete = found.len() > MAX_ITEMS;
+    let items = found
+        .into_iter()
+        .take(MAX_ITEMS)
+        .map(|(_, _, w)| {
+            let quoted = quote(w);
+            CompletionItem {
+                label: quoted[1..quoted.len() - 1].to_string(),
+                kind: CompletionKind::Word,
+                detail: Some("known word".to_string()),
+            }
+        })
+        .collect();
     CompletionList {
         items,
         replace,
@@ -274,6 +370,7 @@ fn context(analysis: &Analysis, file: FileId, tokens: &[Token], before: usize) -
         Some(false) => match line.as_slice() {
             [] => Context::CaseStart,
             [TokenKind::KwAccept, TokenKind::String] => Context::AfterSentence,
+            [TokenKind::KwAccept | TokenKind::KwReject] => Context::Sentence,
             [.., TokenKind::LParen] => Context::TreeLabel,
             _ => Context::Nothing,
         },

@@ -604,3 +604,76 @@ fn writing_out_a_relative_block_keeps_its_notation_exactly_or_says_why_not() {
         rewrites_block("Write out", before, after, fallback.as_deref());
     }
 }
+
+/// Misspelt names, as a table: the grammar with the use marked `[[…]]`,
+/// the preferred fix's title, and the text it gives.
+#[test]
+fn a_misspelt_name_is_replaced_by_the_suggested_one_as_the_preferred_fix() {
+    let cases = [
+        (
+            "start Log\nLog { Obsrvation }  # eine Zeile\nObservation { \"calm\" }\n",
+            "start Log\nLog { [[Obsrvation]] }  # eine Zeile\nObservation { \"calm\" }\n",
+            "Replace `Obsrvation` with `Observation`",
+        ),
+        (
+            "start Logbok\nLogbook { \"calm\" }\n",
+            "start [[Logbok]]\nLogbook { \"calm\" }\n",
+            "Replace `Logbok` with `Logbook`",
+        ),
+        (
+            "start S\nS {\n  0.5 \"wind\" Wnd   # Richtung\n  0.5 Wind\n}\nWind { \"nord\" }\n",
+            "start S\nS {\n  0.5 \"wind\" [[Wnd]]   # Richtung\n  0.5 Wind\n}\nWind { \"nord\" }\n",
+            "Replace `Wnd` with `Wind`",
+        ),
+    ];
+    for (original, fixture, title) in cases {
+        let (text, [at]) = marked(fixture);
+        assert_eq!(text, original);
+        let a = analyze_text(&text);
+        let actions = ide::code_actions(&a, M, at);
+        let preferred: Vec<_> = actions.iter().filter(|c| c.is_preferred).collect();
+        assert_eq!(preferred.len(), 1, "{actions:#?}");
+        let fix = preferred[0];
+        assert_eq!(fix.title, title);
+        assert_eq!(fix.kind, CodeActionKind::QuickFix);
+        assert!(matches!(
+            fix.diagnostic_code,
+            Some(Code::Undefined | Code::UnknownStart)
+        ));
+        // The stub stays on offer, not preferred.
+        assert!(actions
+            .iter()
+            .any(|c| c.title.starts_with("Define") && !c.is_preferred));
+        let fixed = apply(&text, M, &fix.edits);
+        let right = title.split('`').nth(3).unwrap();
+        let wrong = title.split('`').nth(1).unwrap();
+        assert_eq!(fixed, text.replacen(wrong, right, 1));
+        assert_eq!(comments(&fixed), comments(&text));
+        let b = analyze_text(&fixed);
+        assert!(
+            !codes(&b)
+                .iter()
+                .any(|c| matches!(c, Code::Undefined | Code::UnknownStart)),
+            "{:#?}",
+            b.diagnostics
+        );
+    }
+}
+
+#[test]
+fn replacing_a_misspelt_name_edits_only_the_use_asked_for() {
+    let (text, [first]) = marked("start S\nS { [[Wrd]] Wrd }\nWord { \"w\" }\n");
+    let (fix, fixed) = apply_action(&text, first, "Replace");
+    assert!(fix.is_preferred);
+    assert_eq!(fixed, "start S\nS { Word Wrd }\nWord { \"w\" }\n");
+}
+
+#[test]
+fn a_name_with_nothing_close_gets_no_replacement() {
+    let (text, [at]) = marked("start S\nS { [[Quux]] }\nWord { \"w\" }\n");
+    let a = analyze_text(&text);
+    let actions = ide::code_actions(&a, M, at);
+    assert!(actions
+        .iter()
+        .all(|c| !c.is_preferred && !c.title.starts_with("Replace")));
+}

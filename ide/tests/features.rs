@@ -925,20 +925,71 @@ fn completion_after_a_terminal_at_a_space_offers_every_defined_name_and_replaces
 }
 
 #[test]
-fn completion_inside_a_quoted_word_offers_nothing() {
-    let (labels, _, _) = completions(
-        r#"
-        start S
-        S {
-          0.5 Fa
-          0.5 "$0x" 
+fn completion_inside_quotes_on_a_right_hand_side_offers_the_known_words() {
+    let fixture = r#"
+        start Log
+        Log {
+          0.5 "wind" Wetter
+          0.5 "[[w$0]]"
         }
-        Fahrt { "f" }
-        Fähre { "ä" }
-        Weg { Fahrt }
-        "#,
-    );
-    assert!(labels.is_empty());
+        Wetter { "windstill" | "böig" | "ruhig" | "wolkig" }
+        "#;
+    let (labels, replace, list) = completions(fixture);
+    // The partial word only, inside the quotes.
+    assert_eq!(replace, marked(fixture));
+    // Not `w` itself: it is only the word being typed.
+    assert_eq!(labels, vec!["wind", "wolkig", "windstill"]);
+    assert!(list
+        .items
+        .iter()
+        .all(|i| i.kind == ide::CompletionKind::Word));
+    // Right after the opening quote: every word, replacing the word that
+    // follows up to the closing quote.
+    let fixture = "start S\nS { \"[[$0ruh]]\" | \"ruhig\" }\n";
+    let (labels, replace, _) = completions(fixture);
+    assert_eq!(replace, marked(fixture));
+    assert_eq!(labels, vec!["ruhig"]);
+}
+
+#[test]
+fn completion_in_a_test_sentence_offers_known_words_for_the_partial_word() {
+    let fixture = r#"
+        start Log
+        Log { Zeit Wetter }
+        Zeit { "morgens" | "abends" }
+        Wetter { "windstill" | "böig" }
+        test "Logbuch" {
+          accept "morgens [[win$0d]]"
+          reject "abends"
+        }
+        "#;
+    let (labels, replace, list) = completions(fixture);
+    assert_eq!(replace, marked(fixture));
+    assert_eq!(labels, vec!["windstill"]);
+    assert_eq!(list.items[0].kind, ide::CompletionKind::Word);
+    // A sentence still being typed (no closing quote yet), on one line.
+    let fixture = "start S\nS { \"morgens\" \"böig\" }\ntest \"t\" { accept \"morgens [[b$0]]\n}\n";
+    let (labels, replace, _) = completions(fixture);
+    assert_eq!(replace, marked(fixture));
+    assert_eq!(labels, vec!["böig"]);
+    // After a space inside the quotes: every word, replacing nothing.
+    let fixture = "start S\nS { \"a\" \"b\" }\ntest \"t\" {\n  reject \"a [[$0]]\"\n}\n";
+    let (labels, replace, _) = completions(fixture);
+    assert_eq!(replace, marked(fixture));
+    assert!(replace.is_empty());
+    assert_eq!(labels, vec!["a", "b"]);
+}
+
+#[test]
+fn completion_inside_other_quotes_offers_nothing() {
+    for fixture in [
+        "grammar \"lo$0g\"\nstart S\nS { \"a\" }\n",
+        "start S\nS { \"a\" }\ntest \"t$0\" { accept \"a\" }\n",
+        "use \"le$0x.trellis\"\nstart S\nS { \"a\" }\n",
+    ] {
+        let (labels, _, _) = completions(fixture);
+        assert!(labels.is_empty(), "{fixture}: {labels:?}");
+    }
 }
 
 #[test]

@@ -474,6 +474,52 @@ async fn the_renormalize_quick_fix_makes_the_block_sum_to_one() {
 }
 
 #[tokio::test]
+async fn a_misspelt_name_comes_with_its_replacement_as_the_preferred_fix() {
+    let (mut client, ws) = open(
+        r#"
+        start Log
+        Log { Obsrvation }
+        ^^^ error unproductive
+              ^^^^^^^^^^ error undefined
+        Observation { "calm" }
+        ^^^^^^^^^^^ warning unreachable
+        "#,
+    )
+    .await;
+    let (uri, text) = (ws.uri(DEFAULT_PATH), ws.text(DEFAULT_PATH));
+    let diagnostic = last_published(&client, &uri)
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|d| d["code"] == "undefined")
+        .cloned()
+        .unwrap();
+    let actions = client
+        .request(
+            "textDocument/codeAction",
+            json!({"textDocument": {"uri": uri}, "range": diagnostic["range"],
+                   "context": {"diagnostics": [diagnostic]}}),
+        )
+        .await;
+    let actions = actions.as_array().unwrap();
+    let preferred: Vec<_> = actions
+        .iter()
+        .filter(|a| a["isPreferred"] == true)
+        .collect();
+    assert_eq!(preferred.len(), 1, "{actions:?}");
+    let fix = preferred[0];
+    assert_eq!(fix["title"], "Replace `Obsrvation` with `Observation`");
+    assert_eq!(fix["kind"], "quickfix");
+    assert_eq!(fix["diagnostics"][0]["code"], "undefined");
+    let fixed = apply(text, fix["edit"]["changes"][&uri].as_array().unwrap());
+    assert!(fixed.contains("Log { Observation }"), "{fixed}");
+    client.change(&uri, 2, &fixed).await;
+    let after = client.diagnostics_for_version(&uri, 2).await;
+    assert_eq!(after["diagnostics"], json!([]));
+    client.shutdown().await;
+}
+
+#[tokio::test]
 async fn inlay_hints_show_the_share_of_unweighted_alternatives() {
     let (mut client, ws) = open(
         r#"

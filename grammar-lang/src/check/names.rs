@@ -91,7 +91,8 @@ fn undefined(grammar: &Grammar, suggester: &mut Lazy, out: &mut Vec<Diagnostic>)
                     ),
                 )
                 .with_label("not defined")
-                .with_help(help.clone()),
+                .with_help(help.clone())
+                .with_suggestion(suggestion),
             );
         }
     }
@@ -119,7 +120,8 @@ fn start(grammar: &Grammar, sources: &SourceMap, suggester: &mut Lazy, out: &mut
                 .with_help(format!(
                     "start from a symbol that has a block, or define `{} {{ … }}`",
                     symbol.name
-                )),
+                ))
+                .with_suggestion(suggestion),
             );
         }
         _ => {

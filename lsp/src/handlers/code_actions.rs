@@ -45,6 +45,7 @@ pub async fn code_actions(
                         }),
                         diagnostics: (!diagnostics.is_empty()).then_some(diagnostics),
                         edit: Some(workspace_edit(&t, &a.edits)),
+                        is_preferred: a.is_preferred.then_some(true),
                         ..CodeAction::default()
                     })
                 })

@@ -27,6 +27,7 @@ pub async fn completion(
                     kind: Some(match item.kind {
                         CompletionKind::NonTerminal => CompletionItemKind::CLASS,
                         CompletionKind::Keyword => CompletionItemKind::KEYWORD,
+                        CompletionKind::Word => CompletionItemKind::TEXT,
                     }),
                     detail: item.detail,
                     // Keep the core's ranking: best first.
