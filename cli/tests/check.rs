@@ -544,3 +544,42 @@ fn json_related_places_point_at_the_other_block() {
     assert!(run.stdout.contains("Kind { \"return\" }"), "{}", run.stdout);
     assert!(run.stdout.contains("Kind { \"single\" }"), "{}", run.stdout);
 }
+
+/// README says the bundled examples between them show every finding: every
+/// code `check` can report appears in `check --format json` of some example
+/// file. `config` comes from `trellis.toml`, not from a grammar, and
+/// `uncovered` from running tests in the editor, so neither is expected.
+#[test]
+fn the_examples_show_every_code_check_reports() {
+    use grammar_lang::Code;
+    let examples = Path::new(env!("CARGO_MANIFEST_DIR")).join("../examples");
+    let mut shown = std::collections::BTreeSet::new();
+    let mut files: Vec<_> = fs::read_dir(&examples)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().into_string().unwrap())
+        .filter(|name| name.ends_with(".trellis"))
+        .collect();
+    files.sort();
+    for file in &files {
+        let run = trellis(&examples, &["check", "--format", "json", file]);
+        for d in diagnostics(&run) {
+            shown.insert(d["code"].as_str().unwrap().to_string());
+        }
+    }
+    let missing: Vec<&str> = Code::ALL
+        .iter()
+        .filter(|&&c| c != Code::Config && c.is_check())
+        .map(|c| c.as_str())
+        .filter(|name| !shown.contains(*name))
+        .collect();
+    assert!(
+        missing.is_empty(),
+        "codes no example shows: {missing:?} (examples: {files:?})"
+    );
+    // The one that needs an error-free grammar has its own.
+    let run = trellis(
+        &examples,
+        &["check", "--format", "json", "broken_leaky.trellis"],
+    );
+    assert_eq!(codes(&diagnostics(&run)), ["leaky"]);
+}

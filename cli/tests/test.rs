@@ -116,30 +116,42 @@ fn an_expected_tree_that_ties_for_most_probable_holds() {
 }
 
 #[test]
-fn a_tree_printed_by_trees_can_be_pasted_into_an_accept_as_case() {
-    let dir = grammar_with_tests("test \"t\" {\n  accept \"a a single ticket\"\n}\n");
+fn cases_printed_by_trees_paste_back_into_a_test_block_as_they_are() {
+    // The expected tree of the second case spans several lines; `--trees`
+    // prints every case on one line, with its most probable tree and the
+    // probability in a comment.
+    let dir = grammar_with_tests(
+        "test \"t\" {\n  accept \"a a single ticket\"\n  accept \"return ticket\" as (Request\n    (Ticket\n      (Kind \"return\")\n      \"ticket\"))\n  reject \"ticket ticket\"\n}\n",
+    );
     let run = trellis(dir.path(), &["test", "--trees"]);
     assert_eq!(run.code, 0, "{}{}", run.stdout, run.stderr);
-    let tree = run
+    let cases: Vec<&str> = run
         .stdout
         .lines()
-        .find_map(|l| l.trim().strip_prefix("as "))
-        .unwrap_or_else(|| panic!("no tree printed: {}", run.stdout))
-        .split("  ")
-        .next()
-        .unwrap()
-        .to_string();
+        .map(str::trim)
+        .filter(|l| l.starts_with("accept ") || l.starts_with("reject "))
+        .collect();
     assert_eq!(
-        tree,
-        r#"(Request "a" (Ticket "a" (Kind "single") "ticket"))"#
+        cases,
+        [
+            r#"accept "a a single ticket" as (Request "a" (Ticket "a" (Kind "single") "ticket"))  # ok, p ≈ 8.333333e-2"#,
+            r#"accept "return ticket" as (Request (Ticket (Kind "return") "ticket"))  # ok, p ≈ 8.333333e-2"#,
+            r#"reject "ticket ticket"  # ok"#,
+        ],
+        "{}",
+        run.stdout
     );
+    // Each tree takes 1/2 · 1/2 · 1/3 = 1/12, worked by hand (KIOSK's
+    // comment works the first).
+    let pasted: String = cases.iter().map(|c| format!("  {c}\n")).collect();
     fs::write(
         dir.path().join("g.trellis"),
-        format!("{KIOSK}\ntest \"t\" {{\n  accept \"a a single ticket\" as {tree}\n}}\n"),
+        format!("{KIOSK}\ntest \"pasted\" {{\n{pasted}}}\n"),
     )
     .unwrap();
     let run = trellis(dir.path(), &["test"]);
     assert_eq!(run.code, 0, "{}{}", run.stdout, run.stderr);
+    assert!(run.stdout.contains("(3 cases)"), "{}", run.stdout);
 }
 
 #[test]

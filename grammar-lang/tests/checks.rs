@@ -952,3 +952,25 @@ fn a_limit_set_below_two_in_code_does_not_break_the_arity_message() {
         "#,
     );
 }
+
+#[test]
+fn an_expected_tree_may_span_several_lines_and_an_open_bracket_is_one_finding() {
+    check(
+        r#"
+        start S
+        S { NP VP }
+        NP { "ferries" }
+        VP { "sail" }
+        test "layout" {
+          accept "ferries sail" as (S
+            (NP "ferries")
+            (VP "sail"))
+          accept "ferries sail" as (S
+                                   ^ error syntax: this bracket of the expected tree is not closed
+            (NP "ferries")
+            (VP "sail")
+          reject "sail"
+        }
+        "#,
+    );
+}

@@ -27,6 +27,10 @@ const EXAMPLES: &[(&str, &str)] = &[
         include_str!("../../examples/broken_cycle.trellis"),
     ),
     (
+        "broken_leaky.trellis",
+        include_str!("../../examples/broken_leaky.trellis"),
+    ),
+    (
         "broken_no_start.trellis",
         include_str!("../../examples/broken_no_start.trellis"),
     ),

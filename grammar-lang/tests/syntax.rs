@@ -272,3 +272,59 @@ fn spans_point_at_the_source_text_of_each_node() {
         "Kind {\n  \"return\" | \"single\" | \"day\"\n}"
     );
 }
+
+#[test]
+fn an_expected_tree_may_span_several_lines() {
+    let text = "start S\nS { NP VP }\nNP { \"ferries\" }\nVP { \"sail\" }\n\
+        test \"layout\" {\n  accept \"ferries sail\" as (S\n    (NP \"ferries\")\n\n    (VP\n      \"sail\"\n    )\n  )\n  reject \"sail\"\n}\n";
+    let file = parse(text);
+    assert!(file.errors.is_empty(), "{:?}", file.errors);
+    let Some(Decl::Test(test)) = file.decls.last() else {
+        panic!("last declaration is the test block")
+    };
+    assert_eq!(test.cases.len(), 2);
+    let tree = test.cases[0]
+        .tree
+        .as_ref()
+        .expect("the first case has a tree");
+    assert_eq!(tree.label.span.text(text), "S");
+    assert_eq!(tree.children.len(), 2);
+    let TreeChild::Node(vp) = &tree.children[1] else {
+        panic!("S's second child is a node")
+    };
+    assert!(matches!(&vp.children[..], [TreeChild::Leaf(s)] if s.value == "sail"));
+    assert_eq!(test.cases[1].expect, Expectation::Reject);
+}
+
+#[test]
+fn an_unclosed_bracket_in_an_expected_tree_is_reported_once_at_the_bracket() {
+    // The tree ends where the next case begins; that case is read as usual.
+    let text = "start S\nS { \"a\" }\n\
+        test \"t\" {\n  accept \"a\" as (S\n    \"a\"\n  accept \"a\"\n  reject \"b\"\n}\n";
+    assert_eq!(
+        errors(text),
+        [(
+            4,
+            17,
+            "this bracket of the expected tree is not closed".into()
+        )]
+    );
+    let Some(Decl::Test(test)) = parse(text).decls.last().cloned() else {
+        panic!("last declaration is the test block")
+    };
+    assert_eq!(test.cases.len(), 3);
+}
+
+#[test]
+fn a_mistake_inside_a_multi_line_tree_is_reported_once_and_reading_resumes_at_the_next_case() {
+    let text = "start S\nS { \"a\" }\n\
+        test \"t\" {\n  accept \"a\" as (S\n    0.5\n    (S \"a\")\n    \"a\")\n  reject \"b\"\n}\n";
+    let found = errors(text);
+    assert_eq!(found.len(), 1, "{found:?}");
+    assert_eq!((found[0].0, found[0].1), (5, 5), "{found:?}");
+    let Some(Decl::Test(test)) = parse(text).decls.last().cloned() else {
+        panic!("last declaration is the test block")
+    };
+    assert_eq!(test.cases.len(), 1);
+    assert_eq!(test.cases[0].expect, Expectation::Reject);
+}

@@ -52,8 +52,9 @@ pub struct TestArgs {
     #[arg(long, short = 'v')]
     pub verbose: bool,
 
-    /// List every case with the most probable tree of each accepted
-    /// sentence, written as `accept … as` takes it
+    /// List every case on one line that pastes back into a test block: an
+    /// accepted sentence as `accept "…" as (…)` with its most probable
+    /// tree, the probability in a trailing `# ok, p ≈ …` comment
     #[arg(long)]
     pub trees: bool,
 

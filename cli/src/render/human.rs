@@ -597,18 +597,30 @@ pub fn test_grammar(run: &GrammarRun, detail: TestDetail, color: bool) -> String
                     if !list_all {
                         continue;
                     }
+                    if detail.trees {
+                        // One line that pastes back into a test block as
+                        // it is: the case with the most probable tree (or
+                        // the expected one, which holds), the rest a comment.
+                        let mut line = format!("      {case}");
+                        if let (None, Some(best)) = (&case.tree, best) {
+                            line.push_str(&format!(" as {}", best.tree.to_brackets()));
+                        }
+                        line.push_str("  # ok");
+                        if let Some(best) = best {
+                            line.push_str(&format!(", p ≈ {:.6e}", best.probability));
+                        }
+                        if *tied {
+                            line.push_str(", holds by a tie: another tree is exactly as probable");
+                        }
+                        out.push_str(&line);
+                        out.push('\n');
+                        continue;
+                    }
                     out.push_str(&format!("      ok  {}\n", case));
                     if *tied {
                         out.push_str(
                             "          (holds by a tie: another tree is exactly as probable)\n",
                         );
-                    }
-                    if let (true, Some(best)) = (detail.trees, best) {
-                        out.push_str(&format!(
-                            "          as {}  (p ≈ {:.6e})\n",
-                            best.tree.to_brackets(),
-                            best.probability
-                        ));
                     }
                 }
                 CaseOutcome::Failed(failure) => {

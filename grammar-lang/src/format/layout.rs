@@ -400,6 +400,9 @@ impl<'a> Printer<'a> {
     }
 
     fn case(&self, case: &TestCase) -> String {
+        if self.src(case.span).contains('\n') {
+            return self.multi_line_case(case);
+        }
         let mut line = String::from(match case.expect {
             Expectation::Accept => "accept ",
             Expectation::Reject => "reject ",
@@ -410,6 +413,66 @@ impl<'a> Printer<'a> {
             self.tree(tree, &mut line);
         }
         line
+    }
+
+    /// A case whose expected tree spans several lines keeps its line
+    /// breaks: each line's parts are joined by single spaces (none inside
+    /// the brackets), a continuation line is indented one step deeper per
+    /// bracket open at its start (a line starting with `)` by one less),
+    /// blank lines are dropped and comments stay where they are. The
+    /// continuation lines carry the block's indentation too.
+    fn multi_line_case(&self, case: &TestCase) -> String {
+        let end = case.span.end as usize;
+        let first = self
+            .tokens
+            .partition_point(|t| (t.span.start as usize) < case.span.start as usize);
+        let mut out = String::new();
+        let mut line_empty = true;
+        let mut after_open = false;
+        let mut depth = 0usize;
+        for token in self.tokens[first..]
+            .iter()
+            .take_while(|t| (t.span.start as usize) < end)
+        {
+            match token.kind {
+                TokenKind::Whitespace => continue,
+                TokenKind::Newline => {
+                    if !line_empty {
+                        out.push('\n');
+                        line_empty = true;
+                    }
+                    continue;
+                }
+                _ => {}
+            }
+            let text = self.src(token.span).trim_end();
+            let comment = matches!(token.kind, TokenKind::Comment | TokenKind::DocComment);
+            if line_empty {
+                if !out.is_empty() {
+                    let steps =
+                        1 + depth - usize::from(token.kind == TokenKind::RParen && depth > 0);
+                    for _ in 0..steps {
+                        out.push_str(INDENT);
+                    }
+                }
+                line_empty = false;
+            } else if comment {
+                out.push_str(BEFORE_COMMENT);
+            } else if !after_open && token.kind != TokenKind::RParen {
+                out.push(' ');
+            }
+            out.push_str(text);
+            after_open = token.kind == TokenKind::LParen;
+            match token.kind {
+                TokenKind::LParen => depth += 1,
+                TokenKind::RParen => depth = depth.saturating_sub(1),
+                _ => {}
+            }
+        }
+        while out.ends_with('\n') {
+            out.pop();
+        }
+        out
     }
 
     fn tree(&self, tree: &TreeSyntax, out: &mut String) {
@@ -502,7 +565,7 @@ impl<'a> Printer<'a> {
                     BodyLine::Code {
                         code,
                         comment: Some(_),
-                    } => Some(code.chars().count()),
+                    } if !code.contains('\n') => Some(code.chars().count()),
                     _ => None,
                 })
                 .max()
@@ -512,7 +575,14 @@ impl<'a> Printer<'a> {
                     self.out.push_str(INDENT);
                     self.out.push_str(code);
                     if let Some(comment) = comment {
-                        for _ in code.chars().count()..column {
+                        // A case written on several lines is not aligned
+                        // with its neighbours.
+                        let width = if code.contains('\n') {
+                            column
+                        } else {
+                            code.chars().count()
+                        };
+                        for _ in width..column {
                             self.out.push(' ');
                         }
                         self.out.push_str(BEFORE_COMMENT);

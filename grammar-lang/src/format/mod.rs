@@ -27,7 +27,11 @@
 //!   laid out like any other block. An empty block is `Name {}`.
 //! * A `test` block has one case per line, indented by two spaces, with
 //!   single spaces between the parts (`accept "words" as (S (A "x") "y")`:
-//!   no space just inside brackets).
+//!   no space just inside brackets). An expected tree written on several
+//!   lines keeps its line breaks: each continuation line is indented one
+//!   step (two spaces) more than the case per bracket open at its start,
+//!   one step less when it starts with `)`; blank lines inside it are
+//!   dropped and comments stay where they are.
 //! * Comments: a comment at the end of a line stays at the end of that
 //!   line (after the alternative, declaration or brace it followed), two
 //!   spaces after the code; the trailing comments of a run of alternatives
@@ -43,8 +47,8 @@
 //!   file's first line is used throughout; a byte-order mark is kept.
 //! * The width (`FormatOptions::width`, `[format] width` in `trellis.toml`,
 //!   default 100, counted in characters) only decides whether a one-line
-//!   block stays on one line: alternatives, cases and trees cannot be
-//!   broken across lines in the language, so a long one stays long.
+//!   block stays on one line: alternatives, cases and trees are never
+//!   broken across lines, so a long one stays long.
 
 mod edits;
 mod layout;

@@ -403,14 +403,45 @@ fn file_parser<'a, Er: ParseError<'a>>(
         );
 
     // ── tests ───────────────────────────────────────────────────────────
+    // Inside a tree's brackets layout is free: newlines may come between
+    // any two of its parts. A bracket left open where the next case, the
+    // end of the block or the end of the file begins is reported once, at
+    // the bracket, and the tree ends there (its trailing newlines are left
+    // for the case to end on).
+    let newlines = just(T::Newline).repeated();
+    let case_follows = newlines
+        .ignore_then(choice((
+            just(T::KwAccept).ignored(),
+            just(T::KwReject).ignored(),
+            just(T::RBrace).ignored(),
+            end(),
+        )))
+        .rewind();
     let tree = recursive(|tree| {
         let child = choice((tree.map(TreeChild::Node), terminal.map(TreeChild::Leaf)));
-        name.then(child.repeated().collect::<Vec<_>>())
-            .delimited_by(just(T::LParen), just(T::RParen))
-            .map_with(|(label, children), e| TreeSyntax {
-                label,
-                children,
-                span: sp(e.span()),
+        let closing = choice((
+            newlines.ignore_then(just(T::RParen)).to(true),
+            case_follows.to(false),
+        ));
+        just(T::LParen)
+            .map_with(|_, e| e.span())
+            .then_ignore(newlines)
+            .then(name)
+            .then(newlines.ignore_then(child).repeated().collect::<Vec<_>>())
+            .then(closing)
+            .validate(|(((open, label), children), closed), e, emitter| {
+                if !closed {
+                    emitter.emit(custom(
+                        open,
+                        "this bracket of the expected tree is not closed",
+                        "add `)` where the tree ends",
+                    ));
+                }
+                TreeSyntax {
+                    label,
+                    children,
+                    span: sp(e.span()),
+                }
             })
     });
     let expectation = choice((
@@ -440,7 +471,14 @@ fn file_parser<'a, Er: ParseError<'a>>(
         .ignored()
         .or(end())
         .rewind();
-    let rest_of_case = none_of([T::Newline, T::RBrace])
+    // A case that cannot be read is skipped up to its end, taking along
+    // the lines that continue it: every line up to the next case, the end
+    // of the block or the next declaration.
+    let continuation = just(T::Newline)
+        .then(case_follows.not())
+        .then(newlines.then(next_decl.clone()).not())
+        .ignored();
+    let rest_of_case = choice((none_of([T::Newline, T::RBrace]).ignored(), continuation))
         .repeated()
         .at_least(1)
         .to(None);
