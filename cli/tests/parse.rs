@@ -137,3 +137,16 @@ fn the_human_format_is_the_default_and_text_still_names_it() {
     assert!(help.stdout.contains("human"), "{}", help.stdout);
     assert!(!help.stdout.contains("text:"), "{}", help.stdout);
 }
+
+#[test]
+fn kbest_zero_is_a_usage_error_not_silently_one() {
+    let dir = setup();
+    let run = trellis(
+        dir.path(),
+        &["parse", "g.trellis", "a day ticket", "--kbest", "0"],
+    );
+    assert_eq!(run.code, 2, "{}{}", run.stdout, run.stderr);
+    assert!(run.stdout.is_empty(), "{}", run.stdout);
+    assert!(run.stderr.contains("--kbest"), "{}", run.stderr);
+    assert!(run.stderr.contains("0"), "{}", run.stderr);
+}
