@@ -115,7 +115,8 @@ pub struct ConsistencyReport {
     /// Spectral radius of the expected-count matrix on reachable symbols.
     pub spectral_radius: f64,
     pub regime: Regime,
-    /// `1 −` the termination probability of the root.
+    /// `1 −` the termination probability of the root; exactly 0 when
+    /// `tight` (the solver's rounding is not a leak).
     pub leak: f64,
     /// Expected sentence length; `None` when infinite or not tight.
     pub expected_length: Option<f64>,
@@ -191,8 +192,11 @@ pub fn analyze_from(g: &Grammar, root: NtId) -> Result<ConsistencyReport, Consis
 
     let e = expected_counts(g, &model, root, &comps, &comp_of, &radius, &reachable);
 
-    let leak = (1.0 - x[root.index()]).max(0.0);
-    let tight = leak <= TIGHT_TOLERANCE;
+    let shortfall = (1.0 - x[root.index()]).max(0.0);
+    let tight = shortfall <= TIGHT_TOLERANCE;
+    // A tight grammar leaks nothing by definition: what is left of
+    // `shortfall` is the solver's rounding, not lost probability.
+    let leak = if tight { 0.0 } else { shortfall };
     let all_finite = (0..n).all(|a| !reachable[a] || e[a].is_some());
     let (expected_length, expected_derivation_size) = if tight && all_finite {
         let mut length = 0.0;
