@@ -22,9 +22,9 @@ fn ambiguous_sentence_lists_both_trees_with_their_probabilities() {
     );
     assert_eq!(run.code, 0, "{}", run.stderr);
     // Each tree: 1/2 · 1/2 · 1/3 = 1/12; together 1/6.
-    assert!(run.stdout.contains("p = 8.333333e-2"), "{}", run.stdout);
+    assert!(run.stdout.contains("p = 0.0833333"), "{}", run.stdout);
     assert!(
-        run.stdout.contains("P(sentence) = 1.666667e-1"),
+        run.stdout.contains("P(sentence) = 0.166667"),
         "{}",
         run.stdout
     );

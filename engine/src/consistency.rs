@@ -34,6 +34,7 @@
 //! `ρ ≥ 1`, and everything below it, has infinite expected counts.
 
 use crate::linalg::{perron_root, solve_in_place, SparseRows};
+use crate::numbers::probability;
 use crate::prob_model::ProbModel;
 use grammar_lang::diagnostic::{Code, Diagnostic, Location};
 use grammar_lang::model::{Grammar, NtId, Sym};
@@ -628,7 +629,7 @@ fn leak_sources(
     out
 }
 
-/// A probability for messages: four decimals, or two significant digits
+/// A growth rate for messages: four decimals, or two significant digits
 /// in scientific notation when small.
 fn show(p: f64) -> String {
     if p != 0.0 && p.abs() < 1e-3 {
@@ -662,11 +663,11 @@ pub fn leaky_diagnostic(g: &Grammar, report: &ConsistencyReport) -> Option<Diagn
         format!(
             "probability mass leaks: derivations from `{root_name}` end with probability {}, \
              so {} of the mass goes to derivations that never end",
-            show(finish),
-            show(report.leak),
+            probability(finish),
+            probability(report.leak),
         ),
     )
-    .with_label(format!("leaks {}", show(report.leak)));
+    .with_label(format!("leaks {}", probability(report.leak)));
     let mut growing = Vec::new();
     for source in &report.leak_sources {
         let names: Vec<String> = source
@@ -689,7 +690,7 @@ pub fn leaky_diagnostic(g: &Grammar, report: &ConsistencyReport) -> Option<Diagn
                     "{names} recurses too much: on average each use leads to {} more \
                      (derivations stay finite only below 1); it ends with probability {}",
                     show(growth),
-                    show(source.termination_probability)
+                    probability(source.termination_probability)
                 )
             }
         };

@@ -168,8 +168,8 @@ fn the_leaky_example_reports_its_leak_and_where_it_comes_from() {
     assert_eq!(d.code, Code::Leaky);
     assert_eq!(d.location.span.text(LEAKY), "S", "at the start declaration");
     assert_eq!(Some(d.location), g.start_location);
-    assert!(d.message.contains("0.4286"), "{}", d.message);
-    assert!(d.message.contains("0.5714"), "{}", d.message);
+    assert!(d.message.contains("0.428571"), "{}", d.message);
+    assert!(d.message.contains("0.571429"), "{}", d.message);
     assert_eq!(d.related.len(), 1);
     assert!(
         d.related[0].message.contains("`S`"),
