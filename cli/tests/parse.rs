@@ -22,9 +22,9 @@ fn ambiguous_sentence_lists_both_trees_with_their_probabilities() {
     );
     assert_eq!(run.code, 0, "{}", run.stderr);
     // Each tree: 1/2 · 1/2 · 1/3 = 1/12; together 1/6.
-    assert!(run.stdout.contains("p = 8.333333e-2"), "{}", run.stdout);
+    assert!(run.stdout.contains("p = 0.0833333"), "{}", run.stdout);
     assert!(
-        run.stdout.contains("P(sentence) = 1.666667e-1"),
+        run.stdout.contains("P(sentence) = 0.166667"),
         "{}",
         run.stdout
     );
@@ -136,4 +136,17 @@ fn the_human_format_is_the_default_and_text_still_names_it() {
     let help = trellis(dir.path(), &["parse", "--help"]);
     assert!(help.stdout.contains("human"), "{}", help.stdout);
     assert!(!help.stdout.contains("text:"), "{}", help.stdout);
+}
+
+#[test]
+fn kbest_zero_is_a_usage_error_not_silently_one() {
+    let dir = setup();
+    let run = trellis(
+        dir.path(),
+        &["parse", "g.trellis", "a day ticket", "--kbest", "0"],
+    );
+    assert_eq!(run.code, 2, "{}{}", run.stdout, run.stderr);
+    assert!(run.stdout.is_empty(), "{}", run.stdout);
+    assert!(run.stderr.contains("--kbest"), "{}", run.stderr);
+    assert!(run.stderr.contains("0"), "{}", run.stderr);
 }

@@ -196,3 +196,59 @@ fn the_human_format_is_the_default_and_text_still_names_it() {
         assert_eq!(run.stdout, default.stdout, "{name}");
     }
 }
+
+#[test]
+fn without_a_seed_the_seed_used_is_printed_and_draws_the_sample_again() {
+    let dir = setup(KIOSK);
+    let first = trellis(dir.path(), &["sample", "g.trellis", "-n", "20"]);
+    assert_eq!(first.code, 0, "{}", first.stderr);
+    let line = first.stderr.lines().next().unwrap_or_default();
+    let seed = line
+        .strip_prefix("seed: ")
+        .and_then(|rest| rest.split(' ').next())
+        .unwrap_or_else(|| panic!("no seed on standard error: {}", first.stderr));
+    assert_eq!(
+        line,
+        format!("seed: {seed} (draw this sample again with --seed {seed})")
+    );
+    // Standard output holds only the sentences.
+    assert_eq!(first.stdout.lines().count(), 20);
+    let again = trellis(
+        dir.path(),
+        &["sample", "g.trellis", "-n", "20", "--seed", seed],
+    );
+    assert_eq!(again.code, 0, "{}", again.stderr);
+    assert_eq!(again.stdout, first.stdout);
+    // A seed that was given is not repeated back.
+    assert_eq!(again.stderr, "");
+}
+
+#[test]
+fn without_a_seed_json_carries_the_seed_used() {
+    let dir = setup(KIOSK);
+    let first = trellis(
+        dir.path(),
+        &["sample", "g.trellis", "-n", "5", "--format", "json"],
+    );
+    assert_eq!(first.code, 0, "{}", first.stderr);
+    assert_eq!(first.stderr, "", "JSON mode keeps standard error quiet");
+    let v: Value = serde_json::from_str(&first.stdout).unwrap();
+    let seed = v["seed"]
+        .as_u64()
+        .expect("the document has the seed")
+        .to_string();
+    let again = trellis(
+        dir.path(),
+        &[
+            "sample",
+            "g.trellis",
+            "-n",
+            "5",
+            "--format",
+            "json",
+            "--seed",
+            &seed,
+        ],
+    );
+    assert_eq!(again.stdout, first.stdout);
+}

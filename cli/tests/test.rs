@@ -134,8 +134,8 @@ fn cases_printed_by_trees_paste_back_into_a_test_block_as_they_are() {
     assert_eq!(
         cases,
         [
-            r#"accept "a a single ticket" as (Request "a" (Ticket "a" (Kind "single") "ticket"))  # ok, p ≈ 8.333333e-2"#,
-            r#"accept "return ticket" as (Request (Ticket (Kind "return") "ticket"))  # ok, p ≈ 8.333333e-2"#,
+            r#"accept "a a single ticket" as (Request "a" (Ticket "a" (Kind "single") "ticket"))  # ok, p ≈ 0.0833333"#,
+            r#"accept "return ticket" as (Request (Ticket (Kind "return") "ticket"))  # ok, p ≈ 0.0833333"#,
             r#"reject "ticket ticket"  # ok"#,
         ],
         "{}",

@@ -34,6 +34,7 @@
 //! `ρ ≥ 1`, and everything below it, has infinite expected counts.
 
 use crate::linalg::{perron_root, solve_in_place, SparseRows};
+use crate::numbers::probability;
 use crate::prob_model::ProbModel;
 use grammar_lang::diagnostic::{Code, Diagnostic, Location};
 use grammar_lang::model::{Grammar, NtId, Sym};
@@ -115,7 +116,8 @@ pub struct ConsistencyReport {
     /// Spectral radius of the expected-count matrix on reachable symbols.
     pub spectral_radius: f64,
     pub regime: Regime,
-    /// `1 −` the termination probability of the root.
+    /// `1 −` the termination probability of the root; exactly 0 when
+    /// `tight` (the solver's rounding is not a leak).
     pub leak: f64,
     /// Expected sentence length; `None` when infinite or not tight.
     pub expected_length: Option<f64>,
@@ -191,8 +193,11 @@ pub fn analyze_from(g: &Grammar, root: NtId) -> Result<ConsistencyReport, Consis
 
     let e = expected_counts(g, &model, root, &comps, &comp_of, &radius, &reachable);
 
-    let leak = (1.0 - x[root.index()]).max(0.0);
-    let tight = leak <= TIGHT_TOLERANCE;
+    let shortfall = (1.0 - x[root.index()]).max(0.0);
+    let tight = shortfall <= TIGHT_TOLERANCE;
+    // A tight grammar leaks nothing by definition: what is left of
+    // `shortfall` is the solver's rounding, not lost probability.
+    let leak = if tight { 0.0 } else { shortfall };
     let all_finite = (0..n).all(|a| !reachable[a] || e[a].is_some());
     let (expected_length, expected_derivation_size) = if tight && all_finite {
         let mut length = 0.0;
@@ -624,7 +629,7 @@ fn leak_sources(
     out
 }
 
-/// A probability for messages: four decimals, or two significant digits
+/// A growth rate for messages: four decimals, or two significant digits
 /// in scientific notation when small.
 fn show(p: f64) -> String {
     if p != 0.0 && p.abs() < 1e-3 {
@@ -658,11 +663,11 @@ pub fn leaky_diagnostic(g: &Grammar, report: &ConsistencyReport) -> Option<Diagn
         format!(
             "probability mass leaks: derivations from `{root_name}` end with probability {}, \
              so {} of the mass goes to derivations that never end",
-            show(finish),
-            show(report.leak),
+            probability(finish),
+            probability(report.leak),
         ),
     )
-    .with_label(format!("leaks {}", show(report.leak)));
+    .with_label(format!("leaks {}", probability(report.leak)));
     let mut growing = Vec::new();
     for source in &report.leak_sources {
         let names: Vec<String> = source
@@ -685,7 +690,7 @@ pub fn leaky_diagnostic(g: &Grammar, report: &ConsistencyReport) -> Option<Diagn
                     "{names} recurses too much: on average each use leads to {} more \
                      (derivations stay finite only below 1); it ends with probability {}",
                     show(growth),
-                    show(source.termination_probability)
+                    probability(source.termination_probability)
                 )
             }
         };

@@ -133,7 +133,13 @@ impl Explanation {
             let cats: Vec<String> = f
                 .categories
                 .iter()
-                .map(|c| format!("{} (p ≈ {:.3e})", c.symbol, c.log_probability.exp()))
+                .map(|c| {
+                    format!(
+                        "{} (p ≈ {})",
+                        c.symbol,
+                        crate::numbers::probability(c.log_probability.exp())
+                    )
+                })
                 .collect();
             let (range, verb) = if f.end - f.start == 1 {
                 (format!("word {}", f.start + 1), "analyses")

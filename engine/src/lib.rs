@@ -7,6 +7,7 @@ pub mod count;
 pub mod explain;
 pub(crate) mod inside;
 pub(crate) mod kbest;
+pub mod numbers;
 pub mod parser;
 pub mod rng;
 pub mod sample;

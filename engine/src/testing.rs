@@ -335,9 +335,9 @@ fn probability_text(p: &Ratio) -> String {
     let exact = fraction(p);
     let float = to_f64(p);
     if exact.len() <= 24 {
-        format!("{exact} ≈ {float:.4e}")
+        format!("{exact} ≈ {}", crate::numbers::probability(float))
     } else {
-        format!("≈ {float:.4e}")
+        format!("≈ {}", crate::numbers::probability(float))
     }
 }
 
@@ -364,9 +364,9 @@ impl Failure {
             Failure::UnexpectedParse { best } => vec![
                 "expected no parse, but the sentence parses; its most probable tree:".to_string(),
                 format!(
-                    "{}  (p ≈ {:.4e})",
+                    "{}  (p ≈ {})",
                     best.tree.to_brackets(),
-                    best.probability
+                    crate::numbers::probability(best.probability)
                 ),
             ],
             Failure::OtherTree {

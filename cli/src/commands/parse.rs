@@ -41,8 +41,13 @@ pub struct ParseArgs {
     #[arg(long, short = 'i', value_name = "FILE", conflicts_with = "sentences")]
     pub input: Option<PathBuf>,
 
-    /// Also list the N most probable trees
-    #[arg(long, value_name = "N", default_value_t = 1)]
+    /// Also list the N most probable trees (N is at least 1)
+    #[arg(
+        long,
+        value_name = "N",
+        default_value_t = 1,
+        value_parser = clap::builder::RangedU64ValueParser::<usize>::new().range(1..)
+    )]
     pub kbest: usize,
 
     /// Refuse sentences whose chart would need more memory than this (MiB)

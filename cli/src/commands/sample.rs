@@ -12,10 +12,11 @@ use trellis_engine::sample::{SampleError, Sampler, DEFAULT_LIMIT};
 pub const LONG_ABOUT: &str = "Draw random sentences from a grammar.\n\n\
     Each sentence is built top-down from the start symbol (or --from), choosing \
     every rule with its probability. The same --seed always gives the same \
-    output, on every machine. A derivation that needs more than --max-rules \
-    rule applications is abandoned and counted: that happens when the grammar \
-    gives probability to derivations that never end (`trellis stats` says how \
-    much).\n\n\
+    output, on every machine; without --seed the seed used is printed on \
+    standard error (in JSON it is the document's `seed`). A derivation that \
+    needs more than --max-rules rule applications is abandoned and counted: \
+    that happens when the grammar gives probability to derivations that never \
+    end (`trellis stats` says how much).\n\n\
     Exit status: 0 when every draw produced a sentence; 1 when the grammar has \
     errors or some draws were abandoned; 2 when the file cannot be read, the \
     configuration is invalid or --from names no symbol.";
@@ -31,7 +32,8 @@ pub struct SampleArgs {
     #[arg(short = 'n', long = "count", value_name = "N", default_value_t = 10)]
     pub count: usize,
 
-    /// Seed of the random generator [default: taken from the clock]
+    /// Seed of the random generator [default: taken from the clock and
+    /// printed on standard error, or given as `seed` in JSON]
     #[arg(long, value_name = "S")]
     pub seed: Option<u64>,
 
@@ -74,6 +76,14 @@ pub fn run(args: &SampleArgs, term: Term) -> Ran {
         .and_then(|s| s.check(from).map(|()| s))
         .map_err(|e| fail(e, Outcome::Findings))?;
     let seed = args.seed.unwrap_or_else(clock_seed);
+    if args.seed.is_none() && args.format == Format::Human {
+        // Printed before the first draw, so even an interrupted run can be
+        // drawn again; JSON carries the seed in its document instead.
+        emit(
+            Stream::Stderr,
+            &format!("seed: {seed} (draw this sample again with --seed {seed})\n"),
+        );
+    }
     let mut rng = Xoshiro256StarStar::seed_from_u64(seed);
     // Human output is written as it is drawn (a corpus of millions of
     // sentences needs no memory), JSON is collected into one document.

@@ -13,6 +13,11 @@ use std::collections::HashMap;
 use std::fmt;
 use std::ops::Range;
 use trellis_engine::consistency::ConsistencyReport;
+/// The one way a probability is written for people, in every command
+/// (six significant digits, scientific notation only below 1e-4; README,
+/// "Numbers"). Defined in the engine so that its own messages (test
+/// failures, explanations of failed parses) use it too.
+pub use trellis_engine::numbers::{log_probability, probability};
 use trellis_engine::parser::{ParseError, ParseOutcome};
 use trellis_engine::testing::CaseOutcome;
 use trellis_ide::NotRunnable;
@@ -356,23 +361,24 @@ pub fn parse_report(sentence: &str, result: &Result<ParseOutcome, ParseError>) -
         Ok(o) => match &o.best {
             Some(best) => {
                 out.push_str(&format!(
-                    "  best tree (p = {:.6e}, log p = {:.4}):\n{}\n",
-                    best.probability,
-                    best.log_probability,
+                    "  best tree (p = {}, ln p = {}):\n{}\n",
+                    probability(best.probability),
+                    log_probability(best.log_probability),
                     best.tree.to_indented("    ")
                 ));
                 for (rank, t) in o.kbest.iter().enumerate().skip(1) {
                     out.push_str(&format!(
-                        "  tree {} (p = {:.6e}, log p = {:.4}):\n{}\n",
+                        "  tree {} (p = {}, ln p = {}):\n{}\n",
                         rank + 1,
-                        t.probability,
-                        t.log_probability,
+                        probability(t.probability),
+                        log_probability(t.log_probability),
                         t.tree.to_indented("    ")
                     ));
                 }
                 out.push_str(&format!(
-                    "  P(sentence) = {:.6e} (log {:.4})\n",
-                    o.sentence_probability, o.sentence_log_probability
+                    "  P(sentence) = {} (ln P = {})\n",
+                    probability(o.sentence_probability),
+                    log_probability(o.sentence_log_probability)
                 ));
                 if let Some(c) = &o.parse_count {
                     out.push_str(&format!("  trees: {c}\n"));
@@ -412,7 +418,7 @@ pub fn stats_table(name: &str, r: &ConsistencyReport) -> String {
         if r.tight {
             "yes".to_string()
         } else {
-            format!("no: {} of the probability is lost", num(r.leak))
+            format!("no: {} of the probability is lost", probability(r.leak))
         }
     ));
     out.push_str(&format!(
@@ -446,7 +452,7 @@ pub fn stats_table(name: &str, r: &ConsistencyReport) -> String {
         out.push_str(&format!(
             "  {:width$}  {:>12}  {:>14}\n",
             s.name,
-            num(s.termination_probability),
+            probability(s.termination_probability),
             s.expected_uses.map_or(infinite.to_string(), num)
         ));
     }
@@ -607,7 +613,7 @@ pub fn test_grammar(run: &GrammarRun, detail: TestDetail, color: bool) -> String
                         }
                         line.push_str("  # ok");
                         if let Some(best) = best {
-                            line.push_str(&format!(", p ≈ {:.6e}", best.probability));
+                            line.push_str(&format!(", p ≈ {}", probability(best.probability)));
                         }
                         if *tied {
                             line.push_str(", holds by a tie: another tree is exactly as probable");

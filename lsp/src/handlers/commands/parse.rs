@@ -85,7 +85,11 @@ fn summary(result: &ParseResult) -> String {
         .results
         .iter()
         .map(|r| match (&r.tree, r.probability) {
-            (Some(tree), Some(p)) => format!("{}: {tree}  p = {p:.6e}", r.sentence),
+            (Some(tree), Some(p)) => format!(
+                "{}: {tree}  p = {}",
+                r.sentence,
+                trellis_engine::numbers::probability(p)
+            ),
             _ => {
                 let why = r
                     .error
@@ -127,7 +131,7 @@ mod tests {
         };
         assert_eq!(
             summary(&result),
-            "ferries sail: (S (NP \"ferries\") (VP \"sail\"))  p = 2.250000e-1\n\
+            "ferries sail: (S (NP \"ferries\") (VP \"sail\"))  p = 0.225\n\
              sail ferries: no parse — no tree ends here\n\
              x: no parse — no parse"
         );
