@@ -71,11 +71,22 @@ fn add_leak_finding(analysis: &mut grammar_lang::Analysis, config: &Config) {
         return;
     };
     finding.severity = severity;
-    let at = analysis.diagnostics.partition_point(|d| {
-        (d.location.file, d.location.span.start)
-            <= (finding.location.file, finding.location.span.start)
-    });
-    analysis.diagnostics.insert(at, finding);
+    insert_in_order(&mut analysis.diagnostics, finding);
+}
+
+/// Inserts `finding` where the front end's order (file, start, end, code)
+/// puts it, after any finding with the same key.
+fn insert_in_order(diagnostics: &mut Vec<Diagnostic>, finding: Diagnostic) {
+    let key = |d: &Diagnostic| {
+        (
+            d.location.file,
+            d.location.span.start,
+            d.location.span.end,
+            d.code,
+        )
+    };
+    let at = diagnostics.partition_point(|d| key(d) <= key(&finding));
+    diagnostics.insert(at, finding);
 }
 
 /// Whether findings of `code` come from the engine's measurements rather
@@ -225,9 +236,11 @@ impl Analysis {
 
     /// Adds findings that come from beyond the analysis — from running the
     /// grammar's tests (`uncovered`, computed by the project layer) — so
-    /// that they are reported with the others.
+    /// that they are reported with the others, in the same order.
     pub fn add_findings(&mut self, findings: Vec<Diagnostic>) {
-        self.core.diagnostics.extend(findings);
+        for finding in findings {
+            insert_in_order(&mut self.core.diagnostics, finding);
+        }
     }
 
     /// The findings located in `file`, in order.

@@ -96,3 +96,19 @@ fn a_leak_made_an_error_does_not_stop_the_engine_from_running_the_grammar() {
     );
     assert!(analysis.runnable().is_err());
 }
+
+#[test]
+fn findings_added_later_take_their_place_in_file_order() {
+    // An unreachable block (warning, line 6) and a finding added after the
+    // analysis at the start of the file: the list stays ordered by place.
+    let text = "start S\nS {\n  0.7 S S\n  0.3 \"a\"\n}\nX { \"x\" }\n";
+    let mut analysis = analyze_text(text);
+    let at_start = grammar_lang::Diagnostic::new(
+        Code::Uncovered,
+        grammar_lang::Location::new(grammar_lang::FileId(0), grammar_lang::Span::new(8, 9)),
+        "added",
+    );
+    analysis.add_findings(vec![at_start]);
+    let codes: Vec<Code> = analysis.diagnostics.iter().map(|d| d.code).collect();
+    assert_eq!(codes, vec![Code::Leaky, Code::Uncovered, Code::Unreachable]);
+}
