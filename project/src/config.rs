@@ -382,6 +382,13 @@ impl Resolver {
         let dir = absolute(grammar)
             .parent()
             .map_or_else(|| PathBuf::from("/"), Path::to_path_buf);
+        self.for_dir(&dir)
+    }
+
+    /// The configuration for text that belongs in `dir` (standard input
+    /// formatted there, say), found as for a grammar file in `dir`.
+    pub fn for_dir(&mut self, dir: &Path) -> Result<Config, ConfigProblem> {
+        let dir = absolute(dir);
         let found = self
             .by_dir
             .entry(dir.clone())

@@ -3,9 +3,9 @@
 //! `trellis.toml` that governs it. Writing the result back is
 //! [`files::write_atomic`](crate::files::write_atomic).
 
-use crate::config::{self, ConfigProblem, Resolver};
+use crate::config::{ConfigProblem, Resolver};
 use crate::discover::discover;
-use crate::files::{read_text, DiskLoader};
+use crate::files::read_text;
 use grammar_lang::format::{format, FormatError, FormatOptions};
 use grammar_lang::{Diagnostic, SourceMap};
 use std::path::{Path, PathBuf};
@@ -83,10 +83,7 @@ pub fn format_paths(paths: &[PathBuf]) -> FormatRun {
 /// The formatting options for text that belongs to no file (standard
 /// input): those of the `trellis.toml` found from `dir` upwards.
 pub fn options_for_dir(dir: &Path) -> Result<FormatOptions, ConfigProblem> {
-    match config::find_from(dir) {
-        None => Ok(FormatOptions::default()),
-        Some(path) => Ok(config::load(&path, &path, &DiskLoader)?.format),
-    }
+    Ok(Resolver::new().for_dir(dir)?.format)
 }
 
 #[cfg(test)]
@@ -99,7 +96,11 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let narrow = dir.path().join("narrow");
         fs::create_dir_all(&narrow).unwrap();
-        fs::write(narrow.join(config::FILE_NAME), "[format]\nwidth = 20\n").unwrap();
+        fs::write(
+            narrow.join(crate::config::FILE_NAME),
+            "[format]\nwidth = 20\n",
+        )
+        .unwrap();
         let text = "K { \"return\" | \"single\" }\n";
         fs::write(dir.path().join("wide.trellis"), text).unwrap();
         fs::write(narrow.join("lexicon.trellis"), text).unwrap();
@@ -134,7 +135,11 @@ mod tests {
         );
         assert!(!run.files[0].changed());
 
-        fs::write(dir.path().join(config::FILE_NAME), "[format]\nwidth = -1\n").unwrap();
+        fs::write(
+            dir.path().join(crate::config::FILE_NAME),
+            "[format]\nwidth = -1\n",
+        )
+        .unwrap();
         let run = format_paths(&[dir.path().to_path_buf()]);
         assert!(run.files.is_empty());
         assert_eq!(run.problems.len(), 1);
