@@ -385,6 +385,18 @@ impl Resolver {
         self.for_dir(&dir)
     }
 
+    /// Every configuration file this resolver found unusable, once each,
+    /// in path order.
+    pub fn problems(&self) -> Vec<ConfigProblem> {
+        let mut problems: Vec<ConfigProblem> = self
+            .loaded
+            .values()
+            .filter_map(|r| r.as_ref().err().cloned())
+            .collect();
+        problems.sort_by(|a, b| a.path.cmp(&b.path));
+        problems
+    }
+
     /// The configuration for text that belongs in `dir` (standard input
     /// formatted there, say), found as for a grammar file in `dir`.
     pub fn for_dir(&mut self, dir: &Path) -> Result<Config, ConfigProblem> {

@@ -55,15 +55,12 @@ pub fn format_paths(paths: &[PathBuf]) -> FormatRun {
     let mut resolver = Resolver::new();
     let mut run = FormatRun::default();
     for root in roots {
-        let options = match resolver.for_grammar(&root.path) {
-            Ok(config) => config.format,
-            Err(problem) => {
-                if !run.problems.iter().any(|p| p.path == problem.path) {
-                    run.problems.push(problem);
-                }
-                continue;
-            }
+        // A file under an unusable trellis.toml is left alone; the
+        // problem is reported once below.
+        let Ok(config) = resolver.for_grammar(&root.path) else {
+            continue;
         };
+        let options = config.format;
         match read_text(&root.path) {
             Ok(original) => {
                 let result = format(&original, &options);
@@ -77,6 +74,7 @@ pub fn format_paths(paths: &[PathBuf]) -> FormatRun {
         }
     }
     run.failures = failures;
+    run.problems = resolver.problems();
     run
 }
 

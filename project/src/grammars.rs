@@ -163,18 +163,11 @@ pub fn analyse_paths(paths: &[PathBuf]) -> Result<Analysed, ConfigStop> {
 
     // Configuration first: with a broken trellis.toml, nothing is checked.
     let mut resolver = Resolver::new();
-    let mut configs = Vec::with_capacity(roots.len());
-    let mut problems: Vec<ConfigProblem> = Vec::new();
-    for root in &roots {
-        match resolver.for_grammar(&root.path) {
-            Ok(config) => configs.push(config),
-            Err(problem) => {
-                if !problems.iter().any(|p| p.path == problem.path) {
-                    problems.push(problem);
-                }
-            }
-        }
-    }
+    let configs: Vec<_> = roots
+        .iter()
+        .filter_map(|root| resolver.for_grammar(&root.path).ok())
+        .collect();
+    let problems = resolver.problems();
     if !problems.is_empty() {
         return Err(ConfigStop { problems, failures });
     }
