@@ -15,6 +15,7 @@
 pub mod config;
 pub mod coverage;
 pub mod discover;
+pub mod evaluate;
 pub mod files;
 pub mod format;
 pub mod grammars;
