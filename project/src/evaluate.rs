@@ -54,26 +54,30 @@ pub fn evaluate(
             (None, None) => break,
             (Some(Err(e)), _) => return Err(problem(gold, (e.line, e.column), e.message)),
             (_, Some(Err(e))) => return Err(problem(test, (e.line, e.column), e.message)),
-            (Some(Ok(_)), None) => return Err(problem(
-                test,
-                (test_trees.line().max(1), 1),
-                format!(
+            (Some(Ok(_)), None) => {
+                return Err(problem(
+                    test,
+                    (test_trees.line().max(1), 1),
+                    format!(
                     "it ends after {} trees, but {} has more (its tree {index} starts at line {})",
                     index - 1,
                     gold.display(),
                     gold_trees.tree_start().0
                 ),
-            )),
-            (None, Some(Ok(_))) => return Err(problem(
-                gold,
-                (gold_trees.line().max(1), 1),
-                format!(
+                ))
+            }
+            (None, Some(Ok(_))) => {
+                return Err(problem(
+                    gold,
+                    (gold_trees.line().max(1), 1),
+                    format!(
                     "it ends after {} trees, but {} has more (its tree {index} starts at line {})",
                     index - 1,
                     test.display(),
                     test_trees.tree_start().0
                 ),
-            )),
+                ))
+            }
             (Some(Ok(g)), Some(Ok(t))) => (g, t),
         };
         let score = score(&g, &t, options).map_err(|m| {
