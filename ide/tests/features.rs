@@ -443,6 +443,32 @@ fn hover_on_a_terminal_tables_the_rules_that_produce_it() {
 }
 
 #[test]
+fn hover_on_a_terminal_of_several_words_lists_its_words_and_their_producers() {
+    let (f, a) = analyse_clean(
+        r#"
+        start Fahrkarte
+        Fahrkarte {
+          1/2   [["$0einfache Fahrt"]]
+          1/2   "Fahrt"
+        }
+        "#,
+    );
+    let h = hover_at_cursor(&f, &a, None);
+    assert_eq!(h.span, spans::<1>(&f, "grammar.trellis")[0]);
+    assert_eq!(
+        h.markdown,
+        "**terminal** `\"einfache Fahrt\"`\n\
+         \n\
+         the sequence of 2 words `\"einfache\"` `\"Fahrt\"`: a sentence must have them one after the other\n\
+         \n\
+         | word | rules producing it |\n\
+         |---|---|\n\
+         | `\"einfache\"` | 1 |\n\
+         | `\"Fahrt\"` | 2 |\n"
+    );
+}
+
+#[test]
 fn hover_on_a_test_tree_word_that_no_rule_has_says_so() {
     let (f, a) = analyse(
         r#"
