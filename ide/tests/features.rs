@@ -1287,6 +1287,29 @@ fn document_highlights_mark_definitions_and_uses_of_a_non_terminal_in_one_file()
 }
 
 #[test]
+fn document_highlights_of_words_mark_the_same_words_however_spaced() {
+    use trellis_ide::Highlight;
+    let (f, a) = analyse(
+        r#"
+        start Fahrt
+        Fahrt { [["einfache $0Fahrt"]] | "Fahrt" }
+        test "t" { accept "einfache Fahrt" as (Fahrt [["einfache  Fahrt"]]) }
+                                                       ^^^^^^^^^^^^^^^^^ warning terminal-spacing
+        "#,
+    );
+    assert_diagnostics(&f, &a);
+    let (file, offset) = cursor(&f, &a);
+    let expected: Vec<Highlight> = spans::<2>(&f, "grammar.trellis")
+        .into_iter()
+        .map(|span| Highlight {
+            span,
+            definition: false,
+        })
+        .collect();
+    assert_eq!(a.document_highlights(file, offset), expected);
+}
+
+#[test]
 fn document_highlights_of_a_word_mark_the_same_quoted_word_everywhere_in_the_file() {
     use trellis_ide::Highlight;
     let (f, a) = analyse_clean(
