@@ -19,8 +19,7 @@
 
 use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::model::{
-    self, BlockInfo, Expectation, Grammar, GrammarTest, Ratio, Rule, Sym, TermId, TestCase,
-    Weight,
+    self, BlockInfo, Expectation, Grammar, GrammarTest, Ratio, Rule, Sym, TermId, TestCase, Weight,
 };
 use crate::source::{normalize, resolve_use, FileId, FileLoader, SourceMap};
 use crate::span::Span;

@@ -32,7 +32,8 @@ fn sides(text: &str, name: &str) -> Vec<Vec<String>> {
 
 #[test]
 fn a_terminal_with_a_space_is_the_sequence_of_its_words() {
-    let text = "start Order\nOrder {\n  \"fresh water\" Amount\n}\nAmount { \"one litre\" | \"two\" }\n";
+    let text =
+        "start Order\nOrder {\n  \"fresh water\" Amount\n}\nAmount { \"one litre\" | \"two\" }\n";
     check(text);
     assert_eq!(sides(text, "Order"), [["fresh", "water", "<Amount>"]]);
     assert_eq!(sides(text, "Amount"), [vec!["one", "litre"], vec!["two"]]);
@@ -118,7 +119,11 @@ fn spacing_other_than_single_spaces_between_words_is_a_terminal_spacing_warning(
     );
     let d = &a.diagnostics[0];
     assert_eq!(d.suggestion.as_deref(), Some("\"fresh water\""));
-    assert!(d.help.as_deref().unwrap().contains("write it as \"fresh water\""));
+    assert!(d
+        .help
+        .as_deref()
+        .unwrap()
+        .contains("write it as \"fresh water\""));
 }
 
 #[test]
@@ -264,7 +269,8 @@ fn the_level_of_unknown_word_can_be_set_for_reject_and_accept_alike() {
     config
         .levels
         .insert(Code::UnknownWord, Level::At(Severity::Error));
-    let text = "start S\nS { \"water\" }\ntest \"t\" {\n  accept \"watr\"\n  reject \"watter\"\n}\n";
+    let text =
+        "start S\nS { \"water\" }\ntest \"t\" {\n  accept \"watr\"\n  reject \"watter\"\n}\n";
     let a = grammar_lang::analyze(
         std::path::Path::new("g.trellis"),
         text,

@@ -687,7 +687,8 @@ fn a_name_with_nothing_close_gets_no_replacement() {
 /// text it gives. The fix replaces the word inside the quotes only.
 #[test]
 fn a_misspelt_word_of_a_test_is_replaced_by_the_suggested_one_as_the_preferred_fix() {
-    let grammar = "start Log\nLog { \"wind\" Dir }  # eine Zeile\nDir { \"nord\" | \"süd west\" }\n";
+    let grammar =
+        "start Log\nLog { \"wind\" Dir }  # eine Zeile\nDir { \"nord\" | \"süd west\" }\n";
     let cases = [
         (
             "test \"t\" {\n  accept \"wind [[nrod]]\"  # Tippfehler\n}\n",
@@ -743,7 +744,10 @@ fn a_badly_spaced_terminal_is_normalised_as_the_preferred_fix_without_changing_t
     let before = analyze_text(&text);
     let after = analyze_text(&fixed);
     // The other badly spaced terminal is still reported; this one is not.
-    assert_eq!(codes(&before), [Code::TerminalSpacing, Code::TerminalSpacing]);
+    assert_eq!(
+        codes(&before),
+        [Code::TerminalSpacing, Code::TerminalSpacing]
+    );
     assert_eq!(codes(&after), [Code::TerminalSpacing]);
     // The same rules: only the spelling changed.
     let rules = |a: &Analysis| -> Vec<String> {

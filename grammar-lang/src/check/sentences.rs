@@ -141,9 +141,9 @@ impl<'a> Checker<'a, '_> {
                 "if the word is a typo, write `{s}`; if it is unknown on purpose, the case \
                  only tests that unknown words are rejected"
             ),
-            Some(s) => format!(
-                "fix the word (perhaps `{s}`), or add a terminal with it to the grammar"
-            ),
+            Some(s) => {
+                format!("fix the word (perhaps `{s}`), or add a terminal with it to the grammar")
+            }
             None => "fix the word, or add a terminal with it to the grammar".to_string(),
         };
         // The replacement goes inside the quotes: escaped as in a string.
@@ -195,7 +195,10 @@ pub fn located_words(token: &str, start: usize) -> Vec<(String, Span)> {
         };
         if value.is_whitespace() {
             if !word.is_empty() {
-                out.push((std::mem::take(&mut word), Span::new(base + word_start, base + i)));
+                out.push((
+                    std::mem::take(&mut word),
+                    Span::new(base + word_start, base + i),
+                ));
             }
         } else {
             if word.is_empty() {
@@ -204,7 +207,10 @@ pub fn located_words(token: &str, start: usize) -> Vec<(String, Span)> {
             word.push(value);
             // The end is recorded when the word is closed; keep it here.
             if chars.peek().is_none() {
-                out.push((std::mem::take(&mut word), Span::new(base + word_start, base + end)));
+                out.push((
+                    std::mem::take(&mut word),
+                    Span::new(base + word_start, base + end),
+                ));
             }
         }
     }
