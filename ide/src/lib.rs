@@ -66,19 +66,21 @@ mod locate;
 mod lookup;
 mod navigation;
 mod numbers;
+mod run;
 mod structure;
 mod symbols;
 mod tokens;
 mod walk;
 
 pub use actions::{code_actions, CodeAction, CodeActionKind};
-pub use analysis::{analyze, analyze_text, Analysis, NotRunnable};
+pub use analysis::{analyze, analyze_text, Analysis};
 pub use completion::{completions, CompletionItem, CompletionKind, CompletionList};
 pub use formatting::formatting;
 pub use hints::{code_lenses, inlay_hints, CodeLens, CodeLensKind, InlayHint};
 pub use hover::{hover, EngineFacts, Hover};
 pub use lookup::{lookup, Lookup, NtRole};
 pub use navigation::{definition, prepare_rename, references, rename, RenameError};
+pub use run::{run_probability, NotRunnable, PlacedError, Run};
 pub use structure::{
     document_highlights, document_links, folding_ranges, DocumentLink, FoldKind, FoldingRange,
     Highlight,
