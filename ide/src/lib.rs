@@ -51,6 +51,7 @@
 //! | links on `use` paths | `document_links` | `Vec<DocumentLink>` |
 //! | highlight occurrences | `document_highlights` | `Vec<Highlight>` |
 //! | formatting (whole file or a range) | `formatting` | `Vec<TextEdit>`, or the syntax errors |
+//! | a grammar the engine may run | `run`, `run_tests` | [`Run`] (weights divided by their block sums, ignored errors), or [`NotRunnable`] naming the stopping errors |
 //!
 //! Each method calls the function of the same name in this crate, which
 //! takes the front end's `grammar_lang::Analysis` (and the index or the
