@@ -67,6 +67,7 @@ mod locate;
 mod lookup;
 mod navigation;
 mod numbers;
+pub mod picture;
 mod run;
 mod structure;
 mod symbols;
