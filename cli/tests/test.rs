@@ -214,7 +214,7 @@ fn a_grammar_with_errors_is_not_run_and_its_errors_are_shown() {
     assert!(run.stdout.contains("sum-not-one"), "{}", run.stdout);
     assert!(
         run.stdout
-            .contains("1 test not run: the grammar has 1 error, so it cannot be run; fix it first"),
+            .contains("1 test not run: the grammar has 1 error in what this run uses, so it cannot run; fix it first"),
         "{}",
         run.stdout
     );
