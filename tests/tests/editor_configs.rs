@@ -103,10 +103,7 @@ fn zed_extension_declares_the_grammar_the_language_and_its_server() {
     assert_eq!(extension["id"].as_str(), Some("trellis"));
     assert_eq!(extension["schema_version"].as_integer(), Some(1));
     let source = &extension["grammars"][grammar.as_str()];
-    assert_eq!(
-        source["path"].as_str(),
-        Some("editors/tree-sitter-trellis")
-    );
+    assert_eq!(source["path"].as_str(), Some("editors/tree-sitter-trellis"));
     assert!(source["repository"].as_str().is_some() && source["rev"].as_str().is_some());
     let server = &extension["language_servers"]["trellis"];
     assert_eq!(strings(server.get("languages")), ["trellis"]);
@@ -126,7 +123,10 @@ fn zed_extension_declares_the_grammar_the_language_and_its_server() {
     // The extension's code starts the server as `trellis lsp` unless the
     // user's settings say otherwise.
     let code = read("editors/zed/src/lib.rs");
-    assert!(code.contains(r#".which("trellis")"#), "looks trellis up on PATH");
+    assert!(
+        code.contains(r#".which("trellis")"#),
+        "looks trellis up on PATH"
+    );
     assert!(
         code.contains(r#"vec!["lsp".to_string()]"#),
         "passes `lsp` by default"
@@ -145,11 +145,27 @@ const CAPTURES: &[(&str, &str, &str)] = &[
     ("type", "type", "type"),
     ("number", "constant.numeric", "number"),
     ("string", "string", "string"),
-    ("string.escape", "constant.character.escape", "string.escape"),
+    (
+        "string.escape",
+        "constant.character.escape",
+        "string.escape",
+    ),
     ("comment", "comment.line", "comment"),
-    ("comment.documentation", "comment.line.documentation", "comment.doc"),
-    ("punctuation.bracket", "punctuation.bracket", "punctuation.bracket"),
-    ("punctuation.delimiter", "punctuation.delimiter", "punctuation.delimiter"),
+    (
+        "comment.documentation",
+        "comment.line.documentation",
+        "comment.doc",
+    ),
+    (
+        "punctuation.bracket",
+        "punctuation.bracket",
+        "punctuation.bracket",
+    ),
+    (
+        "punctuation.delimiter",
+        "punctuation.delimiter",
+        "punctuation.delimiter",
+    ),
 ];
 
 /// A query without its comment lines and surrounding blank lines.
@@ -186,9 +202,7 @@ fn renamed(query: &str, rename: impl Fn(&str) -> Option<&'static str>) -> String
 
 #[test]
 fn helix_and_zed_highlight_with_the_grammars_patterns_in_their_capture_names() {
-    let canonical = patterns(&read(
-        "editors/tree-sitter-trellis/queries/highlights.scm",
-    ));
+    let canonical = patterns(&read("editors/tree-sitter-trellis/queries/highlights.scm"));
     let helix = renamed(&canonical, |c| {
         CAPTURES.iter().find(|m| m.0 == c).map(|m| m.1)
     });

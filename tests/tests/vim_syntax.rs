@@ -59,7 +59,9 @@ fn editors() -> Vec<(&'static str, Vec<String>)> {
         } else if std::env::var_os("CI").is_some() {
             panic!("{program} is not installed, and CI must run the Vim syntax test (.ci/run installs it)");
         } else {
-            eprintln!("SKIPPED for {program}: not installed (apt-get install neovim vim); CI runs it");
+            eprintln!(
+                "SKIPPED for {program}: not installed (apt-get install neovim vim); CI runs it"
+            );
         }
     }
     found
@@ -107,14 +109,22 @@ const fn probe(line: &'static str, at: &'static str, group: &'static str) -> Pro
 /// Places in examples/ferry_kiosk.trellis, one or more for each kind of
 /// token the lexer (grammar-lang/src/syntax/lexer.rs) knows.
 const FERRY_KIOSK: &[Probe] = &[
-    probe("# The Skerrow Isles ferry kiosk", "Skerrow", "trellisComment"),
+    probe(
+        "# The Skerrow Isles ferry kiosk",
+        "Skerrow",
+        "trellisComment",
+    ),
     probe("grammar ferry_kiosk", "grammar", "trellisKeyword"),
     probe("grammar ferry_kiosk", "ferry_kiosk", "trellisGrammarName"),
     probe("start Request", "start", "trellisKeyword"),
     probe("start Request", "Request", "trellisSymbol"),
     probe("use \"ferry_lexicon.trellis\"", "use", "trellisInclude"),
     probe("use \"ferry_lexicon.trellis\"", "lexicon", "trellisString"),
-    probe("## Everything a traveller", "Everything", "trellisDocComment"),
+    probe(
+        "## Everything a traveller",
+        "Everything",
+        "trellisDocComment",
+    ),
     probe("Request {", "Request", "trellisDefinition"),
     probe("Request {", "{", "trellisBrace"),
     probe("0.45  Purchase", "0.45", "trellisWeight"),
@@ -123,19 +133,47 @@ const FERRY_KIOSK: &[Probe] = &[
     probe("8%    Cancellation", "8%", "trellisWeight"),
     probe("40%  \"hello\"", "hello", "trellisString"),
     probe("40%  \"hello\"", "\"", "trellisString"),
-    probe("0.25  CountOne Fare TicketSg     # a return", "#", "trellisComment"),
-    probe("0.25  CountOne Fare TicketSg     # a return", "TicketSg", "trellisSymbol"),
+    probe(
+        "0.25  CountOne Fare TicketSg     # a return",
+        "#",
+        "trellisComment",
+    ),
+    probe(
+        "0.25  CountOne Fare TicketSg     # a return",
+        "TicketSg",
+        "trellisSymbol",
+    ),
     // A keyword inside quotes is a word, and a comment may follow it.
     probe("\"start\" \"again\"", "start", "trellisString"),
     probe("\"start\" \"again\"", "keywords", "trellisComment"),
     probe("test \"buying tickets\" {", "test", "trellisKeyword"),
     probe("test \"buying tickets\" {", "buying", "trellisString"),
-    probe("accept \"two return tickets to tolsey\"", "accept", "trellisKeyword"),
+    probe(
+        "accept \"two return tickets to tolsey\"",
+        "accept",
+        "trellisKeyword",
+    ),
     probe("reject \"to tolsey\"", "reject", "trellisKeyword"),
-    probe("accept \"a single to tolsey please\" as", "as (", "trellisKeyword"),
-    probe("accept \"a single to tolsey please\" as", "(Request", "trellisBrace"),
-    probe("accept \"a single to tolsey please\" as", "Request", "trellisSymbol"),
-    probe("accept \"a single to tolsey please\" as", "tolsey\")", "trellisString"),
+    probe(
+        "accept \"a single to tolsey please\" as",
+        "as (",
+        "trellisKeyword",
+    ),
+    probe(
+        "accept \"a single to tolsey please\" as",
+        "(Request",
+        "trellisBrace",
+    ),
+    probe(
+        "accept \"a single to tolsey please\" as",
+        "Request",
+        "trellisSymbol",
+    ),
+    probe(
+        "accept \"a single to tolsey please\" as",
+        "tolsey\")",
+        "trellisString",
+    ),
 ];
 
 /// The 1-based line and byte column of a probe in `text`.
@@ -207,7 +245,8 @@ fn reindenting_flush_left_examples_in_vim_gives_back_their_canonical_layout() {
     }
     files.sort();
     assert!(files.len() >= 8, "the examples are found: {files:?}");
-    let script = "silent! %s/^\\s\\+//\nsilent normal! gg=G\ncall writefile(getline(1, '$'), g:out)";
+    let script =
+        "silent! %s/^\\s\\+//\nsilent normal! gg=G\ncall writefile(getline(1, '$'), g:out)";
     for (program, args) in editors() {
         for file in &files {
             let original = fs::read_to_string(file).unwrap();
