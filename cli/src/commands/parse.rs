@@ -61,6 +61,12 @@ pub struct ParseArgs {
     #[arg(long)]
     pub no_count: bool,
 
+    /// Print trees in the labels of the treebank a grammar was learned from
+    /// (`trellis learn`): binarization's intermediate symbols dissolved,
+    /// annotations dropped, labels unescaped
+    #[arg(long)]
+    pub treebank_labels: bool,
+
     /// Also draw each parsed sentence's tree as an SVG picture in FILE (with
     /// several sentences, FILE-1.svg, FILE-2.svg, …; with --kbest N the N
     /// trees side by side)
@@ -147,6 +153,14 @@ fn draw_pictures(
     Ok(())
 }
 
+/// Rewrites an outcome's trees in the labels of the treebank the grammar
+/// was learned from.
+fn to_treebank_labels(outcome: &mut ParseOutcome) {
+    for parsed in outcome.best.iter_mut().chain(outcome.kbest.iter_mut()) {
+        parsed.tree = trellis_treebank::debinarize(&parsed.tree);
+    }
+}
+
 /// Runs `trellis parse`.
 pub fn run(args: &ParseArgs, term: Term) -> Ran {
     let analysis = load_runnable(&args.grammar, "parse", term)?;
@@ -158,10 +172,15 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
         count_parses: !args.no_count,
         explain: true,
     };
-    let results: Vec<Result<ParseOutcome, ParseError>> = sentences
+    let mut results: Vec<Result<ParseOutcome, ParseError>> = sentences
         .par_iter()
         .map(|s| parser.parse_line(s, &options))
         .collect();
+    if args.treebank_labels {
+        for outcome in results.iter_mut().flatten() {
+            to_treebank_labels(outcome);
+        }
+    }
     let mut out = String::new();
     for (n, (sentence, result)) in sentences.iter().zip(&results).enumerate() {
         match args.format {
