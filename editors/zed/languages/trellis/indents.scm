@@ -1,0 +1,3 @@
+(block "}" @end) @indent
+(test_block "}" @end) @indent
+(tree ")" @end) @indent
