@@ -18,7 +18,7 @@ use trellis_engine::consistency::ConsistencyReport;
 /// "Numbers"). Defined in the engine so that its own messages (test
 /// failures, explanations of failed parses) use it too.
 pub use trellis_engine::numbers::{log_probability, probability};
-use trellis_engine::parser::{ParseError, ParseOutcome};
+use trellis_engine::parser::ParseOutcome;
 use trellis_engine::testing::CaseOutcome;
 use trellis_ide::NotRunnable;
 use trellis_project::test_run::{GrammarRun, Tally};
@@ -354,10 +354,10 @@ pub fn diagnostics(sources: &SourceMap, diagnostics: &[Diagnostic], color: bool)
 
 /// The report on one sentence: its best trees and probabilities, or why it
 /// has no parse.
-pub fn parse_report(sentence: &str, result: &Result<ParseOutcome, ParseError>) -> String {
+pub fn parse_report(sentence: &str, result: &Result<ParseOutcome, String>) -> String {
     let mut out = format!("sentence: {sentence}\n");
     match result {
-        Err(e) => out.push_str(&format!("  error: {e}\n")),
+        Err(e) => out.push_str(&format!("  not analysed: {e}\n")),
         Ok(o) => match &o.best {
             Some(best) => {
                 out.push_str(&format!(

@@ -16,7 +16,7 @@ use serde::Serialize;
 use trellis_engine::consistency::ConsistencyReport;
 use trellis_engine::count::Count;
 use trellis_engine::explain::Explanation;
-use trellis_engine::parser::{ParseError, ParseOutcome, ParsedTree};
+use trellis_engine::parser::{ParseOutcome, ParsedTree};
 use trellis_engine::testing::CaseOutcome;
 use trellis_ide::NotRunnable;
 use trellis_project::test_run::{GrammarRun, Tally};
@@ -164,8 +164,11 @@ pub struct ParseDocument<'a> {
     best: Option<JsonTree>,
     #[serde(skip_serializing_if = "Vec::is_empty")]
     kbest: Vec<JsonTree>,
-    sentence_probability: f64,
-    /// `null` when the sentence does not parse (the log of 0).
+    /// `null` when the sentence was not analysed (refused or stopped):
+    /// its probability is unknown, not 0.
+    sentence_probability: Option<f64>,
+    /// `null` when the sentence does not parse (the log of 0) or was not
+    /// analysed.
     sentence_log_probability: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     parse_count: Option<String>,
@@ -291,7 +294,7 @@ fn count_text(c: &Count) -> String {
 /// (asked for with `--kbest` above 1).
 pub fn parse_document<'a>(
     sentence: &'a str,
-    result: &'a Result<ParseOutcome, ParseError>,
+    result: &'a Result<ParseOutcome, String>,
     kbest: bool,
 ) -> ParseDocument<'a> {
     match result {
@@ -304,7 +307,7 @@ pub fn parse_document<'a>(
             } else {
                 Vec::new()
             },
-            sentence_probability: o.sentence_probability,
+            sentence_probability: Some(o.sentence_probability),
             sentence_log_probability: o
                 .sentence_log_probability
                 .is_finite()
@@ -318,11 +321,11 @@ pub fn parse_document<'a>(
             parsed: false,
             best: None,
             kbest: Vec::new(),
-            sentence_probability: 0.0,
+            sentence_probability: None,
             sentence_log_probability: None,
             parse_count: None,
             explanation: None,
-            error: Some(e.to_string()),
+            error: Some(e.clone()),
         },
     }
 }
