@@ -12,7 +12,7 @@ use grammar_lang::{Diagnostic, FileId, Severity, SourceMap};
 use std::collections::HashMap;
 use std::fmt;
 use std::ops::Range;
-use trellis_engine::consistency::ConsistencyReport;
+use trellis_engine::consistency::{ConsistencyReport, Verdict};
 /// The one way a probability is written for people, in every command
 /// (six significant digits, scientific notation only below 1e-4; README,
 /// "Numbers"). Defined in the engine so that its own messages (test
@@ -413,14 +413,22 @@ pub fn stats_table(name: &str, r: &ConsistencyReport) -> String {
     let mut out = String::new();
     let infinite = "infinite";
     out.push_str(&format!("derivations from {name}\n"));
-    out.push_str(&format!(
-        "  tight                     {}\n",
+    out.push_str(&format!("  tight                     {}\n", {
+        let how = match r.verdict {
+            Verdict::Exact => "decided exactly".to_string(),
+            Verdict::Numerical { tolerance } => {
+                format!("decided numerically, within {tolerance:e}")
+            }
+        };
         if r.tight {
-            "yes".to_string()
+            format!("yes ({how})")
         } else {
-            format!("no: {} of the probability is lost", probability(r.leak))
+            format!(
+                "no: {} of the probability is lost ({how})",
+                probability(r.leak)
+            )
         }
-    ));
+    }));
     out.push_str(&format!(
         "  spectral radius           {} ({})\n",
         num(r.spectral_radius),

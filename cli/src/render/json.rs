@@ -13,7 +13,7 @@ use crate::output::{emit, Stream};
 use grammar_lang::model::TestCase;
 use grammar_lang::{Diagnostic, FileId, Severity, SourceMap, Span};
 use serde::Serialize;
-use trellis_engine::consistency::ConsistencyReport;
+use trellis_engine::consistency::{ConsistencyReport, Verdict};
 use trellis_engine::count::Count;
 use trellis_engine::explain::Explanation;
 use trellis_engine::parser::{ParseOutcome, ParsedTree};
@@ -375,6 +375,11 @@ pub fn sample_document<'a>(
 pub struct StatsDocument<'a> {
     from: &'a str,
     tight: bool,
+    /// How `tight` and `regime` were decided: `exact` or `numerical`.
+    verdict: &'static str,
+    /// The numerical verdict's tolerance on the termination probability;
+    /// `null` for an exact verdict.
+    tolerance: Option<f64>,
     spectral_radius: f64,
     regime: &'static str,
     leak: f64,
@@ -405,6 +410,11 @@ pub fn stats_document<'a>(
     StatsDocument {
         from,
         tight: report.tight,
+        verdict: report.verdict.as_str(),
+        tolerance: match report.verdict {
+            Verdict::Exact => None,
+            Verdict::Numerical { tolerance } => Some(tolerance),
+        },
         spectral_radius: report.spectral_radius,
         regime: report.regime.as_str(),
         leak: report.leak,
