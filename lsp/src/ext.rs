@@ -15,7 +15,9 @@
 //!   or every test of the grammar; counts are of cases.
 //!
 //! Every command refuses a grammar with errors (the diagnostics say what to
-//! fix) and stops between sentences when the request is cancelled. With
+//! fix) and stops when the request is cancelled, inside a sentence's parse
+//! too. Parses are bounded by the `[editor]` settings of trellis.toml
+//! (`parse-seconds`, `parse-chart-mib`, `parse-max-kbest`). With
 //! `show: true` (what the code lenses send, since no one reads a lens
 //! command's result) the server also shows the outcome to the user with
 //! `window/showMessage`.
