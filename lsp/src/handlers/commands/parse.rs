@@ -9,7 +9,8 @@ use crate::server::Backend;
 use std::time::{Duration, Instant};
 use tower_lsp::jsonrpc;
 use tower_lsp::lsp_types::MessageType;
-use trellis_engine::parser::{ParseError, ParseOptions, ParseOutcome};
+use trellis_engine::parser::{ParseError, ParseOptions, ParseOutcome, ParsedTree};
+use trellis_ide::picture::{tree_picture, Surface};
 use trellis_project::EditorLimits;
 
 pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<ParseResult> {
@@ -45,6 +46,7 @@ pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<Pa
         max_chart_bytes: limits.parse_chart_mib.saturating_mul(1 << 20),
         ..ParseOptions::default()
     };
+    let picture = params.picture;
     let cancel = CancelFlag::default();
     let guard = cancel.guard();
     // The work outlives a cancelled request; it reports in the log.
@@ -57,6 +59,7 @@ pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<Pa
     let outcome = backend
         .run("parsing", move || {
             let parser = target.analysis().parser().map_err(|e| e.to_string())?;
+            let grammar = target.analysis().runnable().map_err(|e| e.to_string())?;
             let total = sentences.len();
             log(format!(
                 "trellis.parse: parsing {total} sentence{} (at most {} s and {} MiB each)",
@@ -94,7 +97,13 @@ pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<Pa
                         parsed: false,
                         ..SentenceParse::default()
                     },
-                    Ok(out) => sentence_parse(sentence, &out),
+                    Ok(out) => {
+                        let mut parse = sentence_parse(sentence, &out);
+                        if picture {
+                            parse.picture = picture_of(grammar, &parse.sentence, &out);
+                        }
+                        parse
+                    }
                 });
             }
             Ok(Some(ParseResult { results }))
@@ -126,6 +135,21 @@ fn error_text(e: &ParseError, limits: &EditorLimits) -> String {
     }
 }
 
+/// The picture of a parsed sentence's trees (the k best when more than one
+/// was asked for), drawn for a webview.
+fn picture_of(
+    grammar: &grammar_lang::Grammar,
+    sentence: &str,
+    out: &ParseOutcome,
+) -> Option<String> {
+    let trees: Vec<ParsedTree> = if out.kbest.len() > 1 {
+        out.kbest.clone()
+    } else {
+        out.best.iter().cloned().collect()
+    };
+    (!trees.is_empty()).then(|| tree_picture(grammar, sentence, &trees, Surface::Inline))
+}
+
 fn sentence_parse(sentence: String, out: &ParseOutcome) -> SentenceParse {
     let best = out.best.as_ref();
     SentenceParse {
@@ -146,6 +170,7 @@ fn sentence_parse(sentence: String, out: &ParseOutcome) -> SentenceParse {
             .collect(),
         explanation: out.explanation.as_ref().map(|e| e.to_string()),
         error: None,
+        picture: None,
     }
 }
 
