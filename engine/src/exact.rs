@@ -196,12 +196,14 @@ fn compare_radius_with_one(m: &[Vec<Ratio>]) -> Option<Ordering> {
                 continue;
             }
             let f = &a[row][col] / &pivot;
-            for j in col..k {
-                let v = &a[row][j] - &(&f * &a[col][j]);
-                if too_big(&v) {
+            let (above, below) = a.split_at_mut(row);
+            let source = &above[col];
+            for (target, v) in below[0][col..].iter_mut().zip(&source[col..]) {
+                let next = &*target - &(&f * v);
+                if too_big(&next) {
                     return None;
                 }
-                a[row][j] = v;
+                *target = next;
             }
         }
     }
