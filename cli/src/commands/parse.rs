@@ -72,6 +72,12 @@ pub struct ParseArgs {
     #[arg(long)]
     pub no_count: bool,
 
+    /// Print trees in the labels of the treebank a grammar was learned from
+    /// (`trellis learn`): binarization's intermediate symbols dissolved,
+    /// annotations dropped, labels unescaped
+    #[arg(long)]
+    pub treebank_labels: bool,
+
     /// Also draw each parsed sentence's tree as an SVG picture in FILE (with
     /// several sentences, FILE-1.svg, FILE-2.svg, …; with --kbest N the N
     /// trees side by side)
@@ -158,6 +164,14 @@ fn draw_pictures(
     Ok(())
 }
 
+/// Rewrites an outcome's trees in the labels of the treebank the grammar
+/// was learned from.
+fn to_treebank_labels(outcome: &mut ParseOutcome) {
+    for parsed in outcome.best.iter_mut().chain(outcome.kbest.iter_mut()) {
+        parsed.tree = trellis_treebank::debinarize(&parsed.tree);
+    }
+}
+
 /// Runs `trellis parse`.
 pub fn run(args: &ParseArgs, term: Term) -> Ran {
     let analysis = load_runnable(&args.grammar, "parse", term)?;
@@ -173,7 +187,7 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
         max_chart_mib: args.max_chart_mib,
         max_seconds: args.max_seconds,
     };
-    let results: Vec<Result<ParseOutcome, String>> = sentences
+    let mut results: Vec<Result<ParseOutcome, String>> = sentences
         .par_iter()
         .map(|s| {
             // Each sentence's clock starts when its parse does.
@@ -184,6 +198,11 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
                 .map_err(|e: ParseError| parse_error_text(&e, &limits))
         })
         .collect();
+    if args.treebank_labels {
+        for outcome in results.iter_mut().flatten() {
+            to_treebank_labels(outcome);
+        }
+    }
     let mut out = String::new();
     for (n, (sentence, result)) in sentences.iter().zip(&results).enumerate() {
         match args.format {
