@@ -203,3 +203,64 @@ pub fn fail(message: impl std::fmt::Display, outcome: Outcome) -> Stop {
     emit(Stream::Stderr, &format!("error: {message}\n"));
     Stop(outcome)
 }
+
+/// The budgets of one parse as the command line sets them, for the
+/// messages that name the options.
+#[derive(Clone, Copy, Debug)]
+pub struct ParseLimits {
+    pub max_chart_mib: u64,
+    pub max_seconds: Option<f64>,
+}
+
+/// When a parse started under [`ParseLimits::max_seconds`] must stop.
+#[derive(Clone, Copy, Debug)]
+pub struct Deadline(Option<std::time::Instant>);
+
+impl Deadline {
+    /// Whether the time is up (never, without a budget).
+    pub fn passed(&self) -> bool {
+        self.0.is_some_and(|at| std::time::Instant::now() >= at)
+    }
+}
+
+impl ParseLimits {
+    /// The deadline of a parse starting now.
+    pub fn deadline(&self) -> Deadline {
+        Deadline(self.max_seconds.and_then(|s| {
+            std::time::Instant::now().checked_add(std::time::Duration::try_from_secs_f64(s).ok()?)
+        }))
+    }
+}
+
+/// Why a sentence was not analysed, with the option to change.
+pub fn parse_error_text(e: &trellis_engine::parser::ParseError, limits: &ParseLimits) -> String {
+    use trellis_engine::parser::ParseError;
+    let what = e.refusal();
+    let mib = limits.max_chart_mib;
+    match e {
+        ParseError::EmptySentence => what,
+        ParseError::ChartTooLarge { .. } => format!(
+            "{what}; split the input into shorter sentences or raise --max-chart-mib (now {mib})"
+        ),
+        ParseError::KbestTooLarge { fits, .. } => {
+            format!("{what}; ask for --kbest {fits} or fewer, or raise --max-chart-mib (now {mib})")
+        }
+        ParseError::Stopped => match limits.max_seconds {
+            Some(s) => format!(
+                "{what}: it took longer than --max-seconds {s}; raise it or split the input \
+                 into shorter sentences"
+            ),
+            None => what,
+        },
+    }
+}
+
+/// A number of seconds for a time budget: positive and finite.
+pub fn seconds(text: &str) -> Result<f64, String> {
+    match text.trim().parse::<f64>() {
+        Ok(s) if s > 0.0 && s.is_finite() && std::time::Duration::try_from_secs_f64(s).is_ok() => {
+            Ok(s)
+        }
+        _ => Err(format!("`{text}` is not a number of seconds above 0")),
+    }
+}

@@ -150,3 +150,153 @@ fn kbest_zero_is_a_usage_error_not_silently_one() {
     assert!(run.stderr.contains("--kbest"), "{}", run.stderr);
     assert!(run.stderr.contains("0"), "{}", run.stderr);
 }
+
+/// `S → S S (0.4) | "a" (0.6)`: a sentence of n words has Catalan(n − 1)
+/// trees, so its chart passes do work in every cell.
+const AMBIGUOUS: &str = "start S\nS { 0.4 S S | 0.6 \"a\" }\n";
+
+fn ambiguous() -> tempfile::TempDir {
+    let dir = tempfile::tempdir().unwrap();
+    fs::write(dir.path().join("s.trellis"), AMBIGUOUS).unwrap();
+    dir
+}
+
+#[test]
+fn a_chart_refused_for_its_kbest_lists_names_kbest_not_the_sentence_length() {
+    let dir = setup();
+    let args = [
+        "parse",
+        "g.trellis",
+        "a day ticket",
+        "--kbest",
+        "100000",
+        "--max-chart-mib",
+        "1",
+    ];
+    let run = trellis(dir.path(), &args);
+    assert_eq!(run.code, 1, "{}", run.stderr);
+    let text = &run.stdout;
+    assert!(
+        text.contains("not analysed: keeping the 100000 most probable trees"),
+        "{text}"
+    );
+    assert!(
+        text.contains("or fewer, or raise --max-chart-mib (now 1)"),
+        "{text}"
+    );
+    assert!(text.contains("ask for --kbest "), "{text}");
+    assert!(!text.contains("did not parse"), "{text}");
+    assert!(!text.contains("shorter"), "{text}");
+    assert!(!text.contains("no parse"), "{text}");
+    // The number of trees it names does fit.
+    let fits: String = text
+        .split("ask for --kbest ")
+        .nth(1)
+        .unwrap()
+        .chars()
+        .take_while(char::is_ascii_digit)
+        .collect();
+    let mut fitting = args.to_vec();
+    fitting[4] = &fits;
+    let run = trellis(dir.path(), &fitting);
+    assert_eq!(run.code, 0, "--kbest {fits}: {}{}", run.stdout, run.stderr);
+}
+
+#[test]
+fn a_refused_sentence_has_a_null_probability_in_json_not_zero() {
+    let dir = setup();
+    let run = trellis(
+        dir.path(),
+        &[
+            "parse",
+            "g.trellis",
+            "a day ticket",
+            "--kbest",
+            "100000",
+            "--max-chart-mib",
+            "1",
+            "--format",
+            "json",
+        ],
+    );
+    assert_eq!(run.code, 1, "{}", run.stderr);
+    let doc: Value = serde_json::from_str(run.stdout.trim()).unwrap();
+    assert_eq!(doc["parsed"], false);
+    assert!(doc["sentence_probability"].is_null(), "{doc}");
+    assert!(doc["sentence_log_probability"].is_null(), "{doc}");
+    let error = doc["error"].as_str().unwrap();
+    assert!(
+        error.contains("--kbest") && error.contains("--max-chart-mib"),
+        "{error}"
+    );
+    // A sentence that does not parse still has probability 0 (it is known).
+    let run = trellis(
+        dir.path(),
+        &["parse", "g.trellis", "ticket day", "--format", "json"],
+    );
+    let doc: Value = serde_json::from_str(run.stdout.trim()).unwrap();
+    assert_eq!(doc["sentence_probability"], 0.0);
+}
+
+#[test]
+fn max_seconds_stops_a_long_parse_and_says_which_option_stopped_it() {
+    let dir = ambiguous();
+    let sentence = vec!["a"; 300].join(" ");
+    // A nanosecond: the parse of 300 words cannot finish within it (its
+    // chart alone is 45,150 cells).
+    let run = trellis(
+        dir.path(),
+        &[
+            "parse",
+            "s.trellis",
+            &sentence,
+            "--max-seconds",
+            "0.000000001",
+        ],
+    );
+    assert_eq!(run.code, 1, "{}", run.stderr);
+    assert!(
+        run.stdout.contains(
+            "not analysed: the parse was stopped before it finished: it took longer than \
+             --max-seconds 0.000000001"
+        ),
+        "{}",
+        run.stdout
+    );
+    let run = trellis(
+        dir.path(),
+        &[
+            "parse",
+            "s.trellis",
+            &sentence,
+            "--max-seconds",
+            "1e-9",
+            "--format",
+            "brackets",
+        ],
+    );
+    assert_eq!(run.code, 1);
+    assert_eq!(run.stdout, "\n");
+    assert!(
+        run.stderr.contains("sentence 1: the parse was stopped"),
+        "{}",
+        run.stderr
+    );
+    assert!(
+        run.stderr.contains("1 of 1 was not analysed"),
+        "{}",
+        run.stderr
+    );
+    for bad in ["0", "-0.5", "soon", "inf"] {
+        let run = trellis(
+            dir.path(),
+            &["parse", "s.trellis", "a", &format!("--max-seconds={bad}")],
+        );
+        assert_eq!(run.code, 2, "{bad}");
+        assert!(
+            run.stderr.contains("is not a number of seconds above 0"),
+            "{}",
+            run.stderr
+        );
+    }
+}

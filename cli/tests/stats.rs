@@ -99,3 +99,33 @@ fn the_human_table_lists_reachable_symbols() {
         "{out}"
     );
 }
+
+#[test]
+fn near_critical_grammars_get_exact_verdicts_and_say_so() {
+    // S → S S (p) | "a" (1 − p) is tight exactly when p ≤ 1/2 and ends with
+    // probability (1 − p)/p above it (Galton–Watson extinction probability,
+    // Harris 1963, recalled from memory): p = 0.4999999999 is tight and
+    // subcritical; p = 0.5000000001 leaks 2e-10/p ≈ 4e-10.
+    let below = "start S\nS { 0.4999999999 S S | 0.5000000001 \"a\" }\n";
+    let (code, out, err) = stats(below, &[]);
+    assert_eq!(code, 0, "{out}{err}");
+    assert!(
+        out.contains("tight                     yes (decided exactly)"),
+        "{out}"
+    );
+    assert!(out.contains("(subcritical)"), "{out}");
+    let (code, out, _) = stats(below, &["--format", "json"]);
+    assert_eq!(code, 0);
+    let doc: Value = serde_json::from_str(&out).unwrap();
+    assert_eq!(doc["verdict"], "exact");
+    assert!(doc["tolerance"].is_null());
+    assert_eq!(doc["leak"], 0.0);
+    let above = "start S\nS { 0.5000000001 S S | 0.4999999999 \"a\" }\n";
+    let (code, out, _) = stats(above, &[]);
+    assert_eq!(code, 1, "{out}");
+    assert!(
+        out.contains("no: 4e-10 of the probability is lost (decided exactly)"),
+        "{out}"
+    );
+    assert!(out.contains("(supercritical)"), "{out}");
+}

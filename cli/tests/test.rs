@@ -256,3 +256,27 @@ fn a_missing_path_is_a_usage_error() {
         run.stderr
     );
 }
+
+#[test]
+fn max_seconds_fails_a_case_whose_parse_runs_longer() {
+    let dir = tempfile::tempdir().unwrap();
+    let sentence = vec!["a"; 300].join(" ");
+    // S → S S | "a": 300 words have Catalan(299) trees and a chart of
+    // 45,150 cells, which no parse fills within a nanosecond.
+    fs::write(
+        dir.path().join("s.trellis"),
+        format!("start S\nS {{ 0.4 S S | 0.6 \"a\" }}\ntest \"long\" {{\n  accept \"{sentence}\"\n  accept \"a a\"\n}}\n"),
+    )
+    .unwrap();
+    let run = trellis(dir.path(), &["test", "s.trellis", "--max-seconds", "1e-9"]);
+    assert_eq!(run.code, 1, "{}{}", run.stdout, run.stderr);
+    assert!(
+        run.stdout
+            .contains("the sentence cannot be analysed: the parse was stopped before it finished"),
+        "{}",
+        run.stdout
+    );
+    // Without the budget the same cases hold.
+    let run = trellis(dir.path(), &["test", "s.trellis"]);
+    assert_eq!(run.code, 0, "{}{}", run.stdout, run.stderr);
+}

@@ -33,6 +33,28 @@ impl Layout {
     }
 }
 
+/// The chart passes give up when this says so: the caller's stop condition,
+/// asked once per chart cell (so a long sentence can be stopped within one
+/// cell's work, whichever pass is running).
+#[derive(Clone, Copy)]
+pub(crate) struct Watch<'a>(pub &'a dyn Fn() -> bool);
+
+/// A pass was stopped by its [`Watch`] before it finished.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub(crate) struct Stopped;
+
+impl Watch<'_> {
+    /// `Err(Stopped)` when the stop condition holds.
+    #[inline]
+    pub fn check(&self) -> Result<(), Stopped> {
+        if (self.0)() {
+            Err(Stopped)
+        } else {
+            Ok(())
+        }
+    }
+}
+
 /// `ln(e^a + e^b)` without overflow; `-inf` is the zero.
 #[inline]
 pub(crate) fn log_add(a: f64, b: f64) -> f64 {

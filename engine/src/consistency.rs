@@ -33,12 +33,14 @@
 //! solved component by component from the root downwards; a component with
 //! `ρ ≥ 1`, and everything below it, has infinite expected counts.
 
+use crate::exact;
 use crate::linalg::{perron_root, solve_in_place, SparseRows};
 use crate::numbers::probability;
 use crate::prob_model::ProbModel;
 use grammar_lang::diagnostic::{Code, Diagnostic, Location};
 use grammar_lang::model::{Grammar, NtId, Sym};
 use grammar_lang::scc::all_components;
+use std::cmp::Ordering;
 use std::fmt;
 
 /// A grammar whose start symbol terminates with probability within this of
@@ -65,6 +67,25 @@ impl Regime {
             Regime::Subcritical => "subcritical",
             Regime::Critical => "critical",
             Regime::Supercritical => "supercritical",
+        }
+    }
+}
+
+/// How the verdicts (tight, regime) were reached.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Verdict {
+    /// In exact rational arithmetic (see `exact`): small grammars.
+    Exact,
+    /// In floating point: tight within `tolerance` of probability 1,
+    /// critical within [`CRITICAL_TOLERANCE`] of radius 1.
+    Numerical { tolerance: f64 },
+}
+
+impl Verdict {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Verdict::Exact => "exact",
+            Verdict::Numerical { .. } => "numerical",
         }
     }
 }
@@ -111,8 +132,11 @@ pub struct LeakSource {
 pub struct ConsistencyReport {
     /// The symbol the report is about (the grammar's `start` by default).
     pub root: NtId,
-    /// The root terminates with probability 1 (within [`TIGHT_TOLERANCE`]).
+    /// The root terminates with probability 1: exactly, or within
+    /// [`TIGHT_TOLERANCE`] (see `verdict`).
     pub tight: bool,
+    /// Whether `tight` and `regime` were decided exactly.
+    pub verdict: Verdict,
     /// Spectral radius of the expected-count matrix on reachable symbols.
     pub spectral_radius: f64,
     pub regime: Regime,
@@ -182,22 +206,105 @@ pub fn analyze_from(g: &Grammar, root: NtId) -> Result<ConsistencyReport, Consis
             radius[c] = perron_root(&component_matrix(g, &model, comp, &comp_of, c));
         }
     }
-    let spectral_radius = radius.iter().copied().fold(0.0, f64::max);
-    let regime = if spectral_radius < 1.0 - CRITICAL_TOLERANCE {
-        Regime::Subcritical
-    } else if spectral_radius > 1.0 + CRITICAL_TOLERANCE {
-        Regime::Supercritical
-    } else {
-        Regime::Critical
+    let mut spectral_radius = radius.iter().copied().fold(0.0, f64::max);
+    let exact = exact::decide(g, &model, &comps, &comp_of, &reachable);
+    // Per component: `ρ` compared with 1, exactly where possible.
+    let radius_vs_one: Vec<Ordering> = match &exact {
+        Some(v) => v.radius_vs_one.clone(),
+        None => radius
+            .iter()
+            .map(|&r| {
+                if r < 1.0 - CRITICAL_TOLERANCE {
+                    Ordering::Less
+                } else if r > 1.0 + CRITICAL_TOLERANCE {
+                    Ordering::Greater
+                } else {
+                    Ordering::Equal
+                }
+            })
+            .collect(),
     };
+    let worst = comps
+        .iter()
+        .zip(&radius_vs_one)
+        .filter(|(comp, _)| reachable[comp[0] as usize])
+        .map(|(_, &o)| o)
+        .max()
+        .unwrap_or(Ordering::Less);
+    let regime = match worst {
+        Ordering::Less => Regime::Subcritical,
+        Ordering::Equal => Regime::Critical,
+        Ordering::Greater => Regime::Supercritical,
+    };
+    if exact.is_some() {
+        // The printed radius agrees with the exact regime.
+        spectral_radius = match regime {
+            Regime::Critical => 1.0,
+            Regime::Subcritical => spectral_radius.min(1.0 - f64::EPSILON / 2.0),
+            Regime::Supercritical => spectral_radius.max(1.0 + f64::EPSILON),
+        };
+    }
+    let unbounded: Vec<bool> = radius_vs_one.iter().map(|&o| o != Ordering::Less).collect();
 
-    let e = expected_counts(g, &model, root, &comps, &comp_of, &radius, &reachable);
+    let e = expected_counts(g, &model, root, &comps, &comp_of, &unbounded, &reachable);
 
-    let shortfall = (1.0 - x[root.index()]).max(0.0);
-    let tight = shortfall <= TIGHT_TOLERANCE;
-    // A tight grammar leaks nothing by definition: what is left of
-    // `shortfall` is the solver's rounding, not lost probability.
-    let leak = if tight { 0.0 } else { shortfall };
+    // Termination: exact verdicts, and the survival probability refined
+    // where a symbol does not end surely; or the numerical solution.
+    let (x, tight, leak, leaking, verdict) = match &exact {
+        Some(v) => {
+            let mut x = x;
+            let sure = |a: usize| v.sure[comp_of[a]];
+            let fixed: Vec<Option<f64>> = (0..n)
+                .map(|a| {
+                    if sure(a) {
+                        Some(0.0)
+                    } else if !model.productive[a] {
+                        Some(1.0)
+                    } else {
+                        None
+                    }
+                })
+                .collect();
+            let vars: Vec<NtId> = (0..n)
+                .filter(|&a| reachable[a] && fixed[a].is_none())
+                .map(|a| NtId(a as u32))
+                .collect();
+            let start: Vec<f64> = x.iter().map(|xa| 1.0 - xa).collect();
+            let y = exact::refine_survival(g, &model, &vars, &fixed, &start);
+            let mut survival = vec![0.0f64; n];
+            for (a, ya) in vars.iter().zip(&y) {
+                survival[a.index()] = *ya;
+                x[a.index()] = 1.0 - ya;
+            }
+            for (a, xa) in x.iter_mut().enumerate() {
+                if reachable[a] && sure(a) {
+                    *xa = 1.0;
+                }
+            }
+            let tight = sure(root.index());
+            let leak = if tight {
+                0.0
+            } else if fixed[root.index()].is_some() {
+                1.0 - x[root.index()]
+            } else {
+                survival[root.index()]
+            };
+            let leaking: Vec<bool> = (0..n).map(|a| !sure(a)).collect();
+            (x, tight, leak, leaking, Verdict::Exact)
+        }
+        None => {
+            let shortfall = (1.0 - x[root.index()]).max(0.0);
+            let tight = shortfall <= TIGHT_TOLERANCE;
+            // A tight grammar leaks nothing by definition: what is left of
+            // `shortfall` is the solver's rounding, not lost probability.
+            let leak = if tight { 0.0 } else { shortfall };
+            let leaking: Vec<bool> = x.iter().map(|&xa| xa < 1.0 - TIGHT_TOLERANCE).collect();
+            let verdict = Verdict::Numerical {
+                tolerance: TIGHT_TOLERANCE,
+            };
+            (x, tight, leak, leaking, verdict)
+        }
+    };
     let all_finite = (0..n).all(|a| !reachable[a] || e[a].is_some());
     let (expected_length, expected_derivation_size) = if tight && all_finite {
         let mut length = 0.0;
@@ -248,12 +355,21 @@ pub fn analyze_from(g: &Grammar, root: NtId) -> Result<ConsistencyReport, Consis
     let leak_sources = if tight {
         Vec::new()
     } else {
-        leak_sources(g, &model, &x, &comps, &comp_of, &radius, &reachable)
+        let places = Places {
+            comps: &comps,
+            comp_of: &comp_of,
+            radius: &radius,
+            radius_vs_one: &radius_vs_one,
+            reachable: &reachable,
+            leaking: &leaking,
+        };
+        leak_sources(g, &model, &x, &places)
     };
 
     Ok(ConsistencyReport {
         root,
         tight,
+        verdict,
         spectral_radius,
         regime,
         leak,
@@ -509,7 +625,7 @@ fn expected_counts(
     root: NtId,
     comps: &[Vec<u32>],
     comp_of: &[usize],
-    radius: &[f64],
+    unbounded: &[bool],
     reachable: &[bool],
 ) -> Vec<Option<f64>> {
     let n = g.nonterminals.len();
@@ -523,8 +639,7 @@ fn expected_counts(
             continue;
         }
         let k = comp.len();
-        let infinite = radius[c] >= 1.0 - CRITICAL_TOLERANCE
-            || comp.iter().any(|&a| infinite_inflow[a as usize]);
+        let infinite = unbounded[c] || comp.iter().any(|&a| infinite_inflow[a as usize]);
         if infinite {
             for &a in comp {
                 e[a as usize] = None;
@@ -580,16 +695,27 @@ fn expected_counts(
 /// termination probability below 1 whose own successors all terminate
 /// (the mass is lost here, not further down), plus supercritical
 /// components, which lose mass of their own whatever lies below them.
-fn leak_sources(
-    g: &Grammar,
-    model: &ProbModel,
-    x: &[f64],
-    comps: &[Vec<u32>],
-    comp_of: &[usize],
-    radius: &[f64],
-    reachable: &[bool],
-) -> Vec<LeakSource> {
-    let leaks = |a: u32| x[a as usize] < 1.0 - TIGHT_TOLERANCE;
+/// The components and what is known of each, for [`leak_sources`].
+struct Places<'a> {
+    comps: &'a [Vec<u32>],
+    comp_of: &'a [usize],
+    radius: &'a [f64],
+    radius_vs_one: &'a [Ordering],
+    reachable: &'a [bool],
+    /// Per symbol: terminates with probability below 1.
+    leaking: &'a [bool],
+}
+
+fn leak_sources(g: &Grammar, model: &ProbModel, x: &[f64], at: &Places) -> Vec<LeakSource> {
+    let Places {
+        comps,
+        comp_of,
+        radius,
+        radius_vs_one,
+        reachable,
+        leaking,
+    } = at;
+    let leaks = |a: u32| leaking[a as usize];
     let mut out = Vec::new();
     for (c, comp) in comps.iter().enumerate() {
         if !reachable[comp[0] as usize] || !comp.iter().any(|&a| leaks(a)) {
@@ -600,7 +726,7 @@ fn leak_sources(
                 .iter()
                 .any(|&b| comp_of[b as usize] != c && leaks(b))
         });
-        let supercritical = radius[c] > 1.0 + CRITICAL_TOLERANCE;
+        let supercritical = radius_vs_one[c] == Ordering::Greater;
         if below_leaks && !supercritical {
             continue;
         }
@@ -715,7 +841,11 @@ pub fn leaky_diagnostic(g: &Grammar, report: &ConsistencyReport) -> Option<Diagn
 pub fn leak_finding(g: &Grammar) -> Option<Diagnostic> {
     let root = g.start.filter(|r| r.index() < g.nonterminals.len())?;
     let x = solve_termination(g, &ProbModel::new(g));
-    if (1.0 - x[root.index()]).max(0.0) <= TIGHT_TOLERANCE {
+    // Numerically tight: a large grammar is taken at its word; a small one
+    // is decided exactly (a leak below the tolerance is still a leak).
+    if (1.0 - x[root.index()]).max(0.0) <= TIGHT_TOLERANCE
+        && g.nonterminals.len() > exact::MAX_SYMBOLS
+    {
         return None;
     }
     let report = analyze_from(g, root).ok()?;

@@ -1,6 +1,7 @@
 //! Exact parse counts: big integers, or infinity when a unary cycle can be
 //! repeated inside a parse.
 
+use crate::chart::{Stopped, Watch};
 use crate::compile::CompiledGrammar;
 use crate::viterbi::ViterbiChart;
 use num_bigint::BigUint;
@@ -90,9 +91,15 @@ impl fmt::Display for Count {
 }
 
 /// Counts the derivations of every chart item bottom-up; returns the count
-/// of the start symbol over the whole sentence.
+/// of the start symbol over the whole sentence. `watch` is asked once per
+/// cell.
 #[allow(clippy::needless_range_loop)] // cells are addressed by (i, j)
-pub(crate) fn count_parses(g: &CompiledGrammar, words: &[&str], vit: &ViterbiChart) -> Count {
+pub(crate) fn count_parses(
+    g: &CompiledGrammar,
+    words: &[&str],
+    vit: &ViterbiChart,
+    watch: Watch,
+) -> Result<Count, Stopped> {
     let layout = vit.layout;
     let n_sym = layout.n_sym;
     let mut counts: Vec<Count> = vec![Count::zero(); layout.cells() * n_sym];
@@ -101,6 +108,7 @@ pub(crate) fn count_parses(g: &CompiledGrammar, words: &[&str], vit: &ViterbiCha
         for i in 0..=layout.n - len {
             let j = i + len;
             let c = layout.cell(i, j);
+            watch.check()?;
             for x in pre.iter_mut() {
                 if !x.is_zero() {
                     *x = Count::zero();
@@ -148,7 +156,7 @@ pub(crate) fn count_parses(g: &CompiledGrammar, words: &[&str], vit: &ViterbiCha
         }
     }
     let root = layout.cell(0, layout.n);
-    counts[root * n_sym + g.start as usize].clone()
+    Ok(counts[root * n_sym + g.start as usize].clone())
 }
 
 #[cfg(test)]

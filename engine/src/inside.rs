@@ -9,7 +9,7 @@
 //! best one, or a grammar with a rule below `e^−RANGE`), that split is
 //! combined with exact log-sum-exp instead. Both paths meet in log space.
 
-use crate::chart::{kernels, log_add, Layout};
+use crate::chart::{kernels, log_add, Layout, Stopped, Watch};
 use crate::compile::{CompiledGrammar, Visit};
 use crate::viterbi::ViterbiChart;
 
@@ -30,8 +30,13 @@ impl InsideChart {
 
 /// Fills the inside chart; `vit` provides the symbols present in each cell
 /// (a symbol has a positive inside probability exactly where it has a best
-/// derivation).
-pub(crate) fn fill(g: &CompiledGrammar, words: &[&str], vit: &ViterbiChart) -> InsideChart {
+/// derivation). `watch` is asked once per cell.
+pub(crate) fn fill(
+    g: &CompiledGrammar,
+    words: &[&str],
+    vit: &ViterbiChart,
+    watch: Watch,
+) -> Result<InsideChart, Stopped> {
     let layout = vit.layout;
     let n_sym = layout.n_sym;
     let cells = layout.cells();
@@ -48,6 +53,7 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str], vit: &ViterbiChart) -> I
         for i in 0..=layout.n - len {
             let j = i + len;
             let c = layout.cell(i, j);
+            watch.check()?;
             acc.fill(0.0);
             acc_log.fill(f64::NEG_INFINITY);
             let mut scale = f64::NEG_INFINITY;
@@ -172,5 +178,5 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str], vit: &ViterbiChart) -> I
             }
         }
     }
-    InsideChart { layout, log }
+    Ok(InsideChart { layout, log })
 }

@@ -16,7 +16,7 @@
 //! non-increasing order, so each list is exact, and unary cycles (probability
 //! below 1) are followed only as long as they still make the top k.
 
-use crate::chart::Layout;
+use crate::chart::{Layout, Stopped, Watch};
 use crate::compile::CompiledGrammar;
 use crate::viterbi::{Deriv, ViterbiChart};
 use std::cmp::Ordering;
@@ -64,14 +64,16 @@ impl<T> Ord for Ranked<T> {
 }
 
 /// Returns up to `k` best derivations of the start symbol over the whole
-/// sentence with their log-probabilities, best first.
+/// sentence with their log-probabilities, best first. `watch` is asked once
+/// per cell.
 #[allow(clippy::needless_range_loop)] // cells are addressed by (i, j)
 pub(crate) fn kbest(
     g: &CompiledGrammar,
     words: &[&str],
     vit: &ViterbiChart,
     k: usize,
-) -> Vec<(Deriv, f64)> {
+    watch: Watch,
+) -> Result<Vec<(Deriv, f64)>, Stopped> {
     let layout = vit.layout;
     let n_sym = layout.n_sym;
     let mut pre: Vec<Vec<(f64, PreStep)>> = vec![Vec::new(); layout.cells() * n_sym];
@@ -80,6 +82,7 @@ pub(crate) fn kbest(
         for i in 0..=layout.n - len {
             let j = i + len;
             let c = layout.cell(i, j);
+            watch.check()?;
             for &a in vit.present(c) {
                 let list = if len == 1 {
                     let mut list: Vec<(f64, PreStep)> = g
@@ -103,12 +106,12 @@ pub(crate) fn kbest(
         }
     }
     let root = layout.cell(0, layout.n) * n_sym + g.start as usize;
-    (0..post[root].len())
+    Ok((0..post[root].len())
         .filter_map(|rank| {
             let d = build(g, &layout, &pre, &post, 0, layout.n, g.start, rank)?;
             Some((d, post[root][rank].0))
         })
-        .collect()
+        .collect())
 }
 
 type PostLists = Vec<Vec<(f64, PostStep)>>;

@@ -4,6 +4,7 @@ pub(crate) mod chart;
 pub mod compile;
 pub mod consistency;
 pub mod count;
+pub mod exact;
 pub mod explain;
 pub(crate) mod inside;
 pub(crate) mod kbest;

@@ -17,6 +17,7 @@
 //! assert_eq!(outcome.best.unwrap().tree.to_brackets(), r#"(S "hello")"#);
 //! ```
 
+use crate::chart::{Stopped, Watch};
 use crate::compile::{CompileError, CompiledGrammar};
 use crate::count::{count_parses, Count};
 use crate::explain::{explain, Explanation};
@@ -96,28 +97,78 @@ pub enum ParseError {
         needed_bytes: u64,
         limit_bytes: u64,
     },
+    /// The chart itself fits, but the lists of the `kbest` most probable
+    /// trees it would keep per item do not; `fits` trees (at least 1) would.
+    KbestTooLarge {
+        words: usize,
+        kbest: usize,
+        needed_bytes: u64,
+        limit_bytes: u64,
+        fits: usize,
+    },
+    /// The caller's stop condition held before the parse finished.
+    Stopped,
 }
 
-impl fmt::Display for ParseError {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+impl ParseError {
+    /// What was refused or stopped, without the advice on what to change
+    /// (each shell names its own option for that).
+    pub fn refusal(&self) -> String {
+        let mib = |bytes: u64| bytes.div_ceil(1 << 20);
         match self {
-            ParseError::EmptySentence => f.write_str("the sentence is empty: there is nothing to parse"),
+            ParseError::EmptySentence => "the sentence is empty: there is nothing to parse".into(),
             ParseError::ChartTooLarge {
                 words,
                 needed_bytes,
                 limit_bytes,
-            } => write!(
-                f,
-                "a sentence of {words} words needs a chart of about {} MiB, more than the limit of {} MiB; \
-                 split the input into shorter sentences or raise the limit",
-                needed_bytes.div_ceil(1 << 20),
+            } => format!(
+                "a sentence of {words} words needs a chart of about {} MiB, more than the limit of {} MiB",
+                mib(*needed_bytes),
                 limit_bytes / (1 << 20)
             ),
+            ParseError::KbestTooLarge {
+                words,
+                kbest,
+                needed_bytes,
+                limit_bytes,
+                fits,
+            } => format!(
+                "keeping the {kbest} most probable trees of every chart item of a sentence of \
+                 {words} words needs about {} MiB, more than the limit of {} MiB; the sentence \
+                 itself fits, and so do {fits} tree{}",
+                mib(*needed_bytes),
+                limit_bytes / (1 << 20),
+                if *fits == 1 { "" } else { "s" }
+            ),
+            ParseError::Stopped => "the parse was stopped before it finished".into(),
+        }
+    }
+}
+
+impl fmt::Display for ParseError {
+    /// [`ParseError::refusal`] with advice in general terms.
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        f.write_str(&self.refusal())?;
+        match self {
+            ParseError::EmptySentence => Ok(()),
+            ParseError::ChartTooLarge { .. } => {
+                f.write_str("; split the input into shorter sentences or raise the limit")
+            }
+            ParseError::KbestTooLarge { fits, .. } => {
+                write!(f, "; ask for at most {fits} trees or raise the limit")
+            }
+            ParseError::Stopped => f.write_str(" (it ran out of time or was cancelled)"),
         }
     }
 }
 
 impl std::error::Error for ParseError {}
+
+impl From<Stopped> for ParseError {
+    fn from(_: Stopped) -> ParseError {
+        ParseError::Stopped
+    }
+}
 
 /// A grammar compiled for parsing. Cheap to share between threads.
 #[derive(Clone, Debug)]
@@ -164,10 +215,25 @@ impl Parser {
         words: &[S],
         options: &ParseOptions,
     ) -> Result<ParseOutcome, ParseError> {
+        self.parse_until(words, options, &|| false)
+    }
+
+    /// [`Parser::parse`], giving up with [`ParseError::Stopped`] as soon as
+    /// `stop` returns true. Every chart pass (Viterbi, inside, count,
+    /// k-best) asks `stop` once per chart cell, so a long sentence stops
+    /// within one cell's work of the request (a cancelled editor request,
+    /// a time budget).
+    pub fn parse_until<S: AsRef<str>>(
+        &self,
+        words: &[S],
+        options: &ParseOptions,
+        stop: &dyn Fn() -> bool,
+    ) -> Result<ParseOutcome, ParseError> {
         let words = self.check_size(words, options)?;
+        let watch = Watch(stop);
         let g = &self.grammar;
         let n = words.len();
-        let vit = viterbi::fill(g, &words);
+        let vit = viterbi::fill(g, &words, watch)?;
         let root_score = vit.get(0, n, g.start);
         if root_score == f64::NEG_INFINITY {
             return Ok(ParseOutcome {
@@ -181,22 +247,27 @@ impl Parser {
         }
         let best =
             best_derivation(g, &vit, &words, 0, n, g.start).map(|d| self.tree_of(&words, &d));
-        let ins = inside::fill(g, &words, &vit);
+        let ins = inside::fill(g, &words, &vit, watch)?;
         let sentence_log_probability = ins.get(0, n, g.start);
         let kbest = match options.kbest {
             0 => Vec::new(),
             1 => best.iter().cloned().collect(),
-            k => kbest::kbest(g, &words, &vit, k)
+            k => kbest::kbest(g, &words, &vit, k, watch)?
                 .into_iter()
                 .map(|(d, _)| self.tree_of(&words, &d))
                 .collect(),
+        };
+        let parse_count = if options.count_parses {
+            Some(count_parses(g, &words, &vit, watch)?)
+        } else {
+            None
         };
         Ok(ParseOutcome {
             best,
             kbest,
             sentence_probability: sentence_log_probability.exp(),
             sentence_log_probability,
-            parse_count: options.count_parses.then(|| count_parses(g, &words, &vit)),
+            parse_count,
             explanation: None,
         })
     }
@@ -208,6 +279,16 @@ impl Parser {
         words: &[S],
         max_chart_bytes: u64,
     ) -> Result<Option<ParsedTree>, ParseError> {
+        self.best_tree_until(words, max_chart_bytes, &|| false)
+    }
+
+    /// [`Parser::best_tree`], stopped as [`Parser::parse_until`] is.
+    pub fn best_tree_until<S: AsRef<str>>(
+        &self,
+        words: &[S],
+        max_chart_bytes: u64,
+        stop: &dyn Fn() -> bool,
+    ) -> Result<Option<ParsedTree>, ParseError> {
         let options = ParseOptions {
             kbest: 1,
             max_chart_bytes,
@@ -216,7 +297,7 @@ impl Parser {
         };
         let words = self.check_size(words, &options)?;
         let g = &self.grammar;
-        let vit = viterbi::fill(g, &words);
+        let vit = viterbi::fill(g, &words, Watch(stop))?;
         Ok(best_derivation(g, &vit, &words, 0, words.len(), g.start)
             .map(|d| self.tree_of(&words, &d)))
     }
@@ -237,7 +318,7 @@ impl Parser {
         };
         let words = self.check_size(words, &options)?;
         let g = &self.grammar;
-        let vit = viterbi::fill(g, &words);
+        let vit = viterbi::fill(g, &words, Watch(&|| false))?;
         let layout = vit.layout;
         let mut evals = 0u64;
         for len in 2..=layout.n {
@@ -267,10 +348,38 @@ impl Parser {
         }
         let needed = self.chart_bytes(words.len(), options);
         if needed > options.max_chart_bytes {
-            return Err(ParseError::ChartTooLarge {
+            let fewest = ParseOptions {
+                kbest: options.kbest.min(1),
+                ..options.clone()
+            };
+            if self.chart_bytes(words.len(), &fewest) > options.max_chart_bytes {
+                return Err(ParseError::ChartTooLarge {
+                    words: words.len(),
+                    needed_bytes: needed,
+                    limit_bytes: options.max_chart_bytes,
+                });
+            }
+            // The k-best lists are what does not fit: find the most trees
+            // that do (the size grows with k, so bisect).
+            let (mut fits, mut over) = (1usize, options.kbest);
+            while over - fits > 1 {
+                let mid = fits + (over - fits) / 2;
+                let trial = ParseOptions {
+                    kbest: mid,
+                    ..options.clone()
+                };
+                if self.chart_bytes(words.len(), &trial) <= options.max_chart_bytes {
+                    fits = mid;
+                } else {
+                    over = mid;
+                }
+            }
+            return Err(ParseError::KbestTooLarge {
                 words: words.len(),
+                kbest: options.kbest,
                 needed_bytes: needed,
                 limit_bytes: options.max_chart_bytes,
+                fits,
             });
         }
         Ok(words.iter().map(|w| w.as_ref()).collect())

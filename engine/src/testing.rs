@@ -118,8 +118,20 @@ pub fn run_case(
     case: &TestCase,
     max_chart_bytes: u64,
 ) -> CaseOutcome {
+    run_case_until(parser, grammar, case, max_chart_bytes, &|| false)
+}
+
+/// [`run_case`], giving up as [`Parser::parse_until`] does when `stop`
+/// says so: the case then fails as not analysed ([`ParseError::Stopped`]).
+pub fn run_case_until(
+    parser: &Parser,
+    grammar: &Grammar,
+    case: &TestCase,
+    max_chart_bytes: u64,
+    stop: &dyn Fn() -> bool,
+) -> CaseOutcome {
     let words = case.words();
-    let best = match parser.best_tree(&words, max_chart_bytes) {
+    let best = match parser.best_tree_until(&words, max_chart_bytes, stop) {
         Ok(best) => best,
         Err(e) => return CaseOutcome::failed(Failure::NotAnalysed(e)),
     };
@@ -137,7 +149,7 @@ pub fn run_case(
                 explain: true,
             };
             let explanation = parser
-                .parse(&words, &options)
+                .parse_until(&words, &options, stop)
                 .ok()
                 .and_then(|outcome| outcome.explanation);
             CaseOutcome::failed(Failure::NoParse { explanation })

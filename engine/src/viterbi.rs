@@ -7,7 +7,7 @@
 //! re-deriving the arg-max at each item from the finished chart, which keeps
 //! the inner loop to one add, one add and one compare per rule.
 
-use crate::chart::{kernels, Layout};
+use crate::chart::{kernels, Layout, Stopped, Watch};
 use crate::compile::{CompiledGrammar, Origin, Visit};
 
 /// A derivation in the compiled grammar.
@@ -45,9 +45,13 @@ impl ViterbiChart {
     }
 }
 
-/// Fills the Viterbi chart for `words`.
+/// Fills the Viterbi chart for `words`, asking `watch` once per cell.
 #[allow(clippy::needless_range_loop)] // cells are addressed by (i, j)
-pub(crate) fn fill(g: &CompiledGrammar, words: &[&str]) -> ViterbiChart {
+pub(crate) fn fill(
+    g: &CompiledGrammar,
+    words: &[&str],
+    watch: Watch,
+) -> Result<ViterbiChart, Stopped> {
     let layout = Layout::new(words.len(), g.symbol_count());
     let n_sym = layout.n_sym;
     let cells = layout.cells();
@@ -61,6 +65,7 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str]) -> ViterbiChart {
         for i in 0..=layout.n - len {
             let j = i + len;
             let c = layout.cell(i, j);
+            watch.check()?;
             pre.fill(f64::NEG_INFINITY);
             let (done, rest) = score.split_at_mut(c * n_sym);
             if len == 1 {
@@ -130,12 +135,12 @@ pub(crate) fn fill(g: &CompiledGrammar, words: &[&str]) -> ViterbiChart {
             present_start.push(present.len() as u32);
         }
     }
-    ViterbiChart {
+    Ok(ViterbiChart {
         layout,
         score,
         present_start,
         present,
-    }
+    })
 }
 
 /// The best score of `sym` over `i..j` before the unary closure, with its

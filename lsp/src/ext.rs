@@ -18,7 +18,10 @@
 //! names each with its place; errors in blocks the start symbol cannot
 //! reach are ignored and listed in `ignoredErrors`), runs with the weights
 //! a run uses (a block allowed to sum to something other than 1 divided by
-//! its sum, listed in `rescaled`) and stops between sentences when the request is cancelled. With
+//! its sum, listed in `rescaled`) and stops when the request is cancelled,
+//! inside a sentence's parse too. Parses are bounded by the `[editor]`
+//! settings of trellis.toml (`parse-seconds`, `parse-chart-mib`,
+//! `parse-max-kbest`). With
 //! `show: true` (what the code lenses send, since no one reads a lens
 //! command's result) the server also shows the outcome to the user with
 //! `window/showMessage`.

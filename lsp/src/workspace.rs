@@ -14,7 +14,7 @@ use std::sync::Arc;
 use std::time::Duration;
 use tower_lsp::lsp_types::Url;
 use trellis_ide::Analysis;
-use trellis_project::config::{ConfigProblem, Settings, Stamps};
+use trellis_project::config::{ConfigProblem, EditorLimits, Settings, Stamps};
 use trellis_project::Overlay;
 
 /// One open document: what the editor last sent.
@@ -45,6 +45,8 @@ pub struct RootResult {
     pub uris: Vec<Option<Url>>,
     /// A problem with `trellis.toml`, if any (the default levels applied).
     pub config_problem: Option<ConfigProblem>,
+    /// The limits of the parses run with this grammar (`[editor]`).
+    pub limits: EditorLimits,
     /// The configuration files as they were when the analysis read its
     /// configuration.
     pub config_stamps: Stamps,
@@ -107,6 +109,7 @@ pub fn analyze_root(root: &Path, snapshot: &Snapshot, seq: u64) -> Option<RootRe
         inputs,
         uris,
         config_problem: settings.problem,
+        limits: settings.limits,
         config_stamps: settings.stamps,
     })
 }

@@ -16,6 +16,9 @@
 //!
 //! [editor]
 //! uncovered-rules = "hint"   # or "off", the default
+//! parse-seconds = 30         # stop a parse in the editor after this long
+//! parse-chart-mib = 1024     # refuse a sentence whose chart needs more
+//! parse-max-kbest = 100      # the most trees one parse request may ask for
 //! ```
 //!
 //! `[editor] uncovered-rules` sets the level of the `uncovered` code, which
@@ -52,12 +55,42 @@ struct RawConfig {
     format: Option<RawFormat>,
 }
 
-/// `[editor]`: what the language server shows beyond the checks.
+/// `[editor]`: what the language server shows beyond the checks, and the
+/// limits of the parses it runs.
 #[derive(serde::Deserialize, Default)]
 #[serde(deny_unknown_fields, rename_all = "kebab-case")]
 struct RawEditor {
     uncovered_rules: Option<toml::Spanned<String>>,
+    parse_seconds: Option<toml::Spanned<toml::Value>>,
+    parse_chart_mib: Option<toml::Spanned<i64>>,
+    parse_max_kbest: Option<toml::Spanned<i64>>,
 }
+
+/// The limits of a parse the language server runs (`[editor]` in
+/// `trellis.toml`): a request that needs more is refused or stopped with a
+/// message naming the setting to raise.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct EditorLimits {
+    /// `parse-seconds`: a parse still running after this long is stopped.
+    pub parse_seconds: f64,
+    /// `parse-chart-mib`: a sentence whose chart needs more is refused.
+    pub parse_chart_mib: u64,
+    /// `parse-max-kbest`: the most trees one request may ask for.
+    pub parse_max_kbest: usize,
+}
+
+impl Default for EditorLimits {
+    fn default() -> Self {
+        EditorLimits {
+            parse_seconds: 30.0,
+            parse_chart_mib: 1024,
+            parse_max_kbest: 100,
+        }
+    }
+}
+
+/// The largest `parse-seconds` (a day): beyond it, a limit is no limit.
+const MAX_PARSE_SECONDS: f64 = 86_400.0;
 
 #[derive(serde::Deserialize)]
 #[serde(deny_unknown_fields, rename_all = "kebab-case")]
@@ -70,6 +103,11 @@ const WIDTHS: std::ops::RangeInclusive<usize> = 20..=1000;
 
 /// Reads a `trellis.toml` text. Every problem is reported, not just the first.
 pub fn parse(text: &str) -> Result<Config, Vec<ConfigError>> {
+    parse_with_limits(text).map(|(config, _)| config)
+}
+
+/// [`parse`], with the editor's parse limits.
+pub fn parse_with_limits(text: &str) -> Result<(Config, EditorLimits), Vec<ConfigError>> {
     let raw: RawConfig = toml::from_str(text).map_err(|e| {
         vec![ConfigError {
             message: e.message().to_string(),
@@ -101,6 +139,45 @@ pub fn parse(text: &str) -> Result<Config, Vec<ConfigError>> {
                 message: format!(
                     "`{other}` is not a setting for `uncovered-rules`: use \"hint\" or \"off\""
                 ),
+                span: Some(value.span()),
+            }),
+        }
+    }
+    let mut limits = EditorLimits::default();
+    if let Some(value) = raw.editor.parse_seconds {
+        let seconds = match value.get_ref() {
+            toml::Value::Integer(n) => Some(*n as f64),
+            toml::Value::Float(x) => Some(*x),
+            _ => None,
+        };
+        match seconds {
+            Some(s) if s > 0.0 && s <= MAX_PARSE_SECONDS => limits.parse_seconds = s,
+            _ => errors.push(ConfigError {
+                message: format!(
+                    "`parse-seconds` in `[editor]` must be a number of seconds above 0 and at \
+                     most {MAX_PARSE_SECONDS}"
+                ),
+                span: Some(value.span()),
+            }),
+        }
+    }
+    if let Some(value) = raw.editor.parse_chart_mib {
+        match u64::try_from(*value.get_ref()) {
+            Ok(n) if n >= 1 => limits.parse_chart_mib = n,
+            _ => errors.push(ConfigError {
+                message:
+                    "`parse-chart-mib` in `[editor]` must be a whole number of MiB, at least 1"
+                        .into(),
+                span: Some(value.span()),
+            }),
+        }
+    }
+    if let Some(value) = raw.editor.parse_max_kbest {
+        match usize::try_from(*value.get_ref()) {
+            Ok(n) if n >= 1 => limits.parse_max_kbest = n,
+            _ => errors.push(ConfigError {
+                message: "`parse-max-kbest` in `[editor]` must be a whole number, at least 1"
+                    .into(),
                 span: Some(value.span()),
             }),
         }
@@ -174,7 +251,7 @@ pub fn parse(text: &str) -> Result<Config, Vec<ConfigError>> {
     }
     errors.sort_by_key(|e| e.span.as_ref().map_or(0, |s| s.start));
     if errors.is_empty() {
-        Ok(config)
+        Ok((config, limits))
     } else {
         Err(errors)
     }
@@ -258,11 +335,20 @@ impl std::fmt::Display for ConfigProblem {
 /// (an editor's unsaved `trellis.toml` counts); `shown` is how the path is
 /// shown in problems.
 pub fn load(path: &Path, shown: &Path, loader: &dyn FileLoader) -> Result<Config, ConfigProblem> {
+    load_with_limits(path, shown, loader).map(|(config, _)| config)
+}
+
+/// [`load`], with the editor's parse limits.
+fn load_with_limits(
+    path: &Path,
+    shown: &Path,
+    loader: &dyn FileLoader,
+) -> Result<(Config, EditorLimits), ConfigProblem> {
     let text = loader.load(path).map_err(|reason| ConfigProblem {
         path: shown.to_path_buf(),
         kind: ProblemKind::Unreadable(reason),
     })?;
-    parse(&text).map_err(|errors| ConfigProblem {
+    parse_with_limits(&text).map_err(|errors| ConfigProblem {
         path: shown.to_path_buf(),
         kind: ProblemKind::Invalid { text, errors },
     })
@@ -339,6 +425,8 @@ pub fn find_from(dir: &Path) -> Option<PathBuf> {
 /// the file leaves the default configuration in force, and says why.
 pub struct Settings {
     pub config: Config,
+    /// The limits of the parses the editor runs (`[editor]`).
+    pub limits: EditorLimits,
     pub problem: Option<ConfigProblem>,
     pub stamps: Stamps,
 }
@@ -347,15 +435,16 @@ impl Settings {
     pub fn for_grammar(grammar: &Path, loader: &dyn FileLoader) -> Settings {
         // Taken before reading: an edit in between only costs one more read.
         let stamps = Stamps::of(grammar);
-        let (config, problem) = match stamps.nearest() {
-            None => (Config::default(), None),
-            Some(path) => match load(path, path, loader) {
-                Ok(config) => (config, None),
-                Err(problem) => (Config::default(), Some(problem)),
+        let ((config, limits), problem) = match stamps.nearest() {
+            None => (Default::default(), None),
+            Some(path) => match load_with_limits(path, path, loader) {
+                Ok(read) => (read, None),
+                Err(problem) => (Default::default(), Some(problem)),
             },
         };
         Settings {
             config,
+            limits,
             problem,
             stamps,
         }
@@ -466,6 +555,39 @@ mod tests {
         assert_eq!(off.level(Code::Uncovered), None);
         let on = parse("[editor]\nuncovered-rules = \"hint\"\n").unwrap();
         assert_eq!(on.level(Code::Uncovered), Some(Severity::Note));
+    }
+
+    #[test]
+    fn the_editor_parse_limits_are_read_and_checked() {
+        let (_, limits) = parse_with_limits("").unwrap();
+        assert_eq!(limits, EditorLimits::default());
+        let text = "[editor]\nparse-seconds = 2.5\nparse-chart-mib = 64\nparse-max-kbest = 7\n";
+        let (_, limits) = parse_with_limits(text).unwrap();
+        assert_eq!(
+            limits,
+            EditorLimits {
+                parse_seconds: 2.5,
+                parse_chart_mib: 64,
+                parse_max_kbest: 7
+            }
+        );
+        assert_eq!(
+            parse_with_limits("[editor]\nparse-seconds = 3\n")
+                .unwrap()
+                .1
+                .parse_seconds,
+            3.0
+        );
+        let text = "[editor]\nparse-seconds = 0\nparse-chart-mib = -1\nparse-max-kbest = 0\n";
+        let errs = parse_with_limits(text).unwrap_err();
+        assert_eq!(errs.len(), 3, "{errs:?}");
+        assert!(errs[0].message.contains("`parse-seconds`"), "{errs:?}");
+        assert!(errs[2].message.contains("`parse-max-kbest`"), "{errs:?}");
+        assert_eq!(&text[errs[0].span.clone().unwrap()], "0");
+        assert!(errs[1].message.contains("`parse-chart-mib`"), "{errs:?}");
+        // A string where a number belongs is refused by the reader itself.
+        let errs = parse_with_limits("[editor]\nparse-max-kbest = \"all\"\n").unwrap_err();
+        assert_eq!(errs.len(), 1, "{errs:?}");
     }
 
     #[test]

@@ -23,7 +23,7 @@ pub mod learn;
 pub mod load;
 pub mod test_run;
 
-pub use config::{ConfigProblem, Resolver, Settings, Stamps};
+pub use config::{ConfigProblem, EditorLimits, Resolver, Settings, Stamps};
 pub use discover::{discover, identity, paths_or_here, Root};
 pub use files::{read_text, write_atomic, DiskLoader, Overlay};
 pub use format::{format_paths, options_for_dir, FormatRun, Formatted};

@@ -14,8 +14,9 @@ use grammar_lang::Diagnostic;
 use grammar_lang::FileId;
 use rayon::prelude::*;
 use std::path::PathBuf;
+use std::time::{Duration, Instant};
 pub use trellis_engine::parser::DEFAULT_MAX_CHART_BYTES;
-use trellis_engine::testing::{run_case, CaseOutcome};
+use trellis_engine::testing::{run_case_until, CaseOutcome};
 use trellis_ide::{Analysis, NotRunnable};
 
 /// Which tests of a grammar to run.
@@ -47,6 +48,9 @@ impl Selection<'_> {
 pub struct RunOptions {
     /// A case whose chart would need more memory than this fails.
     pub max_chart_bytes: u64,
+    /// A case whose parse takes longer than this many seconds is stopped
+    /// and fails (`None`: no limit).
+    pub max_seconds: Option<f64>,
     /// Spread the cases over every core.
     pub parallel: bool,
 }
@@ -55,6 +59,7 @@ impl Default for RunOptions {
     fn default() -> Self {
         RunOptions {
             max_chart_bytes: DEFAULT_MAX_CHART_BYTES,
+            max_seconds: None,
             parallel: false,
         }
     }
@@ -144,8 +149,9 @@ pub fn selected<'g>(analysis: &'g Analysis, selection: Selection) -> Vec<&'g Gra
 }
 
 /// Runs `tests` (tests of `analysis`'s grammar). `Ok(None)` when
-/// `cancelled` said so between two cases; an error when the grammar cannot
-/// run (errors in what the tests use, or the engine cannot compile it).
+/// `cancelled` said so (it is asked between cases and inside each parse);
+/// an error when the grammar cannot run (errors in what the tests use, or
+/// the engine cannot compile it).
 /// Every case is judged with the weights a run uses
 /// ([`Analysis::run_tests`]): the user's, divided by their block's sum
 /// where `trellis.toml` lets a block's sum be off.
@@ -165,10 +171,16 @@ pub fn run<'g>(
         .collect();
     let judge = |case| {
         if cancelled() {
-            None
-        } else {
-            Some(run_case(&parser, grammar, case, options.max_chart_bytes))
+            return None;
         }
+        // Each case's clock starts when its parse does.
+        let deadline = options
+            .max_seconds
+            .and_then(|s| Instant::now().checked_add(Duration::try_from_secs_f64(s).ok()?));
+        let stop = || cancelled() || deadline.is_some_and(|at| Instant::now() >= at);
+        let outcome = run_case_until(&parser, grammar, case, options.max_chart_bytes, &stop);
+        // A parse stopped by the cancellation is no outcome.
+        (!cancelled()).then_some(outcome)
     };
     let outcomes: Option<Vec<CaseOutcome>> = if options.parallel {
         cases.par_iter().map(|(_, case)| judge(case)).collect()
@@ -260,15 +272,16 @@ pub struct Suite<'g> {
 
 /// Runs the selected tests of every grammar that stands on its own among
 /// `checked` (a lexicon `use`d by another grammar is tested as part of it),
-/// each grammar's cases spread over the cores.
+/// each grammar's cases spread over the cores (whatever `options.parallel`
+/// says).
 pub fn run_suite<'g>(
     checked: &'g [Checked],
     selection: Selection,
-    max_chart_bytes: u64,
+    options: RunOptions,
 ) -> Suite<'g> {
     let options = RunOptions {
-        max_chart_bytes,
         parallel: true,
+        ..options
     };
     let mut grammars = Vec::new();
     let mut tally = Tally::default();
@@ -437,6 +450,20 @@ test \"sinking\" {
         let ignored: Vec<_> = done.ran.ignored_errors.iter().map(|d| d.code).collect();
         use grammar_lang::Code;
         assert_eq!(ignored, [Code::Unproductive, Code::Undefined]);
+    }
+
+    #[test]
+    fn a_cancellation_during_a_parse_stops_the_run_with_no_outcome() {
+        let analysis = trellis_ide::analyze_text(&harbour());
+        let tests = selected(&analysis, Selection::All);
+        // The first question comes before the first case; the second from
+        // inside its parse, which is where the cancellation arrives.
+        let asked = std::sync::atomic::AtomicUsize::new(0);
+        let cancelled = || asked.fetch_add(1, std::sync::atomic::Ordering::Relaxed) >= 1;
+        let outcome = run(&analysis, tests, RunOptions::default(), &cancelled).unwrap();
+        assert!(outcome.is_none());
+        // Asked before the case, once in its parse, and once after it.
+        assert_eq!(asked.load(std::sync::atomic::Ordering::Relaxed), 3);
     }
 
     #[test]

@@ -4,7 +4,7 @@
 
 use std::fs;
 use trellis_project::analyse_paths;
-use trellis_project::test_run::{run_suite, Counts, Selection, DEFAULT_MAX_CHART_BYTES};
+use trellis_project::test_run::{run_suite, Counts, RunOptions, Selection};
 
 /// A kiosk that uses a lexicon; the lexicon's own test block is run as
 /// part of the kiosk's grammar, not on its own (it has no `start`).
@@ -35,7 +35,7 @@ fn a_directory_run_tests_each_grammar_once_and_counts_what_could_not_run() {
     fs::write(dir.path().join("words.trellis"), WORDS).unwrap();
     fs::write(dir.path().join("broken.trellis"), BROKEN).unwrap();
     let analysed = analyse_paths(&[dir.path().to_path_buf()]).ok().unwrap();
-    let suite = run_suite(&analysed.checked, Selection::All, DEFAULT_MAX_CHART_BYTES);
+    let suite = run_suite(&analysed.checked, Selection::All, RunOptions::default());
 
     let names: Vec<String> = suite
         .grammars
@@ -71,7 +71,7 @@ fn a_selection_that_matches_nothing_runs_nothing_but_lists_the_names() {
     let suite = run_suite(
         &analysed.checked,
         Selection::NameContains(&filter),
-        DEFAULT_MAX_CHART_BYTES,
+        RunOptions::default(),
     );
     assert!(suite.grammars.is_empty());
     assert_eq!(suite.tally.tests(), 0);

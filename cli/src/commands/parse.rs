@@ -5,7 +5,7 @@ use super::Stop;
 use super::{Outcome, Ran};
 use crate::output::{emit, ParseFormat, Stream, Term};
 use crate::render::{brackets, human, json};
-use crate::shared::{fail, load, note_run, prepare};
+use crate::shared::{fail, load, note_run, parse_error_text, prepare, ParseLimits};
 use grammar_lang::Grammar;
 use rayon::prelude::*;
 use std::io::Read;
@@ -29,9 +29,15 @@ pub const LONG_ABOUT: &str = "Parse sentences with a grammar.\n\n\
     sets `sum-not-one` below error) is run with each such block's weights \
     divided by their sum; a note says which blocks. Errors in blocks the \
     start symbol cannot reach do not stop the run (a note lists them).\n\n\
+    Two budgets bound each sentence: --max-chart-mib refuses a sentence \
+    whose chart (with the lists --kbest keeps) would need more memory, \
+    before parsing it; --max-seconds stops a parse that runs longer. A \
+    refused or stopped sentence is reported as such, with the option to \
+    change.\n\n\
     Exit status: 0 when every sentence parses; 1 when the grammar has errors \
-    in what the run uses or some sentence does not parse (or is too long for --max-chart-mib); 2 \
-    when a file cannot be read or the configuration is invalid.";
+    in what the run uses or some sentence does not parse (or is refused by \
+    --max-chart-mib or stopped by --max-seconds); 2 when a file cannot be \
+    read or the configuration is invalid.";
 
 /// Arguments of `trellis parse`.
 #[derive(clap::Args, Debug, Clone)]
@@ -60,6 +66,11 @@ pub struct ParseArgs {
     /// Refuse sentences whose chart would need more memory than this (MiB)
     #[arg(long, value_name = "MIB", default_value_t = 1024)]
     pub max_chart_mib: u64,
+
+    /// Stop the parse of a sentence that takes longer than this (seconds;
+    /// fractions allowed) [default: no limit]
+    #[arg(long, value_name = "SECONDS", value_parser = crate::shared::seconds)]
+    pub max_seconds: Option<f64>,
 
     /// Do not count the trees (faster on large grammars)
     #[arg(long)]
@@ -128,7 +139,7 @@ fn draw_pictures(
     path: &Path,
     grammar: &Grammar,
     sentences: &[String],
-    results: &[Result<ParseOutcome, ParseError>],
+    results: &[Result<ParseOutcome, String>],
     kbest: usize,
 ) -> Result<(), Stop> {
     for (n, (sentence, result)) in sentences.iter().zip(results).enumerate() {
@@ -177,9 +188,20 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
         count_parses: !args.no_count,
         explain: true,
     };
-    let mut results: Vec<Result<ParseOutcome, ParseError>> = sentences
+    let limits = ParseLimits {
+        max_chart_mib: args.max_chart_mib,
+        max_seconds: args.max_seconds,
+    };
+    let mut results: Vec<Result<ParseOutcome, String>> = sentences
         .par_iter()
-        .map(|s| parser.parse_line(s, &options))
+        .map(|s| {
+            // Each sentence's clock starts when its parse does.
+            let deadline = limits.deadline();
+            let words: Vec<&str> = s.split_whitespace().collect();
+            parser
+                .parse_until(&words, &options, &|| deadline.passed())
+                .map_err(|e: ParseError| parse_error_text(&e, &limits))
+        })
         .collect();
     if args.treebank_labels {
         for outcome in results.iter_mut().flatten() {
@@ -225,10 +247,33 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
         .count();
     if failed > 0 {
         if args.format == ParseFormat::Brackets {
-            emit(
-                Stream::Stderr,
-                &format!("{failed} of {} sentences did not parse\n", sentences.len()),
-            );
+            // The trees go to stdout; why a sentence has none goes here.
+            let mut text = String::new();
+            let mut refused = 0;
+            for (n, result) in results.iter().enumerate() {
+                if let Err(e) = result {
+                    refused += 1;
+                    text.push_str(&format!("sentence {}: {e}\n", n + 1));
+                }
+            }
+            let unparsed = failed - refused;
+            let mut parts = Vec::new();
+            if unparsed > 0 {
+                parts.push(format!(
+                    "{unparsed} of {} sentences did not parse",
+                    sentences.len()
+                ));
+            }
+            if refused > 0 {
+                parts.push(format!(
+                    "{refused} of {} {} not analysed",
+                    sentences.len(),
+                    if refused == 1 { "was" } else { "were" }
+                ));
+            }
+            text.push_str(&parts.join("; "));
+            text.push('\n');
+            emit(Stream::Stderr, &text);
         }
         return Ok(Outcome::Findings);
     }

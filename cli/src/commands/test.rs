@@ -62,6 +62,11 @@ pub struct TestArgs {
     #[arg(long, value_name = "MIB", default_value_t = 1024)]
     pub max_chart_mib: u64,
 
+    /// Fail a case whose parse takes longer than this (seconds; fractions
+    /// allowed) [default: no limit]
+    #[arg(long, value_name = "SECONDS", value_parser = crate::shared::seconds)]
+    pub max_seconds: Option<f64>,
+
     /// `human` for people; `json` prints one object with every grammar,
     /// test and case; `junit` prints JUnit XML for CI systems (a test suite
     /// per test block, a test case per accept/reject case)
@@ -92,10 +97,13 @@ fn percentage(text: &str) -> Result<f64, String> {
 pub fn run(args: &TestArgs, term: Term) -> Ran {
     let paths = paths_or_here(&args.paths);
     let Analysed { checked, failures } = analyse(&paths, &args.changed, args.format, term)?;
-    let max_chart_bytes = args.max_chart_mib.saturating_mul(1 << 20);
-
+    let options = test_run::RunOptions {
+        max_chart_bytes: args.max_chart_mib.saturating_mul(1 << 20),
+        max_seconds: args.max_seconds,
+        parallel: true,
+    };
     let selection = test_run::Selection::NameContains(&args.filter);
-    let suite = test_run::run_suite(&checked, selection, max_chart_bytes);
+    let suite = test_run::run_suite(&checked, selection, options);
 
     if suite.grammars.is_empty() && !args.filter.is_empty() {
         report_failures(&failures);

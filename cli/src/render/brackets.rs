@@ -1,11 +1,11 @@
 //! `trellis parse --format brackets`: labelled brackets with bare words,
 //! the form treebank tools read.
 
-use trellis_engine::parser::{ParseError, ParseOutcome, ParsedTree};
+use trellis_engine::parser::{ParseOutcome, ParsedTree};
 
 /// The trees of one sentence, one per line: the best, or with `kbest` every
 /// ranked tree; an empty line for a sentence without parse.
-pub fn sentence(result: &Result<ParseOutcome, ParseError>) -> String {
+pub fn sentence(result: &Result<ParseOutcome, String>) -> String {
     let mut out = String::new();
     match result {
         Ok(o) if o.parsed() => {

@@ -12,13 +12,13 @@ use grammar_lang::{Diagnostic, FileId, Severity, SourceMap};
 use std::collections::HashMap;
 use std::fmt;
 use std::ops::Range;
-use trellis_engine::consistency::ConsistencyReport;
+use trellis_engine::consistency::{ConsistencyReport, Verdict};
 /// The one way a probability is written for people, in every command
 /// (six significant digits, scientific notation only below 1e-4; README,
 /// "Numbers"). Defined in the engine so that its own messages (test
 /// failures, explanations of failed parses) use it too.
 pub use trellis_engine::numbers::{log_probability, number, probability};
-use trellis_engine::parser::{ParseError, ParseOutcome};
+use trellis_engine::parser::ParseOutcome;
 use trellis_engine::testing::CaseOutcome;
 use trellis_project::test_run::{GrammarRun, Tally};
 use trellis_project::Checked;
@@ -337,10 +337,10 @@ pub fn diagnostics(sources: &SourceMap, diagnostics: &[Diagnostic], color: bool)
 
 /// The report on one sentence: its best trees and probabilities, or why it
 /// has no parse.
-pub fn parse_report(sentence: &str, result: &Result<ParseOutcome, ParseError>) -> String {
+pub fn parse_report(sentence: &str, result: &Result<ParseOutcome, String>) -> String {
     let mut out = format!("sentence: {sentence}\n");
     match result {
-        Err(e) => out.push_str(&format!("  error: {e}\n")),
+        Err(e) => out.push_str(&format!("  not analysed: {e}\n")),
         Ok(o) => match &o.best {
             Some(best) => {
                 out.push_str(&format!(
@@ -387,14 +387,22 @@ pub fn stats_table(name: &str, r: &ConsistencyReport) -> String {
     let mut out = String::new();
     let infinite = "infinite";
     out.push_str(&format!("derivations from {name}\n"));
-    out.push_str(&format!(
-        "  tight                     {}\n",
+    out.push_str(&format!("  tight                     {}\n", {
+        let how = match r.verdict {
+            Verdict::Exact => "decided exactly".to_string(),
+            Verdict::Numerical { tolerance } => {
+                format!("decided numerically, within {tolerance:e}")
+            }
+        };
         if r.tight {
-            "yes".to_string()
+            format!("yes ({how})")
         } else {
-            format!("no: {} of the probability is lost", probability(r.leak))
+            format!(
+                "no: {} of the probability is lost ({how})",
+                probability(r.leak)
+            )
         }
-    ));
+    }));
     out.push_str(&format!(
         "  spectral radius           {} ({})\n",
         number(r.spectral_radius),

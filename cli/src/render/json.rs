@@ -13,10 +13,10 @@ use crate::output::{emit, Stream};
 use grammar_lang::model::TestCase;
 use grammar_lang::{Diagnostic, FileId, SourceMap, Span};
 use serde::Serialize;
-use trellis_engine::consistency::ConsistencyReport;
+use trellis_engine::consistency::{ConsistencyReport, Verdict};
 use trellis_engine::count::Count;
 use trellis_engine::explain::Explanation;
-use trellis_engine::parser::{ParseError, ParseOutcome, ParsedTree};
+use trellis_engine::parser::{ParseOutcome, ParsedTree};
 use trellis_engine::testing::CaseOutcome;
 use trellis_project::test_run::{GrammarRun, Tally};
 
@@ -179,8 +179,11 @@ pub struct ParseDocument<'a> {
     best: Option<JsonTree>,
     #[serde(skip_serializing_if = "Vec::is_empty")]
     kbest: Vec<JsonTree>,
-    sentence_probability: f64,
-    /// `null` when the sentence does not parse (the log of 0).
+    /// `null` when the sentence was not analysed (refused or stopped):
+    /// its probability is unknown, not 0.
+    sentence_probability: Option<f64>,
+    /// `null` when the sentence does not parse (the log of 0) or was not
+    /// analysed.
     sentence_log_probability: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     parse_count: Option<String>,
@@ -310,7 +313,7 @@ fn count_text(c: &Count) -> String {
 /// (asked for with `--kbest` above 1).
 pub fn parse_document<'a>(
     sentence: &'a str,
-    result: &'a Result<ParseOutcome, ParseError>,
+    result: &'a Result<ParseOutcome, String>,
     kbest: bool,
     ran: &'a Ran,
 ) -> ParseDocument<'a> {
@@ -325,7 +328,7 @@ pub fn parse_document<'a>(
             } else {
                 Vec::new()
             },
-            sentence_probability: o.sentence_probability,
+            sentence_probability: Some(o.sentence_probability),
             sentence_log_probability: o
                 .sentence_log_probability
                 .is_finite()
@@ -341,11 +344,11 @@ pub fn parse_document<'a>(
             parsed: false,
             best: None,
             kbest: Vec::new(),
-            sentence_probability: 0.0,
+            sentence_probability: None,
             sentence_log_probability: None,
             parse_count: None,
             explanation: None,
-            error: Some(e.to_string()),
+            error: Some(e.clone()),
             rescaled,
             ignored_errors,
         },
@@ -402,6 +405,11 @@ pub fn sample_document<'a>(
 pub struct StatsDocument<'a> {
     from: &'a str,
     tight: bool,
+    /// How `tight` and `regime` were decided: `exact` or `numerical`.
+    verdict: &'static str,
+    /// The numerical verdict's tolerance on the termination probability;
+    /// `null` for an exact verdict.
+    tolerance: Option<f64>,
     spectral_radius: f64,
     regime: &'static str,
     leak: f64,
@@ -435,6 +443,11 @@ pub fn stats_document<'a>(
     StatsDocument {
         from,
         tight: report.tight,
+        verdict: report.verdict.as_str(),
+        tolerance: match report.verdict {
+            Verdict::Exact => None,
+            Verdict::Numerical { tolerance } => Some(tolerance),
+        },
         spectral_radius: report.spectral_radius,
         regime: report.regime.as_str(),
         leak: report.leak,

@@ -6,10 +6,12 @@ use super::{finish, grammar_of, ran, ran_summary};
 use crate::ext::{ParseParams, ParseResult, ScoredTree, SentenceParse};
 use crate::guard::CancelFlag;
 use crate::server::Backend;
+use std::time::{Duration, Instant};
 use tower_lsp::jsonrpc;
 use tower_lsp::lsp_types::MessageType;
-use trellis_engine::parser::{ParseOptions, ParseOutcome, ParsedTree};
+use trellis_engine::parser::{ParseError, ParseOptions, ParseOutcome, ParsedTree};
 use trellis_ide::picture::{tree_picture, Surface};
+use trellis_project::EditorLimits;
 
 pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<ParseResult> {
     let mut sentences = params.sentences;
@@ -25,28 +27,75 @@ pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<Pa
         return Err(jsonrpc::Error::invalid_params(message));
     }
     let target = grammar_of(backend, &params.uri, params.show).await?;
+    let limits = target.result.limits;
+    let kbest = params.kbest.unwrap_or(1).max(1);
+    if kbest > limits.parse_max_kbest {
+        let message = format!(
+            "trellis.parse: {kbest} trees were asked for, more than `parse-max-kbest` = {} \
+             allows; ask for fewer or raise `parse-max-kbest` in the `[editor]` section of \
+             trellis.toml",
+            limits.parse_max_kbest
+        );
+        if params.show {
+            backend.show(MessageType::ERROR, message.clone()).await;
+        }
+        return Err(jsonrpc::Error::invalid_params(message));
+    }
     let options = ParseOptions {
-        kbest: params.kbest.unwrap_or(1).max(1),
+        kbest,
+        max_chart_bytes: limits.parse_chart_mib.saturating_mul(1 << 20),
         ..ParseOptions::default()
     };
     let picture = params.picture;
     let cancel = CancelFlag::default();
     let guard = cancel.guard();
+    // The work outlives a cancelled request; it reports in the log.
+    let client = backend.client.clone();
+    let runtime = tokio::runtime::Handle::current();
+    let log = move |message: String| {
+        let client = client.clone();
+        runtime.spawn(async move { client.log_message(MessageType::LOG, message).await });
+    };
     let outcome = backend
         .run("parsing", move || {
             let run = target.analysis().run(None).map_err(|e| e.to_string())?;
             let parser = run.parser().map_err(|e| e.to_string())?;
             let grammar = run.grammar();
+            let total = sentences.len();
+            log(format!(
+                "trellis.parse: parsing {total} sentence{} (at most {} s and {} MiB each)",
+                if total == 1 { "" } else { "s" },
+                limits.parse_seconds,
+                limits.parse_chart_mib
+            ));
             let mut results = Vec::new();
             for sentence in sentences {
+                // Each sentence's clock starts when its parse does.
+                let deadline =
+                    Instant::now().checked_add(Duration::from_secs_f64(limits.parse_seconds));
+                let stop =
+                    || cancel.is_cancelled() || deadline.is_some_and(|at| Instant::now() >= at);
+                let words: Vec<&str> = sentence.split_whitespace().collect();
+                let parsed = if cancel.is_cancelled() {
+                    Err(ParseError::Stopped)
+                } else {
+                    parser.parse_until(&words, &options, &stop)
+                };
                 if cancel.is_cancelled() {
+                    // The request is gone, and no response will say that
+                    // its work stopped: the log does.
+                    log(format!(
+                        "trellis.parse: stopped after {} of {total} sentences: the request was \
+                         cancelled",
+                        results.len()
+                    ));
                     return Ok(None);
                 }
-                results.push(match parser.parse_line(&sentence, &options) {
+                results.push(match parsed {
                     Err(e) => SentenceParse {
+                        error: Some(error_text(&e, &limits)),
                         sentence,
                         parsed: false,
-                        error: Some(e.to_string()),
                         ..SentenceParse::default()
                     },
                     Ok(out) => {
@@ -66,6 +115,28 @@ pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<Pa
         .await?;
     guard.disarm();
     finish(backend, params.show, outcome, summary).await
+}
+
+/// Why a sentence was not analysed, naming the setting to change.
+fn error_text(e: &ParseError, limits: &EditorLimits) -> String {
+    let what = e.refusal();
+    let mib = limits.parse_chart_mib;
+    let setting = "in the `[editor]` section of trellis.toml";
+    match e {
+        ParseError::EmptySentence => what,
+        ParseError::ChartTooLarge { .. } => format!(
+            "{what}; split it into shorter sentences or raise `parse-chart-mib` (now {mib}) \
+             {setting}"
+        ),
+        ParseError::KbestTooLarge { fits, .. } => format!(
+            "{what}; ask for {fits} trees or fewer, or raise `parse-chart-mib` (now {mib}) \
+             {setting}"
+        ),
+        ParseError::Stopped => format!(
+            "{what}: it took longer than `parse-seconds` = {} allows; raise it {setting}",
+            limits.parse_seconds
+        ),
+    }
 }
 
 /// The picture of a parsed sentence's trees (the k best when more than one

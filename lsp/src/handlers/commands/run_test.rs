@@ -35,7 +35,14 @@ pub async fn run_test(backend: &Backend, params: RunTestParams) -> jsonrpc::Resu
                 });
             }
             let cancelled = || cancel.is_cancelled();
-            let run = test_run::run(analysis, tests, RunOptions::default(), &cancelled)
+            // Each case is bounded as an editor parse is (`[editor]`).
+            let limits = target.result.limits;
+            let options = RunOptions {
+                max_chart_bytes: limits.parse_chart_mib.saturating_mul(1 << 20),
+                max_seconds: Some(limits.parse_seconds),
+                ..RunOptions::default()
+            };
+            let run = test_run::run(analysis, tests, options, &cancelled)
                 .map_err(|blocked| blocked.to_string())?;
             Ok(run.map(|run| RunTestResult {
                 passed: run.counts.cases_passed,

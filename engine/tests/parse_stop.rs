@@ -1,0 +1,191 @@
+//! Stopping a parse: every chart pass asks the caller's stop condition once
+//! per cell and gives up at once with `ParseError::Stopped`. The stop
+//! conditions here count their calls, so the tests are deterministic (no
+//! clocks): the k-th call says stop, and the parse must have asked exactly
+//! k times.
+
+mod parse_support;
+
+use parse_support::*;
+use std::cell::Cell;
+use trellis_engine::parser::{ParseError, ParseOptions, Parser};
+
+/// `S → S S (0.4) | "a" (0.6)`: every split of every span analyses, so
+/// every pass does work in every cell.
+fn ambiguous() -> Parser {
+    Parser::new(&grammar("S", &[("S", "S S", "0.4"), ("S", "\"a\"", "0.6")])).unwrap()
+}
+
+/// A stop condition that holds from its `fire_at`-th call on (never when
+/// `None`), and how often it was asked.
+struct CountingStop {
+    calls: Cell<usize>,
+    fire_at: Option<usize>,
+}
+
+impl CountingStop {
+    fn new(fire_at: Option<usize>) -> CountingStop {
+        CountingStop {
+            calls: Cell::new(0),
+            fire_at,
+        }
+    }
+
+    fn ask(&self) -> bool {
+        self.calls.set(self.calls.get() + 1);
+        self.fire_at.is_some_and(|k| self.calls.get() >= k)
+    }
+}
+
+/// Every combination of the optional passes: inside always runs after
+/// Viterbi on a sentence that parses; k-best and counting on request.
+fn every_pass_combination() -> Vec<ParseOptions> {
+    let mut all = Vec::new();
+    for kbest in [0, 1, 4] {
+        for count_parses in [false, true] {
+            all.push(ParseOptions {
+                kbest,
+                count_parses,
+                ..ParseOptions::default()
+            });
+        }
+    }
+    all
+}
+
+#[test]
+fn a_stop_that_never_fires_changes_nothing_and_is_asked_once_per_cell_per_pass() {
+    let parser = ambiguous();
+    let words = vec!["a"; 12];
+    let cells = 12 * 13 / 2;
+    for options in every_pass_combination() {
+        let stop = CountingStop::new(None);
+        let stopped = parser
+            .parse_until(&words, &options, &|| stop.ask())
+            .unwrap();
+        assert_eq!(stopped, parser.parse(&words, &options).unwrap());
+        // Viterbi and inside always; k-best when more than one tree is
+        // asked for; counting when asked.
+        let passes = 2 + usize::from(options.kbest > 1) + usize::from(options.count_parses);
+        assert_eq!(stop.calls.get(), passes * cells, "{options:?}");
+    }
+}
+
+#[test]
+fn a_stop_that_fires_at_any_check_stops_every_pass_right_there() {
+    let parser = ambiguous();
+    let words = vec!["a"; 9];
+    for options in every_pass_combination() {
+        let total = {
+            let stop = CountingStop::new(None);
+            parser
+                .parse_until(&words, &options, &|| stop.ask())
+                .unwrap();
+            stop.calls.get()
+        };
+        // Firing at check k, for every k the parse makes: the parse stops
+        // without asking again, in whichever pass check k falls.
+        for k in 1..=total {
+            let stop = CountingStop::new(Some(k));
+            let result = parser.parse_until(&words, &options, &|| stop.ask());
+            assert_eq!(result, Err(ParseError::Stopped), "{options:?}, check {k}");
+            assert_eq!(stop.calls.get(), k, "{options:?}, check {k}");
+        }
+    }
+}
+
+#[test]
+fn a_stop_that_fires_stops_the_best_tree_and_a_failed_parse_too() {
+    let parser = ambiguous();
+    let words = vec!["a"; 30];
+    let stop = CountingStop::new(Some(100));
+    assert_eq!(
+        parser.best_tree_until(&words, u64::MAX, &|| stop.ask()),
+        Err(ParseError::Stopped)
+    );
+    assert_eq!(stop.calls.get(), 100);
+    // A sentence that does not parse is stopped in its Viterbi pass.
+    let mut unknown = vec!["a"; 30];
+    unknown[29] = "b";
+    let stop = CountingStop::new(Some(7));
+    assert_eq!(
+        parser.parse_until(&unknown, &ParseOptions::default(), &|| stop.ask()),
+        Err(ParseError::Stopped)
+    );
+    assert_eq!(stop.calls.get(), 7);
+}
+
+#[test]
+fn a_stop_that_holds_from_the_start_stops_before_any_cell() {
+    let parser = ambiguous();
+    let stop = CountingStop::new(Some(1));
+    let result = parser.parse_until(&["a", "a"], &ParseOptions::default(), &|| stop.ask());
+    assert_eq!(result, Err(ParseError::Stopped));
+    assert_eq!(stop.calls.get(), 1);
+    assert_eq!(
+        ParseError::Stopped.to_string(),
+        "the parse was stopped before it finished (it ran out of time or was cancelled)"
+    );
+}
+
+#[test]
+fn a_refusal_caused_by_kbest_says_so_and_how_many_trees_fit() {
+    let parser = ambiguous();
+    let words = vec!["a"; 40];
+    // The chart of one tree per item, and the chart of many.
+    let bytes = |kbest| {
+        parser.chart_bytes(
+            40,
+            &ParseOptions {
+                kbest,
+                ..ParseOptions::default()
+            },
+        )
+    };
+    // A limit between the chart for 9 trees and the chart for 10.
+    let limit = (bytes(9) + bytes(10)) / 2;
+    let options = ParseOptions {
+        kbest: 500,
+        max_chart_bytes: limit,
+        ..ParseOptions::default()
+    };
+    match parser.parse(&words, &options) {
+        Err(ParseError::KbestTooLarge {
+            words: 40,
+            kbest: 500,
+            fits: 9,
+            needed_bytes,
+            limit_bytes,
+        }) => {
+            assert_eq!(needed_bytes, bytes(500));
+            assert_eq!(limit_bytes, limit);
+        }
+        other => panic!("expected the k-best lists to be refused, got {other:?}"),
+    }
+    // Nine trees fit indeed.
+    let nine = ParseOptions {
+        kbest: 9,
+        ..options.clone()
+    };
+    assert_eq!(parser.parse(&words, &nine).unwrap().kbest.len(), 9);
+    let message = parser.parse(&words, &options).unwrap_err().to_string();
+    assert!(
+        message.starts_with("keeping the 500 most probable trees of every chart item"),
+        "{message}"
+    );
+    assert!(message.contains("so do 9 trees"), "{message}");
+    assert!(
+        message.ends_with("ask for at most 9 trees or raise the limit"),
+        "{message}"
+    );
+    assert!(!message.contains("shorter"), "{message}");
+    // When even one tree per item is too much, the sentence is what is refused.
+    let small = ParseOptions {
+        max_chart_bytes: bytes(1) - 1,
+        ..options
+    };
+    assert!(matches!(
+        parser.parse(&words, &small),
+        Err(ParseError::ChartTooLarge { words: 40, .. })
+    ));
+}
