@@ -314,8 +314,24 @@ impl Lowerer<'_> {
                 Decl::Grammar(d) => self.grammar_decl(file, d),
                 Decl::Start(d) => self.start_decl(file, d),
                 Decl::Use(_) => {}
-                Decl::Block(b) => self.block(file, b),
+                Decl::Block(b) => {
+                    self.block(file, b);
+                    if syntax.is_damaged(b.span) {
+                        let name = self.text(file, b.name.span).to_string();
+                        let nt = self.grammar.intern_nt(&name);
+                        self.grammar.mark_damaged(nt);
+                    }
+                }
                 Decl::Test(t) => self.test(file, t),
+            }
+        }
+        // A block whose head could not be read may be missing: its name is
+        // not reported as undefined.
+        for damage in &syntax.damaged {
+            if let Some(name) = damage.block {
+                let name = self.text(file, name.span).to_string();
+                let nt = self.grammar.intern_nt(&name);
+                self.grammar.mark_damaged(nt);
             }
         }
         self.syntax[file.0 as usize] = syntax;
@@ -467,10 +483,7 @@ impl Lowerer<'_> {
                         self.diagnostics.push(
                             Diagnostic::new(Code::BadWeight, at, format!("bad weight: {reason}"))
                                 .with_label("not a usable weight")
-                                .with_help(
-                                    "write a weight as a decimal `0.25`, a fraction `1/4` or a \
-                                     percentage `25%`",
-                                ),
+                                .with_help(crate::weight::weight_help(self.text(file, span))),
                         );
                         self.grammar.mark_damaged(nt);
                         is_broken = true;
@@ -755,6 +768,7 @@ mod tests {
                 }),
             ],
             errors: Vec::new(),
+            damaged: Vec::new(),
         }
     }
 

@@ -195,7 +195,17 @@ fn unproductive(grammar: &Grammar, flat: &FlatRules, out: &mut Vec<Diagnostic>) 
         let Some(block) = &grammar.nonterminal(nt).block else {
             continue;
         };
-        if productive[nt.index()] {
+        if productive[nt.index()] || grammar.is_damaged(nt) {
+            continue;
+        }
+        // A block that needs a block the parser had to repair: the repair's
+        // error comes first.
+        let needs_damaged = grammar.rules_of(nt).any(|(_, rule)| {
+            rule.rhs
+                .iter()
+                .any(|&sym| matches!(sym, Sym::N(dep) if grammar.is_damaged(dep)))
+        });
+        if needs_damaged {
             continue;
         }
         let name = grammar.nt_name(nt);

@@ -55,7 +55,9 @@ fn did_you_mean(suggestion: Option<&str>) -> String {
 fn undefined(grammar: &Grammar, suggester: &mut Lazy, out: &mut Vec<Diagnostic>) {
     for nt in grammar.nt_ids() {
         let symbol = grammar.nonterminal(nt);
-        if symbol.is_defined() {
+        // A damaged symbol's block could not be read: the syntax error
+        // stands for it.
+        if symbol.is_defined() || grammar.is_damaged(nt) {
             continue;
         }
         let uses: Vec<Location> = symbol
@@ -102,7 +104,7 @@ fn start(grammar: &Grammar, sources: &SourceMap, suggester: &mut Lazy, out: &mut
     match (grammar.start, grammar.start_location) {
         (Some(start), Some(at)) => {
             let symbol = grammar.nonterminal(start);
-            if symbol.is_defined() {
+            if symbol.is_defined() || grammar.is_damaged(start) {
                 return;
             }
             let suggestion = suggester.closest(&symbol.name);
