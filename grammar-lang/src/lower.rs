@@ -333,6 +333,20 @@ impl Lowerer<'_> {
                 let nt = self.grammar.intern_nt(&name);
                 self.grammar.mark_damaged(nt);
             }
+            // The names in a skipped stretch.
+            let first = syntax
+                .tokens
+                .partition_point(|t| t.span.start < damage.span.start);
+            for token in syntax.tokens[first..]
+                .iter()
+                .take_while(|t| t.span.end <= damage.span.end)
+            {
+                if token.kind == crate::syntax::lexer::TokenKind::Ident {
+                    let name = self.text(file, token.span).to_string();
+                    let nt = self.grammar.intern_nt(&name);
+                    self.grammar.mark_mentioned_in_damage(nt);
+                }
+            }
         }
         self.syntax[file.0 as usize] = syntax;
     }

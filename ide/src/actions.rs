@@ -270,7 +270,8 @@ fn make_relative(analysis: &Analysis, file: FileId, block: &Block, d: &Diagnosti
     )
 }
 
-/// Replaces a misspelt name by the known name the diagnostic suggests.
+/// Replaces a misspelt name by the known name the diagnostic suggests, or a
+/// bare name by the quoted word of the grammar it spells.
 fn replace_name(analysis: &Analysis, d: &Diagnostic) -> Option<CodeAction> {
     let suggestion = d.suggestion.as_deref()?;
     let file = d.location.file;
@@ -281,7 +282,11 @@ fn replace_name(analysis: &Analysis, d: &Diagnostic) -> Option<CodeAction> {
     Some(CodeAction {
         is_preferred: true,
         ..quick_fix(
-            format!("Replace `{wrong}` with `{suggestion}`"),
+            if suggestion.starts_with('"') {
+                format!("Quote `{wrong}`: the word {suggestion}")
+            } else {
+                format!("Replace `{wrong}` with `{suggestion}`")
+            },
             d,
             vec![TextEdit {
                 file,

@@ -70,6 +70,30 @@ fn undefined(grammar: &Grammar, suggester: &mut Lazy, out: &mut Vec<Diagnostic>)
         if uses.is_empty() {
             continue;
         }
+        // A bare name that is a word of the grammar: most likely a
+        // terminal whose quotes were forgotten.
+        if grammar.term(&symbol.name).is_some() {
+            let quoted = crate::syntax::lexer::quote(&symbol.name);
+            for at in uses {
+                out.push(
+                    Diagnostic::new(
+                        Code::Undefined,
+                        at,
+                        format!(
+                            "`{}` is used but has no block; the word {quoted} is a terminal of the grammar",
+                            symbol.name
+                        ),
+                    )
+                    .with_label("not defined")
+                    .with_help(format!(
+                        "quote it to use the word: {quoted}; or define a block `{} {{ … }}`",
+                        symbol.name
+                    ))
+                    .with_suggestion(Some(quoted.clone())),
+                );
+            }
+            continue;
+        }
         let suggestion = suggester.closest(&symbol.name);
         let help = match suggestion {
             Some(s) => format!(

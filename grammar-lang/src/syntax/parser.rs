@@ -156,7 +156,7 @@ fn diagnose(
                 format!("unexpected {what}"),
                 "brackets only appear in the expected trees of tests: `accept \"words\" as (Start …)`".into(),
             ),
-            Some(T::Unknown) => (format!("unexpected {what}"), CHARACTER_HELP.into()),
+            Some(T::Unknown) => (format!("unexpected {what}"), character_help(found_text)),
             _ => (
                 format!("unexpected {what}; a declaration starts with a block name, `grammar`, `start`, `use` or `test`"),
                 "a block is written `Name { alternatives }`".into(),
@@ -165,6 +165,10 @@ fn diagnose(
         Mistake::BeforeBrace { name } => (
             format!("unexpected {what} between the block name `{}` and its `{{`", name.text(src)),
             format!("a block is written `{} {{ alternatives }}` (or `{} relative {{ … }}`)", name.text(src), name.text(src)),
+        ),
+        Mistake::MissingBrace { name } if name.text(src).starts_with('"') => (
+            format!("test {} is missing its `{{`", name.text(src)),
+            format!("write `test {} {{` on the line of its name; its cases follow, up to `}}`", name.text(src)),
         ),
         Mistake::MissingBrace { name } => (
             format!("block `{}` is missing its `{{`", name.text(src)),
@@ -184,7 +188,10 @@ fn diagnose(
             }
         }
         Mistake::Item => match found {
-            Some(T::Unknown) => (format!("unexpected {what} in an alternative"), CHARACTER_HELP.into()),
+            Some(T::Unknown) => (
+                format!("unexpected {what} in an alternative"),
+                character_help(found_text),
+            ),
             Some(T::LParen | T::RParen) => (
                 format!("unexpected {what} in an alternative"),
                 "brackets only appear in the expected trees of tests; an alternative is a list of names and quoted words".into(),
@@ -216,11 +223,18 @@ fn diagnose(
             match found {
                 Some(T::String) => (
                     format!("{kw} takes a symbol name, not a quoted terminal"),
-                    format!("remove the quotes: {kw} {}", found_text.trim_matches('"')),
+                    format!(
+                        "remove the quotes: `{} {}`",
+                        kw.trim_matches('`'),
+                        found_text.trim_matches('"')
+                    ),
                 ),
                 _ => (
                     format!("{kw} needs a symbol name; found {what}"),
-                    format!("write it as {kw} Name"),
+                    match keyword {
+                        T::KwGrammar => "write `grammar name`, e.g. `grammar lighthouse_log`".into(),
+                        _ => "write `start Name` with the name of the start symbol's block".into(),
+                    },
                 ),
             }
         }
@@ -273,8 +287,14 @@ fn diagnose(
     }
 }
 
-const CHARACTER_HELP: &str =
-    "terminals must be quoted (\"word\"); symbol names use letters, digits, `_ - . ' +`";
+/// The help for characters that start no token.
+fn character_help(text: &str) -> String {
+    if text.starts_with(['“', '”', '„', '‘', '’', '«', '»']) {
+        "terminals are quoted with straight quotes: \"word\"".into()
+    } else {
+        "terminals must be quoted (\"word\"); symbol names use letters, digits, `_ - . ' +`".into()
+    }
+}
 
 /// Names a found token with its text: "symbol name `Foo`".
 fn describe_found(kind: TokenKind, text: &str) -> String {
@@ -616,8 +636,13 @@ impl<'a> Parser<'a> {
                     if self.body_follows(self.pos) =>
                 {
                     // Alternatives after a block closed too early: one
-                    // error, and the stretch up to its `}` is skipped.
-                    self.recover(Mistake::Declaration, Resume::Here, None);
+                    // error, and the stretch up to its `}` is skipped. It
+                    // belongs to the block above, if there is one.
+                    let above = match decls.last() {
+                        Some(Decl::Block(b)) => Some(b.name),
+                        _ => None,
+                    };
+                    self.recover(Mistake::Declaration, Resume::Here, above);
                     let close = self.next_close[self.pos] as usize;
                     let start = self.span_at(self.pos).start as usize;
                     self.pos = close + 1;
@@ -788,6 +813,12 @@ impl<'a> Parser<'a> {
                 }
                 Some(_) => {
                     self.recover(Mistake::Item, Resume::Alternative, None);
+                    // The whole alternative is dropped: the damage covers it
+                    // from its start, so the names read so far count as
+                    // mentioned.
+                    let start = self.span_at(first).start as usize;
+                    let end = self.last_end().max(start);
+                    self.reshape_damage(Span::new(start, end));
                     return BodyElem::Junk;
                 }
             }
