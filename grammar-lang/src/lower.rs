@@ -75,6 +75,9 @@ fn lower_using(
     for index in 0..lowerer.syntax.len() {
         lowerer.lower_file(FileId(index as u32));
     }
+    for index in 0..lowerer.syntax.len() {
+        lowerer.note_damage(FileId(index as u32));
+    }
     Lowered {
         sources: lowerer.sources,
         syntax: lowerer.syntax,
@@ -325,15 +328,24 @@ impl Lowerer<'_> {
                 Decl::Test(t) => self.test(file, t),
             }
         }
-        // A block whose head could not be read may be missing: its name is
-        // not reported as undefined.
+        self.syntax[file.0 as usize] = syntax;
+    }
+
+    /// Once every file is lowered: the symbols the parser's damaged
+    /// stretches touch. A block whose head could not be read may be
+    /// missing, so its name is not reported as undefined; the names inside
+    /// a skipped stretch count as used. Only symbols the grammar knows are
+    /// marked: damage adds no names.
+    fn note_damage(&mut self, file: FileId) {
+        let syntax = &self.syntax[file.0 as usize];
+        let text = &self.sources.get(file).text;
         for damage in &syntax.damaged {
-            if let Some(name) = damage.block {
-                let name = self.text(file, name.span).to_string();
-                let nt = self.grammar.intern_nt(&name);
+            if let Some(nt) = damage
+                .block
+                .and_then(|name| self.grammar.nt(name.span.text(text)))
+            {
                 self.grammar.mark_damaged(nt);
             }
-            // The names in a skipped stretch.
             let first = syntax
                 .tokens
                 .partition_point(|t| t.span.start < damage.span.start);
@@ -342,13 +354,12 @@ impl Lowerer<'_> {
                 .take_while(|t| t.span.end <= damage.span.end)
             {
                 if token.kind == crate::syntax::lexer::TokenKind::Ident {
-                    let name = self.text(file, token.span).to_string();
-                    let nt = self.grammar.intern_nt(&name);
-                    self.grammar.mark_mentioned_in_damage(nt);
+                    if let Some(nt) = self.grammar.nt(token.span.text(text)) {
+                        self.grammar.mark_mentioned_in_damage(nt);
+                    }
                 }
             }
         }
-        self.syntax[file.0 as usize] = syntax;
     }
 
     fn grammar_decl(&mut self, file: FileId, decl: &ast::NameDecl) {

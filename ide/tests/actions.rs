@@ -677,3 +677,21 @@ fn a_name_with_nothing_close_gets_no_replacement() {
         .iter()
         .all(|c| !c.is_preferred && !c.title.starts_with("Replace")));
 }
+
+#[test]
+fn a_bare_name_that_is_a_known_word_is_quoted_by_the_preferred_fix() {
+    let (text, [at]) =
+        marked("start Log\nLog {\n  0.5 \"wind\" [[calm]]   # Windstille\n  0.5 \"calm\"\n}\n");
+    let a = analyze_text(&text);
+    let actions = ide::code_actions(&a, M, at);
+    let preferred: Vec<_> = actions.iter().filter(|c| c.is_preferred).collect();
+    assert_eq!(preferred.len(), 1, "{actions:#?}");
+    assert_eq!(preferred[0].title, "Quote `calm`: the word \"calm\"");
+    let fixed = apply(&text, M, &preferred[0].edits);
+    assert_eq!(
+        fixed,
+        "start Log\nLog {\n  0.5 \"wind\" \"calm\"   # Windstille\n  0.5 \"calm\"\n}\n"
+    );
+    assert_eq!(comments(&fixed), comments(&text));
+    assert!(analyze_text(&fixed).diagnostics.is_empty());
+}
