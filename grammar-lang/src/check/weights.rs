@@ -37,7 +37,7 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
         // block rather than one per rule.
         let all_zero = block.relative
             && !grammar.is_damaged(nt)
-            && grammar.nonterminal(nt).rules.len() > 0
+            && !grammar.nonterminal(nt).rules.is_empty()
             && grammar
                 .rules_of(nt)
                 .all(|(_, rule)| rule.weight.as_ref().is_some_and(|w| w.value.is_zero()));
