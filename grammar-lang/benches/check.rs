@@ -94,5 +94,63 @@ fn bench_phases(c: &mut Criterion) {
     group.finish();
 }
 
-criterion_group!(benches, bench_check, bench_phases);
+/// A grammar of about 1 MB with a mistake in every tenth line of every
+/// kind the recovery table covers (a decimal comma, a stray character, a
+/// weight after its items, a block missing its `{`, an unquoted word), so
+/// that recovery itself is timed. Recovery must stay linear: the time per
+/// byte here should be close to the clean grammar's.
+fn with_mistakes(text: &str) -> String {
+    let mut out = String::with_capacity(text.len() + text.len() / 10);
+    for (i, line) in text.lines().enumerate() {
+        let trimmed = line.trim_start();
+        let mistake = i % 10 == 3;
+        if mistake && line.ends_with('{') && i % 20 == 3 {
+            // A block missing its `{`.
+            out.push_str(line.trim_end_matches('{').trim_end());
+        } else if mistake && trimmed.starts_with("0.") {
+            out.push_str(&line.replacen("0.", "0,", 1));
+        } else if mistake && trimmed.contains('"') {
+            out.push_str(&line.replacen('"', "@\"", 1));
+        } else if mistake {
+            out.push_str(line);
+            out.push_str(" 0.5");
+        } else {
+            out.push_str(line);
+        }
+        out.push('\n');
+    }
+    out
+}
+
+fn bench_recovery(c: &mut Criterion) {
+    let mut group = c.benchmark_group("recovery_1mb");
+    group.sample_size(10);
+    group.measurement_time(Duration::from_secs(5));
+    let mut rules = 10_000;
+    let clean = loop {
+        let text = generate(rules);
+        if text.len() >= 1_000_000 {
+            break text;
+        }
+        rules += 10_000;
+    };
+    let broken = with_mistakes(&clean);
+    let errors = analyze_text(&broken).diagnostics.len();
+    assert!(
+        errors > 1_000,
+        "only {errors} findings in the broken grammar"
+    );
+    for (name, text) in [("clean", &clean), ("mistakes", &broken)] {
+        group.throughput(Throughput::Bytes(text.len() as u64));
+        group.bench_with_input(BenchmarkId::new("parse", name), text, |b, text| {
+            b.iter(|| syntax::parse(black_box(text)))
+        });
+        group.bench_with_input(BenchmarkId::new("analyze_text", name), text, |b, text| {
+            b.iter(|| analyze_text(black_box(text)))
+        });
+    }
+    group.finish();
+}
+
+criterion_group!(benches, bench_check, bench_phases, bench_recovery);
 criterion_main!(benches);

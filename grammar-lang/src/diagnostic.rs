@@ -84,6 +84,8 @@ codes! {
         "A block (not `relative`) whose probabilities do not add up to exactly 1.";
     NoMassLeft = "no-mass-left", Error,
         "Unweighted alternatives in a block whose weighted ones already use all the mass.";
+    AllZero = "all-zero", Error,
+        "A `relative` block whose weights are all 0: there is nothing to divide by, so none of its rules can be used.";
     ZeroWeight = "zero-weight", Warning,
         "A rule with weight 0, which can never be used.";
     NegativeWeight = "negative-weight", Error,

@@ -7,7 +7,7 @@
 //!               (lossless)        (AST + spans)         (exact model)
 //! ```
 //!
-//! * [`syntax`] — logos lexer and chumsky parser with error recovery; the
+//! * [`syntax`] — logos lexer and a hand-written parser with one recovery mechanism; the
 //!   token list keeps every comment and space, so rewrites lose nothing.
 //! * [`lower`] — resolves `use`, names and weights into the [`model::Grammar`].
 //! * [`check`] — the static analyses, each with a stable [`diagnostic::Code`].

@@ -75,6 +75,9 @@ fn lower_using(
     for index in 0..lowerer.syntax.len() {
         lowerer.lower_file(FileId(index as u32));
     }
+    for index in 0..lowerer.syntax.len() {
+        lowerer.note_damage(FileId(index as u32));
+    }
     Lowered {
         sources: lowerer.sources,
         syntax: lowerer.syntax,
@@ -314,11 +317,49 @@ impl Lowerer<'_> {
                 Decl::Grammar(d) => self.grammar_decl(file, d),
                 Decl::Start(d) => self.start_decl(file, d),
                 Decl::Use(_) => {}
-                Decl::Block(b) => self.block(file, b),
+                Decl::Block(b) => {
+                    self.block(file, b);
+                    if syntax.is_damaged(b.span) {
+                        let name = self.text(file, b.name.span).to_string();
+                        let nt = self.grammar.intern_nt(&name);
+                        self.grammar.mark_damaged(nt);
+                    }
+                }
                 Decl::Test(t) => self.test(file, t),
             }
         }
         self.syntax[file.0 as usize] = syntax;
+    }
+
+    /// Once every file is lowered: the symbols the parser's damaged
+    /// stretches touch. A block whose head could not be read may be
+    /// missing, so its name is not reported as undefined; the names inside
+    /// a skipped stretch count as used. Only symbols the grammar knows are
+    /// marked: damage adds no names.
+    fn note_damage(&mut self, file: FileId) {
+        let syntax = &self.syntax[file.0 as usize];
+        let text = &self.sources.get(file).text;
+        for damage in &syntax.damaged {
+            if let Some(nt) = damage
+                .block
+                .and_then(|name| self.grammar.nt(name.span.text(text)))
+            {
+                self.grammar.mark_damaged(nt);
+            }
+            let first = syntax
+                .tokens
+                .partition_point(|t| t.span.start < damage.span.start);
+            for token in syntax.tokens[first..]
+                .iter()
+                .take_while(|t| t.span.end <= damage.span.end)
+            {
+                if token.kind == crate::syntax::lexer::TokenKind::Ident {
+                    if let Some(nt) = self.grammar.nt(token.span.text(text)) {
+                        self.grammar.mark_mentioned_in_damage(nt);
+                    }
+                }
+            }
+        }
     }
 
     fn grammar_decl(&mut self, file: FileId, decl: &ast::NameDecl) {
@@ -524,10 +565,7 @@ impl Lowerer<'_> {
                         self.diagnostics.push(
                             Diagnostic::new(Code::BadWeight, at, format!("bad weight: {reason}"))
                                 .with_label("not a usable weight")
-                                .with_help(
-                                    "write a weight as a decimal `0.25`, a fraction `1/4` or a \
-                                     percentage `25%`",
-                                ),
+                                .with_help(crate::weight::weight_help(self.text(file, span))),
                         );
                         self.grammar.mark_damaged(nt);
                         is_broken = true;
@@ -854,6 +892,7 @@ mod tests {
                 }),
             ],
             errors: Vec::new(),
+            damaged: Vec::new(),
         }
     }
 

@@ -204,6 +204,9 @@ pub struct Grammar {
     /// Blocks whose probabilities could not be resolved faithfully (a weight
     /// that could not be read, an empty alternative); see [`Grammar::is_damaged`].
     damaged: std::collections::HashSet<NtId>,
+    /// Symbols named inside text the parser skipped; see
+    /// [`Grammar::mentioned_in_damage`].
+    mentioned_in_damage: Vec<NtId>,
 }
 
 impl Grammar {
@@ -241,6 +244,18 @@ impl Grammar {
     /// has an unreadable weight, and an error saying so was already reported.
     pub fn mark_damaged(&mut self, nt: NtId) {
         self.damaged.insert(nt);
+    }
+
+    /// Records that `nt` is named inside text the parser skipped (a
+    /// syntax error was reported there).
+    pub fn mark_mentioned_in_damage(&mut self, nt: NtId) {
+        self.mentioned_in_damage.push(nt);
+    }
+
+    /// The symbols named inside skipped text: the text may well use them,
+    /// so they are not reported as unreachable.
+    pub fn mentioned_in_damage(&self) -> &[NtId] {
+        &self.mentioned_in_damage
     }
 
     /// Whether `nt`'s block is damaged (see [`Grammar::mark_damaged`]). Its

@@ -83,23 +83,28 @@ impl LineIndex {
         let bytes = text.as_bytes();
         let mut line_starts = Vec::with_capacity(bytes.len() / 32 + 1);
         line_starts.push(0);
+        // A line starts after every LF, and after every CR not followed by
+        // an LF (a lone CR): LF, CRLF and CR are line breaks alike, as in
+        // the lexer and the Language Server Protocol.
         let mut push_newlines = |chunk: &[u8], base: usize| {
             for (k, &b) in chunk.iter().enumerate() {
-                if b == b'\n' {
-                    line_starts.push((base + k) as u32 + 1);
+                let at = base + k;
+                if b == b'\n' || (b == b'\r' && bytes.get(at + 1) != Some(&b'\n')) {
+                    line_starts.push(at as u32 + 1);
                 }
             }
         };
-        // Eight bytes at a time: a word holds a newline exactly when the
-        // word XOR "\n\n\n\n\n\n\n\n" has a zero byte (the classic has-zero-byte
-        // test, which may also fire on a word without one; its bytes are then
-        // merely looked at in vain).
+        // Eight bytes at a time: a word holds a line break byte exactly when
+        // the word XOR "\n\n\n\n\n\n\n\n" (or "\r\r…") has a zero byte (the
+        // classic has-zero-byte test, which may also fire on a word without
+        // one; its bytes are then merely looked at in vain).
+        let has_zero =
+            |x: u64| x.wrapping_sub(0x0101_0101_0101_0101) & !x & 0x8080_8080_8080_8080 != 0;
         let mut chunks = bytes.chunks_exact(8);
         let mut base = 0;
         for chunk in &mut chunks {
             let word = u64::from_le_bytes(chunk.try_into().unwrap_or_default());
-            let x = word ^ 0x0a0a_0a0a_0a0a_0a0a;
-            if x.wrapping_sub(0x0101_0101_0101_0101) & !x & 0x8080_8080_8080_8080 != 0 {
+            if has_zero(word ^ 0x0a0a_0a0a_0a0a_0a0a) || has_zero(word ^ 0x0d0d_0d0d_0d0d_0d0d) {
                 push_newlines(chunk, base);
             }
             base += 8;
@@ -177,7 +182,7 @@ impl LineIndex {
         };
         let mut units = 0u32;
         for (i, c) in text.get(start..end).unwrap_or("").char_indices() {
-            if units >= pos.col || c == '\n' {
+            if units >= pos.col || c == '\n' || c == '\r' {
                 return start + i;
             }
             units += c.len_utf16() as u32;

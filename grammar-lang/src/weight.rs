@@ -7,6 +7,14 @@ use num_traits::{One, Signed, Zero};
 
 /// Parses a weight token's text to an exact rational.
 pub fn parse_weight(text: &str) -> Result<(Ratio, Notation), String> {
+    if text.contains(',') {
+        return Err(format!("`{text}` has a decimal comma"));
+    }
+    if text.contains(['e', 'E']) {
+        return Err(format!(
+            "`{text}` is in scientific notation, which a weight cannot be written in"
+        ));
+    }
     if let Some(number) = text.strip_suffix('%') {
         let value = parse_decimal(number)?;
         return Ok((
@@ -23,6 +31,37 @@ pub fn parse_weight(text: &str) -> Result<(Ratio, Notation), String> {
         return Ok((num / den, Notation::Fraction));
     }
     Ok((parse_decimal(text)?, Notation::Decimal))
+}
+
+/// What to write instead of a weight [`parse_weight`] cannot read: the
+/// help of a `bad-weight` finding.
+pub fn weight_help(text: &str) -> String {
+    const NOTATIONS: &str =
+        "write a weight as a decimal `0.25`, a fraction `1/4` or a percentage `25%`";
+    if text.contains(',') {
+        return format!(
+            "weights use a decimal point: write `{}`",
+            text.replace(',', ".")
+        );
+    }
+    if let Some((mantissa, exponent)) = text.split_once(['e', 'E']) {
+        // A short exponent: the same number written out, exactly.
+        let written = exponent
+            .parse::<i32>()
+            .ok()
+            .filter(|e| e.abs() <= 12)
+            .and_then(|e| {
+                let m = parse_decimal(mantissa).ok()?;
+                let ten = Ratio::from_integer(BigInt::from(10).pow(e.unsigned_abs()));
+                let value = if e < 0 { m / ten } else { m * ten };
+                exact_decimal(&value, 24)
+            });
+        return match written {
+            Some(decimal) => format!("scientific notation is not a weight: write `{decimal}`"),
+            None => format!("scientific notation is not a weight; {NOTATIONS}"),
+        };
+    }
+    NOTATIONS.to_string()
 }
 
 /// `-12.375` → -12375/1000, exactly.

@@ -279,7 +279,8 @@ fn make_relative(analysis: &Analysis, file: FileId, block: &Block, d: &Diagnosti
 
 /// Replaces the text the diagnostic points at by the text it suggests: a
 /// misspelt name or word by the known one, a badly spaced terminal by its
-/// words spaced once.
+/// words spaced once, a bare name by the quoted word of the grammar it
+/// spells.
 fn replace_name(analysis: &Analysis, d: &Diagnostic) -> Option<CodeAction> {
     let suggestion = d.suggestion.as_deref()?;
     let file = d.location.file;
@@ -289,6 +290,7 @@ fn replace_name(analysis: &Analysis, d: &Diagnostic) -> Option<CodeAction> {
     }
     let title = match d.code {
         Code::TerminalSpacing => format!("Normalise the spacing: {suggestion}"),
+        _ if suggestion.starts_with('"') => format!("Quote `{wrong}`: the word {suggestion}"),
         _ => format!("Replace `{wrong}` with `{suggestion}`"),
     };
     Some(CodeAction {

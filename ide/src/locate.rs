@@ -119,12 +119,13 @@ pub(crate) fn rule_of(
     let &id = rules.get(i)?;
     (grammar.rule(id).location.span == alt.span).then_some(id)
 }
-/// The byte offset where the line containing `offset` starts.
+/// The byte offset where the line containing `offset` starts (after an
+/// LF, a CRLF or a lone CR).
 pub(crate) fn line_start(text: &str, offset: usize) -> usize {
     let offset = offset.min(text.len());
     text.as_bytes()[..offset]
         .iter()
-        .rposition(|&b| b == b'\n')
+        .rposition(|&b| b == b'\n' || b == b'\r')
         .map_or(0, |i| i + 1)
 }
 
@@ -132,8 +133,16 @@ pub(crate) fn line_start(text: &str, offset: usize) -> usize {
 /// `offset` (the text length on the last line).
 pub(crate) fn next_line_start(text: &str, offset: usize) -> usize {
     let offset = offset.min(text.len());
-    text.as_bytes()[offset..]
+    let bytes = text.as_bytes();
+    match bytes[offset..]
         .iter()
-        .position(|&b| b == b'\n')
-        .map_or(text.len(), |i| offset + i + 1)
+        .position(|&b| b == b'\n' || b == b'\r')
+    {
+        // LF, CRLF and a lone CR end a line alike.
+        Some(i) if bytes[offset + i] == b'\r' && bytes.get(offset + i + 1) == Some(&b'\n') => {
+            offset + i + 2
+        }
+        Some(i) => offset + i + 1,
+        None => text.len(),
+    }
 }

@@ -759,3 +759,21 @@ fn a_badly_spaced_terminal_is_normalised_as_the_preferred_fix_without_changing_t
     assert_eq!(rules(&before), rules(&after));
     assert_eq!(comments(&fixed), comments(&text));
 }
+
+#[test]
+fn a_bare_name_that_is_a_known_word_is_quoted_by_the_preferred_fix() {
+    let (text, [at]) =
+        marked("start Log\nLog {\n  0.5 \"wind\" [[calm]]   # Windstille\n  0.5 \"calm\"\n}\n");
+    let a = analyze_text(&text);
+    let actions = ide::code_actions(&a, M, at);
+    let preferred: Vec<_> = actions.iter().filter(|c| c.is_preferred).collect();
+    assert_eq!(preferred.len(), 1, "{actions:#?}");
+    assert_eq!(preferred[0].title, "Quote `calm`: the word \"calm\"");
+    let fixed = apply(&text, M, &preferred[0].edits);
+    assert_eq!(
+        fixed,
+        "start Log\nLog {\n  0.5 \"wind\" \"calm\"   # Windstille\n  0.5 \"calm\"\n}\n"
+    );
+    assert_eq!(comments(&fixed), comments(&text));
+    assert!(analyze_text(&fixed).diagnostics.is_empty());
+}

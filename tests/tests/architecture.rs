@@ -114,7 +114,6 @@ fn the_pure_crates_depend_only_on_what_their_role_needs() {
         (
             "grammar-lang",
             set(&[
-                "chumsky",
                 "logos",
                 "num-bigint",
                 "num-integer",

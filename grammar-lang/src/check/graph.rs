@@ -74,9 +74,18 @@ pub fn reachable_from(grammar: &Grammar, start: NtId) -> Vec<bool> {
 }
 
 fn reachable_in(grammar: &Grammar, flat: &FlatRules, start: NtId) -> Vec<bool> {
+    reachable_from_all(grammar, flat, &[start])
+}
+
+fn reachable_from_all(grammar: &Grammar, flat: &FlatRules, roots: &[NtId]) -> Vec<bool> {
     let mut seen = vec![false; grammar.nonterminals.len()];
-    seen[start.index()] = true;
-    let mut queue = VecDeque::from([start.0]);
+    let mut queue = VecDeque::new();
+    for root in roots {
+        if !seen[root.index()] {
+            seen[root.index()] = true;
+            queue.push_back(root.0);
+        }
+    }
     while let Some(nt) = queue.pop_front() {
         for rule in &grammar.nonterminals[nt as usize].rules {
             for &next in flat.nts_of(rule.index()) {
@@ -96,7 +105,11 @@ fn unreachable(grammar: &Grammar, flat: &FlatRules, out: &mut Vec<Diagnostic>) {
         return;
     }
     let start_name = grammar.nt_name(start);
-    let seen = reachable_in(grammar, flat, start);
+    // Symbols named in text the parser skipped count as reached: the
+    // skipped text most likely uses them, and its error comes first.
+    let mut roots = vec![start];
+    roots.extend_from_slice(grammar.mentioned_in_damage());
+    let seen = reachable_from_all(grammar, flat, &roots);
     for nt in grammar.nt_ids() {
         let Some(block) = &grammar.nonterminal(nt).block else {
             continue;
@@ -195,7 +208,17 @@ fn unproductive(grammar: &Grammar, flat: &FlatRules, out: &mut Vec<Diagnostic>) 
         let Some(block) = &grammar.nonterminal(nt).block else {
             continue;
         };
-        if productive[nt.index()] {
+        if productive[nt.index()] || grammar.is_damaged(nt) {
+            continue;
+        }
+        // A block that needs a block the parser had to repair: the repair's
+        // error comes first.
+        let needs_damaged = grammar.rules_of(nt).any(|(_, rule)| {
+            rule.rhs
+                .iter()
+                .any(|&sym| matches!(sym, Sym::N(dep) if grammar.is_damaged(dep)))
+        });
+        if needs_damaged {
             continue;
         }
         let name = grammar.nt_name(nt);

@@ -55,7 +55,9 @@ fn did_you_mean(suggestion: Option<&str>) -> String {
 fn undefined(grammar: &Grammar, suggester: &mut Lazy, out: &mut Vec<Diagnostic>) {
     for nt in grammar.nt_ids() {
         let symbol = grammar.nonterminal(nt);
-        if symbol.is_defined() {
+        // A damaged symbol's block could not be read: the syntax error
+        // stands for it.
+        if symbol.is_defined() || grammar.is_damaged(nt) {
             continue;
         }
         let uses: Vec<Location> = symbol
@@ -66,6 +68,30 @@ fn undefined(grammar: &Grammar, suggester: &mut Lazy, out: &mut Vec<Diagnostic>)
             .filter(|&at| Some(at) != grammar.start_location || grammar.start != Some(nt))
             .collect();
         if uses.is_empty() {
+            continue;
+        }
+        // A bare name that is a word of the grammar: most likely a
+        // terminal whose quotes were forgotten.
+        if grammar.term(&symbol.name).is_some() {
+            let quoted = crate::syntax::lexer::quote(&symbol.name);
+            for at in uses {
+                out.push(
+                    Diagnostic::new(
+                        Code::Undefined,
+                        at,
+                        format!(
+                            "`{}` is used but has no block; the word {quoted} is a terminal of the grammar",
+                            symbol.name
+                        ),
+                    )
+                    .with_label("not defined")
+                    .with_help(format!(
+                        "quote it to use the word: {quoted}; or define a block `{} {{ … }}`",
+                        symbol.name
+                    ))
+                    .with_suggestion(Some(quoted.clone())),
+                );
+            }
             continue;
         }
         let suggestion = suggester.closest(&symbol.name);
@@ -102,7 +128,7 @@ fn start(grammar: &Grammar, sources: &SourceMap, suggester: &mut Lazy, out: &mut
     match (grammar.start, grammar.start_location) {
         (Some(start), Some(at)) => {
             let symbol = grammar.nonterminal(start);
-            if symbol.is_defined() {
+            if symbol.is_defined() || grammar.is_damaged(start) {
                 return;
             }
             let suggestion = suggester.closest(&symbol.name);

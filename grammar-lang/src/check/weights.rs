@@ -4,6 +4,8 @@
 //! * `no-mass-left`: a plain block with unweighted alternatives whose
 //!   weighted alternatives already use all the mass; reported at the
 //!   unweighted alternatives.
+//! * `all-zero`: a `relative` block whose weights are all 0, so its rules
+//!   can never be used (reported instead of a `zero-weight` per rule).
 //! * `sum-not-one`: a plain block whose resolved probabilities do not add up
 //!   to exactly 1, with the exact sum and the exact gap.
 //!
@@ -31,6 +33,32 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
         let mut has_negative = false;
         weights.clear();
         unweighted.clear();
+        // A relative block with nothing to divide by: one finding for the
+        // block rather than one per rule.
+        let all_zero = block.relative
+            && !grammar.is_damaged(nt)
+            && !grammar.nonterminal(nt).rules.is_empty()
+            && grammar
+                .rules_of(nt)
+                .all(|(_, rule)| rule.weight.as_ref().is_some_and(|w| w.value.is_zero()));
+        if all_zero {
+            out.push(
+                Diagnostic::new(
+                    Code::AllZero,
+                    block.name,
+                    format!(
+                        "every weight of the relative block `{name}` is 0: there is nothing to \
+                         divide by, so none of its {} rules can be used",
+                        grammar.nonterminal(nt).rules.len()
+                    ),
+                )
+                .with_label("all weights 0")
+                .with_help(format!(
+                    "give at least one alternative of `{name}` a positive weight"
+                )),
+            );
+            continue;
+        }
         for (id, rule) in grammar.rules_of(nt) {
             let Some(weight) = &rule.weight else {
                 unweighted.push(rule);

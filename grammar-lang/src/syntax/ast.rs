@@ -15,6 +15,32 @@ pub struct SyntaxFile {
     pub tokens: Vec<super::lexer::Token>,
     pub decls: Vec<Decl>,
     pub errors: Vec<SyntaxError>,
+    /// The stretches the parser could not read as written, in file order:
+    /// skipped, or repaired by assuming what was missing. An error was
+    /// reported for each; the later checks stay quiet about the blocks they
+    /// touch, so that one mistake gives one error.
+    pub damaged: Vec<Damage>,
+}
+
+/// A stretch the parser skipped or repaired (see [`SyntaxFile::damaged`]).
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub struct Damage {
+    pub span: Span,
+    /// The block whose head or end could not be read, when its name is known:
+    /// its block may be missing or incomplete, so its name is not reported
+    /// as undefined.
+    pub block: Option<Name>,
+}
+
+impl SyntaxFile {
+    /// Whether a damaged stretch overlaps `span` (or touches it, for an
+    /// empty stretch).
+    pub fn is_damaged(&self, span: Span) -> bool {
+        let at = self.damaged.partition_point(|d| d.span.end < span.start);
+        self.damaged[at..]
+            .first()
+            .is_some_and(|d| d.span.start <= span.end)
+    }
 }
 
 /// A syntax error with its location and, where there is one, a fix to suggest.

@@ -12,15 +12,16 @@ use std::fmt;
 
 #[derive(Logos, Clone, Copy, Debug, PartialEq, Eq, Hash)]
 pub enum TokenKind {
-    #[regex(r"[ \t\f\r\u{FEFF}]+")]
+    #[regex(r"[ \t\f\u{FEFF}]+")]
     Whitespace,
-    #[token("\n")]
+    /// A line break: LF, CRLF or a lone CR, alike everywhere.
+    #[regex(r"\r\n|\n|\r")]
     Newline,
     /// `# …` to the end of the line.
-    #[regex(r"#[^\n]*", allow_greedy = true)]
+    #[regex(r"#[^\n\r]*", allow_greedy = true)]
     Comment,
     /// `## …`: documentation for the next declaration (`###…` is a plain comment).
-    #[regex(r"##([^#\n][^\n]*)?", priority = 10, allow_greedy = true)]
+    #[regex(r"##([^#\n\r][^\n\r]*)?", priority = 10, allow_greedy = true)]
     DocComment,
 
     #[token("grammar")]
@@ -44,13 +45,18 @@ pub enum TokenKind {
     #[regex(r"[\p{L}_][\p{L}\p{N}_\-.'+]*")]
     Ident,
     /// A quoted terminal with `\"` and `\\` escapes.
-    #[regex(r#""([^"\\\n]|\\[^\n])*""#)]
+    #[regex(r#""([^"\\\n\r]|\\[^\n\r])*""#)]
     String,
     /// A string that runs to the end of the line without its closing quote.
-    #[regex(r#""([^"\\\n]|\\[^\n])*\\?"#, priority = 1)]
+    #[regex(r#""([^"\\\n\r]|\\[^\n\r])*\\?"#, priority = 1)]
     UnterminatedString,
-    /// A weight: decimal `0.25`, fraction `1/4`, percent `25%`, optionally negative.
+    /// A weight: decimal `0.25`, fraction `1/4`, percent `25%`, optionally
+    /// negative. Numbers a weight cannot be — with a decimal comma `0,5` or
+    /// in scientific notation `1e-3` — are one token too, so that reading
+    /// the weight reports them once, with what to write instead.
     #[regex(r"-?([0-9]+(\.[0-9]*)?|\.[0-9]+)(%|/-?([0-9]+(\.[0-9]*)?|\.[0-9]+))?")]
+    #[regex(r"-?[0-9]+,[0-9]+%?")]
+    #[regex(r"-?([0-9]+(\.[0-9]*)?|\.[0-9]+)[eE][+-]?[0-9]+%?")]
     Weight,
 
     #[token("{")]

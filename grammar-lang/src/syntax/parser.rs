@@ -1,117 +1,32 @@
-//! The recovering parser: non-trivia tokens → [`SyntaxFile`].
+//! The recovering parser: significant tokens → [`SyntaxFile`].
 //!
-//! Built with chumsky over the logos token list. Recovery is line-based,
-//! which suits a language whose alternatives end at newlines: an alternative
-//! that cannot be read is skipped to the end of its line (or to the next `|`
-//! or `}`), a declaration that cannot be read is skipped to the end of its
-//! line, and a block whose `}` is missing ends where the next declaration
-//! begins. Every error is reported; every intact declaration is kept.
+//! A hand-written recursive-descent parser over the logos token list, with
+//! **one recovery mechanism**: wherever the text departs from the grammar
+//! the parser calls [`Parser::recover`] with the [`Mistake`] it sees and the
+//! place reading resumes ([`Resume`]). `recover` reports exactly one error
+//! (its message and help come from one table, [`diagnose`]), skips what
+//! cannot be read — or, for a mistake whose repair is clear (a missing `{`,
+//! an unquoted test name, a weight written after its alternative), skips
+//! nothing and reads on as if the text were right — and records the
+//! stretch in [`SyntaxFile::damaged`]. Lowering marks the blocks a damaged
+//! stretch touches, and the later checks stay quiet about them, so one
+//! mistake gives one error.
+//!
+//! Resumption points are line-based, which suits a language whose
+//! alternatives end at newlines: an unreadable alternative resumes at the
+//! next newline, `|` or `}`; an unreadable test case at the next line that
+//! starts a case; an unreadable declaration at the next line; and a block
+//! whose `}` is missing ends where the next declaration starts. Nothing
+//! recurses on the input's nesting (expected trees are read with an
+//! explicit stack), and every token is looked at a bounded number of times,
+//! so the parser is linear in the file.
 
 use super::ast::*;
 use super::lexer::{lex, unquote_small, Token, TokenKind};
 use crate::span::Span;
-use chumsky::error::EmptyErr;
-use chumsky::prelude::*;
+use smol_str::SmolStr;
 
-type Rich_<'a> = Rich<'a, TokenKind, SimpleSpan>;
-
-/// The error types the parser is instantiated with: a free one for the fast
-/// first pass over (usually correct) files, and `Rich` for reporting.
-trait ParseError<'a>:
-    chumsky::error::Error<'a, TokenSlice<'a>>
-    + chumsky::error::LabelError<'a, TokenSlice<'a>, chumsky::DefaultExpected<'a, TokenKind>>
-    + 'a
-{
-    fn custom(span: SimpleSpan, message: String) -> Self;
-}
-
-impl<'a> ParseError<'a> for Rich_<'a> {
-    fn custom(span: SimpleSpan, message: String) -> Self {
-        Rich::custom(span, message)
-    }
-}
-
-impl<'a> ParseError<'a> for EmptyErr {
-    fn custom(_: SimpleSpan, _: String) -> Self {
-        EmptyErr::default()
-    }
-}
-
-/// The parser's input: the kinds of the significant tokens, with their
-/// byte spans alongside. Cursors are token indices; a span runs from the
-/// start of its first token to the end of its last (as chumsky's mapped
-/// slice input computes it), so chumsky never copies `(kind, span)` pairs.
-#[derive(Clone, Copy)]
-struct TokenSlice<'a> {
-    kinds: &'a [TokenKind],
-    spans: &'a [Span],
-    /// The length of the text: the span of the end of input.
-    eoi: usize,
-}
-
-impl<'a> chumsky::input::Input<'a> for TokenSlice<'a> {
-    type Span = SimpleSpan;
-    type Token = TokenKind;
-    type MaybeToken = TokenKind;
-    type Cursor = usize;
-    type Cache = Self;
-
-    #[inline]
-    fn begin(self) -> (usize, Self) {
-        (0, self)
-    }
-
-    #[inline]
-    fn cursor_location(cursor: &usize) -> usize {
-        *cursor
-    }
-
-    #[inline(always)]
-    unsafe fn next_maybe(this: &mut Self, cursor: &mut usize) -> Option<TokenKind> {
-        let kind = this.kinds.get(*cursor).copied()?;
-        *cursor += 1;
-        Some(kind)
-    }
-
-    #[inline]
-    unsafe fn span(this: &mut Self, range: std::ops::Range<&usize>) -> SimpleSpan {
-        match this.spans.get(*range.start) {
-            Some(first) => {
-                let end = match range.end.checked_sub(1).and_then(|i| this.spans.get(i)) {
-                    Some(last) => last.end as usize,
-                    None => this.eoi,
-                };
-                SimpleSpan::from(first.start as usize..end)
-            }
-            None => SimpleSpan::from(this.eoi..this.eoi),
-        }
-    }
-}
-
-impl<'a> chumsky::input::ValueInput<'a> for TokenSlice<'a> {
-    #[inline(always)]
-    unsafe fn next(this: &mut Self, cursor: &mut usize) -> Option<TokenKind> {
-        let kind = this.kinds.get(*cursor).copied()?;
-        *cursor += 1;
-        Some(kind)
-    }
-}
-
-impl<'a> chumsky::input::ExactSizeInput<'a> for TokenSlice<'a> {
-    #[inline]
-    unsafe fn span_from(this: &mut Self, range: std::ops::RangeFrom<&usize>) -> SimpleSpan {
-        let start = this
-            .spans
-            .get(*range.start)
-            .map_or(this.eoi, |first| first.start as usize);
-        SimpleSpan::from(start..this.eoi)
-    }
-}
-
-/// Separates a message from its help text inside a chumsky custom error.
-const HELP_SEP: char = '\u{1f}';
-/// Marks a custom error as an empty alternative.
-const EMPTY_MARK: char = '\u{1e}';
+use TokenKind as T;
 
 /// Parses `text` into its lossless syntax. Never fails: errors are collected.
 pub fn parse(text: &str) -> SyntaxFile {
@@ -127,97 +42,257 @@ pub fn parse(text: &str) -> SyntaxFile {
             doc_comments.push(i);
         }
     }
-    let input = TokenSlice {
-        kinds: &kinds,
-        spans: &spans,
-        eoi: text.len(),
-    };
-    // Fast pass without error bookkeeping; most files being edited or checked
-    // are correct. Only when it fails does the reporting pass run.
-    let fast = file_parser::<EmptyErr>(text)
-        .parse(input)
-        .into_output_errors();
-    let (decls, errs) = match fast {
-        (Some(decls), errs) if errs.is_empty() => (Some(decls), Vec::new()),
-        _ => file_parser::<Rich_>(text).parse(input).into_output_errors(),
-    };
-    let mut decls = decls.unwrap_or_default();
-    let mut errors: Vec<SyntaxError> = errs.into_iter().map(|e| convert_error(e, text)).collect();
+    let mut parser = Parser::new(text, &kinds, &spans);
+    let mut decls = parser.file();
+    let Parser {
+        mut errors,
+        mut damaged,
+        ..
+    } = parser;
     attach_docs(&mut decls, &tokens, &doc_comments, text);
     errors.sort_by_key(|e| (e.span.start, e.span.end));
     errors.dedup();
+    damaged.sort_by_key(|d| (d.span.start, d.span.end));
     SyntaxFile {
         tokens,
         decls,
         errors,
+        damaged,
     }
 }
 
-fn sp(s: SimpleSpan) -> Span {
-    Span::new(s.start, s.end)
+/// What the parser found wrong, in the context it was found in. Each
+/// variant is turned into one message and one help by [`diagnose`].
+#[derive(Clone, Copy, Debug)]
+enum Mistake {
+    /// A token that starts no declaration, at the top level.
+    Declaration,
+    /// `Name` not followed by `{` (or `relative {`), with junk before a
+    /// `{` later on the line.
+    BeforeBrace { name: Span },
+    /// `Name` whose `{` is missing, before what reads as its body.
+    MissingBrace { name: Span },
+    /// `Name` followed by something that makes no block.
+    BlockHeader { name: Span },
+    /// An alternative cannot start with (or continue with) this token.
+    Item,
+    /// A weight after the items of an alternative, at its end.
+    WeightAfterItems,
+    /// A weight inside an alternative: a `|` or a line break is missing.
+    MissingSeparator,
+    /// `grammar` or `start` without a symbol name.
+    DeclName { keyword: TokenKind },
+    /// `use` without a quoted path.
+    UsePath,
+    /// More on the line of a `grammar`, `start` or `use` declaration.
+    AfterDeclaration,
+    /// A test's name, unquoted.
+    UnquotedTestName,
+    /// `test` without a name.
+    TestName,
+    /// A line in a test block that is no case.
+    Case,
+    /// A case's sentence, unquoted.
+    UnquotedSentence,
+    /// A case without a sentence.
+    Sentence,
+    /// More after a case's sentence or tree.
+    AfterCase,
+    /// A tree bracket without a label.
+    TreeLabel,
+    /// Something inside a tree that is no subtree or word.
+    TreeChild,
 }
 
-/// An error message, a help text, and whether it is an empty alternative.
-fn custom<'a, Er: ParseError<'a>>(span: SimpleSpan, message: &str, help: &str) -> Er {
-    Er::custom(span, format!("{message}{HELP_SEP}{help}"))
+/// Where reading resumes after a mistake.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+enum Resume {
+    /// Nothing is skipped: the parser repairs the text in its mind and
+    /// reads on.
+    Here,
+    /// The offending token only.
+    Token,
+    /// The end of the line (before its newline).
+    Line,
+    /// The next newline, `|` or `}`: the end of an alternative.
+    Alternative,
+    /// The end of a test case, with the lines that continue it: up to the
+    /// line that starts the next case, the `}` or the next declaration.
+    Case,
 }
 
-fn convert_error(err: Rich<'_, TokenKind, SimpleSpan>, src: &str) -> SyntaxError {
-    let span = sp(*err.span());
-    match err.reason() {
-        chumsky::error::RichReason::Custom(msg) => {
-            let (empty_rule, msg) = match msg.strip_prefix(EMPTY_MARK) {
-                Some(rest) => (true, rest),
-                None => (false, msg.as_str()),
-            };
-            let (message, help) = match msg.split_once(HELP_SEP) {
-                Some((m, h)) => (m.to_string(), Some(h.to_string())),
-                None => (msg.to_string(), None),
-            };
-            SyntaxError {
-                span,
-                message,
-                help,
-                empty_rule,
+/// Turns a mistake and the token found into the error's message and help.
+/// The one table of the parser's wording.
+fn diagnose(
+    mistake: Mistake,
+    found: Option<TokenKind>,
+    found_text: &str,
+    src: &str,
+) -> (String, String) {
+    let what = match found {
+        None => "the end of the file".to_string(),
+        Some(kind) => describe_found(kind, found_text),
+    };
+    let quote_it = |text: &str| super::lexer::quote(text.trim());
+    match mistake {
+        Mistake::Declaration => match found {
+            Some(T::RBrace) => (
+                "this `}` closes no block".into(),
+                "remove it, or look above for a block that was closed too early".into(),
+            ),
+            Some(T::Weight | T::String | T::UnterminatedString | T::Pipe) => (
+                format!("{what} stands outside any block"),
+                "alternatives belong inside a block `Name { … }`; is a `}` above closing its block too early?".into(),
+            ),
+            Some(T::KwAccept | T::KwReject) => (
+                format!("a test case ({what}) outside a test block"),
+                "put cases inside `test \"name\" { … }`".into(),
+            ),
+            Some(T::LBrace) => (
+                "a `{` without a block name".into(),
+                "write the block's name before it: `Name { … }`".into(),
+            ),
+            Some(T::LParen | T::RParen) => (
+                format!("unexpected {what}"),
+                "brackets only appear in the expected trees of tests: `accept \"words\" as (Start …)`".into(),
+            ),
+            Some(T::Unknown) => (format!("unexpected {what}"), character_help(found_text)),
+            _ => (
+                format!("unexpected {what}; a declaration starts with a block name, `grammar`, `start`, `use` or `test`"),
+                "a block is written `Name { alternatives }`".into(),
+            ),
+        },
+        Mistake::BeforeBrace { name } => (
+            format!("unexpected {what} between the block name `{}` and its `{{`", name.text(src)),
+            format!("a block is written `{} {{ alternatives }}` (or `{} relative {{ … }}`)", name.text(src), name.text(src)),
+        ),
+        Mistake::MissingBrace { name } if name.text(src).starts_with('"') => (
+            format!("test {} is missing its `{{`", name.text(src)),
+            format!("write `test {} {{` on the line of its name; its cases follow, up to `}}`", name.text(src)),
+        ),
+        Mistake::MissingBrace { name } => (
+            format!("block `{}` is missing its `{{`", name.text(src)),
+            format!("write `{} {{` on the line of its name; its alternatives follow, up to `}}`", name.text(src)),
+        ),
+        Mistake::BlockHeader { name } => {
+            let name = name.text(src);
+            match found {
+                Some(T::String | T::UnterminatedString | T::Weight) => (
+                    format!("{what} after `{name}`; expected `{{` to open its block"),
+                    format!("a block is written `{name} {{ alternatives }}`; alternatives outside a block are not read"),
+                ),
+                _ => (
+                    format!("unexpected {what} after `{name}`; expected `relative` or `{{`"),
+                    format!("a block is written `{name} {{ alternatives }}`"),
+                ),
             }
         }
-        _ => {
-            let found = err.found().copied();
-            let mut expected: Vec<String> = err
-                .expected()
-                .filter_map(|p| match p {
-                    chumsky::error::RichPattern::Token(t)
-                        if **t == TokenKind::UnterminatedString =>
-                    {
-                        None
-                    }
-                    chumsky::error::RichPattern::Token(t) => Some(t.describe().to_string()),
-                    chumsky::error::RichPattern::Label(l) => Some(l.to_string()),
-                    chumsky::error::RichPattern::EndOfInput => Some("end of file".to_string()),
-                    _ => None,
-                })
-                .collect();
-            expected.sort();
-            expected.dedup();
-            let found_text = match found {
-                None => "end of file".to_string(),
-                Some(kind) => describe_found(kind, span.text(src)),
-            };
-            let message = if expected.is_empty() {
-                format!("unexpected {found_text}")
-            } else {
+        Mistake::Item => match found {
+            Some(T::Unknown) => (
+                format!("unexpected {what} in an alternative"),
+                character_help(found_text),
+            ),
+            Some(T::LParen | T::RParen) => (
+                format!("unexpected {what} in an alternative"),
+                "brackets only appear in the expected trees of tests; an alternative is a list of names and quoted words".into(),
+            ),
+            Some(T::LBrace) => (
+                "unexpected `{` in an alternative".into(),
+                "blocks do not nest; is a `}` missing above?".into(),
+            ),
+            Some(k) if k.is_keyword() => (
+                format!("{} is a keyword and cannot be used as a symbol name", k.describe()),
                 format!(
-                    "unexpected {found_text}; expected {}",
-                    one_of_list(&expected)
-                )
-            };
-            SyntaxError {
-                span,
-                message,
-                help: found.and_then(help_for_found),
-                empty_rule: false,
+                    "{} is a keyword: rename the symbol, or quote it if it is a word: {}",
+                    k.describe(),
+                    quote_it(found_text)
+                ),
+            ),
+            _ => (format!("unexpected {what} in an alternative"), "an alternative is `[weight] item item …`".into()),
+        },
+        Mistake::WeightAfterItems => (
+            format!("{what} after the alternative's items; a weight comes first"),
+            format!("move it to the front: `{found_text} …`"),
+        ),
+        Mistake::MissingSeparator => (
+            format!("{what} inside an alternative: a `|` or a line break is missing before it"),
+            "each alternative starts with its weight; separate alternatives with `|` or put each on its own line".into(),
+        ),
+        Mistake::DeclName { keyword } => {
+            let kw = keyword.describe();
+            match found {
+                Some(T::String) => (
+                    format!("{kw} takes a symbol name, not a quoted terminal"),
+                    format!(
+                        "remove the quotes: `{} {}`",
+                        kw.trim_matches('`'),
+                        found_text.trim_matches('"')
+                    ),
+                ),
+                _ => (
+                    format!("{kw} needs a symbol name; found {what}"),
+                    match keyword {
+                        T::KwGrammar => "write `grammar name`, e.g. `grammar lighthouse_log`".into(),
+                        _ => "write `start Name` with the name of the start symbol's block".into(),
+                    },
+                ),
             }
         }
+        Mistake::UsePath => (
+            format!("`use` needs a quoted file path; found {what}"),
+            format!("quote the path: `use {}`", quote_it(if found == Some(T::Ident) { found_text } else { "other.trellis" })),
+        ),
+        Mistake::AfterDeclaration => (
+            format!("unexpected {what} after the declaration"),
+            "a `grammar`, `start` or `use` declaration takes one line of its own".into(),
+        ),
+        Mistake::UnquotedTestName => (
+            "a test's name must be quoted".into(),
+            format!("write `test {} {{`", quote_it(found_text)),
+        ),
+        Mistake::TestName => (
+            format!("a test needs a quoted name; found {what}"),
+            "write `test \"name\" { … }`".into(),
+        ),
+        Mistake::Case => (
+            format!("unexpected {what}; a test case starts with `accept` or `reject`"),
+            "write each case on its own line: `accept \"words\"` or `reject \"words\"`".into(),
+        ),
+        Mistake::UnquotedSentence => (
+            "a test sentence must be quoted".into(),
+            format!("write it as {}", quote_it(found_text)),
+        ),
+        Mistake::Sentence => (
+            format!("expected a quoted sentence; found {what}"),
+            "write the sentence in quotes: `accept \"one return ticket\"`".into(),
+        ),
+        Mistake::AfterCase => match found {
+            Some(T::String | T::UnterminatedString) => (
+                format!("a second sentence ({what}) in one case"),
+                "put all the words of a sentence in one pair of quotes, or write a case per sentence".into(),
+            ),
+            _ => (
+                format!("unexpected {what} after the case"),
+                "a case is `accept \"words\"`, `accept \"words\" as (Tree …)` or `reject \"words\"`".into(),
+            ),
+        },
+        Mistake::TreeLabel => (
+            format!("expected the label of a tree node after `(`; found {what}"),
+            "a tree is written `(Label child …)` with words quoted: `(Kind \"day\")`".into(),
+        ),
+        Mistake::TreeChild => (
+            format!("unexpected {what} in an expected tree"),
+            "a tree's children are trees `(Label …)` and quoted words, and each `(` is closed by `)`".into(),
+        ),
+    }
+}
+
+/// The help for characters that start no token.
+fn character_help(text: &str) -> String {
+    if text.starts_with(['“', '”', '„', '‘', '’', '«', '»']) {
+        "terminals are quoted with straight quotes: \"word\"".into()
+    } else {
+        "terminals must be quoted (\"word\"); symbol names use letters, digits, `_ - . ' +`".into()
     }
 }
 
@@ -233,36 +308,6 @@ fn describe_found(kind: TokenKind, text: &str) -> String {
     }
 }
 
-fn one_of_list(items: &[String]) -> String {
-    match items {
-        [] => String::new(),
-        [one] => one.clone(),
-        [init @ .., last] => format!("{} or {}", init.join(", "), last),
-    }
-}
-
-fn help_for_found(found: TokenKind) -> Option<String> {
-    Some(match found {
-        TokenKind::Unknown => {
-            "terminals must be quoted (\"word\"); symbol names use letters, digits, `_ - . ' +`"
-                .into()
-        }
-        TokenKind::UnterminatedString => "close the terminal with `\"` on the same line".into(),
-        TokenKind::LBrace => {
-            "a block is written `Name { alternatives }`; is a `}` missing above?".into()
-        }
-        TokenKind::RBrace => "this `}` closes no block".into(),
-        TokenKind::LParen | TokenKind::RParen => {
-            "brackets only appear in test trees: `accept \"words\" as (Start ...)`".into()
-        }
-        k if k.is_keyword() => format!(
-            "{} is a keyword and cannot be used as a symbol name; rename the symbol",
-            k.describe()
-        ),
-        _ => return None,
-    })
-}
-
 /// One element of a block body, before empty alternatives are sorted out.
 #[derive(Clone)]
 enum BodyElem {
@@ -273,278 +318,740 @@ enum BodyElem {
     Junk,
 }
 
-fn file_parser<'a, Er: ParseError<'a>>(
+struct Parser<'a> {
     src: &'a str,
-) -> impl Parser<'a, TokenSlice<'a>, Vec<Decl>, extra::Err<Er>> {
-    use TokenKind as T;
+    kinds: &'a [TokenKind],
+    spans: &'a [Span],
+    pos: usize,
+    errors: Vec<SyntaxError>,
+    damaged: Vec<Damage>,
+    /// For each token index, the index of the first `}` at or after it.
+    next_close: Vec<u32>,
+    /// For each token index, the index of the first token at or after it
+    /// that opens something: a `{`, or a keyword of a declaration.
+    next_open: Vec<u32>,
+}
 
-    let newline = just(T::Newline).ignored();
-    let name = just(T::Ident).map_with(|_, e| Name { span: sp(e.span()) });
-    let string = just(T::String).map_with(move |_, e| {
-        let span = sp(e.span());
-        Str {
-            span,
-            value: unquote_small(span.text(src)),
+impl<'a> Parser<'a> {
+    fn new(src: &'a str, kinds: &'a [TokenKind], spans: &'a [Span]) -> Self {
+        let n = kinds.len();
+        let mut next_close = vec![n as u32; n + 1];
+        let mut next_open = vec![n as u32; n + 1];
+        for i in (0..n).rev() {
+            next_close[i] = if kinds[i] == T::RBrace {
+                i as u32
+            } else {
+                next_close[i + 1]
+            };
+            let opens = matches!(
+                kinds[i],
+                T::LBrace | T::KwGrammar | T::KwStart | T::KwUse | T::KwTest
+            );
+            next_open[i] = if opens { i as u32 } else { next_open[i + 1] };
         }
-    });
-    // A string missing its closing quote is reported and kept as a terminal.
-    let unterminated = just(T::UnterminatedString).validate(move |_, e, emitter| {
-        emitter.emit(custom(
-            e.span(),
-            "this terminal is missing its closing `\"`",
-            "close the terminal with `\"` on the same line",
-        ));
-        let span = sp(e.span());
-        Str {
-            span,
-            value: unquote_small(span.text(src)),
+        Parser {
+            src,
+            kinds,
+            spans,
+            pos: 0,
+            errors: Vec::new(),
+            damaged: Vec::new(),
+            next_close,
+            next_open,
         }
-    });
-    let terminal = string.or(unterminated);
+    }
 
-    // Lookaheads that end a block body: the start of another declaration.
-    let block_header = name
-        .then(just(T::KwRelative).or_not())
-        .then(just(T::LBrace))
-        .ignored();
-    let decl_keyword = choice((
-        one_of([T::KwGrammar, T::KwStart])
-            .then(just(T::Ident))
-            .ignored(),
-        just(T::KwUse).then(just(T::String)).ignored(),
-        just(T::KwTest)
-            .then(just(T::String))
-            .then(just(T::LBrace))
-            .ignored(),
-    ));
-    let next_decl = block_header.or(decl_keyword).boxed();
+    // ── cursor ──────────────────────────────────────────────────────────
 
-    // ── blocks ──────────────────────────────────────────────────────────
-    let weight = just(T::Weight).map_with(|_, e| sp(e.span()));
-    let item = choice((name.map(Item::NonTerminal), terminal.map(Item::Terminal)));
-    let items = item.repeated().collect::<Vec<_>>();
-    let alternative = choice((
-        weight.map(Some).then(items),
-        item.repeated().at_least(1).collect::<Vec<_>>().map(|items| (None, items)),
-    ))
-    .map_with(|(weight, items), e| Alternative {
-        weight,
-        items,
-        doc: None,
-        span: sp(e.span()),
-    })
-    .validate(|alt, e, emitter| {
-        if alt.items.is_empty() {
-            emitter.emit(Er::custom(
-                e.span(),
-                format!(
-                    "{EMPTY_MARK}this alternative has a weight but derives nothing: empty (epsilon) rules are not supported{HELP_SEP}{EPSILON_HELP}"
-                ),
-            ));
+    fn kind_at(&self, i: usize) -> Option<TokenKind> {
+        self.kinds.get(i).copied()
+    }
+
+    fn peek(&self) -> Option<TokenKind> {
+        self.kind_at(self.pos)
+    }
+
+    fn at(&self, kind: TokenKind) -> bool {
+        self.peek() == Some(kind)
+    }
+
+    /// The span of token `i`, or the empty span at the end of the file.
+    fn span_at(&self, i: usize) -> Span {
+        self.spans
+            .get(i)
+            .copied()
+            .unwrap_or_else(|| Span::point(self.src.len()))
+    }
+
+    fn bump(&mut self) -> Span {
+        let span = self.span_at(self.pos);
+        self.pos = (self.pos + 1).min(self.kinds.len());
+        span
+    }
+
+    fn eat(&mut self, kind: TokenKind) -> Option<Span> {
+        self.at(kind).then(|| self.bump())
+    }
+
+    /// The end of the last token read (the start of the file before any).
+    fn last_end(&self) -> usize {
+        self.pos
+            .checked_sub(1)
+            .map_or(0, |i| self.span_at(i).end as usize)
+    }
+
+    fn at_line_end(&self) -> bool {
+        matches!(self.peek(), None | Some(T::Newline))
+    }
+
+    fn skip_newlines(&mut self) {
+        while self.at(T::Newline) {
+            self.pos += 1;
         }
-        alt
-    });
-    let alt_end = choice((just(T::Newline), just(T::Pipe), just(T::RBrace)))
-        .ignored()
-        .or(end())
-        .rewind();
-    let rest_of_alt = none_of([T::Newline, T::Pipe, T::RBrace])
-        .repeated()
-        .at_least(1)
-        .to(BodyElem::Junk);
-    // A newline or `|` never starts a declaration: only look ahead for one
-    // where an alternative could start.
-    let body_elem = choice((
-        just(T::Newline).to(BodyElem::Newline),
-        just(T::Pipe).map_with(|_, e| BodyElem::Pipe(sp(e.span()))),
-        next_decl.clone().not().ignore_then(
-            alternative
-                .then_ignore(alt_end)
-                .map(BodyElem::Alt)
-                .recover_with(via_parser(rest_of_alt)),
-        ),
-    ));
-    let close = just(T::RBrace)
-        .map_with(|_, e| Some(sp(e.span())))
-        .or(empty().to(None));
-    let block = name
-        .then(just(T::KwRelative).map_with(|_, e| sp(e.span())).or_not())
-        .then(just(T::LBrace).map_with(|_, e| sp(e.span())))
-        .then(body_elem.repeated().collect::<Body>())
-        .then(close)
-        .map_with(|((((name, relative), open), body), close), e| {
-            (name, relative, open, body, close, sp(e.span()))
-        })
-        .validate(
-            move |(name, relative, open, body, close, span), _, emitter| {
-                if close.is_none() {
-                    emitter.emit(custom(
-                        SimpleSpan::from(open.range()),
-                        &format!("block `{}` is not closed", name.span.text(src)),
-                        "add `}` after its last alternative",
-                    ));
-                }
-                let alternatives = check_body(body, src, &mut |span, msg| {
-                    emitter.emit(Er::custom(
-                        SimpleSpan::from(span.range()),
-                        format!("{EMPTY_MARK}{msg}{HELP_SEP}{EPSILON_HELP}"),
-                    ))
-                });
-                Decl::Block(Block {
-                    name,
-                    relative,
-                    open,
-                    close,
-                    alternatives,
-                    doc: None,
-                    span,
-                })
+    }
+
+    /// Whether a declaration starts at token `i`: `Name [relative] {`,
+    /// `grammar Name`, `start Name`, `use "path"` or `test "name" {`.
+    fn starts_decl(&self, i: usize) -> bool {
+        match self.kind_at(i) {
+            Some(T::Ident) => match self.kind_at(i + 1) {
+                Some(T::LBrace) => true,
+                Some(T::KwRelative) => self.kind_at(i + 2) == Some(T::LBrace),
+                _ => false,
             },
-        );
+            Some(T::KwGrammar | T::KwStart) => self.kind_at(i + 1) == Some(T::Ident),
+            Some(T::KwUse) => self.kind_at(i + 1) == Some(T::String),
+            Some(T::KwTest) => matches!(
+                (self.kind_at(i + 1), self.kind_at(i + 2)),
+                (Some(T::String | T::Ident), Some(T::LBrace))
+            ),
+            _ => false,
+        }
+    }
+
+    /// Whether, after the newlines from token `i` on, a case, the end of a
+    /// block or the end of the file follows.
+    fn case_follows(&self, mut i: usize) -> bool {
+        while self.kind_at(i) == Some(T::Newline) {
+            i += 1;
+        }
+        matches!(
+            self.kind_at(i),
+            None | Some(T::KwAccept | T::KwReject | T::RBrace)
+        )
+    }
+
+    /// Whether what follows token `i` reads as a block's body missing its
+    /// `{`: a `}` comes before any `{` or declaration keyword.
+    fn body_follows(&self, i: usize) -> bool {
+        let i = i.min(self.kinds.len());
+        let close = self.next_close[i];
+        (close as usize) < self.kinds.len() && close < self.next_open[i]
+    }
+
+    // ── the recovery mechanism ──────────────────────────────────────────
+
+    /// Reports `mistake` at the current token, skips to where `resume`
+    /// says reading goes on, and records the stretch as damaged (with the
+    /// name of the block it belongs to, when the block itself could not be
+    /// read). The one way the parser handles text it cannot read.
+    fn recover(&mut self, mistake: Mistake, resume: Resume, block: Option<Name>) {
+        let found = self.peek();
+        let at = self.span_at(self.pos);
+        let (message, help) = diagnose(mistake, found, at.text(self.src), self.src);
+        let span = match found {
+            // An error at the end of a line points just after what is on it.
+            None | Some(T::Newline) => Span::point(self.last_end()),
+            Some(_) => at,
+        };
+        self.errors.push(SyntaxError {
+            span,
+            message,
+            help: Some(help),
+            empty_rule: false,
+        });
+        let start = self.pos;
+        match resume {
+            Resume::Here => {}
+            Resume::Token => {
+                if found.is_some() {
+                    self.pos += 1;
+                }
+            }
+            Resume::Line => {
+                while !self.at_line_end() {
+                    self.pos += 1;
+                }
+            }
+            Resume::Alternative => {
+                while !matches!(self.peek(), None | Some(T::Newline | T::Pipe | T::RBrace)) {
+                    self.pos += 1;
+                }
+            }
+            Resume::Case => loop {
+                match self.peek() {
+                    None | Some(T::RBrace) => break,
+                    Some(T::Newline) => {
+                        let mut j = self.pos;
+                        while self.kind_at(j) == Some(T::Newline) {
+                            j += 1;
+                        }
+                        if self.case_follows(j) || self.starts_decl(j) {
+                            break;
+                        }
+                        self.pos = j;
+                    }
+                    Some(_) => self.pos += 1,
+                }
+            },
+        }
+        let end = if self.pos > start {
+            self.span_at(self.pos - 1).end as usize
+        } else {
+            span.end as usize
+        };
+        self.damaged.push(Damage {
+            span: Span::new(span.start as usize, end.max(span.start as usize)),
+            block,
+        });
+    }
+
+    /// Sets the stretch of the damage just recorded, for a repair that
+    /// skips more (or other) than its [`Resume`] says.
+    fn reshape_damage(&mut self, span: Span) {
+        if let Some(d) = self.damaged.last_mut() {
+            d.span = span;
+        }
+    }
+
+    /// A plain error that needs no recovery (the text around it reads on
+    /// as written): an unterminated string, an unknown escape.
+    fn error(&mut self, span: Span, message: String, help: &str) {
+        self.errors.push(SyntaxError {
+            span,
+            message,
+            help: Some(help.to_string()),
+            empty_rule: false,
+        });
+    }
+
+    fn empty_rule(&mut self, span: Span, message: &str) {
+        self.errors.push(SyntaxError {
+            span,
+            message: message.to_string(),
+            help: Some(EPSILON_HELP.to_string()),
+            empty_rule: true,
+        });
+    }
+
+    // ── strings ─────────────────────────────────────────────────────────
+
+    /// A quoted string at the current token (closed or not), its escapes
+    /// checked.
+    fn string(&mut self) -> Option<Str> {
+        let kind = self.peek()?;
+        if !matches!(kind, T::String | T::UnterminatedString) {
+            return None;
+        }
+        let span = self.bump();
+        let text = span.text(self.src);
+        if kind == T::UnterminatedString {
+            self.error(
+                span,
+                "this terminal is missing its closing `\"`".into(),
+                "close the terminal with `\"` on the same line",
+            );
+        }
+        if text.contains('\\') {
+            self.check_escapes(span, text);
+        }
+        Some(Str {
+            span,
+            value: unquote_small(text),
+        })
+    }
+
+    /// Reports each escape other than `\"` and `\\`.
+    fn check_escapes(&mut self, span: Span, text: &str) {
+        let mut chars = text.char_indices();
+        while let Some((i, c)) = chars.next() {
+            if c != '\\' {
+                continue;
+            }
+            let Some((j, next)) = chars.next() else {
+                break;
+            };
+            if next == '"' || next == '\\' {
+                continue;
+            }
+            let start = span.start as usize + i;
+            let end = span.start as usize + j + next.len_utf8();
+            self.error(
+                Span::new(start, end),
+                format!("unknown escape `\\{next}` in a quoted string"),
+                "the only escapes are `\\\"` (a quote) and `\\\\` (a backslash); write `\\\\` for a backslash itself",
+            );
+        }
+    }
+
+    /// A string made of the tokens from the current one to the end of the
+    /// line (or `stop`), for a repaired unquoted name or sentence.
+    fn unquoted_run(&mut self, stop: &[TokenKind]) -> Option<Str> {
+        let first = self.pos;
+        while let Some(kind) = self.peek() {
+            if kind == T::Newline || stop.contains(&kind) {
+                break;
+            }
+            self.pos += 1;
+        }
+        if self.pos == first {
+            return None;
+        }
+        let span = self.span_at(first).cover(self.span_at(self.pos - 1));
+        Some(Str {
+            span,
+            value: SmolStr::new(span.text(self.src)),
+        })
+    }
+
+    // ── declarations ────────────────────────────────────────────────────
+
+    fn file(&mut self) -> Vec<Decl> {
+        let mut decls = Vec::new();
+        while let Some(kind) = self.peek() {
+            let decl = match kind {
+                T::Newline => {
+                    self.pos += 1;
+                    continue;
+                }
+                T::KwGrammar | T::KwStart => self.name_decl(kind),
+                T::KwUse => self.use_decl(),
+                T::KwTest => self.test_block().map(Decl::Test),
+                T::Ident => self.block().map(Decl::Block),
+                T::RBrace => {
+                    self.recover(Mistake::Declaration, Resume::Token, None);
+                    None
+                }
+                T::Weight | T::String | T::UnterminatedString | T::Pipe
+                    if self.body_follows(self.pos) =>
+                {
+                    // Alternatives after a block closed too early: one
+                    // error, and the stretch up to its `}` is skipped. It
+                    // belongs to the block above, if there is one.
+                    let above = match decls.last() {
+                        Some(Decl::Block(b)) => Some(b.name),
+                        _ => None,
+                    };
+                    self.recover(Mistake::Declaration, Resume::Here, above);
+                    let close = self.next_close[self.pos] as usize;
+                    let start = self.span_at(self.pos).start as usize;
+                    self.pos = close + 1;
+                    let end = self.span_at(close).end as usize;
+                    self.reshape_damage(Span::new(start, end));
+                    None
+                }
+                _ => {
+                    self.recover(Mistake::Declaration, Resume::Line, None);
+                    None
+                }
+            };
+            decls.extend(decl);
+        }
+        decls
+    }
+
+    /// After a one-line declaration: the end of the line, or another declaration.
+    fn end_of_declaration(&mut self) {
+        if !self.at_line_end() && !self.starts_decl(self.pos) {
+            self.recover(Mistake::AfterDeclaration, Resume::Line, None);
+        }
+    }
+
+    fn name_decl(&mut self, keyword_kind: TokenKind) -> Option<Decl> {
+        let keyword = self.bump();
+        let Some(name) = self.eat(T::Ident) else {
+            self.recover(
+                Mistake::DeclName {
+                    keyword: keyword_kind,
+                },
+                Resume::Line,
+                None,
+            );
+            return None;
+        };
+        let decl = NameDecl {
+            keyword,
+            name: Name { span: name },
+            span: keyword.cover(name),
+        };
+        self.end_of_declaration();
+        Some(match keyword_kind {
+            T::KwGrammar => Decl::Grammar(decl),
+            _ => Decl::Start(decl),
+        })
+    }
+
+    fn use_decl(&mut self) -> Option<Decl> {
+        let keyword = self.bump();
+        let Some(path) = self.string() else {
+            self.recover(Mistake::UsePath, Resume::Line, None);
+            return None;
+        };
+        let span = keyword.cover(path.span);
+        self.end_of_declaration();
+        Some(Decl::Use(UseDecl {
+            keyword,
+            path,
+            span,
+        }))
+    }
+
+    /// The `{` of a block or test whose head is read. Missing, it is
+    /// repaired when a body follows, or the line is skipped (`None`).
+    fn open_brace(&mut self, name: Span, block: Option<Name>) -> Option<Span> {
+        if let Some(open) = self.eat(T::LBrace) {
+            return Some(open);
+        }
+        // Something between the name and a `{` later on the line.
+        let mut j = self.pos;
+        while !matches!(
+            self.kind_at(j),
+            None | Some(T::Newline | T::LBrace | T::RBrace)
+        ) {
+            j += 1;
+        }
+        if self.kind_at(j) == Some(T::LBrace) {
+            self.recover(Mistake::BeforeBrace { name }, Resume::Here, block);
+            let start = self.span_at(self.pos).start as usize;
+            self.pos = j;
+            let end = self.span_at(j - 1).end as usize;
+            self.reshape_damage(Span::new(start, end));
+            return Some(self.bump());
+        }
+        if self.body_follows(self.pos) {
+            self.recover(Mistake::MissingBrace { name }, Resume::Here, block);
+            self.reshape_damage(name);
+            return Some(Span::point(name.end as usize));
+        }
+        self.recover(Mistake::BlockHeader { name }, Resume::Line, block);
+        None
+    }
+
+    fn block(&mut self) -> Option<Block> {
+        let name = Name { span: self.bump() };
+        let relative = self.eat(T::KwRelative);
+        let head_end = relative.unwrap_or(name.span);
+        let open = self.open_brace(head_end, Some(name))?;
+        let mut elems = Vec::new();
+        let close = loop {
+            match self.peek() {
+                None => break None,
+                Some(T::RBrace) => break Some(self.bump()),
+                Some(T::Newline) => {
+                    self.pos += 1;
+                    elems.push(BodyElem::Newline);
+                }
+                Some(T::Pipe) => elems.push(BodyElem::Pipe(self.bump())),
+                Some(_) if self.starts_decl(self.pos) => break None,
+                Some(_) => elems.push(self.alternative()),
+            }
+        };
+        if close.is_none() {
+            let text = name.span.text(self.src);
+            self.error(
+                open,
+                format!("block `{text}` is not closed"),
+                "add `}` after its last alternative",
+            );
+            self.damaged.push(Damage {
+                span: open,
+                block: Some(name),
+            });
+        }
+        let span = name.span.cover(Span::point(self.last_end()));
+        let alternatives = check_body(elems.into_iter().collect(), self.src, &mut |span, msg| {
+            self.empty_rule(span, msg)
+        });
+        Some(Block {
+            name,
+            relative,
+            open,
+            close,
+            alternatives,
+            doc: None,
+            span,
+        })
+    }
+
+    /// One alternative, at a token that is not a newline, `|` or `}`.
+    fn alternative(&mut self) -> BodyElem {
+        let first = self.pos;
+        let mut weight = self.eat(T::Weight);
+        let mut items = Vec::new();
+        loop {
+            match self.peek() {
+                Some(T::Ident) => items.push(Item::NonTerminal(Name { span: self.bump() })),
+                Some(T::String | T::UnterminatedString) => {
+                    if let Some(s) = self.string() {
+                        items.push(Item::Terminal(s));
+                    }
+                }
+                None | Some(T::Newline | T::Pipe | T::RBrace) => break,
+                Some(T::Weight) if !items.is_empty() => {
+                    let ends = matches!(
+                        self.kind_at(self.pos + 1),
+                        None | Some(T::Newline | T::Pipe | T::RBrace)
+                    );
+                    if ends && weight.is_none() {
+                        self.recover(Mistake::WeightAfterItems, Resume::Here, None);
+                        weight = Some(self.bump());
+                    } else {
+                        // The weight starts the next alternative.
+                        self.recover(Mistake::MissingSeparator, Resume::Here, None);
+                    }
+                    break;
+                }
+                Some(_) => {
+                    self.recover(Mistake::Item, Resume::Alternative, None);
+                    // The whole alternative is dropped: the damage covers it
+                    // from its start, so the names read so far count as
+                    // mentioned.
+                    let start = self.span_at(first).start as usize;
+                    let end = self.last_end().max(start);
+                    self.reshape_damage(Span::new(start, end));
+                    return BodyElem::Junk;
+                }
+            }
+        }
+        let span = self.span_at(first).cover(Span::point(self.last_end()));
+        if items.is_empty() {
+            self.empty_rule(
+                span,
+                "this alternative has a weight but derives nothing: empty (epsilon) rules are not supported",
+            );
+        }
+        BodyElem::Alt(Alternative {
+            weight,
+            items,
+            doc: None,
+            span,
+        })
+    }
 
     // ── tests ───────────────────────────────────────────────────────────
-    // Inside a tree's brackets layout is free: newlines may come between
-    // any two of its parts. A bracket left open where the next case, the
-    // end of the block or the end of the file begins is reported once, at
-    // the bracket, and the tree ends there (its trailing newlines are left
-    // for the case to end on).
-    let newlines = just(T::Newline).repeated();
-    let case_follows = newlines
-        .ignore_then(choice((
-            just(T::KwAccept).ignored(),
-            just(T::KwReject).ignored(),
-            just(T::RBrace).ignored(),
-            end(),
-        )))
-        .rewind();
-    let tree = recursive(|tree| {
-        let child = choice((tree.map(TreeChild::Node), terminal.map(TreeChild::Leaf)));
-        let closing = choice((
-            newlines.ignore_then(just(T::RParen)).to(true),
-            case_follows.to(false),
-        ));
-        just(T::LParen)
-            .map_with(|_, e| e.span())
-            .then_ignore(newlines)
-            .then(name)
-            .then(newlines.ignore_then(child).repeated().collect::<Vec<_>>())
-            .then(closing)
-            .validate(|(((open, label), children), closed), e, emitter| {
-                if !closed {
-                    emitter.emit(custom(
-                        open,
-                        "this bracket of the expected tree is not closed",
-                        "add `)` where the tree ends",
+
+    fn test_block(&mut self) -> Option<TestBlock> {
+        let keyword = self.bump();
+        let name = match self.peek() {
+            Some(T::String | T::UnterminatedString) => self.string()?,
+            Some(T::Ident | T::Weight | T::Unknown) => {
+                let first = self.pos;
+                let run = self.unquoted_run(&[T::LBrace])?;
+                let end = self.pos;
+                self.pos = first;
+                self.recover(Mistake::UnquotedTestName, Resume::Here, None);
+                if let Some(e) = self.errors.last_mut() {
+                    e.span = run.span;
+                    e.help = Some(format!(
+                        "write `test {} {{`",
+                        super::lexer::quote(run.span.text(self.src))
                     ));
                 }
-                TreeSyntax {
-                    label,
-                    children,
-                    span: sp(e.span()),
+                self.reshape_damage(run.span);
+                self.pos = end;
+                run
+            }
+            Some(T::LBrace) => {
+                self.recover(Mistake::TestName, Resume::Here, None);
+                Str {
+                    span: Span::point(keyword.end as usize),
+                    value: SmolStr::default(),
                 }
-            })
-    });
-    let expectation = choice((
-        just(T::KwAccept).to(Expectation::Accept),
-        just(T::KwReject).to(Expectation::Reject),
-    ));
-    let case = expectation
-        .then(terminal)
-        .then(just(T::KwAs).ignore_then(tree).or_not())
-        .map_with(|((expect, sentence), tree), e| TestCase {
+            }
+            _ => {
+                self.recover(Mistake::TestName, Resume::Line, None);
+                return None;
+            }
+        };
+        let open = self.open_brace(name.span, None)?;
+        let mut cases = Vec::new();
+        let close = loop {
+            match self.peek() {
+                None => break None,
+                Some(T::RBrace) => break Some(self.bump()),
+                Some(T::Newline) => self.pos += 1,
+                Some(_) if self.starts_decl(self.pos) => break None,
+                Some(T::KwAccept | T::KwReject) => cases.extend(self.case()),
+                Some(_) => self.recover(Mistake::Case, Resume::Case, None),
+            }
+        };
+        if close.is_none() {
+            self.error(
+                open,
+                "test block is not closed".into(),
+                "add `}` after its last case",
+            );
+            self.damaged.push(Damage {
+                span: open,
+                block: None,
+            });
+        }
+        Some(TestBlock {
+            keyword,
+            name,
+            cases,
+            doc: None,
+            span: keyword.cover(Span::point(self.last_end())),
+        })
+    }
+
+    fn case(&mut self) -> Option<TestCase> {
+        let expect_span = self.span_at(self.pos);
+        let expect = match self.bump_kind() {
+            Some(T::KwReject) => Expectation::Reject,
+            _ => Expectation::Accept,
+        };
+        let sentence = match self.peek() {
+            Some(T::String | T::UnterminatedString) => self.string()?,
+            Some(T::Ident | T::Weight | T::Unknown) => {
+                let first = self.pos;
+                let run = self.unquoted_run(&[T::KwAs, T::RBrace])?;
+                let end = self.pos;
+                self.pos = first;
+                self.recover(Mistake::UnquotedSentence, Resume::Here, None);
+                if let Some(e) = self.errors.last_mut() {
+                    e.span = run.span;
+                    e.help = Some(format!(
+                        "write it as {}",
+                        super::lexer::quote(run.span.text(self.src))
+                    ));
+                }
+                self.reshape_damage(run.span);
+                self.pos = end;
+                run
+            }
+            _ => {
+                self.recover(Mistake::Sentence, Resume::Case, None);
+                return None;
+            }
+        };
+        let tree = if self.eat(T::KwAs).is_some() {
+            if !self.at(T::LParen) {
+                self.recover(Mistake::TreeChild, Resume::Case, None);
+                return None;
+            }
+            Some(self.tree()?)
+        } else {
+            None
+        };
+        let span = expect_span.cover(Span::point(self.last_end()));
+        if !matches!(self.peek(), None | Some(T::Newline | T::RBrace)) {
+            self.recover(Mistake::AfterCase, Resume::Case, None);
+            return None;
+        }
+        if tree.is_some() && expect == Expectation::Reject {
+            self.error(
+                span,
+                "`reject` cannot have an expected tree".into(),
+                "use `accept \"…\" as (…)` to check the best parse",
+            );
+        }
+        Some(TestCase {
             expect,
             sentence,
             tree,
-            span: sp(e.span()),
+            span,
         })
-        .validate(|case, e, emitter| {
-            if case.tree.is_some() && case.expect == Expectation::Reject {
-                emitter.emit(custom(
-                    e.span(),
-                    "`reject` cannot have an expected tree",
-                    "use `accept \"…\" as (…)` to check the best parse",
-                ));
-            }
-            case
-        });
-    let case_end = choice((just(T::Newline), just(T::RBrace)))
-        .ignored()
-        .or(end())
-        .rewind();
-    // A case that cannot be read is skipped up to its end, taking along
-    // the lines that continue it: every line up to the next case, the end
-    // of the block or the next declaration.
-    let continuation = just(T::Newline)
-        .then(case_follows.not())
-        .then(newlines.then(next_decl.clone()).not())
-        .ignored();
-    let rest_of_case = choice((none_of([T::Newline, T::RBrace]).ignored(), continuation))
-        .repeated()
-        .at_least(1)
-        .to(None);
-    let test_elem = next_decl.clone().not().ignore_then(choice((
-        newline.to(None),
-        case.then_ignore(case_end)
-            .map(Some)
-            .recover_with(via_parser(rest_of_case)),
-    )));
-    let test_block = just(T::KwTest)
-        .map_with(|_, e| sp(e.span()))
-        .then(terminal)
-        .then(just(T::LBrace).map_with(|_, e| sp(e.span())))
-        .then(test_elem.repeated().collect::<Vec<_>>())
-        .then(close)
-        .map_with(|((((keyword, name), open), cases), close), e| {
-            (keyword, name, open, cases, close, sp(e.span()))
-        })
-        .validate(|(keyword, name, open, cases, close, span), _, emitter| {
-            if close.is_none() {
-                emitter.emit(custom(
-                    SimpleSpan::from(open.range()),
-                    "test block is not closed",
-                    "add `}` after its last case",
-                ));
-            }
-            Decl::Test(TestBlock {
-                keyword,
-                name,
-                cases: cases.into_iter().flatten().collect(),
-                doc: None,
-                span,
-            })
-        });
+    }
 
-    // ── simple declarations ─────────────────────────────────────────────
-    let name_decl = |kw: TokenKind| {
-        just(kw)
-            .map_with(|_, e| sp(e.span()))
-            .then(name)
-            .map_with(|(keyword, name), e| NameDecl {
-                keyword,
-                name,
-                span: sp(e.span()),
-            })
-    };
-    let grammar_decl = name_decl(T::KwGrammar).map(Decl::Grammar);
-    let start_decl = name_decl(T::KwStart).map(Decl::Start);
-    let use_decl = just(T::KwUse)
-        .map_with(|_, e| sp(e.span()))
-        .then(terminal)
-        .map_with(|(keyword, path), e| {
-            Decl::Use(UseDecl {
-                keyword,
-                path,
-                span: sp(e.span()),
-            })
-        });
+    fn bump_kind(&mut self) -> Option<TokenKind> {
+        let kind = self.peek();
+        self.bump();
+        kind
+    }
 
-    let decl = choice((grammar_decl, start_decl, use_decl, test_block, block));
-    let rest_of_line = none_of([T::Newline]).repeated().at_least(1).to(None);
-    let top = choice((newline.to(None), decl.map(Some))).recover_with(via_parser(rest_of_line));
-    top.repeated()
-        .collect::<Vec<_>>()
-        .then_ignore(end())
-        .map(|decls| decls.into_iter().flatten().collect())
+    /// An expected tree at its `(`. Layout inside the brackets is free.
+    /// Read with an explicit stack of open brackets, so any depth reads
+    /// without recursion. A bracket left open where the next case, the
+    /// end of the block or the end of the file begins is reported once
+    /// and the tree ends there (its trailing newlines are left for the
+    /// case to end on).
+    fn tree(&mut self) -> Option<TreeSyntax> {
+        // Open brackets: the `(`, the label, the children so far.
+        let mut stack: Vec<(Span, Name, Vec<TreeChild>)> = Vec::new();
+        loop {
+            // At a `(`.
+            let open = self.bump();
+            self.skip_newlines();
+            let Some(label) = self.eat(T::Ident) else {
+                self.recover(Mistake::TreeLabel, Resume::Case, None);
+                return None;
+            };
+            stack.push((open, Name { span: label }, Vec::new()));
+            // Children and closing brackets, until the next `(`.
+            loop {
+                let before_newlines = self.pos;
+                self.skip_newlines();
+                match self.peek() {
+                    Some(T::LParen) => break,
+                    Some(T::String | T::UnterminatedString) => {
+                        if let (Some(s), Some(top)) = (self.string(), stack.last_mut()) {
+                            top.2.push(TreeChild::Leaf(s));
+                        }
+                    }
+                    Some(T::RParen) => {
+                        let close = self.bump();
+                        let (open, label, children) = stack.pop()?;
+                        let node = TreeSyntax {
+                            label,
+                            children,
+                            span: open.cover(close),
+                        };
+                        match stack.last_mut() {
+                            Some(parent) => parent.2.push(TreeChild::Node(node)),
+                            None => return Some(node),
+                        }
+                    }
+                    _ if self.case_follows(before_newlines) => {
+                        self.pos = before_newlines;
+                        let innermost = stack.last().map(|s| s.0)?;
+                        let open_count = stack.len();
+                        let help = if open_count > 1 {
+                            format!(
+                                "add `)` where the tree ends ({open_count} brackets are open here)"
+                            )
+                        } else {
+                            "add `)` where the tree ends".to_string()
+                        };
+                        self.error(
+                            innermost,
+                            "this bracket of the expected tree is not closed".into(),
+                            &help,
+                        );
+                        self.damaged.push(Damage {
+                            span: innermost,
+                            block: None,
+                        });
+                        let end = Span::point(self.last_end());
+                        let mut node = None;
+                        while let Some((open, label, mut children)) = stack.pop() {
+                            children.extend(node.take().map(TreeChild::Node));
+                            node = Some(TreeSyntax {
+                                label,
+                                children,
+                                span: open.cover(end),
+                            });
+                        }
+                        return node;
+                    }
+                    _ => {
+                        self.recover(Mistake::TreeChild, Resume::Case, None);
+                        return None;
+                    }
+                }
+            }
+        }
+    }
 }
 
 const EPSILON_HELP: &str = "factor the optional part out: instead of `A { B | <nothing> }` write the rules that use `A` twice, once with `B` and once without";
@@ -708,14 +1215,17 @@ fn doc_before(tokens: &[Token], src: &str, offset: u32, first: usize) -> Option<
     if lines.is_empty() {
         return None;
     }
-    // Only spaces, tabs, carriage returns and byte-order marks may stand
+    // Only spaces, tabs and byte-order marks may stand
     // before `offset` on its line, and the line above must be a `##` line.
     let before = src
         .get(..offset as usize)?
-        .trim_end_matches([' ', '\t', '\r', '\u{FEFF}']);
-    let previous_line = before.strip_suffix('\n')?;
+        .trim_end_matches([' ', '\t', '\u{FEFF}']);
+    let previous_line = before
+        .strip_suffix("\r\n")
+        .or_else(|| before.strip_suffix('\n'))
+        .or_else(|| before.strip_suffix('\r'))?;
     let previous_line =
-        previous_line[previous_line.rfind('\n').map_or(0, |i| i + 1)..].trim_start();
+        previous_line[previous_line.rfind(['\n', '\r']).map_or(0, |i| i + 1)..].trim_start();
     if !previous_line.starts_with("##") || previous_line.starts_with("###") {
         return None;
     }
