@@ -190,7 +190,11 @@ async fn a_long_request_holds_up_neither_other_requests_nor_diagnostics() {
     // An edit is analysed and published, and a hover answered, while the
     // parse is still running.
     client
-        .change(MAIN, 2, "start S\nS relative {\n  1 S S\n  1 \"a\"\n  1 T\n}\n")
+        .change(
+            MAIN,
+            2,
+            "start S\nS relative {\n  1 S S\n  1 \"a\"\n  1 T\n}\n",
+        )
         .await;
     assert_eq!(
         codes(&client.diagnostics_for_version(MAIN, 2).await),
