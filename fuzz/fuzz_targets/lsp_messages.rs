@@ -18,7 +18,11 @@ use trellis_lsp::{serve, Options};
 struct Output(Arc<Mutex<Vec<u8>>>);
 
 impl AsyncWrite for Output {
-    fn poll_write(self: Pin<&mut Self>, _: &mut Context<'_>, buf: &[u8]) -> Poll<std::io::Result<usize>> {
+    fn poll_write(
+        self: Pin<&mut Self>,
+        _: &mut Context<'_>,
+        buf: &[u8],
+    ) -> Poll<std::io::Result<usize>> {
         if let Ok(mut out) = self.0.lock() {
             out.extend_from_slice(buf);
         }
@@ -59,18 +63,31 @@ fn check_output(mut bytes: &[u8]) {
 
 fuzz_target!(|data: &[u8]| {
     let mut input = Vec::new();
-    frame(&mut input, r#"{"jsonrpc":"2.0","id":0,"method":"initialize","params":{"capabilities":{}}}"#);
-    frame(&mut input, r#"{"jsonrpc":"2.0","method":"initialized","params":{}}"#);
+    frame(
+        &mut input,
+        r#"{"jsonrpc":"2.0","id":0,"method":"initialize","params":{"capabilities":{}}}"#,
+    );
+    frame(
+        &mut input,
+        r#"{"jsonrpc":"2.0","method":"initialized","params":{}}"#,
+    );
     frame(
         &mut input,
         r#"{"jsonrpc":"2.0","method":"textDocument/didOpen","params":{"textDocument":{"uri":"file:///fuzz/ferry.trellis","languageId":"trellis","version":1,"text":"start Trip\nTrip { 0.75 \"ferry\" Deck | 0.25 \"ferry\" }\nDeck { \"upper\" | \"lower\" }\n"}}}"#,
     );
     input.extend_from_slice(data);
-    let Ok(runtime) = tokio::runtime::Builder::new_current_thread().enable_all().build() else {
+    let Ok(runtime) = tokio::runtime::Builder::new_current_thread()
+        .enable_all()
+        .build()
+    else {
         return;
     };
     let output = Output::default();
-    runtime.block_on(serve(Cursor::new(input), output.clone(), Options::default()));
+    runtime.block_on(serve(
+        Cursor::new(input),
+        output.clone(),
+        Options::default(),
+    ));
     runtime.shutdown_background();
     let written = output.0.lock().map(|o| o.clone()).unwrap_or_default();
     check_output(&written);
