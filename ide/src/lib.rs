@@ -88,7 +88,7 @@ pub use structure::{
     Highlight,
 };
 pub use symbols::{
-    document_symbols, workspace_symbols, DocumentSymbol, SymbolKind, WorkspaceSymbol,
+    document_symbols, workspace_symbols, DocumentSymbol, SymbolKind, WorkspaceSymbol, MAX_CHILDREN,
 };
 pub use tokens::{semantic_tokens, SemanticToken, TokenClass, TokenModifiers};
 

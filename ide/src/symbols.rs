@@ -36,10 +36,56 @@ pub struct DocumentSymbol {
     pub children: Vec<DocumentSymbol>,
 }
 
+/// Most children one outline entry lists: a block's rules or a test's
+/// cases past this are summed up in one last entry, "… 1,234 more rules".
+/// Learned grammars have blocks of hundreds of thousands of alternatives,
+/// and editors ask for the outline on every edit.
+pub const MAX_CHILDREN: usize = 2000;
+
+/// The entry that stands for the children past [`MAX_CHILDREN`] (spans in
+/// order); `None` when there are none.
+fn more(
+    mut spans: impl Iterator<Item = Span>,
+    kind: SymbolKind,
+    one: &str,
+    many: &str,
+) -> Option<DocumentSymbol> {
+    let first = spans.next()?;
+    let (count, last) = spans.fold((1usize, first), |(n, _), s| (n + 1, s));
+    Some(DocumentSymbol {
+        name: format!(
+            "… {} more {}",
+            thousands(count),
+            if count == 1 { one } else { many }
+        ),
+        detail: None,
+        kind,
+        span: first.cover(last),
+        selection_span: first,
+        children: Vec::new(),
+    })
+}
+
+/// `1234567` as `1,234,567`.
+fn thousands(n: usize) -> String {
+    let digits = n.to_string();
+    let mut out = String::new();
+    for (i, c) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i).is_multiple_of(3) {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    out
+}
+
 /// The outline of `file`: its declarations in order, blocks with their
-/// rules as children and tests with their cases.
+/// rules as children and tests with their cases, at most
+/// [`MAX_CHILDREN`] of each.
 ///
-/// Cost: linear in the size of the file's syntax.
+/// Cost: linear in the number of declarations and alternatives, and the
+/// answer's size in the number of declarations (at most `MAX_CHILDREN` + 1
+/// children each).
 pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol> {
     let Some(syntax) = locate::syntax(analysis, file) else {
         return Vec::new();
@@ -79,10 +125,15 @@ pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol
                 d.path.span,
             ),
             Decl::Block(b) => {
-                let children: Vec<DocumentSymbol> = b
+                let rules: Vec<_> = b
                     .alternatives
                     .iter()
                     .filter(|alt| !alt.items.is_empty())
+                    .collect();
+                let count = rules.len();
+                let mut children: Vec<DocumentSymbol> = rules
+                    .iter()
+                    .take(MAX_CHILDREN)
                     .map(|alt| {
                         let first = alt.items[0].span();
                         let last = alt.items[alt.items.len() - 1].span();
@@ -101,7 +152,14 @@ pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol
                         )
                     })
                     .collect();
-                let count = children.len();
+                if let Some(more) = more(
+                    rules[MAX_CHILDREN.min(count)..].iter().map(|a| a.span),
+                    SymbolKind::Rule,
+                    "rule",
+                    "rules",
+                ) {
+                    children.push(more);
+                }
                 let mut detail = format!("{count} {}", if count == 1 { "rule" } else { "rules" });
                 if b.relative.is_some() {
                     detail.push_str(" · relative");
@@ -128,6 +186,7 @@ pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol
                 children: t
                     .cases
                     .iter()
+                    .take(MAX_CHILDREN)
                     .map(|c| {
                         leaf(
                             c.sentence.value.to_string(),
@@ -144,6 +203,12 @@ pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol
                             c.sentence.span,
                         )
                     })
+                    .chain(more(
+                        t.cases.iter().skip(MAX_CHILDREN).map(|c| c.span),
+                        SymbolKind::TestCase,
+                        "case",
+                        "cases",
+                    ))
                     .collect(),
             },
         })

@@ -853,6 +853,35 @@ fn document_symbols_outline_blocks_with_rules_and_tests_with_cases() {
 }
 
 #[test]
+fn a_block_lists_at_most_max_children_rules_then_one_entry_for_the_rest() {
+    use trellis_ide::{SymbolKind, MAX_CHILDREN};
+    let words = MAX_CHILDREN + 1234;
+    let rules: String = (0..words).map(|i| format!("  1 \"w{i}\"\n")).collect();
+    let (f, a) = analyse_clean(&format!(
+        "=== main.trellis ===\nstart S\nS relative {{\n{rules}}}\n"
+    ));
+    let outline = a.document_symbols(id(&a, "main.trellis"));
+    let block = &outline[1];
+    assert_eq!(
+        block.detail.as_deref(),
+        Some(&*format!("{words} rules · relative"))
+    );
+    assert_eq!(block.children.len(), MAX_CHILDREN + 1);
+    let rest = &block.children[MAX_CHILDREN];
+    assert_eq!(rest.name, "… 1,234 more rules");
+    assert_eq!(rest.kind, SymbolKind::Rule);
+    let text = &f.file("main.trellis").text;
+    assert_eq!(
+        rest.selection_span.text(text),
+        format!("1 \"w{MAX_CHILDREN}\"")
+    );
+    assert!(rest
+        .span
+        .text(text)
+        .ends_with(&format!("1 \"w{}\"", words - 1)));
+}
+
+#[test]
 fn workspace_symbols_rank_exact_prefix_substring_then_fuzzy_matches() {
     // Four blocks in two files.
     let (f, a) = analyse_clean(

@@ -25,6 +25,43 @@ pub fn range(file: &SourceFile, span: Span) -> lsp::Range {
     )
 }
 
+/// Converts many offsets of one file to LSP positions. Offsets that come in
+/// increasing order on one line cost only the distance from the last one
+/// (a block of thousands of alternatives on one line stays linear);
+/// others cost what [`position`] does.
+#[derive(Debug)]
+pub struct Positions<'a> {
+    file: &'a SourceFile,
+    last: Option<(usize, lsp::Position)>,
+}
+
+impl<'a> Positions<'a> {
+    pub fn new(file: &'a SourceFile) -> Positions<'a> {
+        Positions { file, last: None }
+    }
+
+    /// The LSP position of byte `offset`.
+    pub fn position(&mut self, offset: usize) -> lsp::Position {
+        let offset = offset.min(self.file.text.len());
+        let onward = self.last.and_then(|(at, pos)| {
+            if at > offset || self.file.lines.line_of(offset) != pos.line {
+                return None;
+            }
+            let units: usize = self
+                .file
+                .text
+                .get(at..offset)?
+                .chars()
+                .map(char::len_utf16)
+                .sum();
+            Some(lsp::Position::new(pos.line, pos.character + units as u32))
+        });
+        let pos = onward.unwrap_or_else(|| position(self.file, offset));
+        self.last = Some((offset, pos));
+        pos
+    }
+}
+
 /// The byte offset of an LSP position in `file`; positions past the end of
 /// a line clamp to it, lines past the end of the text clamp to its end.
 pub fn offset(file: &SourceFile, pos: lsp::Position) -> usize {

@@ -208,6 +208,14 @@ pub struct SampleResult {
     /// The seed used.
     pub seed: u64,
     pub samples: Vec<SampledSentence>,
+    /// Draws abandoned because their derivation grew past the sampler's
+    /// limit (the grammar gives probability to derivations that never end);
+    /// `samples` holds the others.
+    #[serde(default)]
+    pub abandoned: usize,
+    /// Why the last abandoned draw was abandoned.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub abandoned_reason: Option<String>,
     /// What the run did to the grammar.
     #[serde(flatten)]
     pub ran: Ran,

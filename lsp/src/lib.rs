@@ -11,8 +11,10 @@
 //!
 //! ## Code map
 //!
-//! * [`transport`] — the byte stream: framing, malformed messages answered,
-//!   the rest handed to tower-lsp.
+//! * [`framing`] — the byte stream cut into messages (`Content-Length`
+//!   framing), resynchronising after any framing error.
+//! * [`transport`] — the message loop: malformed messages answered, ids
+//!   tower-lsp cannot carry stood in for, the rest handed to the service.
 //! * [`server`] — the [`Backend`] every handler receives, its [`Options`],
 //!   running core work off the loop, error responses.
 //! * [`dispatch`] — the `LanguageServer` impl: routes each message to its
@@ -37,6 +39,7 @@ pub mod capabilities;
 pub mod convert;
 pub mod dispatch;
 pub mod ext;
+pub mod framing;
 pub mod guard;
 pub mod handlers;
 pub mod publish;

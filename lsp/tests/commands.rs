@@ -199,3 +199,27 @@ async fn hover_shows_the_probabilities_the_parse_command_multiplies() {
     assert_eq!(result["ignoredErrors"], json!([]));
     client.shutdown().await;
 }
+
+#[tokio::test]
+async fn sampling_a_leaky_grammar_returns_what_it_drew_and_counts_the_abandoned_draws() {
+    // S → S S (0.6) | "a" (0.4) never terminates with probability 1/3 (its
+    // termination probability is the least root 2/3 of q = 0.4 + 0.6 q²;
+    // T. E. Harris, "The Theory of Branching Processes", 1963), so among 60
+    // draws some outgrow the sampler's limit (all 60 terminating has
+    // probability (2/3)^60 ≈ 3e-11) and the others still come back.
+    let mut client = ready("start S\nS { 0.6 S S | 0.4 \"a\" }\n").await;
+    let args = json!({"uri": URI, "count": 60, "seed": 5});
+    let response = command(&mut client, "trellis.sample", args).await;
+    let result = &response["result"];
+    let drawn = result["samples"].as_array().expect("samples").len();
+    let abandoned = result["abandoned"].as_u64().expect("an abandoned count") as usize;
+    assert_eq!(drawn + abandoned, 60, "{result}");
+    assert!(abandoned > 0 && drawn > 0, "{result}");
+    assert!(
+        result["abandonedReason"]
+            .as_str()
+            .is_some_and(|r| !r.is_empty()),
+        "{result}"
+    );
+    client.shutdown().await;
+}

@@ -169,3 +169,49 @@ async fn a_cancelled_parse_is_answered_with_request_cancelled() {
     assert_eq!(result["results"][0]["parsed"], true);
     client.shutdown().await;
 }
+
+#[tokio::test]
+async fn a_long_request_holds_up_neither_other_requests_nor_diagnostics() {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    // The ambiguous grammar and the many long sentences of the
+    // cancellation test: the parse runs far longer than what follows.
+    client
+        .open(MAIN, 1, "start S\nS relative {\n  1 S S\n  1 \"a\"\n}\n")
+        .await;
+    client.diagnostics(MAIN).await;
+    let sentences = vec![vec!["a"; 40].join(" "); 5_000];
+    let slow = client
+        .send_request(
+            "workspace/executeCommand",
+            json!({"command": "trellis.parse", "arguments": [{"uri": MAIN, "sentences": sentences}]}),
+        )
+        .await;
+    // An edit is analysed and published, and a hover answered, while the
+    // parse is still running.
+    client
+        .change(
+            MAIN,
+            2,
+            "start S\nS relative {\n  1 S S\n  1 \"a\"\n  1 T\n}\n",
+        )
+        .await;
+    assert_eq!(
+        codes(&client.diagnostics_for_version(MAIN, 2).await),
+        ["undefined"]
+    );
+    let hover = client
+        .request(
+            "textDocument/hover",
+            json!({"textDocument": {"uri": MAIN}, "position": {"line": 2, "character": 6}}),
+        )
+        .await;
+    assert!(hover.to_string().contains('S'), "{hover}");
+    assert!(
+        !client.received.iter().any(|m| m["id"] == slow),
+        "the parse finished before the edit was published; it cannot show that it does not block"
+    );
+    client.notify("$/cancelRequest", json!({"id": slow})).await;
+    assert_eq!(error_code(&client.response(slow).await), REQUEST_CANCELLED);
+    client.shutdown().await;
+}

@@ -1,7 +1,9 @@
 //! Symbols: the outline of a document (`textDocument/documentSymbol`) and
-//! the search across every open grammar (`workspace/symbol`).
+//! the search across every open grammar (`workspace/symbol`). The outline
+//! lists at most `trellis_ide::MAX_CHILDREN` rules of a block (the rest in
+//! one entry), so its size follows the blocks, not the alternatives.
 
-use crate::convert;
+use crate::convert::{self, Positions};
 use crate::server::Backend;
 use tower_lsp::jsonrpc;
 use tower_lsp::lsp_types::*;
@@ -22,25 +24,30 @@ fn symbol_kind(kind: IdeSymbolKind) -> SymbolKind {
     }
 }
 
+/// One outline entry, its positions converted in file order (the entry's
+/// start, its name, its children, its end) so that `Positions` moves forward.
 #[allow(deprecated)] // `DocumentSymbol::deprecated` must still be written.
-fn document_symbol(
-    file: &grammar_lang::source::SourceFile,
-    s: trellis_ide::DocumentSymbol,
-) -> DocumentSymbol {
+fn document_symbol(positions: &mut Positions, s: trellis_ide::DocumentSymbol) -> DocumentSymbol {
+    let start = positions.position(s.span.start as usize);
+    let selection_range = Range::new(
+        positions.position(s.selection_span.start as usize),
+        positions.position(s.selection_span.end as usize),
+    );
+    let children = s
+        .children
+        .into_iter()
+        .map(|c| document_symbol(positions, c))
+        .collect();
+    let end = positions.position(s.span.end as usize);
     DocumentSymbol {
         name: s.name,
         detail: s.detail,
         kind: symbol_kind(s.kind),
         tags: None,
         deprecated: None,
-        range: convert::range(file, s.span),
-        selection_range: convert::range(file, s.selection_span),
-        children: Some(
-            s.children
-                .into_iter()
-                .map(|c| document_symbol(file, c))
-                .collect(),
-        ),
+        range: Range::new(start, end),
+        selection_range,
+        children: Some(children),
     }
 }
 
@@ -53,11 +60,12 @@ pub async fn document_symbols(
     };
     backend
         .run("listing symbols", move || {
+            let mut positions = Positions::new(t.source());
             let symbols = t
                 .analysis()
                 .document_symbols(t.file)
                 .into_iter()
-                .map(|s| document_symbol(t.source(), s))
+                .map(|s| document_symbol(&mut positions, s))
                 .collect();
             Some(DocumentSymbolResponse::Nested(symbols))
         })

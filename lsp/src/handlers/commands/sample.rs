@@ -7,7 +7,7 @@ use crate::guard::CancelFlag;
 use crate::server::Backend;
 use tower_lsp::jsonrpc;
 use trellis_engine::rng::Xoshiro256StarStar;
-use trellis_engine::sample::{Sampler, DEFAULT_LIMIT};
+use trellis_engine::sample::{SampleError, Sampler, DEFAULT_LIMIT};
 
 pub async fn sample(backend: &Backend, params: SampleParams) -> jsonrpc::Result<SampleResult> {
     let count = params.count.unwrap_or(Sample::DEFAULT_COUNT);
@@ -30,33 +30,46 @@ pub async fn sample(backend: &Backend, params: SampleParams) -> jsonrpc::Result<
             sampler.check(start).map_err(|e| e.to_string())?;
             let mut rng = Xoshiro256StarStar::seed_from_u64(seed);
             let mut samples = Vec::with_capacity(count);
+            let mut abandoned = 0;
+            let mut abandoned_reason = None;
             for _ in 0..count {
                 if cancel.is_cancelled() {
                     return Ok(None);
                 }
-                let sample = if trees {
-                    let tree = sampler
+                let drawn = if trees {
+                    sampler
                         .tree(&mut rng, start, DEFAULT_LIMIT)
-                        .map_err(|e| e.to_string())?;
-                    SampledSentence {
-                        sentence: tree.words().join(" "),
-                        tree: Some(tree.to_brackets()),
-                    }
+                        .map(|tree| SampledSentence {
+                            sentence: tree.words().join(" "),
+                            tree: Some(tree.to_brackets()),
+                        })
                 } else {
-                    let words = sampler
+                    sampler
                         .words(&mut rng, start, DEFAULT_LIMIT)
-                        .map_err(|e| e.to_string())?;
-                    SampledSentence {
-                        sentence: words.join(" "),
-                        tree: None,
-                    }
+                        .map(|words| SampledSentence {
+                            sentence: words.join(" "),
+                            tree: None,
+                        })
                 };
-                samples.push(sample);
+                match drawn {
+                    Ok(sample) => samples.push(sample),
+                    // A derivation that grew too long is one lost draw, as
+                    // in `trellis sample`: the others still count.
+                    Err(
+                        e @ (SampleError::LimitExceeded { .. } | SampleError::TreeTooDeep { .. }),
+                    ) => {
+                        abandoned += 1;
+                        abandoned_reason = Some(e.to_string());
+                    }
+                    Err(e) => return Err(e.to_string()),
+                }
             }
             Ok(Some(SampleResult {
                 seed,
                 samples,
                 ran: ran(&target, &run),
+                abandoned,
+                abandoned_reason,
             }))
         })
         .await?;
@@ -64,12 +77,24 @@ pub async fn sample(backend: &Backend, params: SampleParams) -> jsonrpc::Result<
     finish(backend, params.show, outcome, summary).await
 }
 
-/// A short text for the user: a line per sample, its tree when there is one.
+/// A short text for the user: a line per sample, its tree when there is
+/// one, and how many draws were abandoned.
 fn summary(result: &SampleResult) -> String {
-    let lines: Vec<&str> = result
+    let mut lines: Vec<String> = result
         .samples
         .iter()
-        .map(|s| s.tree.as_deref().unwrap_or(&s.sentence))
+        .map(|s| s.tree.clone().unwrap_or_else(|| s.sentence.clone()))
         .collect();
+    if result.abandoned > 0 {
+        lines.push(format!(
+            "{} of {} draws abandoned: {}",
+            result.abandoned,
+            result.abandoned + result.samples.len(),
+            result
+                .abandoned_reason
+                .as_deref()
+                .unwrap_or("derivation too long")
+        ));
+    }
     lines.join("\n") + &ran_summary(&result.ran)
 }
