@@ -151,14 +151,11 @@ pub fn read_text(path: &Path) -> Result<String, String> {
 /// The UTF-8 text of the regular file at `path`, no larger than the
 /// policy's limit, or why it cannot be read and what to do.
 pub fn read_file(path: &Path, policy: &ReadPolicy) -> Result<String, Unreadable> {
-    // Checked before opening: opening a FIFO for reading would block.
+    // Checked before opening, so that a file far too large is not even opened.
     let meta = std::fs::metadata(path).map_err(|e| unreadable(&e))?;
     check_kind(&meta)?;
     check_size(meta.len(), policy)?;
-    let mut file = open_nonblocking(path).map_err(|e| unreadable(&e))?;
-    // Checked again on the open handle: the path may name another file now.
-    let meta = file.metadata().map_err(|e| unreadable(&e))?;
-    check_kind(&meta)?;
+    let (mut file, meta) = open_regular(path)?;
     check_size(meta.len(), policy)?;
     let mut bytes = Vec::with_capacity(usize::try_from(meta.len()).unwrap_or(0));
     // One byte past the limit tells a file that grew while being read.
@@ -173,6 +170,21 @@ pub fn read_file(path: &Path, policy: &ReadPolicy) -> Result<String, Unreadable>
             "grammar files are UTF-8 text; convert the file (for example with `iconv -t UTF-8`)",
         )
     })
+}
+
+/// Opens the regular file at `path` for reading, with its metadata, or says
+/// why not: anything but a regular file is refused before it is opened
+/// (opening a FIFO for reading would block), the file is opened without
+/// blocking (so a FIFO swapped in between cannot block) and checked again
+/// on the open handle (the path may name another file by then). For files
+/// read as a stream, such as treebanks, which no size limit applies to.
+pub fn open_regular(path: &Path) -> Result<(std::fs::File, std::fs::Metadata), Unreadable> {
+    let meta = std::fs::metadata(path).map_err(|e| unreadable(&e))?;
+    check_kind(&meta)?;
+    let file = open_nonblocking(path).map_err(|e| unreadable(&e))?;
+    let meta = file.metadata().map_err(|e| unreadable(&e))?;
+    check_kind(&meta)?;
+    Ok((file, meta))
 }
 
 #[cfg(unix)]

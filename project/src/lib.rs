@@ -19,6 +19,7 @@ pub mod discover;
 pub mod files;
 pub mod format;
 pub mod grammars;
+pub mod learn;
 pub mod load;
 pub mod test_run;
 

@@ -8,6 +8,7 @@ pub mod check;
 pub mod completions;
 pub mod fmt;
 pub mod init;
+pub mod learn;
 pub mod lsp;
 pub mod man;
 pub mod parse;
