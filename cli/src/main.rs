@@ -78,6 +78,10 @@ enum Command {
     /// labelled brackets).
     #[command(long_about = commands::learn::LONG_ABOUT)]
     Learn(commands::learn::LearnArgs),
+    /// Score predicted trees against gold trees (PARSEVAL labelled
+    /// brackets: precision, recall, F1, exact match, crossing brackets).
+    #[command(long_about = commands::eval::LONG_ABOUT)]
+    Eval(commands::eval::EvalArgs),
     /// Write a starter project: a small grammar with tests, the lexicon it
     /// uses and a commented trellis.toml.
     #[command(long_about = commands::init::LONG_ABOUT)]
@@ -112,6 +116,7 @@ fn main() -> ExitCode {
         Command::Parse(args) => commands::parse::run(&args, term),
         Command::Init(args) => commands::init::run(&args),
         Command::Learn(args) => commands::learn::run(&args),
+        Command::Eval(args) => commands::eval::run(&args),
         Command::Completions(args) => commands::completions::run(&args, Cli::command()),
         Command::Man(args) => commands::man::run(&args, Cli::command()),
     };

@@ -1,13 +1,12 @@
 //! Steps several commands share, with their failures reported: finding
-//! and analysing the grammars under some paths, loading one grammar the
-//! engine can run, choosing the symbol to start from.
+//! and analysing the grammars under some paths, loading one grammar and
+//! preparing what a run of it uses, saying what the run did.
 
 use crate::commands::{Outcome, Stop};
 use crate::output::{emit, CheckFormat, Stream, Term};
 use crate::render::{github, human, json, sarif};
-use grammar_lang::model::NtId;
 use std::path::{Path, PathBuf};
-use trellis_ide::Analysis;
+use trellis_ide::{Analysis, NotRunnable, Run};
 use trellis_project::config::ConfigProblem;
 use trellis_project::{Analysed, LoadError};
 
@@ -101,13 +100,11 @@ pub fn note_nothing_found(paths: &[PathBuf], changed: &[PathBuf]) {
     emit(Stream::Stderr, &note);
 }
 
-/// Reads and analyses the grammar at `path` with its trellis.toml and
-/// insists that the engine can run it. Failures are reported on stderr and
-/// end the command: an unreadable file or configuration with status 2, a
-/// grammar with errors (rendered) with status 1.
-pub fn load_runnable(path: &Path, command: &str, term: Term) -> Result<Analysis, Stop> {
-    let analysis = match trellis_project::load_grammar(path) {
-        Ok(analysis) => analysis,
+/// Reads and analyses the grammar at `path` with its trellis.toml.
+/// Failures are reported on stderr and end the command with status 2.
+pub fn load(path: &Path) -> Result<Analysis, Stop> {
+    match trellis_project::load_grammar(path) {
+        Ok(analysis) => Ok(analysis),
         Err(LoadError::Config(problem)) => {
             emit(
                 Stream::Stderr,
@@ -117,35 +114,88 @@ pub fn load_runnable(path: &Path, command: &str, term: Term) -> Result<Analysis,
                     path.display()
                 ),
             );
-            return Err(Stop(Outcome::Failure));
+            Err(Stop(Outcome::Failure))
         }
         Err(e @ LoadError::Unreadable { .. }) => {
             emit(Stream::Stderr, &format!("error: {e}\n"));
-            return Err(Stop(Outcome::Failure));
+            Err(Stop(Outcome::Failure))
         }
-    };
-    if let Err(why) = analysis.runnable() {
-        let mut out = human::errors(&analysis, term.color(Stream::Stderr));
+    }
+}
+
+/// What `trellis COMMAND` may run of the grammar at `path` (analysed as
+/// `analysis`) from `from` (see [`Analysis::run`]). A refusal is reported
+/// on stderr: the errors that stop the run rendered in full and named in
+/// one line each, status 1; no start symbol, or a `--from` that names no
+/// block, status 2 when the command has `--from` (`offers_from`), else 1.
+pub fn prepare<'a>(
+    analysis: &'a Analysis,
+    from: Option<&str>,
+    offers_from: bool,
+    path: &Path,
+    command: &str,
+    term: Term,
+) -> Result<Run<'a>, Stop> {
+    analysis.run(from).map_err(|why| {
+        let outcome = match (&why, from) {
+            (NotRunnable::NoSuchSymbol(_), _) | (NotRunnable::NoStart, _) if offers_from => {
+                Outcome::Failure
+            }
+            _ => Outcome::Findings,
+        };
+        let mut out = String::new();
+        let stopping: Vec<_> = why.errors().iter().map(|e| e.diagnostic.clone()).collect();
+        out.push_str(&human::diagnostics(
+            &analysis.sources,
+            &stopping,
+            term.color(Stream::Stderr),
+        ));
+        let message = match (&why, from) {
+            (NotRunnable::NoSuchSymbol(_), Some(name)) => format!("--from {name}: {why}"),
+            (NotRunnable::NoStart, None) if offers_from => format!("{why} with --from"),
+            (NotRunnable::NoStart, None) => {
+                "the grammar has no `start` declaration; declare one with `start Name`".to_string()
+            }
+            _ => why.to_string(),
+        };
         out.push_str(&format!(
-            "error: {}: {why} (`trellis check` lists every finding); trellis {command} did not run\n",
+            "error: {}: {message}\ntrellis {command} did not run\n",
             path.display()
         ));
         emit(Stream::Stderr, &out);
-        return Err(Stop(Outcome::Findings));
-    }
-    Ok(analysis)
+        Stop(outcome)
+    })
 }
 
-/// The symbol named by `--from`, or the grammar's start.
-pub fn start_symbol(analysis: &Analysis, from: Option<&str>) -> Result<NtId, Stop> {
-    analysis.start_symbol(from).map_err(|why| {
-        let hint = match from {
-            Some(name) => format!("--from {name}: {why}"),
-            None => format!("{why} with --from"),
-        };
-        emit(Stream::Stderr, &format!("error: {hint}\n"));
-        Stop(Outcome::Failure)
-    })
+/// Says on stderr what a run did to the grammar: which blocks were
+/// rescaled, which errors it ignored (each with its place), in human
+/// output; machine-readable documents carry the same as fields.
+pub fn note_run(analysis: &Analysis, run: &Run) {
+    let mut out = String::new();
+    if let Some(note) = run.rescaled_note() {
+        out.push_str(&format!("note: {note}\n"));
+    }
+    let ignored = run.ignored_errors();
+    if !ignored.is_empty() {
+        out.push_str(&format!(
+            "note: ran despite {} error{} outside what this run uses (`trellis check` shows {}):\n",
+            ignored.len(),
+            if ignored.len() == 1 { "" } else { "s" },
+            if ignored.len() == 1 { "it" } else { "them" },
+        ));
+        for d in ignored {
+            let placed = analysis.placed(d);
+            out.push_str(&format!(
+                "  {}:{}:{}: {} {}\n",
+                placed.path.display(),
+                placed.line,
+                placed.column,
+                d.code,
+                d.message
+            ));
+        }
+    }
+    emit(Stream::Stderr, &out);
 }
 
 /// Reports an error on stderr and ends the command with `outcome`.

@@ -65,6 +65,52 @@ fn a_learned_grammar_checks_clean_parses_its_sentences_and_passes_tests() {
 }
 
 #[test]
+fn learn_parse_and_eval_close_the_loop_in_the_treebanks_labels() {
+    // Learned with markovization and parent annotation, the parses come
+    // back in the treebank's own labels and score perfectly against the
+    // trees they were learned from when each sentence has one tree.
+    let dir = tempfile::tempdir().unwrap();
+    let gold = "(S (NP (CD two) (NNS tickets)) (PP (TO to) (NP (NNP tolsey))))\n\
+                (S (NP (CD one) (JJ return) (NN ticket)) (PP (TO to) (NP (NNP oxna))))\n";
+    fs::write(dir.path().join("gold.mrg"), gold).unwrap();
+    let run = trellis(
+        dir.path(),
+        &[
+            "learn",
+            "gold.mrg",
+            "-o",
+            "g.trellis",
+            "--horizontal",
+            "1",
+            "--vertical",
+            "2",
+        ],
+    );
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let parse = trellis(
+        dir.path(),
+        &[
+            "parse",
+            "g.trellis",
+            "two tickets to tolsey",
+            "one return ticket to oxna",
+            "--format",
+            "brackets",
+            "--treebank-labels",
+        ],
+    );
+    assert_eq!(parse.code, 0, "{}", parse.stderr);
+    assert_eq!(parse.stdout, gold);
+    fs::write(dir.path().join("parsed.mrg"), &parse.stdout).unwrap();
+    let eval = trellis(dir.path(), &["eval", "gold.mrg", "parsed.mrg"]);
+    assert!(
+        eval.stdout.contains("F1           100.00%"),
+        "{}",
+        eval.stdout
+    );
+}
+
+#[test]
 fn gzip_treebanks_are_read_as_they_are() {
     let dir = tempfile::tempdir().unwrap();
     let plain = dir.path().join("kiosk.mrg");

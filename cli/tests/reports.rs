@@ -201,7 +201,7 @@ fn junit_has_a_suite_per_test_block_and_a_case_per_case_with_failures_and_errors
         "{xml}"
     );
     assert!(
-        xml.contains("<error message=\"the grammar has 1 error, so it cannot be run; fix it first\" type=\"not-run\">erring.trellis:2:1: sum-not-one: "),
+        xml.contains("<error message=\"the grammar has 1 error in what this run uses, so it cannot run; fix it first (errors in blocks the run cannot reach do not stop it)\" type=\"not-run\">erring.trellis:2:1: sum-not-one: "),
         "{xml}"
     );
     assert_eq!(xml.matches("<testcase ").count(), 4);

@@ -1,12 +1,18 @@
-//! How a probability is written for people, the same in every message and
+//! How a number is written for people, the same in every message and
 //! command: six significant digits without trailing zeros, in plain decimals
-//! from 1e-4 up (`0.0833333`, `0.5`, `1`) and in scientific notation below
-//! (`2.69165e-5`). Log probabilities are natural logarithms and are written
-//! `ln p = …` by whoever shows them.
+//! from 1e-4 up (`0.0833333`, `0.5`, `1`, `12.5`) and in scientific notation
+//! below (`2.69165e-5`). Probabilities, expected counts and lengths and
+//! spectral radii all use it. Log probabilities are natural logarithms and
+//! are written `ln p = …` by whoever shows them.
+
+/// `p` written as every number is ([`number`]).
+pub fn probability(p: f64) -> String {
+    number(p)
+}
 
 /// `p` with six significant digits: plain decimals from 1e-4 up,
 /// scientific notation below; trailing zeros dropped.
-pub fn probability(p: f64) -> String {
+pub fn number(p: f64) -> String {
     if p == 0.0 {
         return "0".to_string();
     }
@@ -65,5 +71,14 @@ mod tests {
         assert_eq!(probability(2.691650e-5), "2.69165e-5");
         assert_eq!(probability(1.0 / 3.0 * 1e-7), "3.33333e-8");
         assert_eq!(probability(0.999_999_9), "1");
+    }
+
+    #[test]
+    fn numbers_that_are_not_probabilities_follow_the_same_rule() {
+        use super::number;
+        assert_eq!(number(2.5), "2.5");
+        assert_eq!(number(123456.7), "123457");
+        assert_eq!(number(1.0 / 3.0 + 1.0), "1.33333");
+        assert_eq!(number(3.0 * 1e-6), "3e-6");
     }
 }

@@ -8,11 +8,11 @@
 //! the editor features need ([`IdeIndex`]) and the engine's numbers for
 //! hover ([`EngineFacts`]) are computed on first use and kept beside it.
 
+use crate::run::NotRunnable;
 use crate::{EngineFacts, IdeIndex};
 use grammar_lang::diagnostic::{Code, Diagnostic};
 use grammar_lang::model::NtId;
 use grammar_lang::source::{FileId, FileLoader};
-use grammar_lang::syntax::lexer::quote;
 use grammar_lang::Config;
 use std::ops::Deref;
 use std::path::Path;
@@ -89,12 +89,6 @@ fn insert_in_order(diagnostics: &mut Vec<Diagnostic>, finding: Diagnostic) {
     diagnostics.insert(at, finding);
 }
 
-/// Whether findings of `code` come from the engine's measurements rather
-/// than from the model's static checks.
-fn is_engine_finding(code: Code) -> bool {
-    code == Code::Leaky
-}
-
 impl Deref for Analysis {
     type Target = grammar_lang::Analysis;
 
@@ -102,48 +96,6 @@ impl Deref for Analysis {
         &self.core
     }
 }
-
-/// Why a grammar cannot be run by the engine (parsed with, sampled from,
-/// tested).
-#[derive(Clone, Debug, PartialEq, Eq)]
-pub enum NotRunnable {
-    /// The grammar has this many errors; its diagnostics say what they are.
-    Errors(usize),
-    /// No `start` declaration and no symbol named instead.
-    NoStart,
-    /// The symbol asked for has no block.
-    NoSuchSymbol(String),
-    /// The engine cannot compile the grammar for parsing.
-    Engine(String),
-}
-
-impl std::fmt::Display for NotRunnable {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        match self {
-            NotRunnable::Errors(n) => write!(
-                f,
-                "the grammar has {n} error{s}, so it cannot be run; fix {them} first",
-                s = if *n == 1 { "" } else { "s" },
-                them = if *n == 1 { "it" } else { "them" },
-            ),
-            NotRunnable::NoStart => {
-                f.write_str("the grammar has no `start` declaration; name a symbol to start from")
-            }
-            NotRunnable::Engine(why) => write!(f, "the grammar cannot be parsed with: {why}"),
-            NotRunnable::NoSuchSymbol(name) => write!(
-                f,
-                "the grammar has no block named {}",
-                if grammar_lang::syntax::lexer::is_valid_symbol_name(name) {
-                    format!("`{name}`")
-                } else {
-                    quote(name)
-                }
-            ),
-        }
-    }
-}
-
-impl std::error::Error for NotRunnable {}
 
 impl Analysis {
     /// Wraps a front-end analysis as it is (no engine-backed findings are
@@ -188,37 +140,19 @@ impl Analysis {
     }
 
     /// The engine's numbers for hover (termination probabilities, expected
-    /// rule uses), computed on first use; `None` when the grammar has
-    /// errors or no start symbol.
+    /// rule uses) over the weights a run from `start` uses, computed on
+    /// first use; `None` when the grammar has errors (the numbers of a
+    /// broken block would describe a grammar other than the one meant) or
+    /// no start symbol.
     pub fn facts(&self) -> Option<&EngineFacts> {
         self.facts
-            .get_or_init(|| EngineFacts::compute(&self.core))
+            .get_or_init(|| {
+                if self.core.has_errors() {
+                    return None;
+                }
+                EngineFacts::compute(&self.run(None).ok()?)
+            })
             .as_ref()
-    }
-
-    /// The grammar, if the engine may run it: no errors in the model.
-    /// Errors the engine itself measured (`leaky`, when `trellis.toml`
-    /// makes it an error) do not count: a leaking grammar is a well-formed
-    /// model — the engine parses and samples it, and `stats` is where the
-    /// leak is studied.
-    pub fn runnable(&self) -> Result<&grammar_lang::Grammar, NotRunnable> {
-        let errors = self
-            .core
-            .diagnostics
-            .iter()
-            .filter(|d| d.severity == grammar_lang::Severity::Error && !is_engine_finding(d.code))
-            .count();
-        match errors {
-            0 => Ok(&self.core.grammar),
-            n => Err(NotRunnable::Errors(n)),
-        }
-    }
-
-    /// The engine's parser for the grammar, if it may run: the one way the
-    /// shells and the test runner get one, so they refuse alike.
-    pub fn parser(&self) -> Result<trellis_engine::Parser, NotRunnable> {
-        let grammar = self.runnable()?;
-        trellis_engine::Parser::new(grammar).map_err(|e| NotRunnable::Engine(e.to_string()))
     }
 
     /// The symbol a derivation starts from: `from` when given (it must have
@@ -253,14 +187,10 @@ impl Analysis {
 }
 
 impl EngineFacts {
-    /// The engine's consistency analysis of a grammar without errors, as
-    /// the numbers hover shows; `None` for a grammar with errors or one the
-    /// analysis cannot take (no start symbol).
-    pub fn compute(analysis: &grammar_lang::Analysis) -> Option<EngineFacts> {
-        if analysis.has_errors() {
-            return None;
-        }
-        let report = trellis_engine::consistency::analyze(&analysis.grammar).ok()?;
+    /// The engine's consistency analysis of a run's grammar (the weights a
+    /// run uses), as the numbers hover shows.
+    pub fn compute(run: &crate::Run<'_>) -> Option<EngineFacts> {
+        let report = trellis_engine::consistency::analyze_from(run.grammar(), run.start()).ok()?;
         Some(EngineFacts {
             termination: report
                 .symbols

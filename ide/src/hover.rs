@@ -96,8 +96,20 @@ fn rule_hover(grammar: &Grammar, id: RuleId, facts: Option<&EngineFacts>) -> Str
             out.push_str("- unweighted: shares what the weighted alternatives leave\n");
         }
     }
-    let _ = writeln!(out, "- probability: {}", exact(&rule.probability));
     let mass = block.map_or_else(Ratio::zero, |b| b.mass.clone());
+    let runs_use = crate::run::run_probability(grammar, id);
+    if *runs_use == rule.probability {
+        let _ = writeln!(out, "- probability: {}", exact(&rule.probability));
+    } else {
+        let _ = writeln!(
+            out,
+            "- probability: {} as written; runs use {} (the block's probabilities sum to {} \
+             and runs divide them by that sum)",
+            exact(&rule.probability),
+            exact(&runs_use),
+            exact(&mass)
+        );
+    }
     if !mass.is_zero() {
         let share = &rule.probability / &mass;
         let _ = writeln!(
@@ -174,7 +186,16 @@ fn nt_hover(
         }
     );
     if !block.mass.is_one() && rules > 0 {
-        let _ = writeln!(out, "- probabilities sum to {}", exact(&block.mass));
+        let _ = writeln!(
+            out,
+            "- probabilities sum to {}{}",
+            exact(&block.mass),
+            if block.mass.is_zero() {
+                ""
+            } else {
+                "; runs divide each by that sum"
+            }
+        );
     }
     match (index.is_reachable(nt), grammar.start) {
         (Some(true), _) if is_start => {}
@@ -228,6 +249,30 @@ fn terminal_hover(
     value: &str,
 ) -> String {
     let mut out = format!("**terminal** {}\n\n", code(&quote(value)));
+    let words: Vec<&str> = grammar_lang::model::words(value).collect();
+    if words.len() > 1 {
+        // A terminal of several words is the sequence of its words
+        // (lowering splits it), each a word of the grammar of its own.
+        let _ = writeln!(
+            out,
+            "the sequence of {} words {}: a sentence must have them one after the other\n",
+            words.len(),
+            words
+                .iter()
+                .map(|w| code(&quote(w)))
+                .collect::<Vec<_>>()
+                .join(" ")
+        );
+        out.push_str("| word | rules producing it |\n|---|---|\n");
+        for word in words {
+            let rules = grammar
+                .term(word)
+                .map_or(0, |t| index.rules_producing(t).len());
+            let _ = writeln!(out, "| {} | {rules} |", code(&quote(word)));
+        }
+        return out;
+    }
+    let term = term.or_else(|| words.first().and_then(|w| grammar.term(w)));
     let producers = term.map_or(&[][..], |t| index.rules_producing(t));
     if producers.is_empty() {
         out.push_str("no rule produces this word\n");
@@ -251,13 +296,29 @@ fn terminal_hover(
             "| {} | {} | {} |",
             code(grammar.nt_name(rule.lhs)),
             code(&grammar.rule_text(id)).replace('|', "\\|"),
-            exact(&rule.probability)
+            probability_cell(grammar, id)
         );
     }
     if producers.len() > LISTED_PRODUCERS {
         let _ = writeln!(out, "\n… and {} more", producers.len() - LISTED_PRODUCERS);
     }
     out
+}
+
+/// A rule's probability for a table: as written, and what runs use when
+/// its block is rescaled.
+fn probability_cell(grammar: &Grammar, id: RuleId) -> String {
+    let written = &grammar.rule(id).probability;
+    let runs_use = crate::run::run_probability(grammar, id);
+    if *runs_use == *written {
+        exact(written)
+    } else {
+        format!(
+            "{} as written; runs use {}",
+            exact(written),
+            exact(&runs_use)
+        )
+    }
 }
 
 /// What each keyword means, in one line.

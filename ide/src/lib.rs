@@ -51,6 +51,7 @@
 //! | links on `use` paths | `document_links` | `Vec<DocumentLink>` |
 //! | highlight occurrences | `document_highlights` | `Vec<Highlight>` |
 //! | formatting (whole file or a range) | `formatting` | `Vec<TextEdit>`, or the syntax errors |
+//! | a grammar the engine may run | `run`, `run_tests` | [`Run`] (weights divided by their block sums, ignored errors), or [`NotRunnable`] naming the stopping errors |
 //!
 //! Each method calls the function of the same name in this crate, which
 //! takes the front end's `grammar_lang::Analysis` (and the index or the
@@ -67,19 +68,21 @@ mod lookup;
 mod navigation;
 mod numbers;
 pub mod picture;
+mod run;
 mod structure;
 mod symbols;
 mod tokens;
 mod walk;
 
 pub use actions::{code_actions, CodeAction, CodeActionKind};
-pub use analysis::{analyze, analyze_text, Analysis, NotRunnable};
+pub use analysis::{analyze, analyze_text, Analysis};
 pub use completion::{completions, CompletionItem, CompletionKind, CompletionList};
 pub use formatting::formatting;
 pub use hints::{code_lenses, inlay_hints, CodeLens, CodeLensKind, InlayHint};
 pub use hover::{hover, EngineFacts, Hover};
 pub use lookup::{lookup, Lookup, NtRole};
 pub use navigation::{definition, prepare_rename, references, rename, RenameError};
+pub use run::{run_probability, NotRunnable, PlacedError, Run};
 pub use structure::{
     document_highlights, document_links, folding_ranges, DocumentLink, FoldKind, FoldingRange,
     Highlight,

@@ -85,7 +85,7 @@ fn a_leak_made_an_error_does_not_stop_the_engine_from_running_the_grammar() {
     let config = with_leaky(Level::At(Severity::Error));
     let analysis = analyze(Path::new("g.trellis"), LEAKY, &MemoryLoader::new(), &config);
     assert!(analysis.has_errors());
-    assert!(analysis.runnable().is_ok());
+    assert!(analysis.run(None).is_ok());
     // A static error still stops it.
     let broken = "start S\nS {\n  0.7 S S\n  0.3 \"a\"\n  0.1 T\n}\n";
     let analysis = analyze(
@@ -94,7 +94,7 @@ fn a_leak_made_an_error_does_not_stop_the_engine_from_running_the_grammar() {
         &MemoryLoader::new(),
         &config,
     );
-    assert!(analysis.runnable().is_err());
+    assert!(analysis.run(None).is_err());
 }
 
 #[test]

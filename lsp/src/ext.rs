@@ -14,8 +14,11 @@
 //! * [`RunTest`] (`trellis.runTest`): run one test block of the document,
 //!   or every test of the grammar; counts are of cases.
 //!
-//! Every command refuses a grammar with errors (the diagnostics say what to
-//! fix) and stops between sentences when the request is cancelled. With
+//! Every command refuses a grammar with errors in what it uses (the message
+//! names each with its place; errors in blocks the start symbol cannot
+//! reach are ignored and listed in `ignoredErrors`), runs with the weights
+//! a run uses (a block allowed to sum to something other than 1 divided by
+//! its sum, listed in `rescaled`) and stops between sentences when the request is cancelled. With
 //! `show: true` (what the code lenses send, since no one reads a lens
 //! command's result) the server also shows the outcome to the user with
 //! `window/showMessage`.
@@ -92,6 +95,30 @@ pub struct ParseParams {
 #[serde(rename_all = "camelCase")]
 pub struct ParseResult {
     pub results: Vec<SentenceParse>,
+    /// What the run did to the grammar.
+    #[serde(flatten)]
+    pub ran: Ran,
+}
+
+/// What a command's run did to the grammar (`trellis_ide::Run`): the
+/// blocks whose weights were divided by their sum, and the errors outside
+/// what the run uses, which did not stop it.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "camelCase")]
+pub struct Ran {
+    #[serde(default)]
+    pub rescaled: Vec<String>,
+    #[serde(default)]
+    pub ignored_errors: Vec<IgnoredError>,
+}
+
+/// An error a run ignored, where it is.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "camelCase")]
+pub struct IgnoredError {
+    pub code: String,
+    pub message: String,
+    pub location: Option<Location>,
 }
 
 /// The parse of one sentence. When the sentence could not be parsed at all
@@ -178,6 +205,9 @@ pub struct SampleResult {
     /// The seed used.
     pub seed: u64,
     pub samples: Vec<SampledSentence>,
+    /// What the run did to the grammar.
+    #[serde(flatten)]
+    pub ran: Ran,
 }
 
 /// One sample.
@@ -225,6 +255,9 @@ pub struct RunTestResult {
     pub failed: usize,
     /// Each test run, in order.
     pub tests: Vec<TestReport>,
+    /// What the run did to the grammar.
+    #[serde(flatten)]
+    pub ran: Ran,
 }
 
 /// One test block and its cases.
@@ -301,8 +334,18 @@ mod tests {
                 log_probability: Some(-1.0),
                 ..SentenceParse::default()
             }],
+            ran: Ran {
+                rescaled: vec!["S".into()],
+                ignored_errors: vec![IgnoredError {
+                    code: "undefined".into(),
+                    message: "`X` is used but has no block".into(),
+                    location: None,
+                }],
+            },
         };
         let value = serde_json::to_value(&result).unwrap();
+        assert_eq!(value["rescaled"][0], "S");
+        assert_eq!(value["ignoredErrors"][0]["code"], "undefined");
         let entry = &value["results"][0];
         assert_eq!(entry["parseCount"], "1");
         assert_eq!(entry["sentenceProbability"], 0.5);

@@ -144,3 +144,58 @@ async fn sampling_is_reproducible_and_every_sample_parses() {
     }
     client.shutdown().await;
 }
+
+/// A lighthouse logbook whose block sums `trellis.toml` allows to be off:
+/// `Entry` sums to 0.9 and `Weather` to 7/8.
+const LOGBOOK: &str = "start Entry\nEntry {\n  0.45  Weather \"logged\"\n  0.45  Lamp \"logged\"\n}\nWeather {\n  1/2  \"fog\"\n  1/4  \"gale\"\n  1/8  \"calm\"\n}\nLamp { \"lit\" }\n";
+
+#[tokio::test]
+async fn hover_shows_the_probabilities_the_parse_command_multiplies() {
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("logbook.trellis");
+    std::fs::write(&path, LOGBOOK).unwrap();
+    std::fs::write(
+        dir.path().join("trellis.toml"),
+        "[checks]\nsum-not-one = \"warning\"\n",
+    )
+    .unwrap();
+    let uri = common::file_uri(&path);
+    let mut client = TestClient::start();
+    client.initialize().await;
+    client.open(&uri, 1, LOGBOOK).await;
+    client.diagnostics(&uri).await;
+    let hover = |line: u32| json!({"textDocument": {"uri": uri}, "position": {"line": line, "character": 3}});
+    // On the weights of `Entry → Weather "logged"` and `Weather → "fog"`.
+    let entry = client.request("textDocument/hover", hover(2)).await;
+    let entry = entry["contents"]["value"].as_str().unwrap().to_string();
+    let weather = client.request("textDocument/hover", hover(6)).await;
+    let weather = weather["contents"]["value"].as_str().unwrap().to_string();
+    // 0.45 / 0.9 = 1/2 and (1/2) / (7/8) = 4/7 (worked by hand).
+    assert!(
+        entry.contains("- probability: 9/20 = 0.45 as written; runs use 1/2 = 0.5"),
+        "{entry}"
+    );
+    assert!(
+        weather.contains("- probability: 1/2 = 0.5 as written; runs use 4/7 ≈"),
+        "{weather}"
+    );
+    let response = command(
+        &mut client,
+        "trellis.parse",
+        json!({"uri": uri, "sentence": "fog logged"}),
+    )
+    .await;
+    let result = &response["result"];
+    // The tree's probability is the product of the two: 1/2 · 4/7 = 2/7.
+    assert_eq!(
+        result["results"][0]["tree"],
+        r#"(Entry (Weather "fog") "logged")"#
+    );
+    assert!(
+        close(&result["results"][0]["probability"], 2.0 / 7.0),
+        "{result}"
+    );
+    assert_eq!(result["rescaled"], json!(["Entry", "Weather"]));
+    assert_eq!(result["ignoredErrors"], json!([]));
+    client.shutdown().await;
+}

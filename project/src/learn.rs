@@ -166,6 +166,9 @@ pub fn learned_source(learned: &Learned, paths: &[PathBuf], how: &Learning) -> S
     }
     header.push(String::new());
     header.push("Symbols with `+` are binarization's intermediate symbols and `.`".to_string());
-    header.push("marks a parent annotation (see README, \"Learning from trees\").".to_string());
+    header.push("marks a parent annotation (see README, \"Learning from trees\");".to_string());
+    header.push(
+        "`trellis parse --treebank-labels` prints trees in the treebank's labels.".to_string(),
+    );
     learned.counts.to_source(&LearnOptions { header })
 }

@@ -16,6 +16,7 @@ pub mod cache;
 pub mod config;
 pub mod coverage;
 pub mod discover;
+pub mod evaluate;
 pub mod files;
 pub mod format;
 pub mod grammars;

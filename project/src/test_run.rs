@@ -10,6 +10,7 @@ use crate::coverage::{coverage, Coverage};
 use crate::discover::identity;
 use crate::grammars::{grammar_roots, Checked};
 use grammar_lang::model::GrammarTest;
+use grammar_lang::Diagnostic;
 use grammar_lang::FileId;
 use rayon::prelude::*;
 use std::path::PathBuf;
@@ -116,6 +117,20 @@ impl Counts {
 pub struct TestRun<'g> {
     pub tests: Vec<TestResult<'g>>,
     pub counts: Counts,
+    /// What the run did to the grammar: see [`Ran`].
+    pub ran: Ran<'g>,
+}
+
+/// What a run of a grammar's tests did to it (the façade's
+/// [`trellis_ide::Run`], kept for the report).
+#[derive(Debug, Default)]
+pub struct Ran<'g> {
+    /// Blocks whose weights were divided by their sum, by name.
+    pub rescaled: Vec<String>,
+    /// A sentence saying so, when there are any.
+    pub rescaled_note: Option<String>,
+    /// Errors outside what the tests use, which did not stop them.
+    pub ignored_errors: Vec<&'g Diagnostic>,
 }
 
 /// The tests of `analysis`'s grammar that `selection` picks, in order.
@@ -130,15 +145,19 @@ pub fn selected<'g>(analysis: &'g Analysis, selection: Selection) -> Vec<&'g Gra
 
 /// Runs `tests` (tests of `analysis`'s grammar). `Ok(None)` when
 /// `cancelled` said so between two cases; an error when the grammar cannot
-/// run (it has errors, or the engine cannot compile it).
+/// run (errors in what the tests use, or the engine cannot compile it).
+/// Every case is judged with the weights a run uses
+/// ([`Analysis::run_tests`]): the user's, divided by their block's sum
+/// where `trellis.toml` lets a block's sum be off.
 pub fn run<'g>(
     analysis: &'g Analysis,
     tests: Vec<&'g GrammarTest>,
     options: RunOptions,
     cancelled: &(dyn Fn() -> bool + Sync),
 ) -> Result<Option<TestRun<'g>>, NotRunnable> {
-    let parser = analysis.parser()?;
-    let grammar = &analysis.grammar;
+    let prepared = analysis.run_tests(&tests)?;
+    let parser = prepared.parser()?;
+    let grammar = prepared.grammar();
     let cases: Vec<(usize, &grammar_lang::model::TestCase)> = tests
         .iter()
         .enumerate()
@@ -173,6 +192,15 @@ pub fn run<'g>(
     Ok(Some(TestRun {
         tests: results,
         counts,
+        ran: Ran {
+            rescaled: prepared
+                .rescaled_names()
+                .into_iter()
+                .map(str::to_string)
+                .collect(),
+            rescaled_note: prepared.rescaled_note(),
+            ignored_errors: prepared.ignored_errors().to_vec(),
+        },
     }))
 }
 
@@ -186,6 +214,8 @@ pub struct GrammarRun<'g> {
     pub path: PathBuf,
     /// Why none of its tests ran, if they did not.
     pub blocked: Option<NotRunnable>,
+    /// What the run did to the grammar (empty when it did not run).
+    pub ran: Ran<'g>,
     pub tests: Vec<TestResult<'g>>,
     /// Which rules the passing cases' most probable trees use (when the
     /// tests ran).
@@ -260,18 +290,18 @@ pub fn run_suite<'g>(
                 })
                 .collect()
         };
-        let (blocked, tests) = match run(analysis, tests.clone(), options, &|| false) {
+        let (blocked, tests, ran) = match run(analysis, tests.clone(), options, &|| false) {
             Ok(Some(done)) => {
                 tally.counts.add(done.counts);
-                (None, done.tests)
+                (None, done.tests, done.ran)
             }
             Err(blocked) => {
                 tally.grammars_blocked += 1;
                 tally.tests_not_run += tests.len();
-                (Some(blocked), not_run(&tests))
+                (Some(blocked), not_run(&tests), Ran::default())
             }
             // Never cancelled: a command-line run goes to the end.
-            Ok(None) => (None, not_run(&tests)),
+            Ok(None) => (None, not_run(&tests), Ran::default()),
         };
         let coverage = blocked
             .is_none()
@@ -280,6 +310,7 @@ pub fn run_suite<'g>(
             analysis,
             path: checked[i].root.path.clone(),
             blocked,
+            ran,
             tests,
             coverage,
         });
@@ -370,16 +401,42 @@ test \"sinking\" {
     }
 
     #[test]
-    fn a_grammar_with_errors_is_not_run_and_says_how_many() {
+    fn a_grammar_with_an_error_the_tests_use_is_not_run_and_names_it() {
         let analysis =
             trellis_ide::analyze_text("start S\nS { 0.5 \"a\" }\ntest \"t\" { accept \"a\" }\n");
         let tests = selected(&analysis, Selection::All);
         let blocked = run(&analysis, tests, RunOptions::default(), &|| false).unwrap_err();
-        assert_eq!(blocked, NotRunnable::Errors(1));
-        assert_eq!(
-            blocked.to_string(),
-            "the grammar has 1 error, so it cannot be run; fix it first"
+        let NotRunnable::Errors(errors) = &blocked else {
+            panic!("expected errors, got {blocked:?}");
+        };
+        let named: Vec<String> = errors
+            .iter()
+            .map(|e| {
+                format!(
+                    "{}:{}:{} {}",
+                    e.path.display(),
+                    e.line,
+                    e.column,
+                    e.diagnostic.code
+                )
+            })
+            .collect();
+        assert_eq!(named, ["grammar.trellis:2:1 sum-not-one"]);
+    }
+
+    #[test]
+    fn an_error_in_a_block_the_tests_cannot_reach_does_not_stop_them() {
+        let analysis = trellis_ide::analyze_text(
+            "start S\nS { \"a\" }\nSpare { Missing }\ntest \"t\" { accept \"a\" }\n",
         );
+        let tests = selected(&analysis, Selection::All);
+        let done = run(&analysis, tests, RunOptions::default(), &|| false)
+            .unwrap()
+            .unwrap();
+        assert_eq!(done.counts.cases_passed, 1);
+        let ignored: Vec<_> = done.ran.ignored_errors.iter().map(|d| d.code).collect();
+        use grammar_lang::Code;
+        assert_eq!(ignored, [Code::Unproductive, Code::Undefined]);
     }
 
     #[test]

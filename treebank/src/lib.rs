@@ -14,6 +14,7 @@
 
 pub mod binarize;
 pub mod clean;
+pub mod eval;
 pub mod learn;
 pub mod names;
 pub mod read;

@@ -47,6 +47,8 @@ pub struct TreeReader<R> {
     done: bool,
     /// After an error: skip to a line that starts with `(`.
     resync: bool,
+    /// Where the tree read last (or being read) starts.
+    tree_start: (usize, usize),
 }
 
 /// An open node while reading.
@@ -73,7 +75,14 @@ impl<R: BufRead> TreeReader<R> {
             line_no: 0,
             done: false,
             resync: false,
+            tree_start: (0, 0),
         }
+    }
+
+    /// The line and column where the last tree read (or the malformed one)
+    /// starts.
+    pub fn tree_start(&self) -> (usize, usize) {
+        self.tree_start
     }
 
     /// The line the reader has reached (1-based).
@@ -190,6 +199,7 @@ impl<R: BufRead> TreeReader<R> {
         let Some((first, line, column)) = self.token(0)? else {
             return Ok(None);
         };
+        self.tree_start = (line, column);
         match first {
             Token::Open => {}
             Token::Close => {

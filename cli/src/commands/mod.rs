@@ -6,6 +6,7 @@
 
 pub mod check;
 pub mod completions;
+pub mod eval;
 pub mod fmt;
 pub mod init;
 pub mod learn;

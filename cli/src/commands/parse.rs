@@ -5,7 +5,7 @@ use super::Stop;
 use super::{Outcome, Ran};
 use crate::output::{emit, ParseFormat, Stream, Term};
 use crate::render::{brackets, human, json};
-use crate::shared::{fail, load_runnable};
+use crate::shared::{fail, load, note_run, prepare};
 use grammar_lang::Grammar;
 use rayon::prelude::*;
 use std::io::Read;
@@ -25,8 +25,12 @@ pub const LONG_ABOUT: &str = "Parse sentences with a grammar.\n\n\
     Sentences come from the command line, or one per line from --input FILE \
     or standard input (blank lines are skipped). Batches are parsed in \
     parallel; output keeps the input order.\n\n\
+    A grammar whose blocks may sum to something other than 1 (trellis.toml \
+    sets `sum-not-one` below error) is run with each such block's weights \
+    divided by their sum; a note says which blocks. Errors in blocks the \
+    start symbol cannot reach do not stop the run (a note lists them).\n\n\
     Exit status: 0 when every sentence parses; 1 when the grammar has errors \
-    or some sentence does not parse (or is too long for --max-chart-mib); 2 \
+    in what the run uses or some sentence does not parse (or is too long for --max-chart-mib); 2 \
     when a file cannot be read or the configuration is invalid.";
 
 /// Arguments of `trellis parse`.
@@ -60,6 +64,12 @@ pub struct ParseArgs {
     /// Do not count the trees (faster on large grammars)
     #[arg(long)]
     pub no_count: bool,
+
+    /// Print trees in the labels of the treebank a grammar was learned from
+    /// (`trellis learn`): binarization's intermediate symbols dissolved,
+    /// annotations dropped, labels unescaped
+    #[arg(long)]
+    pub treebank_labels: bool,
 
     /// Also draw each parsed sentence's tree as an SVG picture in FILE (with
     /// several sentences, FILE-1.svg, FILE-2.svg, …; with --kbest N the N
@@ -147,10 +157,19 @@ fn draw_pictures(
     Ok(())
 }
 
+/// Rewrites an outcome's trees in the labels of the treebank the grammar
+/// was learned from.
+fn to_treebank_labels(outcome: &mut ParseOutcome) {
+    for parsed in outcome.best.iter_mut().chain(outcome.kbest.iter_mut()) {
+        parsed.tree = trellis_treebank::debinarize(&parsed.tree);
+    }
+}
+
 /// Runs `trellis parse`.
 pub fn run(args: &ParseArgs, term: Term) -> Ran {
-    let analysis = load_runnable(&args.grammar, "parse", term)?;
-    let parser = analysis.parser().map_err(|e| fail(e, Outcome::Findings))?;
+    let analysis = load(&args.grammar)?;
+    let run = prepare(&analysis, None, false, &args.grammar, "parse", term)?;
+    let parser = run.parser().map_err(|e| fail(e, Outcome::Findings))?;
     let sentences = read_sentences(args).map_err(|e| fail(e, Outcome::Failure))?;
     let options = ParseOptions {
         kbest: args.kbest,
@@ -158,10 +177,19 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
         count_parses: !args.no_count,
         explain: true,
     };
-    let results: Vec<Result<ParseOutcome, ParseError>> = sentences
+    let mut results: Vec<Result<ParseOutcome, ParseError>> = sentences
         .par_iter()
         .map(|s| parser.parse_line(s, &options))
         .collect();
+    if args.treebank_labels {
+        for outcome in results.iter_mut().flatten() {
+            to_treebank_labels(outcome);
+        }
+    }
+    let ran = json::Ran::of(&analysis, &run);
+    if args.format != ParseFormat::Json {
+        note_run(&analysis, &run);
+    }
     let mut out = String::new();
     for (n, (sentence, result)) in sentences.iter().zip(&results).enumerate() {
         match args.format {
@@ -182,16 +210,14 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
                     sentence,
                     result,
                     args.kbest > 1,
+                    &ran,
                 )));
             }
         }
     }
     emit(Stream::Stdout, &out);
     if let Some(svg) = &args.svg {
-        let grammar = analysis
-            .runnable()
-            .map_err(|e| fail(e, Outcome::Findings))?;
-        draw_pictures(svg, grammar, &sentences, &results, args.kbest)?;
+        draw_pictures(svg, run.grammar(), &sentences, &results, args.kbest)?;
     }
     let failed = results
         .iter()

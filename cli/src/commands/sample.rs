@@ -3,7 +3,7 @@
 use super::{Outcome, Ran};
 use crate::output::{emit, Format, Stream, Term};
 use crate::render::json;
-use crate::shared::{fail, load_runnable, start_symbol};
+use crate::shared::{fail, load, note_run, prepare};
 use std::io::Write;
 use std::path::PathBuf;
 use trellis_engine::rng::Xoshiro256StarStar;
@@ -17,8 +17,12 @@ pub const LONG_ABOUT: &str = "Draw random sentences from a grammar.\n\n\
     needs more than --max-rules rule applications is abandoned and counted: \
     that happens when the grammar gives probability to derivations that never \
     end (`trellis stats` says how much).\n\n\
+    Blocks whose weights may sum to something other than 1 (trellis.toml sets \
+    `sum-not-one` below error) are drawn from with their weights divided by \
+    their sum, as `parse`, `stats` and `test` use them. Errors in blocks the \
+    symbol cannot reach do not stop the run.\n\n\
     Exit status: 0 when every draw produced a sentence; 1 when the grammar has \
-    errors or some draws were abandoned; 2 when the file cannot be read, the \
+    errors in what the run uses or some draws were abandoned; 2 when the file cannot be read, the \
     configuration is invalid or --from names no symbol.";
 
 /// Arguments of `trellis sample`.
@@ -69,13 +73,24 @@ fn clock_seed() -> u64 {
 
 /// Runs `trellis sample`.
 pub fn run(args: &SampleArgs, term: Term) -> Ran {
-    let analysis = load_runnable(&args.grammar, "sample", term)?;
-    let g = &analysis.grammar;
-    let from = start_symbol(&analysis, args.from.as_deref())?;
+    let analysis = load(&args.grammar)?;
+    let run = prepare(
+        &analysis,
+        args.from.as_deref(),
+        true,
+        &args.grammar,
+        "sample",
+        term,
+    )?;
+    let g = run.grammar();
+    let from = run.start();
     let sampler = Sampler::new(g)
         .and_then(|s| s.check(from).map(|()| s))
         .map_err(|e| fail(e, Outcome::Findings))?;
     let seed = args.seed.unwrap_or_else(clock_seed);
+    if args.format == Format::Human {
+        note_run(&analysis, &run);
+    }
     if args.seed.is_none() && args.format == Format::Human {
         // Printed before the first draw, so even an interrupted run can be
         // drawn again; JSON carries the seed in its document instead.
@@ -127,6 +142,7 @@ pub fn run(args: &SampleArgs, term: Term) -> Ran {
             g.nt_name(from),
             &samples,
             abandoned,
+            &json::Ran::of(&analysis, &run),
         )),
     }
     if let Some(e) = last_error {

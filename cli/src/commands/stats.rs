@@ -4,7 +4,7 @@
 use super::{Outcome, Ran};
 use crate::output::{emit, Format, Stream, Term};
 use crate::render::{human, json};
-use crate::shared::{fail, load_runnable, start_symbol};
+use crate::shared::{fail, load, note_run, prepare};
 use std::path::PathBuf;
 use trellis_engine::consistency;
 
@@ -15,8 +15,12 @@ pub const LONG_ABOUT: &str = "Show the probabilistic properties of a grammar.\n\
     1: critical; above 1: the grammar may leak); the expected sentence length and \
     number of rule applications; and for every non-terminal the probability that \
     its derivations end and how often a sentence uses it on average.\n\n\
-    Exit status: 0 for a tight grammar; 1 when the grammar has errors or leaks \
-    probability; 2 when the file cannot be read, the configuration is invalid or \
+    The numbers are those of the weights a run uses: a block that may sum to \
+    something other than 1 (trellis.toml sets `sum-not-one` below error) has \
+    its weights divided by their sum, as `parse`, `sample` and `test` use them. \
+    Errors in blocks the symbol cannot reach do not stop the run.\n\n\
+    Exit status: 0 for a tight grammar; 1 when the grammar has errors in what \
+    the run uses or leaks probability; 2 when the file cannot be read, the configuration is invalid or \
     --from names no symbol.";
 
 /// Arguments of `trellis stats`.
@@ -37,9 +41,17 @@ pub struct StatsArgs {
 
 /// Runs `trellis stats`.
 pub fn run(args: &StatsArgs, term: Term) -> Ran {
-    let analysis = load_runnable(&args.grammar, "stats", term)?;
-    let g = &analysis.grammar;
-    let from = start_symbol(&analysis, args.from.as_deref())?;
+    let analysis = load(&args.grammar)?;
+    let run = prepare(
+        &analysis,
+        args.from.as_deref(),
+        true,
+        &args.grammar,
+        "stats",
+        term,
+    )?;
+    let g = run.grammar();
+    let from = run.start();
     let report = consistency::analyze_from(g, from).map_err(|e| fail(e, Outcome::Failure))?;
     // At the level trellis.toml sets, as `check` reports it.
     let leaky = analysis.leak_finding(&report);
@@ -49,8 +61,10 @@ pub fn run(args: &StatsArgs, term: Term) -> Ran {
             &report,
             leaky.as_ref(),
             &analysis.sources,
+            &json::Ran::of(&analysis, &run),
         )),
         Format::Human => {
+            note_run(&analysis, &run);
             let mut out = human::stats_table(g.nt_name(report.root), &report);
             if let Some(d) = &leaky {
                 out.push('\n');

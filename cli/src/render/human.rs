@@ -17,10 +17,9 @@ use trellis_engine::consistency::ConsistencyReport;
 /// (six significant digits, scientific notation only below 1e-4; README,
 /// "Numbers"). Defined in the engine so that its own messages (test
 /// failures, explanations of failed parses) use it too.
-pub use trellis_engine::numbers::{log_probability, probability};
+pub use trellis_engine::numbers::{log_probability, number, probability};
 use trellis_engine::parser::{ParseError, ParseOutcome};
 use trellis_engine::testing::CaseOutcome;
-use trellis_ide::NotRunnable;
 use trellis_project::test_run::{GrammarRun, Tally};
 use trellis_project::Checked;
 
@@ -223,22 +222,6 @@ impl<'a> HumanRenderer<'a> {
     }
 }
 
-/// Every error of `analysis` rendered as by [`HumanRenderer::render`], each
-/// followed by an empty line.
-pub fn errors(analysis: &grammar_lang::Analysis, color: bool) -> String {
-    let mut renderer = HumanRenderer::new(&analysis.sources, color);
-    let mut out = String::new();
-    for d in analysis
-        .diagnostics
-        .iter()
-        .filter(|d| d.severity == Severity::Error)
-    {
-        out.push_str(&renderer.render(d));
-        out.push('\n');
-    }
-    out
-}
-
 /// `text` without ANSI escape sequences (`ESC [ ... final-byte`).
 pub fn strip_ansi(text: &str) -> String {
     let mut out = String::with_capacity(text.len());
@@ -399,15 +382,6 @@ pub fn parse_report(sentence: &str, result: &Result<ParseOutcome, ParseError>) -
 
 // --- `trellis stats` ---
 
-/// A number for the table: up to 6 significant decimals, no trailing zeros.
-fn num(x: f64) -> String {
-    if x != 0.0 && x.abs() < 1e-4 {
-        return format!("{x:.3e}");
-    }
-    let s = format!("{x:.6}");
-    s.trim_end_matches('0').trim_end_matches('.').to_string()
-}
-
 /// The stats table of derivations from `r.root`, whose name is `name`.
 pub fn stats_table(name: &str, r: &ConsistencyReport) -> String {
     let mut out = String::new();
@@ -423,18 +397,21 @@ pub fn stats_table(name: &str, r: &ConsistencyReport) -> String {
     ));
     out.push_str(&format!(
         "  spectral radius           {} ({})\n",
-        num(r.spectral_radius),
+        number(r.spectral_radius),
         r.regime.as_str()
     ));
     out.push_str(&format!(
         "  expected length           {}\n",
-        r.expected_length
-            .map_or(infinite.to_string(), |v| format!("{} words", num(v)))
+        r.expected_length.map_or(infinite.to_string(), |v| {
+            format!("{} word{}", number(v), if v == 1.0 { "" } else { "s" })
+        })
     ));
     out.push_str(&format!(
         "  expected derivation size  {}\n",
         r.expected_derivation_size
-            .map_or(infinite.to_string(), |v| format!("{} rules", num(v)))
+            .map_or(infinite.to_string(), |v| {
+                format!("{} rule{}", number(v), if v == 1.0 { "" } else { "s" })
+            })
     ));
     let width = r
         .symbols
@@ -453,7 +430,7 @@ pub fn stats_table(name: &str, r: &ConsistencyReport) -> String {
             "  {:width$}  {:>12}  {:>14}\n",
             s.name,
             probability(s.termination_probability),
-            s.expected_uses.map_or(infinite.to_string(), num)
+            s.expected_uses.map_or(infinite.to_string(), number)
         ));
     }
     let unreachable = r.symbols.iter().filter(|s| !s.reachable).count();
@@ -563,15 +540,36 @@ pub fn test_grammar(run: &GrammarRun, detail: TestDetail, color: bool) -> String
     let paint = Paint(color);
     let mut out = format!("{}\n", run.path.display());
     if let Some(blocked) = &run.blocked {
-        if let NotRunnable::Errors(_) = blocked {
-            out.push_str(&errors(run.analysis, color));
-        }
+        let stopping: Vec<Diagnostic> = blocked
+            .errors()
+            .iter()
+            .map(|e| e.diagnostic.clone())
+            .collect();
+        out.push_str(&diagnostics(&run.analysis.sources, &stopping, color));
         out.push_str(&format!(
-            "  {} {} not run: {blocked}\n\n",
+            "  {} {} not run: {}\n\n",
             paint.paint("not run", Tone::NotRun),
             plural(run.tests.len(), "test", "tests"),
+            blocked.to_string().replace('\n', "\n  "),
         ));
         return out;
+    }
+    if let Some(note) = &run.ran.rescaled_note {
+        out.push_str(&format!("  note: {note}\n"));
+    }
+    if !run.ran.ignored_errors.is_empty() {
+        let n = run.ran.ignored_errors.len();
+        out.push_str(&format!(
+            "  note: ran despite {n} error{} outside what the tests use:\n",
+            if n == 1 { "" } else { "s" }
+        ));
+        for d in &run.ran.ignored_errors {
+            let (file, at) = place(&run.analysis.sources, d.location);
+            out.push_str(&format!(
+                "    {file}:{}:{}: {} {}\n",
+                at.line, at.column, d.code, d.message
+            ));
+        }
     }
     let sources = &run.analysis.sources;
     let list_all = detail.every_case || detail.trees;
@@ -646,6 +644,74 @@ pub fn test_grammar(run: &GrammarRun, detail: TestDetail, color: bool) -> String
         }
     }
     out.push('\n');
+    out
+}
+
+/// A PARSEVAL report: the totals, then precision, recall and F1 per label.
+pub fn evaluation(e: &trellis_project::evaluate::Evaluation) -> String {
+    use trellis_treebank::eval::Totals;
+    let t = &e.totals;
+    let pct = |a: usize, b: usize| {
+        if b == 0 {
+            "–".to_string()
+        } else {
+            format!("{:.2}%", 100.0 * a as f64 / b as f64)
+        }
+    };
+    let (p, r, f) = Totals::prf(t.matched, t.gold, t.test);
+    let mut out = String::new();
+    out.push_str(&format!("sentences    {}", t.sentences));
+    if t.skipped > 0 {
+        out.push_str(&format!(
+            " ({} over the length cut-off left out)",
+            t.skipped
+        ));
+    }
+    out.push('\n');
+    out.push_str(&format!(
+        "brackets     {} gold, {} predicted, {} matched\n",
+        t.gold, t.test, t.matched
+    ));
+    out.push_str(&format!("precision    {:.2}%\n", 100.0 * p));
+    out.push_str(&format!("recall       {:.2}%\n", 100.0 * r));
+    out.push_str(&format!("F1           {:.2}%\n", 100.0 * f));
+    out.push_str(&format!(
+        "exact match  {} ({} of {})\n",
+        pct(t.exact, t.sentences),
+        t.exact,
+        t.sentences
+    ));
+    let per_sentence = if t.sentences == 0 {
+        0.0
+    } else {
+        t.crossing as f64 / t.sentences as f64
+    };
+    out.push_str(&format!(
+        "crossing     {per_sentence:.2} brackets per sentence; {} of sentences with none\n",
+        pct(t.no_crossing, t.sentences)
+    ));
+    if !t.labels.is_empty() {
+        let width = t
+            .labels
+            .keys()
+            .map(|l| l.chars().count())
+            .max()
+            .unwrap_or(5)
+            .max(5);
+        out.push_str(&format!(
+            "\n{:<width$}  {:>6}  {:>9}  {:>7}  {:>9}  {:>7}  {:>7}\n",
+            "label", "gold", "predicted", "matched", "precision", "recall", "F1"
+        ));
+        for (label, &(m, g, pr)) in &t.labels {
+            let (p, r, f) = Totals::prf(m, g, pr);
+            out.push_str(&format!(
+                "{label:<width$}  {g:>6}  {pr:>9}  {m:>7}  {:>8.2}%  {:>6.2}%  {:>6.2}%\n",
+                100.0 * p,
+                100.0 * r,
+                100.0 * f
+            ));
+        }
+    }
     out
 }
 

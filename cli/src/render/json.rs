@@ -11,14 +11,13 @@ use super::{clamp, file, place, position, Position};
 use crate::commands::sample::Drawn;
 use crate::output::{emit, Stream};
 use grammar_lang::model::TestCase;
-use grammar_lang::{Diagnostic, FileId, Severity, SourceMap, Span};
+use grammar_lang::{Diagnostic, FileId, SourceMap, Span};
 use serde::Serialize;
 use trellis_engine::consistency::ConsistencyReport;
 use trellis_engine::count::Count;
 use trellis_engine::explain::Explanation;
 use trellis_engine::parser::{ParseError, ParseOutcome, ParsedTree};
 use trellis_engine::testing::CaseOutcome;
-use trellis_ide::NotRunnable;
 use trellis_project::test_run::{GrammarRun, Tally};
 
 /// `doc` as one line of JSON. Serialising these documents cannot fail in
@@ -116,14 +115,30 @@ pub fn json_diagnostic(d: &Diagnostic, sources: &SourceMap) -> JsonDiagnostic {
     }
 }
 
-/// The JSON form of every error of `analysis`.
-pub fn errors(analysis: &grammar_lang::Analysis) -> Vec<JsonDiagnostic> {
-    analysis
-        .diagnostics
-        .iter()
-        .filter(|d| d.severity == Severity::Error)
-        .map(|d| json_diagnostic(d, &analysis.sources))
-        .collect()
+/// What a run did to the grammar, as `parse`, `sample`, `stats` and each
+/// grammar of `test` report it.
+pub struct Ran {
+    /// Blocks whose weights were divided by their sum.
+    pub rescaled: Vec<String>,
+    /// Errors outside what the run uses, which did not stop it.
+    pub ignored_errors: Vec<JsonDiagnostic>,
+}
+
+impl Ran {
+    pub fn of(analysis: &trellis_ide::Analysis, run: &trellis_ide::Run) -> Ran {
+        Ran {
+            rescaled: run
+                .rescaled_names()
+                .into_iter()
+                .map(str::to_string)
+                .collect(),
+            ignored_errors: run
+                .ignored_errors()
+                .iter()
+                .map(|d| json_diagnostic(d, &analysis.sources))
+                .collect(),
+        }
+    }
 }
 
 // --- `trellis check` ---
@@ -173,6 +188,10 @@ pub struct ParseDocument<'a> {
     explanation: Option<JsonExplanation<'a>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     error: Option<String>,
+    /// Blocks whose weights were divided by their sum for the run.
+    rescaled: &'a [String],
+    /// Errors outside what the run uses, which did not stop it.
+    ignored_errors: &'a [JsonDiagnostic],
 }
 
 #[derive(Serialize)]
@@ -293,7 +312,9 @@ pub fn parse_document<'a>(
     sentence: &'a str,
     result: &'a Result<ParseOutcome, ParseError>,
     kbest: bool,
+    ran: &'a Ran,
 ) -> ParseDocument<'a> {
+    let (rescaled, ignored_errors) = (&ran.rescaled[..], &ran.ignored_errors[..]);
     match result {
         Ok(o) => ParseDocument {
             sentence,
@@ -312,6 +333,8 @@ pub fn parse_document<'a>(
             parse_count: o.parse_count.as_ref().map(count_text),
             explanation: o.explanation.as_ref().map(JsonExplanation::from),
             error: None,
+            rescaled,
+            ignored_errors,
         },
         Err(e) => ParseDocument {
             sentence,
@@ -323,6 +346,8 @@ pub fn parse_document<'a>(
             parse_count: None,
             explanation: None,
             error: Some(e.to_string()),
+            rescaled,
+            ignored_errors,
         },
     }
 }
@@ -336,6 +361,8 @@ pub struct SampleDocument<'a> {
     from: &'a str,
     samples: Vec<JsonSample<'a>>,
     abandoned: usize,
+    rescaled: &'a [String],
+    ignored_errors: &'a [JsonDiagnostic],
 }
 
 #[derive(Serialize)]
@@ -350,6 +377,7 @@ pub fn sample_document<'a>(
     from: &'a str,
     samples: &'a [Drawn],
     abandoned: usize,
+    ran: &'a Ran,
 ) -> SampleDocument<'a> {
     SampleDocument {
         seed,
@@ -362,6 +390,8 @@ pub fn sample_document<'a>(
             })
             .collect(),
         abandoned,
+        rescaled: &ran.rescaled,
+        ignored_errors: &ran.ignored_errors,
     }
 }
 
@@ -382,6 +412,8 @@ pub struct StatsDocument<'a> {
     symbols: Vec<JsonSymbol<'a>>,
     /// The `leaky` finding, at the level trellis.toml sets.
     diagnostics: Vec<JsonDiagnostic>,
+    rescaled: &'a [String],
+    ignored_errors: &'a [JsonDiagnostic],
 }
 
 #[derive(Serialize)]
@@ -398,6 +430,7 @@ pub fn stats_document<'a>(
     report: &'a ConsistencyReport,
     leaky: Option<&Diagnostic>,
     sources: &SourceMap,
+    ran: &'a Ran,
 ) -> StatsDocument<'a> {
     StatsDocument {
         from,
@@ -418,6 +451,8 @@ pub fn stats_document<'a>(
             })
             .collect(),
         diagnostics: leaky.iter().map(|d| json_diagnostic(d, sources)).collect(),
+        rescaled: &ran.rescaled,
+        ignored_errors: &ran.ignored_errors,
     }
 }
 
@@ -447,6 +482,10 @@ struct JsonGrammar {
     /// The errors that kept the tests from running.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     diagnostics: Vec<JsonDiagnostic>,
+    /// Blocks whose weights were divided by their sum for the run.
+    rescaled: Vec<String>,
+    /// Errors outside what the tests use, which did not stop them.
+    ignored_errors: Vec<JsonDiagnostic>,
     tests: Vec<JsonTest>,
     /// With `--coverage`, when the tests ran.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -562,12 +601,18 @@ pub fn test_document(runs: &[GrammarRun], tally: &Tally, coverage: bool) -> Test
 }
 
 fn json_grammar(run: &GrammarRun, coverage: bool) -> JsonGrammar {
+    let sources = &run.analysis.sources;
     let (reason, diagnostics) = match &run.blocked {
-        Some(blocked @ NotRunnable::Errors(_)) => (Some(blocked.to_string()), errors(run.analysis)),
-        Some(blocked) => (Some(blocked.to_string()), Vec::new()),
+        Some(blocked) => (
+            Some(blocked.headline()),
+            blocked
+                .errors()
+                .iter()
+                .map(|e| json_diagnostic(&e.diagnostic, sources))
+                .collect(),
+        ),
         None => (None, Vec::new()),
     };
-    let sources = &run.analysis.sources;
     let tests = run
         .tests
         .iter()
@@ -595,6 +640,13 @@ fn json_grammar(run: &GrammarRun, coverage: bool) -> JsonGrammar {
         ran: run.blocked.is_none(),
         reason,
         diagnostics,
+        rescaled: run.ran.rescaled.clone(),
+        ignored_errors: run
+            .ran
+            .ignored_errors
+            .iter()
+            .map(|d| json_diagnostic(d, sources))
+            .collect(),
         tests,
         coverage: if coverage { json_coverage(run) } else { None },
     }
@@ -616,6 +668,45 @@ fn json_case(sources: &SourceMap, case: &TestCase, outcome: &CaseOutcome) -> Jso
         probability: best.map(|b| b.probability),
         failure: outcome.reasons(),
     }
+}
+
+/// The JSON document of `trellis eval`: every sentence, the totals and
+/// the figures per label (README.md, "JSON output").
+pub fn evaluation(e: &trellis_project::evaluate::Evaluation) -> serde_json::Value {
+    use trellis_treebank::eval::Totals;
+    let figures = |m: usize, g: usize, t: usize| {
+        let (p, r, f) = Totals::prf(m, g, t);
+        serde_json::json!({"matched": m, "gold": g, "predicted": t, "precision": p, "recall": r, "f1": f})
+    };
+    let t = &e.totals;
+    let mut total = figures(t.matched, t.gold, t.test);
+    let share = |a: usize, b: usize| if b == 0 { 0.0 } else { a as f64 / b as f64 };
+    total["sentences"] = t.sentences.into();
+    total["skipped"] = t.skipped.into();
+    total["exact_match"] = share(t.exact, t.sentences).into();
+    total["crossing_per_sentence"] = share(t.crossing, t.sentences).into();
+    total["no_crossing"] = share(t.no_crossing, t.sentences).into();
+    let labels: serde_json::Map<String, serde_json::Value> = t
+        .labels
+        .iter()
+        .map(|(label, &(m, g, p))| (label.clone(), figures(m, g, p)))
+        .collect();
+    let sentences: Vec<serde_json::Value> = e
+        .sentences
+        .iter()
+        .map(|s| {
+            let mut v = figures(s.score.matched, s.score.gold, s.score.test);
+            v["index"] = s.index.into();
+            v["gold_line"] = s.gold_line.into();
+            v["predicted_line"] = s.test_line.into();
+            v["length"] = s.score.length.into();
+            v["crossing"] = s.score.crossing.into();
+            v["exact"] = s.score.exact().into();
+            v["skipped"] = s.score.skipped.into();
+            v
+        })
+        .collect();
+    serde_json::json!({"sentences": sentences, "total": total, "labels": labels})
 }
 
 #[cfg(test)]

@@ -21,7 +21,7 @@
 
 use super::{clamp, file, place, position, relative_to};
 use grammar_lang::model::TestCase;
-use grammar_lang::{Severity, SourceMap};
+use grammar_lang::SourceMap;
 use std::fmt::Write as _;
 use std::path::Path;
 use trellis_engine::testing::CaseOutcome;
@@ -78,16 +78,12 @@ fn located(
     }
 }
 
-/// The grammar's errors, one per line, `file:line:column: code: message`.
-fn error_lines(run: &GrammarRun, cwd: Option<&Path>) -> String {
+/// The errors that kept the grammar's tests from running, one per line,
+/// `file:line:column: code: message`.
+fn error_lines(run: &GrammarRun, blocked: &NotRunnable, cwd: Option<&Path>) -> String {
     let sources = &run.analysis.sources;
     let mut out = String::new();
-    for d in run
-        .analysis
-        .diagnostics
-        .iter()
-        .filter(|d| d.severity == Severity::Error)
-    {
+    for d in blocked.errors().iter().map(|e| &e.diagnostic) {
         let (path, line, column) = match file(sources, d.location.file) {
             Some(f) => {
                 let at = position(f, clamp(&f.text, d.location.span).start);
@@ -107,13 +103,10 @@ pub fn test_report(runs: &[GrammarRun], cwd: Option<&Path>) -> String {
     for run in runs {
         let grammar = shown(&run.path, cwd);
         let sources = &run.analysis.sources;
-        let not_run = run.blocked.as_ref().map(|blocked| {
-            let detail = match blocked {
-                NotRunnable::Errors(_) => error_lines(run, cwd),
-                _ => String::new(),
-            };
-            (blocked.to_string(), detail)
-        });
+        let not_run = run
+            .blocked
+            .as_ref()
+            .map(|blocked| (blocked.headline(), error_lines(run, blocked, cwd)));
         for result in &run.tests {
             let test = result.test;
             let (test_file, _) = located(sources, test.location, cwd);

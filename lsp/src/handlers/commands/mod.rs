@@ -8,13 +8,14 @@ mod parse;
 mod run_test;
 mod sample;
 
-use crate::ext::{ExtCommand, Parse, RunTest, Sample, COMMANDS, DEBUG_PANIC};
+use crate::ext::{ExtCommand, IgnoredError, Parse, Ran, RunTest, Sample, COMMANDS, DEBUG_PANIC};
 use crate::server::{request_failed, Backend};
 use crate::state::Target;
+use grammar_lang::Diagnostic;
 use serde_json::Value;
 use tower_lsp::jsonrpc;
 use tower_lsp::lsp_types::{ExecuteCommandParams, MessageType, Url};
-use trellis_ide::NotRunnable;
+use trellis_ide::Run;
 
 pub async fn execute(
     backend: &Backend,
@@ -72,10 +73,16 @@ fn answer<C: ExtCommand>(result: jsonrpc::Result<C::Result>) -> jsonrpc::Result<
     Ok(Some(value))
 }
 
-/// The grammar of `uri`, refusing one that cannot run; the refusal is also
-/// shown to the user when `show`.
+/// The open grammar of `uri`; a request for a document that is not open
+/// fails (shown to the user when `show`). Whether the grammar can run is
+/// decided in the command's own work, through `Analysis::run`.
 async fn grammar_of(backend: &Backend, uri: &Url, show: bool) -> jsonrpc::Result<Target> {
-    let found = runnable_grammar(backend, uri).await;
+    let found = match backend.target(uri).await? {
+        Some(target) => Ok(target),
+        None => Err(jsonrpc::Error::invalid_params(format!(
+            "{uri} is not open in the editor"
+        ))),
+    };
     if let (Err(e), true) = (&found, show) {
         backend
             .show(MessageType::ERROR, e.message.to_string())
@@ -84,19 +91,53 @@ async fn grammar_of(backend: &Backend, uri: &Url, show: bool) -> jsonrpc::Result
     found
 }
 
-async fn runnable_grammar(backend: &Backend, uri: &Url) -> jsonrpc::Result<Target> {
-    let Some(target) = backend.target(uri).await? else {
-        return Err(jsonrpc::Error::invalid_params(format!(
-            "{uri} is not open in the editor"
-        )));
-    };
-    match target.analysis().runnable() {
-        Ok(_) => Ok(target),
-        Err(why @ NotRunnable::Errors(_)) => {
-            Err(request_failed(format!("{why} (see the diagnostics)")))
-        }
-        Err(other) => Err(request_failed(other.to_string())),
+/// What `run` did to the grammar of `target`, for a command's result.
+fn ran(target: &Target, run: &Run) -> Ran {
+    Ran {
+        rescaled: run
+            .rescaled_names()
+            .into_iter()
+            .map(str::to_string)
+            .collect(),
+        ignored_errors: run
+            .ignored_errors()
+            .iter()
+            .map(|d| ignored_error(target, d))
+            .collect(),
     }
+}
+
+fn ignored_error(target: &Target, d: &Diagnostic) -> IgnoredError {
+    IgnoredError {
+        code: d.code.as_str().to_string(),
+        message: d.message.clone(),
+        location: target.location(d.location.file, d.location.span),
+    }
+}
+
+/// The lines a command's summary ends with when the run rescaled blocks or
+/// ignored errors.
+fn ran_summary(ran: &Ran) -> String {
+    let mut out = String::new();
+    if !ran.rescaled.is_empty() {
+        let names: Vec<String> = ran.rescaled.iter().map(|n| format!("`{n}`")).collect();
+        out.push_str(&format!(
+            "\n(weights of {} rescaled to sum to one)",
+            names.join(", ")
+        ));
+    }
+    if !ran.ignored_errors.is_empty() {
+        out.push_str(&format!(
+            "\n(ran despite {} error{} outside what this run uses)",
+            ran.ignored_errors.len(),
+            if ran.ignored_errors.len() == 1 {
+                ""
+            } else {
+                "s"
+            }
+        ));
+    }
+    out
 }
 
 /// Turns the outcome of a command's core work (`Ok(None)`: cancelled; `Err`:

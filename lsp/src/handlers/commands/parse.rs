@@ -2,7 +2,7 @@
 //! open document; the best tree (and the k best), probabilities, the
 //! number of trees, or why there is none.
 
-use super::{finish, grammar_of};
+use super::{finish, grammar_of, ran, ran_summary};
 use crate::ext::{ParseParams, ParseResult, ScoredTree, SentenceParse};
 use crate::guard::CancelFlag;
 use crate::server::Backend;
@@ -34,8 +34,9 @@ pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<Pa
     let guard = cancel.guard();
     let outcome = backend
         .run("parsing", move || {
-            let parser = target.analysis().parser().map_err(|e| e.to_string())?;
-            let grammar = target.analysis().runnable().map_err(|e| e.to_string())?;
+            let run = target.analysis().run(None).map_err(|e| e.to_string())?;
+            let parser = run.parser().map_err(|e| e.to_string())?;
+            let grammar = run.grammar();
             let mut results = Vec::new();
             for sentence in sentences {
                 if cancel.is_cancelled() {
@@ -57,7 +58,10 @@ pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<Pa
                     }
                 });
             }
-            Ok(Some(ParseResult { results }))
+            Ok(Some(ParseResult {
+                results,
+                ran: ran(&target, &run),
+            }))
         })
         .await?;
     guard.disarm();
@@ -125,7 +129,7 @@ fn summary(result: &ParseResult) -> String {
             }
         })
         .collect();
-    lines.join("\n")
+    lines.join("\n") + &ran_summary(&result.ran)
 }
 
 #[cfg(test)]
@@ -153,6 +157,7 @@ mod tests {
                     ..SentenceParse::default()
                 },
             ],
+            ..ParseResult::default()
         };
         assert_eq!(
             summary(&result),

@@ -3,8 +3,8 @@
 //! `trellis test` runs them), reported per test and per case with their
 //! locations.
 
-use super::{finish, grammar_of};
-use crate::ext::{CaseReport, RunTestParams, RunTestResult, TestReport};
+use super::{finish, grammar_of, ignored_error, ran_summary};
+use crate::ext::{CaseReport, Ran, RunTestParams, RunTestResult, TestReport};
 use crate::guard::CancelFlag;
 use crate::server::Backend;
 use crate::state::Target;
@@ -41,6 +41,15 @@ pub async fn run_test(backend: &Backend, params: RunTestParams) -> jsonrpc::Resu
                 passed: run.counts.cases_passed,
                 failed: run.counts.cases_failed,
                 tests: run.tests.iter().map(|t| test_report(&target, t)).collect(),
+                ran: Ran {
+                    rescaled: run.ran.rescaled.clone(),
+                    ignored_errors: run
+                        .ran
+                        .ignored_errors
+                        .iter()
+                        .map(|d| ignored_error(&target, d))
+                        .collect(),
+                },
             }))
         })
         .await?;
@@ -101,5 +110,5 @@ fn summary(result: &RunTestResult) -> String {
             }
         }
     }
-    lines.join("\n")
+    lines.join("\n") + &ran_summary(&result.ran)
 }

@@ -1,7 +1,7 @@
 //! `trellis.sample`: sentences (and their trees) drawn from the grammar of
 //! an open document by the engine's sampler, reproducibly from a seed.
 
-use super::{finish, grammar_of};
+use super::{finish, grammar_of, ran, ran_summary};
 use crate::ext::{Sample, SampleParams, SampleResult, SampledSentence};
 use crate::guard::CancelFlag;
 use crate::server::Backend;
@@ -24,9 +24,10 @@ pub async fn sample(backend: &Backend, params: SampleParams) -> jsonrpc::Result<
     let guard = cancel.guard();
     let outcome = backend
         .run("sampling", move || {
-            let grammar = &target.analysis().grammar;
-            let sampler = Sampler::new(grammar).map_err(|e| e.to_string())?;
-            let start = sampler.start().map_err(|e| e.to_string())?;
+            let run = target.analysis().run(None).map_err(|e| e.to_string())?;
+            let sampler = Sampler::new(run.grammar()).map_err(|e| e.to_string())?;
+            let start = run.start();
+            sampler.check(start).map_err(|e| e.to_string())?;
             let mut rng = Xoshiro256StarStar::seed_from_u64(seed);
             let mut samples = Vec::with_capacity(count);
             for _ in 0..count {
@@ -52,7 +53,11 @@ pub async fn sample(backend: &Backend, params: SampleParams) -> jsonrpc::Result<
                 };
                 samples.push(sample);
             }
-            Ok(Some(SampleResult { seed, samples }))
+            Ok(Some(SampleResult {
+                seed,
+                samples,
+                ran: ran(&target, &run),
+            }))
         })
         .await?;
     guard.disarm();
@@ -66,5 +71,5 @@ fn summary(result: &SampleResult) -> String {
         .iter()
         .map(|s| s.tree.as_deref().unwrap_or(&s.sentence))
         .collect();
-    lines.join("\n")
+    lines.join("\n") + &ran_summary(&result.ran)
 }
