@@ -34,5 +34,5 @@ pub use config::Config;
 pub use diagnostic::{Code, Diagnostic, Location, Severity};
 pub use format::{format, FormatOptions};
 pub use model::Grammar;
-pub use source::{FileId, FileLoader, MemoryLoader, SourceMap};
+pub use source::{FileId, FileLoader, MemoryLoader, SourceMap, Unreadable};
 pub use span::{LineCol, LineIndex, Span};

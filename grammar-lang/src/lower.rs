@@ -197,14 +197,14 @@ struct Lowerer<'p> {
 /// A file whose `use` declarations are being followed.
 struct Frame {
     file: FileId,
-    /// Resolved path, `use` declaration span and target as written.
+    /// Resolved path, the span of the path string and the target as written.
     uses: Vec<(PathBuf, Span, String)>,
     next: usize,
 }
 
 impl Lowerer<'_> {
-    fn add_file(&mut self, path: PathBuf, text: String) -> FileId {
-        let syntax = (self.parse)(&text);
+    fn add_file(&mut self, path: PathBuf, text: String, loader: &dyn FileLoader) -> FileId {
+        let syntax = loader.syntax(&path, &text, self.parse);
         let id = self.sources.add(path, text);
         self.syntax.push(syntax);
         id
@@ -218,7 +218,7 @@ impl Lowerer<'_> {
             .filter_map(|d| match d {
                 Decl::Use(u) => Some((
                     resolve_use(from, &u.path.value),
-                    u.span,
+                    u.path.span,
                     u.path.value.to_string(),
                 )),
                 _ => None,
@@ -234,7 +234,7 @@ impl Lowerer<'_> {
     /// Loads the root file and, depth first, every file it uses. Iterative,
     /// so long `use` chains cannot exhaust the call stack.
     fn load(&mut self, root: &Path, text: &str, loader: &dyn FileLoader) {
-        let root_id = self.add_file(root.to_path_buf(), text.to_string());
+        let root_id = self.add_file(root.to_path_buf(), text.to_string(), loader);
         // Files by normalised path, and whether each is still being loaded.
         let mut by_path: HashMap<PathBuf, FileId> = HashMap::new();
         by_path.insert(normalize(root), root_id);
@@ -275,28 +275,38 @@ impl Lowerer<'_> {
             }
             match loader.load(&path) {
                 Ok(text) => {
-                    let id = self.add_file(path.clone(), text);
+                    let id = self.add_file(path.clone(), text, loader);
                     by_path.insert(path, id);
                     in_progress.push(true);
                     let frame = self.frame(id);
                     stack.push(frame);
                 }
-                Err(reason) => {
+                Err(failure) => {
                     let using = self.sources.get(from).path.display().to_string();
+                    let help = if failure.missing {
+                        format!(
+                            "{}; a relative path is relative to the directory of `{using}`",
+                            failure.help
+                        )
+                    } else {
+                        failure.help
+                    };
                     self.diagnostics.push(
                         Diagnostic::new(
                             Code::UseMissing,
                             at,
                             format!(
-                                "cannot read `{}` (used as \"{target}\"): {reason}",
-                                path.display()
+                                "cannot read `{}` (used as \"{target}\"): {}",
+                                path.display(),
+                                failure.reason
                             ),
                         )
-                        .with_label("file not found or unreadable")
-                        .with_help(format!(
-                            "the path is relative to the directory of `{using}`; fix the path or \
-                             create the file"
-                        )),
+                        .with_label(if failure.missing {
+                            "no file at this path"
+                        } else {
+                            "this file cannot be used"
+                        })
+                        .with_help(help),
                     );
                 }
             }

@@ -63,10 +63,64 @@ impl SourceMap {
     }
 }
 
+/// Why a file cannot be read: what is wrong and what to do about it, both
+/// phrased by the loader that knows (the project layer names every kind of
+/// operating-system failure; an in-memory loader only knows "no such file").
+#[derive(Clone, Debug, PartialEq, Eq)]
+pub struct Unreadable {
+    /// A short reason, phrased to follow "cannot read <path>: ".
+    pub reason: String,
+    /// What to do, one sentence.
+    pub help: String,
+    /// Whether nothing exists at the path: the advice then also says how
+    /// the `use` path was resolved.
+    pub missing: bool,
+}
+
+impl Unreadable {
+    /// Nothing exists at the path.
+    pub fn missing(reason: impl Into<String>) -> Self {
+        Unreadable {
+            reason: reason.into(),
+            help: "fix the path or create the file".into(),
+            missing: true,
+        }
+    }
+
+    /// Something exists but cannot be used; `help` says what to do.
+    pub fn refused(reason: impl Into<String>, help: impl Into<String>) -> Self {
+        Unreadable {
+            reason: reason.into(),
+            help: help.into(),
+            missing: false,
+        }
+    }
+}
+
+impl std::fmt::Display for Unreadable {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&self.reason)
+    }
+}
+
 /// Reads the files a grammar `use`s. Implemented by the shells.
 pub trait FileLoader {
-    /// The text of the file at `path`, or a short reason it cannot be read.
-    fn load(&self, path: &Path) -> Result<String, String>;
+    /// The text of the file at `path`, or why it cannot be read.
+    fn load(&self, path: &Path) -> Result<String, Unreadable>;
+
+    /// The syntax of `text`, the content of the file at `path`, parsed with
+    /// `parse`. A loader that keeps parsed files for several analyses (a
+    /// command-line run over many grammars that share files) returns its
+    /// copy when it parsed this very text before; the default parses.
+    fn syntax(
+        &self,
+        path: &Path,
+        text: &str,
+        parse: &dyn Fn(&str) -> crate::syntax::ast::SyntaxFile,
+    ) -> crate::syntax::ast::SyntaxFile {
+        let _ = path;
+        parse(text)
+    }
 }
 
 /// Resolves `use "target"` written in `from` to a path: relative paths are
@@ -121,13 +175,13 @@ impl MemoryLoader {
 }
 
 impl FileLoader for MemoryLoader {
-    fn load(&self, path: &Path) -> Result<String, String> {
+    fn load(&self, path: &Path) -> Result<String, Unreadable> {
         let path = normalize(path);
         self.files
             .iter()
             .find(|(p, _)| *p == path)
             .map(|(_, t)| t.clone())
-            .ok_or_else(|| "no such file".to_string())
+            .ok_or_else(|| Unreadable::missing("no such file"))
     }
 }
 

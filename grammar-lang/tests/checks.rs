@@ -700,7 +700,7 @@ fn a_missing_file_is_reported_at_its_use() {
         start S
         S { "x" }
         use "lex/words.trellis"
-        ^^^^^^^^^^^^^^^^^^^^^^^ error use-missing: kiosk/lex/words.trellis…no such file
+            ^^^^^^^^^^^^^^^^^^^ error use-missing: kiosk/lex/words.trellis…no such file
         "#,
     );
     assert!(a.diagnostics[0]
@@ -743,7 +743,7 @@ fn a_use_cycle_is_reported_at_the_use_that_closes_it() {
         B { "b" }
 
         use "main.trellis"
-        ^^^^^^^^^^^^^^^^^^ error use-cycle == `use` cycle: main.trellis → a.trellis → b.trellis → main.trellis
+            ^^^^^^^^^^^^^^ error use-cycle == `use` cycle: main.trellis → a.trellis → b.trellis → main.trellis
         "#,
     );
     assert_eq!(a.sources.len(), 3);
@@ -756,7 +756,7 @@ fn a_file_using_itself_is_a_cycle() {
         === main.trellis ===
         start S
         use "main.trellis"
-        ^^^^^^^^^^^^^^^^^^ error use-cycle == `use` cycle: main.trellis → main.trellis
+            ^^^^^^^^^^^^^^ error use-cycle == `use` cycle: main.trellis → main.trellis
         S { "x" }
         "#,
     );

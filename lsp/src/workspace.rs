@@ -83,8 +83,12 @@ impl RootResult {
 /// blocking pool.
 pub fn analyze_root(root: &Path, snapshot: &Snapshot, seq: u64) -> Option<RootResult> {
     let doc = snapshot.docs.get(root)?;
-    let loader = Overlay(|path: &Path| snapshot.docs.get(path).map(|d| d.text.as_str().to_owned()));
-    let settings = Settings::for_grammar(root, &loader);
+    let open = |path: &Path| snapshot.docs.get(path).map(|d| d.text.as_str().to_owned());
+    let settings = Settings::for_grammar(root, &Overlay::new(open));
+    // Only regular files, up to the configured size, confined when
+    // trellis.toml says so: a `use` of a FIFO or a device cannot block or
+    // flood this worker.
+    let loader = Overlay::new(open).reading(settings.policy.clone());
     // The façade's analysis: what `trellis check` reports, the editor reports;
     // and, when trellis.toml asks for them, the rules no passing test uses.
     let mut analysis = trellis_ide::analyze(root, &doc.text, &loader, &settings.config);

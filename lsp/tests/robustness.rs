@@ -215,3 +215,58 @@ async fn a_long_request_holds_up_neither_other_requests_nor_diagnostics() {
     assert_eq!(error_code(&client.response(slow).await), REQUEST_CANCELLED);
     client.shutdown().await;
 }
+
+/// A `use` of a FIFO is refused without opening it: a blocking read would
+/// wedge the analysis worker for every document. The finding is located at
+/// the `use` string, and the server goes on answering and analysing.
+#[cfg(unix)]
+#[tokio::test]
+async fn a_use_of_a_fifo_is_a_diagnostic_and_the_server_keeps_answering() {
+    let dir = tempfile::tempdir().unwrap();
+    // mkfifo is in coreutils; nobody ever writes to this FIFO.
+    let made = std::process::Command::new("mkfifo")
+        .arg(dir.path().join("pipe.trellis"))
+        .status()
+        .expect("mkfifo runs");
+    assert!(made.success());
+    let uri = common::file_uri(&dir.path().join("kiosk.trellis"));
+    let mut client = TestClient::start();
+    client.initialize().await;
+    client
+        .open(
+            &uri,
+            1,
+            "start Request\nuse \"pipe.trellis\"\nRequest { \"ticket\" }\n",
+        )
+        .await;
+    let published = client.diagnostics(&uri).await;
+    assert_eq!(codes(&published), ["use-missing"]);
+    let d = &published["diagnostics"][0];
+    assert!(
+        d["message"].as_str().unwrap().contains("FIFO"),
+        "{published}"
+    );
+    // Line 1 (0-based), from the opening quote of the path string.
+    assert_eq!(d["range"]["start"], json!({"line": 1, "character": 4}));
+
+    // Still answering requests ...
+    let hover = client
+        .request(
+            "textDocument/hover",
+            json!({"textDocument": {"uri": uri}, "position": {"line": 2, "character": 2}}),
+        )
+        .await;
+    assert!(
+        hover["contents"]["value"]
+            .as_str()
+            .is_some_and(|v| v.contains("Request")),
+        "{hover}"
+    );
+    // ... and analysing: with the `use` gone, the finding goes.
+    client
+        .change(&uri, 2, "start Request\nRequest { \"ticket\" }\n")
+        .await;
+    let published = client.diagnostics_for_version(&uri, 2).await;
+    assert!(codes(&published).is_empty(), "{published}");
+    client.shutdown().await;
+}

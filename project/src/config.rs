@@ -19,6 +19,10 @@
 //! parse-seconds = 30         # stop a parse in the editor after this long
 //! parse-chart-mib = 1024     # refuse a sentence whose chart needs more
 //! parse-max-kbest = 100      # the most trees one parse request may ask for
+//!
+//! [files]
+//! max-size-mib = 64          # the largest grammar file read (the default)
+//! confine-use = true         # `use` reads only below this file's directory
 //! ```
 //!
 //! `[editor] uncovered-rules` sets the level of the `uncovered` code, which
@@ -53,7 +57,50 @@ struct RawConfig {
     #[serde(default)]
     editor: RawEditor,
     format: Option<RawFormat>,
+    #[serde(default)]
+    files: RawFiles,
 }
+
+/// `[files]`: how grammar files are read.
+#[derive(serde::Deserialize, Default)]
+#[serde(deny_unknown_fields, rename_all = "kebab-case")]
+struct RawFiles {
+    max_size_mib: Option<toml::Spanned<i64>>,
+    confine_use: Option<bool>,
+}
+
+/// What `[files]` says, before it is tied to the file that says it.
+#[derive(Clone, Copy, Debug, Default, PartialEq, Eq)]
+pub struct FileSettings {
+    /// `max-size-mib`, if set.
+    pub max_size_mib: Option<u64>,
+    /// `confine-use`.
+    pub confine_use: bool,
+}
+
+impl FileSettings {
+    /// The reading policy these settings make, for the `trellis.toml` at
+    /// `toml` (absolute; its directory is the project root) shown as `shown`.
+    pub fn policy(&self, toml: &Path, shown: &Path) -> files::ReadPolicy {
+        let mut policy = files::ReadPolicy::default();
+        if let Some(mib) = self.max_size_mib {
+            policy.max_bytes = mib << 20;
+            policy.limit_set_by = Some(shown.to_path_buf());
+        }
+        if self.confine_use {
+            policy.confine = Some(files::Confinement {
+                root: toml
+                    .parent()
+                    .map_or_else(|| PathBuf::from("/"), Path::to_path_buf),
+                set_by: shown.to_path_buf(),
+            });
+        }
+        policy
+    }
+}
+
+/// The range `[files] max-size-mib` accepts (1 MiB to 16 GiB).
+const MAX_SIZES_MIB: std::ops::RangeInclusive<u64> = 1..=16384;
 
 /// `[editor]`: what the language server shows beyond the checks, and the
 /// limits of the parses it runs.
@@ -103,11 +150,13 @@ const WIDTHS: std::ops::RangeInclusive<usize> = 20..=1000;
 
 /// Reads a `trellis.toml` text. Every problem is reported, not just the first.
 pub fn parse(text: &str) -> Result<Config, Vec<ConfigError>> {
-    parse_with_limits(text).map(|(config, _)| config)
+    parse_all(text).map(|(config, _, _)| config)
 }
 
-/// [`parse`], with the editor's parse limits.
-pub fn parse_with_limits(text: &str) -> Result<(Config, EditorLimits), Vec<ConfigError>> {
+/// Reads a `trellis.toml` text: the checks' configuration, the `[files]`
+/// settings and the editor's parse limits (`[editor]`). Every problem is
+/// reported, not just the first.
+pub fn parse_all(text: &str) -> Result<(Config, FileSettings, EditorLimits), Vec<ConfigError>> {
     let raw: RawConfig = toml::from_str(text).map_err(|e| {
         vec![ConfigError {
             message: e.message().to_string(),
@@ -196,6 +245,23 @@ pub fn parse_with_limits(text: &str) -> Result<(Config, EditorLimits), Vec<Confi
             }),
         }
     }
+    let mut files = FileSettings {
+        max_size_mib: None,
+        confine_use: raw.files.confine_use.unwrap_or(false),
+    };
+    if let Some(mib) = raw.files.max_size_mib {
+        match u64::try_from(*mib.get_ref()) {
+            Ok(n) if MAX_SIZES_MIB.contains(&n) => files.max_size_mib = Some(n),
+            _ => errors.push(ConfigError {
+                message: format!(
+                    "`max-size-mib` in `[files]` must be a whole number from {} to {}",
+                    MAX_SIZES_MIB.start(),
+                    MAX_SIZES_MIB.end()
+                ),
+                span: Some(mib.span()),
+            }),
+        }
+    }
     for (key, value) in raw.checks {
         let code = Code::parse(key.get_ref());
         if let Some(code) = code.filter(|c| !c.is_check()) {
@@ -251,7 +317,7 @@ pub fn parse_with_limits(text: &str) -> Result<(Config, EditorLimits), Vec<Confi
     }
     errors.sort_by_key(|e| e.span.as_ref().map_or(0, |s| s.start));
     if errors.is_empty() {
-        Ok((config, limits))
+        Ok((config, files, limits))
     } else {
         Err(errors)
     }
@@ -335,23 +401,25 @@ impl std::fmt::Display for ConfigProblem {
 /// (an editor's unsaved `trellis.toml` counts); `shown` is how the path is
 /// shown in problems.
 pub fn load(path: &Path, shown: &Path, loader: &dyn FileLoader) -> Result<Config, ConfigProblem> {
-    load_with_limits(path, shown, loader).map(|(config, _)| config)
+    load_all(path, shown, loader).map(|(config, _, _)| config)
 }
 
-/// [`load`], with the editor's parse limits.
-fn load_with_limits(
+/// [`load`], with the reading policy the file's `[files]` section makes and
+/// the editor's parse limits.
+pub fn load_all(
     path: &Path,
     shown: &Path,
     loader: &dyn FileLoader,
-) -> Result<(Config, EditorLimits), ConfigProblem> {
-    let text = loader.load(path).map_err(|reason| ConfigProblem {
+) -> Result<(Config, files::ReadPolicy, EditorLimits), ConfigProblem> {
+    let text = loader.load(path).map_err(|failure| ConfigProblem {
         path: shown.to_path_buf(),
-        kind: ProblemKind::Unreadable(reason),
+        kind: ProblemKind::Unreadable(format!("{}; {}", failure.reason, failure.help)),
     })?;
-    parse_with_limits(&text).map_err(|errors| ConfigProblem {
+    let (config, settings, limits) = parse_all(&text).map_err(|errors| ConfigProblem {
         path: shown.to_path_buf(),
         kind: ProblemKind::Invalid { text, errors },
-    })
+    })?;
+    Ok((config, settings.policy(&absolute(path), shown), limits))
 }
 
 /// What identifies a version of a file on disk: its modification time and
@@ -427,6 +495,8 @@ pub struct Settings {
     pub config: Config,
     /// The limits of the parses the editor runs (`[editor]`).
     pub limits: EditorLimits,
+    /// How the grammar's files are read (`[files]`).
+    pub policy: files::ReadPolicy,
     pub problem: Option<ConfigProblem>,
     pub stamps: Stamps,
 }
@@ -435,16 +505,17 @@ impl Settings {
     pub fn for_grammar(grammar: &Path, loader: &dyn FileLoader) -> Settings {
         // Taken before reading: an edit in between only costs one more read.
         let stamps = Stamps::of(grammar);
-        let ((config, limits), problem) = match stamps.nearest() {
+        let ((config, policy, limits), problem) = match stamps.nearest() {
             None => (Default::default(), None),
-            Some(path) => match load_with_limits(path, path, loader) {
-                Ok(read) => (read, None),
+            Some(path) => match load_all(path, path, loader) {
+                Ok(loaded) => (loaded, None),
                 Err(problem) => (Default::default(), Some(problem)),
             },
         };
         Settings {
             config,
             limits,
+            policy,
             problem,
             stamps,
         }
@@ -456,7 +527,7 @@ impl Settings {
 #[derive(Default)]
 pub struct Resolver {
     by_dir: HashMap<PathBuf, Option<PathBuf>>,
-    loaded: HashMap<PathBuf, Result<Config, ConfigProblem>>,
+    loaded: HashMap<PathBuf, Result<(Config, files::ReadPolicy), ConfigProblem>>,
 }
 
 impl Resolver {
@@ -489,6 +560,22 @@ impl Resolver {
     /// The configuration for text that belongs in `dir` (standard input
     /// formatted there, say), found as for a grammar file in `dir`.
     pub fn for_dir(&mut self, dir: &Path) -> Result<Config, ConfigProblem> {
+        self.all_for_dir(dir).map(|(config, _)| config)
+    }
+
+    /// How the files of the grammar `grammar` are read (`[files]` in its
+    /// `trellis.toml`; the default policy when there is none or it is
+    /// unusable, which [`Resolver::problems`] reports).
+    pub fn policy_for_grammar(&mut self, grammar: &Path) -> files::ReadPolicy {
+        let dir = absolute(grammar)
+            .parent()
+            .map_or_else(|| PathBuf::from("/"), Path::to_path_buf);
+        self.all_for_dir(&dir)
+            .map(|(_, policy)| policy)
+            .unwrap_or_default()
+    }
+
+    fn all_for_dir(&mut self, dir: &Path) -> Result<(Config, files::ReadPolicy), ConfigProblem> {
         let dir = absolute(dir);
         let found = self
             .by_dir
@@ -496,11 +583,14 @@ impl Resolver {
             .or_insert_with(|| find_from(&dir))
             .clone();
         let Some(path) = found else {
-            return Ok(Config::default());
+            return Ok(Default::default());
         };
         self.loaded
             .entry(path.clone())
-            .or_insert_with(|| load(&path, &for_display(&path), &files::DiskLoader))
+            .or_insert_with(|| {
+                load_all(&path, &for_display(&path), &files::DiskLoader::default())
+                    .map(|(config, policy, _)| (config, policy))
+            })
             .clone()
     }
 }
@@ -509,6 +599,11 @@ impl Resolver {
 mod tests {
     use super::*;
     use std::fs;
+
+    /// The checks' configuration and the editor's limits of a text.
+    fn parse_with_limits(text: &str) -> Result<(Config, EditorLimits), Vec<ConfigError>> {
+        parse_all(text).map(|(config, _, limits)| (config, limits))
+    }
 
     #[test]
     fn levels_and_arity_are_read() {
@@ -613,6 +708,27 @@ mod tests {
     }
 
     #[test]
+    fn the_files_section_sets_the_size_limit_and_confinement() {
+        let (_, files, _) = parse_all("[files]\nmax-size-mib = 2\nconfine-use = true\n").unwrap();
+        assert_eq!(
+            files,
+            FileSettings {
+                max_size_mib: Some(2),
+                confine_use: true
+            }
+        );
+        let policy = files.policy(Path::new("/p/trellis.toml"), Path::new("trellis.toml"));
+        assert_eq!(policy.max_bytes, 2 << 20);
+        assert_eq!(policy.confine.unwrap().root, PathBuf::from("/p"));
+        let (_, files, _) = parse_all("").unwrap();
+        assert_eq!(files, FileSettings::default());
+        let text = "[files]\nmax-size-mib = 0\n";
+        let errs = parse_all(text).unwrap_err();
+        assert!(errs[0].message.contains("`max-size-mib`"), "{errs:?}");
+        assert_eq!(&text[errs[0].span.clone().unwrap()], "0");
+    }
+
+    #[test]
     fn unknown_top_level_keys_are_rejected() {
         let errs = parse("colour = true").unwrap_err();
         assert!(errs[0].message.contains("colour"), "{:?}", errs);
@@ -659,7 +775,7 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join(FILE_NAME);
         fs::write(&path, "[checks]\nunreachble = \"error\"\n").unwrap();
-        let problem = load(&path, &path, &files::DiskLoader).unwrap_err();
+        let problem = load(&path, &path, &files::DiskLoader::default()).unwrap_err();
         let (sources, diagnostics) = problem.diagnostics();
         assert_eq!(diagnostics.len(), 1);
         let d = &diagnostics[0];
@@ -678,7 +794,7 @@ mod tests {
         let dir = tempfile::tempdir().unwrap();
         let path = dir.path().join(FILE_NAME);
         fs::write(&path, b"max-arity = 4 # \xFF\n").unwrap();
-        let problem = load(&path, &path, &files::DiskLoader).unwrap_err();
+        let problem = load(&path, &path, &files::DiskLoader::default()).unwrap_err();
         let (_, diagnostics) = problem.diagnostics();
         assert!(
             diagnostics[0].message.contains("not UTF-8"),

@@ -5,7 +5,7 @@
 
 use crate::config::{ConfigProblem, Resolver};
 use crate::discover::discover;
-use crate::files::read_text;
+use crate::files::read_file;
 use grammar_lang::format::{format, FormatError, FormatOptions};
 use grammar_lang::{Diagnostic, SourceMap};
 use std::path::{Path, PathBuf};
@@ -61,7 +61,9 @@ pub fn format_paths(paths: &[PathBuf]) -> FormatRun {
             continue;
         };
         let options = config.format;
-        match read_text(&root.path) {
+        match read_file(&root.path, &resolver.policy_for_grammar(&root.path))
+            .map_err(|failure| format!("{}; {}", failure.reason, failure.help))
+        {
             Ok(original) => {
                 let result = format(&original, &options);
                 run.files.push(Formatted {

@@ -2,11 +2,13 @@
 //! a grammar of its own, which grammar speaks for a file, and one rule for
 //! reporting a finding that several grammars share only once.
 
+use crate::cache::{CachedLoader, FileCache};
 use crate::config::{ConfigProblem, Resolver};
 use crate::discover::{discover, identity, Root};
-use crate::files::{read_text, DiskLoader};
+use grammar_lang::source::resolve_use;
+use grammar_lang::syntax::ast::SyntaxFile;
 use grammar_lang::{Code, Diagnostic, Span};
-use std::collections::HashSet;
+use std::collections::{HashSet, VecDeque};
 use std::path::{Path, PathBuf};
 use trellis_ide::Analysis;
 
@@ -92,12 +94,23 @@ pub fn grammar_roots(checked: &[Checked], identity: impl Fn(&Path) -> PathBuf) -
 }
 
 fn kept(checked: &[Checked], files: &[Vec<PathBuf>]) -> Vec<usize> {
-    let uses = |user: usize, used: usize| files[user][1..].contains(&files[used][0]);
-    (0..checked.len())
-        .filter(|&i| {
-            checked[i].root.named
-                || !(0..checked.len()).any(|j| j != i && uses(j, i) && !uses(i, j))
-        })
+    let named: Vec<bool> = checked.iter().map(|c| c.root.named).collect();
+    kept_of(&named, files)
+}
+
+/// [`grammar_roots`] over each root's files (identities, the root first)
+/// and whether it was named on the command line.
+fn kept_of(named: &[bool], files: &[Vec<PathBuf>]) -> Vec<usize> {
+    let roots: HashSet<&PathBuf> = files.iter().map(|f| &f[0]).collect();
+    // Only the roots among each grammar's files matter; sets keep this
+    // linear in the files read rather than quadratic in a list search.
+    let used: Vec<HashSet<&PathBuf>> = files
+        .iter()
+        .map(|f| f[1..].iter().filter(|p| roots.contains(p)).collect())
+        .collect();
+    let uses = |user: usize, used_root: usize| used[user].contains(&files[used_root][0]);
+    (0..named.len())
+        .filter(|&i| named[i] || !(0..named.len()).any(|j| j != i && uses(j, i) && !uses(i, j)))
         .collect()
 }
 
@@ -159,6 +172,19 @@ pub struct ConfigStop {
 /// and analyses it through the façade (engine-backed findings included).
 /// An invalid `trellis.toml` stops everything: nothing is analysed.
 pub fn analyse_paths(paths: &[PathBuf]) -> Result<Analysed, ConfigStop> {
+    analyse_paths_with(paths, &FileCache::new())
+}
+
+/// [`analyse_paths`], reading and parsing every file through `cache`.
+///
+/// Each file is read and parsed once for the whole run, however many
+/// grammars reach it. Which roots stand as grammars of their own
+/// ([`grammar_roots`]) is decided first, from the `use` declarations
+/// alone, and only those are analysed: a root that is only part of
+/// another grammar (each file of a `use` chain found in one directory, say)
+/// is not analysed on its own, so a chain costs one analysis, not one per
+/// file.
+pub fn analyse_paths_with(paths: &[PathBuf], cache: &FileCache) -> Result<Analysed, ConfigStop> {
     let (roots, mut failures) = discover(paths);
 
     // Configuration first: with a broken trellis.toml, nothing is checked.
@@ -172,17 +198,65 @@ pub fn analyse_paths(paths: &[PathBuf]) -> Result<Analysed, ConfigStop> {
         return Err(ConfigStop { problems, failures });
     }
 
-    let mut checked = Vec::with_capacity(roots.len());
+    // Each readable root with its texts, and the files its grammar reads.
+    let mut readable = Vec::with_capacity(roots.len());
     for (root, config) in roots.into_iter().zip(configs) {
-        match read_text(&root.path) {
+        let policy = resolver.policy_for_grammar(&root.path);
+        let loader = cache.loader(policy);
+        match loader.root_text(&root.path) {
             Ok(text) => {
-                let analysis = trellis_ide::analyze(&root.path, &text, &DiskLoader, &config);
-                checked.push(Checked { root, analysis });
+                let files = reached_files(&root.path, &loader);
+                readable.push((root, config, text, loader, files));
             }
-            Err(reason) => failures.push(format!("cannot read {}: {reason}", root.path.display())),
+            Err(failure) => failures.push(format!(
+                "cannot read {}: {}; {}",
+                root.path.display(),
+                failure.reason,
+                failure.help
+            )),
+        }
+    }
+    let named: Vec<bool> = readable.iter().map(|r| r.0.named).collect();
+    let files: Vec<Vec<PathBuf>> = readable.iter().map(|r| r.4.clone()).collect();
+    let kept: HashSet<usize> = kept_of(&named, &files).into_iter().collect();
+
+    let mut checked = Vec::with_capacity(kept.len());
+    for (i, (root, config, text, loader, _)) in readable.into_iter().enumerate() {
+        if kept.contains(&i) {
+            let analysis = trellis_ide::analyze(&root.path, &text, &loader, &config);
+            checked.push(Checked { root, analysis });
         }
     }
     Ok(Analysed { checked, failures })
+}
+
+/// The files the grammar rooted at `root` reads, as identities, the root
+/// first: every file reached through `use` that can be read, found as the
+/// front end follows them (paths resolved lexically from the using file,
+/// each path once), from the shared syntax.
+fn reached_files(root: &Path, loader: &CachedLoader<'_>) -> Vec<PathBuf> {
+    let parse: &dyn Fn(&str) -> SyntaxFile = &grammar_lang::syntax::parse;
+    let root = grammar_lang::source::normalize(root);
+    let mut seen: HashSet<PathBuf> = HashSet::from([root.clone()]);
+    let mut files = vec![identity(&root)];
+    let mut queue = VecDeque::from([root.clone()]);
+    while let Some(path) = queue.pop_front() {
+        let is_root = path == root;
+        // The root is read without confinement (it is not a `use`).
+        let Ok(uses) = loader.uses(&path, !is_root, parse) else {
+            continue;
+        };
+        if !is_root {
+            files.push(identity(&path));
+        }
+        for target in uses {
+            let next = resolve_use(&path, &target);
+            if seen.insert(next.clone()) {
+                queue.push_back(next);
+            }
+        }
+    }
+    files
 }
 
 #[cfg(test)]

@@ -2,8 +2,7 @@
 //! reading their trees one at a time, cleaning, binarizing and counting —
 //! the I/O around the pure `trellis-treebank` crate, shared by every shell.
 
-use crate::files::io_reason;
-use std::fs::File;
+use crate::files::{io_reason, open_regular};
 use std::io::{BufRead, BufReader};
 use std::path::{Path, PathBuf};
 use trellis_treebank::learn::{Counts, LearnOptions};
@@ -12,11 +11,9 @@ use trellis_treebank::{binarize, clean, Cleaning, Markov, TreeReader};
 /// A treebank file for reading: gzip-compressed files (by their magic
 /// bytes, whatever their name) are decompressed as they are read.
 pub fn open_treebank(path: &Path) -> Result<Box<dyn BufRead>, String> {
-    let meta = std::fs::metadata(path).map_err(|e| io_reason(&e))?;
-    if !meta.is_file() {
-        return Err("it is not a regular file".to_string());
-    }
-    let mut file = BufReader::new(File::open(path).map_err(|e| io_reason(&e))?);
+    let (file, _) =
+        open_regular(path).map_err(|failure| format!("{}; {}", failure.reason, failure.help))?;
+    let mut file = BufReader::new(file);
     let gzip = file
         .fill_buf()
         .map_err(|e| io_reason(&e))?

@@ -12,6 +12,7 @@
 //! I/O is allowed here; protocol types (LSP) and terminal output are not:
 //! every answer is data or a message for the shell to present.
 
+pub mod cache;
 pub mod config;
 pub mod coverage;
 pub mod discover;
@@ -24,10 +25,13 @@ pub mod load;
 pub mod test_run;
 
 pub use config::{ConfigProblem, EditorLimits, Resolver, Settings, Stamps};
+pub use cache::FileCache;
+
 pub use discover::{discover, identity, paths_or_here, Root};
-pub use files::{read_text, write_atomic, DiskLoader, Overlay};
+pub use files::{read_file, read_text, write_atomic, DiskLoader, Overlay, ReadPolicy};
 pub use format::{format_paths, options_for_dir, FormatRun, Formatted};
 pub use grammars::{
-    affected_by, analyse_paths, grammar_roots, select, speakers, Analysed, Checked, Repeats,
+    affected_by, analyse_paths, analyse_paths_with, grammar_roots, select, speakers, Analysed,
+    Checked, Repeats,
 };
 pub use load::{load_grammar, LoadError};

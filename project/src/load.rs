@@ -1,7 +1,7 @@
 //! Loading one grammar named on the command line, with its configuration.
 
 use crate::config::{ConfigProblem, Resolver};
-use crate::files::{read_text, DiskLoader};
+use crate::files::{read_file, DiskLoader};
 use std::path::{Path, PathBuf};
 use trellis_ide::Analysis;
 
@@ -30,12 +30,18 @@ impl std::fmt::Display for LoadError {
 /// levels, as `trellis check` reports. Whether the grammar can run is the
 /// analysis's to say ([`Analysis::runnable`]).
 pub fn load_grammar(path: &Path) -> Result<Analysis, LoadError> {
-    let config = Resolver::new()
-        .for_grammar(path)
-        .map_err(LoadError::Config)?;
-    let text = read_text(path).map_err(|reason| LoadError::Unreadable {
+    let mut resolver = Resolver::new();
+    let config = resolver.for_grammar(path).map_err(LoadError::Config)?;
+    let policy = resolver.policy_for_grammar(path);
+    // The grammar named is read by the size limit; only `use` is confined.
+    let text = read_file(path, &policy).map_err(|failure| LoadError::Unreadable {
         path: path.to_path_buf(),
-        reason,
+        reason: format!("{}; {}", failure.reason, failure.help),
     })?;
-    Ok(trellis_ide::analyze(path, &text, &DiskLoader, &config))
+    Ok(trellis_ide::analyze(
+        path,
+        &text,
+        &DiskLoader::new(policy),
+        &config,
+    ))
 }
