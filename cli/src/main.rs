@@ -74,6 +74,14 @@ enum Command {
     /// why a sentence does not parse.
     #[command(long_about = commands::parse::LONG_ABOUT)]
     Parse(commands::parse::ParseArgs),
+    /// Learn a grammar's weights from annotated trees (a treebank in
+    /// labelled brackets).
+    #[command(long_about = commands::learn::LONG_ABOUT)]
+    Learn(commands::learn::LearnArgs),
+    /// Score predicted trees against gold trees (PARSEVAL labelled
+    /// brackets: precision, recall, F1, exact match, crossing brackets).
+    #[command(long_about = commands::eval::LONG_ABOUT)]
+    Eval(commands::eval::EvalArgs),
     /// Write a starter project: a small grammar with tests, the lexicon it
     /// uses and a commented trellis.toml.
     #[command(long_about = commands::init::LONG_ABOUT)]
@@ -107,6 +115,8 @@ fn main() -> ExitCode {
         Command::Lsp(args) => commands::lsp::run(&args),
         Command::Parse(args) => commands::parse::run(&args, term),
         Command::Init(args) => commands::init::run(&args),
+        Command::Learn(args) => commands::learn::run(&args),
+        Command::Eval(args) => commands::eval::run(&args),
         Command::Completions(args) => commands::completions::run(&args, Cli::command()),
         Command::Man(args) => commands::man::run(&args, Cli::command()),
     };

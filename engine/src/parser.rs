@@ -276,13 +276,14 @@ impl Parser {
         Ok(words.iter().map(|w| w.as_ref()).collect())
     }
 
-    /// Parses a line of text split on whitespace.
+    /// Parses a line of text split on whitespace (the language's one rule,
+    /// [`grammar_lang::model::words`], by which terminals are split too).
     pub fn parse_line(
         &self,
         line: &str,
         options: &ParseOptions,
     ) -> Result<ParseOutcome, ParseError> {
-        let words: Vec<&str> = line.split_whitespace().collect();
+        let words: Vec<&str> = grammar_lang::model::words(line).collect();
         self.parse(&words, options)
     }
 

@@ -84,6 +84,7 @@ fn bench_phases(c: &mut Criterion) {
             check::run_checks(
                 black_box(&lowered.grammar),
                 &lowered.sources,
+                &lowered.syntax,
                 &config,
                 &mut out,
             );

@@ -41,7 +41,13 @@ impl Analysis {
 pub fn analyze(root: &Path, text: &str, loader: &dyn FileLoader, config: &Config) -> Analysis {
     let lowered = lower::lower(root, text, loader);
     let mut diagnostics = lowered.diagnostics;
-    check::run_checks(&lowered.grammar, &lowered.sources, config, &mut diagnostics);
+    check::run_checks(
+        &lowered.grammar,
+        &lowered.sources,
+        &lowered.syntax,
+        config,
+        &mut diagnostics,
+    );
     let mut diagnostics: Vec<Diagnostic> = diagnostics
         .into_iter()
         .filter_map(|mut d| {

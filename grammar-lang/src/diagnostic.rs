@@ -110,6 +110,10 @@ codes! {
         "A cycle of unary rules A → B → … → A (an error when its probability product is 1).";
     Arity = "arity", Warning,
         "A right-hand side longer than the configured `max-arity`.";
+    TerminalSpacing = "terminal-spacing", Warning,
+        "A terminal with whitespace at its ends, doubled, or other than single spaces between its words.";
+    UnknownWord = "unknown-word", Warning,
+        "A word of a test sentence or expected tree that no terminal of the grammar contains (a note in `reject` cases).";
     UseMissing = "use-missing", Error,
         "A `use` of a file that cannot be read.";
     UseCycle = "use-cycle", Error,

@@ -19,7 +19,7 @@
 
 use crate::diagnostic::{Code, Diagnostic, Location};
 use crate::model::{
-    self, BlockInfo, Expectation, Grammar, GrammarTest, Ratio, Rule, Sym, TestCase, Weight,
+    self, BlockInfo, Expectation, Grammar, GrammarTest, Ratio, Rule, Sym, TermId, TestCase, Weight,
 };
 use crate::source::{normalize, resolve_use, FileId, FileLoader, SourceMap};
 use crate::span::Span;
@@ -393,11 +393,68 @@ impl Lowerer<'_> {
                         .push(Location::new(file, name.span));
                     Sym::N(nt)
                 }
-                Item::Terminal(s) => Sym::T(self.grammar.intern_term(&s.value)),
+                Item::Terminal(s) => {
+                    self.terminal(file, s, |word| {
+                        rhs.push(Sym::T(word));
+                    });
+                    continue;
+                }
             };
             rhs.push(sym);
         }
         rhs
+    }
+
+    /// A quoted terminal of a rule: the sequence of its words
+    /// ([`model::words`]), each interned and handed to `push` in order, so
+    /// `"fresh water"` stands for the two items `"fresh" "water"`. A
+    /// terminal with no word at all (`""`, `" "`; the parser reported it as
+    /// `empty-rule`) is kept as it is written. Spacing other than single
+    /// spaces between words is reported as `terminal-spacing`.
+    fn terminal(&mut self, file: FileId, s: &ast::Str, mut push: impl FnMut(TermId)) {
+        let mut any = false;
+        for word in model::words(&s.value) {
+            any = true;
+            push(self.grammar.intern_term(word));
+        }
+        if !any {
+            push(self.grammar.intern_term(&s.value));
+            return;
+        }
+        self.check_spacing(file, s, "terminal");
+    }
+
+    /// `terminal-spacing` for a quoted word (or words) whose whitespace is
+    /// not single spaces between words; `what` names it in the message.
+    fn check_spacing(&mut self, file: FileId, s: &ast::Str, what: &str) {
+        let normalized = model::normalized_words(&s.value);
+        if normalized == s.value.as_str() || !self.text(file, s.span).ends_with('"') {
+            return;
+        }
+        let count = model::words(&s.value).count();
+        let words = if count == 1 {
+            String::new()
+        } else {
+            format!(", the sequence of {count} words")
+        };
+        let replacement = crate::syntax::lexer::quote(&normalized);
+        self.diagnostics.push(
+            Diagnostic::new(
+                Code::TerminalSpacing,
+                Location::new(file, s.span),
+                format!(
+                    "{what} {} has whitespace {}; it means {replacement}{words}",
+                    self.text(file, s.span),
+                    spacing_fault(&s.value),
+                ),
+            )
+            .with_label("irregular spacing")
+            .with_help(format!(
+                "sentences are split at whitespace, so only the words count: write it as \
+                 {replacement}"
+            ))
+            .with_suggestion(Some(replacement)),
+        );
     }
 
     fn block(&mut self, file: FileId, block: &ast::Block) {
@@ -548,17 +605,59 @@ impl Lowerer<'_> {
         });
     }
 
-    fn tree(&self, file: FileId, tree: &TreeSyntax) -> Tree {
-        Tree::node(
-            self.text(file, tree.label.span),
-            tree.children
-                .iter()
-                .map(|c| match c {
-                    TreeChild::Node(n) => self.tree(file, n),
-                    TreeChild::Leaf(s) => Tree::leaf(s.value.to_string()),
-                })
-                .collect(),
-        )
+    /// An expected tree. A leaf of several words (`"fresh water"`) stands
+    /// for those words as leaves of its node, as a terminal of several
+    /// words stands for them in a rule.
+    fn tree(&mut self, file: FileId, tree: &TreeSyntax) -> Tree {
+        let mut children = Vec::with_capacity(tree.children.len());
+        for child in &tree.children {
+            match child {
+                TreeChild::Node(n) => children.push(self.tree(file, n)),
+                TreeChild::Leaf(s) => {
+                    let before = children.len();
+                    children.extend(model::words(&s.value).map(Tree::leaf));
+                    if children.len() == before {
+                        if self.text(file, s.span).ends_with('"') {
+                            self.diagnostics.push(
+                                Diagnostic::new(
+                                    Code::EmptyRule,
+                                    Location::new(file, s.span),
+                                    "a leaf without a word: no word of a sentence can match it",
+                                )
+                                .with_label("no word")
+                                .with_help(
+                                    "write the word the node covers inside the quotes, or \
+                                     remove the leaf",
+                                ),
+                            );
+                        }
+                        children.push(Tree::leaf(s.value.to_string()));
+                    } else {
+                        self.check_spacing(file, s, "leaf");
+                    }
+                }
+            }
+        }
+        Tree::node(self.text(file, tree.label.span), children)
+    }
+}
+
+/// What is irregular about the whitespace of `value` (which holds at least
+/// one word): for the `terminal-spacing` message.
+fn spacing_fault(value: &str) -> &'static str {
+    let trimmed = value.trim();
+    if trimmed.len() != value.len() {
+        if value.starts_with(char::is_whitespace) && value.ends_with(char::is_whitespace) {
+            "at both ends"
+        } else if value.starts_with(char::is_whitespace) {
+            "at its start"
+        } else {
+            "at its end"
+        }
+    } else if trimmed.chars().any(|c| c.is_whitespace() && c != ' ') {
+        "other than single spaces between its words (a tab or a line break)"
+    } else {
+        "doubled between its words"
     }
 }
 

@@ -153,10 +153,25 @@ pub struct TestCase {
 }
 
 impl TestCase {
-    /// The sentence split on whitespace into words.
+    /// The sentence split on whitespace into words ([`words`]).
     pub fn words(&self) -> Vec<&str> {
-        self.sentence.split_whitespace().collect()
+        words(&self.sentence).collect()
     }
+}
+
+/// The words of a text: its pieces between runs of whitespace (Unicode
+/// `White_Space`). The one rule for splitting text into words, used for
+/// sentences and for terminals alike, so that a terminal written with a
+/// space inside (`"fresh water"`) is the sequence of words a sentence
+/// containing it is split into.
+pub fn words(text: &str) -> std::str::SplitWhitespace<'_> {
+    text.split_whitespace()
+}
+
+/// `text` with its words joined by single spaces: how a terminal of
+/// several words is written without `terminal-spacing`.
+pub fn normalized_words(text: &str) -> String {
+    words(text).collect::<Vec<_>>().join(" ")
 }
 
 /// The case as written in a test block: `accept "…"`, `reject "…"` or

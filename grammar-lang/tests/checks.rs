@@ -845,7 +845,7 @@ fn a_unary_cycle_through_fifty_thousand_symbols_is_found_without_deep_recursion(
     let mut sources = grammar_lang::SourceMap::new();
     sources.add("ring.trellis".into(), String::new());
     let mut out = Vec::new();
-    grammar_lang::check::run_checks(&g, &sources, &Config::default(), &mut out);
+    grammar_lang::check::run_checks(&g, &sources, &[], &Config::default(), &mut out);
     assert_eq!(
         out.len(),
         1,

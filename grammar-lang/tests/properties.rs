@@ -256,13 +256,16 @@ fn doc_lines() -> impl Strategy<Value = Option<Vec<String>>> {
     ))
 }
 
-/// Words for terminals and sentences: any printable text on one line,
-/// quotes and backslashes included.
+/// Words for terminals and sentences: any printable text without
+/// whitespace, quotes and backslashes included. (A word of the model has no
+/// whitespace: a quoted text with whitespace inside stands for its words.)
 fn word() -> impl Strategy<Value = String> {
     prop_oneof![
         3 => "[a-z]{1,6}",
-        1 => "[^\n\r\u{2028}\u{2029}]{1,6}".prop_filter("printable", |s| s.chars().all(|c| !c.is_control())),
-        1 => select(vec!["\"", "\\", "say \"hi\"", "a\\b", "ünïcödé", "🦀"]).prop_map(str::to_string),
+        1 => "[^\n\r\u{2028}\u{2029}]{1,6}".prop_filter("printable, no whitespace", |s| {
+            s.chars().all(|c| !c.is_control() && !c.is_whitespace())
+        }),
+        1 => select(vec!["\"", "\\", "say\"hi\"", "a\\b", "ünïcödé", "🦀"]).prop_map(str::to_string),
     ]
 }
 

@@ -56,7 +56,11 @@ pub struct CodeAction {
 ///   after its name.
 /// * `undefined` and `unknown-start` with a close known name (`did you
 ///   mean `Observation`?`) — **replace the name** at that use with the
-///   known one; the preferred fix.
+///   known one; the preferred fix. The same for `unknown-word` with a close
+///   known word: the word inside the sentence's quotes is replaced.
+/// * `terminal-spacing` — **normalise the spacing**: the terminal is
+///   rewritten with single spaces between its words and none at its ends
+///   (the same words, so the same rules); the preferred fix.
 /// * `undefined` — **define the symbol** with a stub block
 ///   `Name {\n  "Name"  # TODO: …\n}` inserted on the line after the block
 ///   that uses it, separated by a blank line. The same for
@@ -94,6 +98,9 @@ pub fn code_actions(analysis: &Analysis, file: FileId, span: Span) -> Vec<CodeAc
                 .into_iter()
                 .chain(define_stub(analysis, d))
                 .collect(),
+            Code::UnknownWord | Code::TerminalSpacing => {
+                replace_name(analysis, d).into_iter().collect()
+            }
             Code::Unreachable => block_named_at(analysis, d.location)
                 .map(|block| remove_block(analysis, file, block, d))
                 .into_iter()
@@ -270,7 +277,9 @@ fn make_relative(analysis: &Analysis, file: FileId, block: &Block, d: &Diagnosti
     )
 }
 
-/// Replaces a misspelt name by the known name the diagnostic suggests.
+/// Replaces the text the diagnostic points at by the text it suggests: a
+/// misspelt name or word by the known one, a badly spaced terminal by its
+/// words spaced once.
 fn replace_name(analysis: &Analysis, d: &Diagnostic) -> Option<CodeAction> {
     let suggestion = d.suggestion.as_deref()?;
     let file = d.location.file;
@@ -278,10 +287,14 @@ fn replace_name(analysis: &Analysis, d: &Diagnostic) -> Option<CodeAction> {
     if wrong.is_empty() || wrong == suggestion {
         return None;
     }
+    let title = match d.code {
+        Code::TerminalSpacing => format!("Normalise the spacing: {suggestion}"),
+        _ => format!("Replace `{wrong}` with `{suggestion}`"),
+    };
     Some(CodeAction {
         is_preferred: true,
         ..quick_fix(
-            format!("Replace `{wrong}` with `{suggestion}`"),
+            title,
             d,
             vec![TextEdit {
                 file,

@@ -228,6 +228,30 @@ fn terminal_hover(
     value: &str,
 ) -> String {
     let mut out = format!("**terminal** {}\n\n", code(&quote(value)));
+    let words: Vec<&str> = grammar_lang::model::words(value).collect();
+    if words.len() > 1 {
+        // A terminal of several words is the sequence of its words
+        // (lowering splits it), each a word of the grammar of its own.
+        let _ = writeln!(
+            out,
+            "the sequence of {} words {}: a sentence must have them one after the other\n",
+            words.len(),
+            words
+                .iter()
+                .map(|w| code(&quote(w)))
+                .collect::<Vec<_>>()
+                .join(" ")
+        );
+        out.push_str("| word | rules producing it |\n|---|---|\n");
+        for word in words {
+            let rules = grammar
+                .term(word)
+                .map_or(0, |t| index.rules_producing(t).len());
+            let _ = writeln!(out, "| {} | {rules} |", code(&quote(word)));
+        }
+        return out;
+    }
+    let term = term.or_else(|| words.first().and_then(|w| grammar.term(w)));
     let producers = term.map_or(&[][..], |t| index.rules_producing(t));
     if producers.is_empty() {
         out.push_str("no rule produces this word\n");

@@ -66,6 +66,7 @@ mod locate;
 mod lookup;
 mod navigation;
 mod numbers;
+pub mod picture;
 mod structure;
 mod symbols;
 mod tokens;

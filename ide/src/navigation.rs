@@ -6,6 +6,7 @@ use super::walk::{walk, Node};
 use super::TextEdit;
 use grammar_lang::analysis::Analysis;
 use grammar_lang::diagnostic::Location;
+use grammar_lang::model::words;
 use grammar_lang::source::FileId;
 use grammar_lang::span::Span;
 use grammar_lang::syntax::lexer::is_valid_symbol_name;
@@ -102,7 +103,8 @@ pub(crate) fn names_in_file(
 }
 
 /// Calls `f` with every quoted `word` in `file` (right-hand sides and
-/// test-tree leaves), in source order.
+/// test-tree leaves), in source order. Quoted texts of the same words
+/// match however they are spaced (they mean the same).
 pub(crate) fn words_in_file(
     analysis: &Analysis,
     file: FileId,
@@ -112,8 +114,10 @@ pub(crate) fn words_in_file(
     let Some(syntax) = locate::syntax(analysis, file) else {
         return;
     };
+    // The same words, however spaced: `"fresh  water"` is `"fresh water"`.
+    let same = |value: &str| value == word || words(value).eq(words(word));
     walk(&syntax.decls, &mut |node| match node {
-        Node::Terminal(s) | Node::Leaf(s) if s.value == word => f(s.span),
+        Node::Terminal(s) | Node::Leaf(s) if same(&s.value) => f(s.span),
         _ => {}
     });
 }

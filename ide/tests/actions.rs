@@ -195,10 +195,14 @@ fn marking_a_block_relative_inserts_the_keyword_after_its_name() {
 
 #[test]
 fn defining_a_missing_symbol_inserts_a_stub_block_after_the_user() {
-    let (text, [gruss]) = marked("start Satz\n\nSatz {\n    [[Gruß]] \"Welt\"   # Gruß fehlt\n}\n\ntest \"t\" { accept \"hallo Welt\" }\n");
+    let (text, [gruss]) = marked("start Satz\n\nSatz {\n    [[Gruß]] \"Welt\"   # Gruß fehlt\n}\n\ntest \"t\" { accept \"Gruß Welt\" }\n");
     let text = text.as_str();
     let a = analyze_text(text);
-    assert_eq!(codes(&a), vec![Code::Unproductive, Code::Undefined]);
+    // `Gruß` is no word of the grammar yet: the stub's terminal makes it one.
+    assert_eq!(
+        codes(&a),
+        vec![Code::Unproductive, Code::Undefined, Code::UnknownWord]
+    );
     let fix = action(&a, M, gruss, "Define");
     assert_eq!(fix.title, "Define `Gruß` with a stub block");
     let fixed = apply(text, M, &fix.edits);
@@ -206,7 +210,7 @@ fn defining_a_missing_symbol_inserts_a_stub_block_after_the_user() {
         fixed,
         "start Satz\n\nSatz {\n    Gruß \"Welt\"   # Gruß fehlt\n}\n\
          \nGruß {\n    \"Gruß\"  # TODO: the words or symbols `Gruß` stands for\n}\n\
-         \ntest \"t\" { accept \"hallo Welt\" }\n"
+         \ntest \"t\" { accept \"Gruß Welt\" }\n"
     );
     for c in comments(text) {
         assert!(fixed.contains(c));
@@ -676,4 +680,82 @@ fn a_name_with_nothing_close_gets_no_replacement() {
     assert!(actions
         .iter()
         .all(|c| !c.is_preferred && !c.title.starts_with("Replace")));
+}
+
+/// Misspelt words of test sentences and expected trees, as a table: the
+/// grammar with the word marked `[[…]]`, the preferred fix's title and the
+/// text it gives. The fix replaces the word inside the quotes only.
+#[test]
+fn a_misspelt_word_of_a_test_is_replaced_by_the_suggested_one_as_the_preferred_fix() {
+    let grammar =
+        "start Log\nLog { \"wind\" Dir }  # eine Zeile\nDir { \"nord\" | \"süd west\" }\n";
+    let cases = [
+        (
+            "test \"t\" {\n  accept \"wind [[nrod]]\"  # Tippfehler\n}\n",
+            "Replace `nrod` with `nord`",
+            "test \"t\" {\n  accept \"wind nord\"  # Tippfehler\n}\n",
+        ),
+        (
+            "test \"t\" {\n  accept \"wind süd [[wst]]\"\n}\n",
+            "Replace `wst` with `west`",
+            "test \"t\" {\n  accept \"wind süd west\"\n}\n",
+        ),
+        (
+            "test \"t\" {\n  accept \"wind nord\" as (Log \"wind\" (Dir \"[[nort]]\"))\n}\n",
+            "Replace `nort` with `nord`",
+            "test \"t\" {\n  accept \"wind nord\" as (Log \"wind\" (Dir \"nord\"))\n}\n",
+        ),
+        (
+            "test \"t\" {\n  reject \"[[wnd]] nord\"\n}\n",
+            "Replace `wnd` with `wind`",
+            "test \"t\" {\n  reject \"wind nord\"\n}\n",
+        ),
+    ];
+    for (test, title, fixed_test) in cases {
+        let (text, [at]) = marked(&format!("{grammar}{test}"));
+        let a = analyze_text(&text);
+        let actions = ide::code_actions(&a, M, at);
+        let preferred: Vec<_> = actions.iter().filter(|c| c.is_preferred).collect();
+        assert_eq!(preferred.len(), 1, "{actions:#?}");
+        let fix = preferred[0];
+        assert_eq!(fix.title, title);
+        assert_eq!(fix.kind, CodeActionKind::QuickFix);
+        assert_eq!(fix.diagnostic_code, Some(Code::UnknownWord));
+        let fixed = apply(&text, M, &fix.edits);
+        assert_eq!(fixed, format!("{grammar}{fixed_test}"));
+        assert_eq!(comments(&fixed), comments(&text));
+        assert_eq!(codes(&analyze_text(&fixed)), []);
+    }
+}
+
+#[test]
+fn a_badly_spaced_terminal_is_normalised_as_the_preferred_fix_without_changing_the_model() {
+    let (text, [at]) = marked(
+        "start Log\nLog {\n  0.5 [[\" wind  nord\"]] Dir  # Richtung\n  0.5 \"still\"\n}\nDir { \"bei\tsüd\" }\n",
+    );
+    let (fix, fixed) = apply_action(&text, at, "Normalise");
+    assert!(fix.is_preferred);
+    assert_eq!(fix.title, "Normalise the spacing: \"wind nord\"");
+    assert_eq!(fix.diagnostic_code, Some(Code::TerminalSpacing));
+    assert_eq!(
+        fixed,
+        "start Log\nLog {\n  0.5 \"wind nord\" Dir  # Richtung\n  0.5 \"still\"\n}\nDir { \"bei\tsüd\" }\n"
+    );
+    let before = analyze_text(&text);
+    let after = analyze_text(&fixed);
+    // The other badly spaced terminal is still reported; this one is not.
+    assert_eq!(
+        codes(&before),
+        [Code::TerminalSpacing, Code::TerminalSpacing]
+    );
+    assert_eq!(codes(&after), [Code::TerminalSpacing]);
+    // The same rules: only the spelling changed.
+    let rules = |a: &Analysis| -> Vec<String> {
+        a.grammar
+            .rule_ids()
+            .map(|id| a.grammar.rule_text(id))
+            .collect()
+    };
+    assert_eq!(rules(&before), rules(&after));
+    assert_eq!(comments(&fixed), comments(&text));
 }

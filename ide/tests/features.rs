@@ -443,6 +443,32 @@ fn hover_on_a_terminal_tables_the_rules_that_produce_it() {
 }
 
 #[test]
+fn hover_on_a_terminal_of_several_words_lists_its_words_and_their_producers() {
+    let (f, a) = analyse_clean(
+        r#"
+        start Fahrkarte
+        Fahrkarte {
+          1/2   [["$0einfache Fahrt"]]
+          1/2   "Fahrt"
+        }
+        "#,
+    );
+    let h = hover_at_cursor(&f, &a, None);
+    assert_eq!(h.span, spans::<1>(&f, "grammar.trellis")[0]);
+    assert_eq!(
+        h.markdown,
+        "**terminal** `\"einfache Fahrt\"`\n\
+         \n\
+         the sequence of 2 words `\"einfache\"` `\"Fahrt\"`: a sentence must have them one after the other\n\
+         \n\
+         | word | rules producing it |\n\
+         |---|---|\n\
+         | `\"einfache\"` | 1 |\n\
+         | `\"Fahrt\"` | 2 |\n"
+    );
+}
+
+#[test]
 fn hover_on_a_test_tree_word_that_no_rule_has_says_so() {
     let (f, a) = analyse(
         r#"
@@ -1258,6 +1284,29 @@ fn document_highlights_mark_definitions_and_uses_of_a_non_terminal_in_one_file()
             h(test_label, false),
         ]
     );
+}
+
+#[test]
+fn document_highlights_of_words_mark_the_same_words_however_spaced() {
+    use trellis_ide::Highlight;
+    let (f, a) = analyse(
+        r#"
+        start Fahrt
+        Fahrt { [["einfache $0Fahrt"]] | "Fahrt" }
+        test "t" { accept "einfache Fahrt" as (Fahrt [["einfache  Fahrt"]]) }
+                                                       ^^^^^^^^^^^^^^^^^ warning terminal-spacing
+        "#,
+    );
+    assert_diagnostics(&f, &a);
+    let (file, offset) = cursor(&f, &a);
+    let expected: Vec<Highlight> = spans::<2>(&f, "grammar.trellis")
+        .into_iter()
+        .map(|span| Highlight {
+            span,
+            definition: false,
+        })
+        .collect();
+    assert_eq!(a.document_highlights(file, offset), expected);
 }
 
 #[test]

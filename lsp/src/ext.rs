@@ -81,6 +81,10 @@ pub struct ParseParams {
     /// Also show the outcome to the user.
     #[serde(default, skip_serializing_if = "is_false")]
     pub show: bool,
+    /// Also draw each parsed sentence's trees as an SVG picture
+    /// ([`SentenceParse::picture`]), the one `trellis parse --svg` draws.
+    #[serde(default, skip_serializing_if = "is_false")]
+    pub picture: bool,
 }
 
 /// What `trellis.parse` answers: one entry per sentence, in order.
@@ -114,6 +118,11 @@ pub struct SentenceParse {
     pub explanation: Option<String>,
     /// Why the sentence could not be parsed at all.
     pub error: Option<String>,
+    /// When asked for (`picture`) and the sentence parses: an SVG document
+    /// drawing its best tree (its k best side by side), in the text colour
+    /// of the page it is shown in.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub picture: Option<String>,
 }
 
 /// A tree with its probability.

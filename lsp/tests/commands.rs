@@ -49,6 +49,47 @@ async fn parse_returns_the_best_tree_and_its_probability() {
 }
 
 #[tokio::test]
+async fn parse_draws_the_tree_when_asked_with_the_command_lines_renderer() {
+    let mut client = ready(HARBOUR).await;
+    let response = command(
+        &mut client,
+        "trellis.parse",
+        json!({"uri": URI, "sentences": ["ferries sail", "sail ferries"], "picture": true}),
+    )
+    .await;
+    let results = &response["result"]["results"];
+    let svg = results[0]["picture"].as_str().expect("an SVG picture");
+    // The renderer the command line's `parse --svg` uses, drawn for a page:
+    // in the page's colour, without a colour scheme of its own.
+    let grammar = grammar_lang::analyze_text(HARBOUR);
+    let best = trellis_engine::Parser::new(&grammar.grammar)
+        .expect("compiles")
+        .parse_line("ferries sail", &trellis_engine::ParseOptions::default())
+        .expect("parses")
+        .best
+        .expect("a tree");
+    let expected = trellis_ide::picture::tree_picture(
+        &grammar.grammar,
+        "ferries sail",
+        &[best],
+        trellis_ide::picture::Surface::Inline,
+    );
+    assert_eq!(svg, expected);
+    assert!(svg.contains("<text x=") && svg.contains(">ferries</text>"));
+    assert!(!svg.contains("prefers-color-scheme"));
+    // No tree, no picture; and none unless asked.
+    assert_eq!(results[1]["picture"], Value::Null);
+    let plain = command(
+        &mut client,
+        "trellis.parse",
+        json!({"uri": URI, "sentence": "ferries sail"}),
+    )
+    .await;
+    assert_eq!(plain["result"]["results"][0]["picture"], Value::Null);
+    client.shutdown().await;
+}
+
+#[tokio::test]
 async fn parse_refuses_a_grammar_with_errors() {
     let mut client = ready("start S\nS { 0.5 \"a\" }\n").await;
     let response = command(

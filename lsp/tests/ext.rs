@@ -59,6 +59,7 @@ async fn code_lens_arguments_are_taken_by_execute_command_as_they_are() {
             sentence: None,
             kbest: None,
             show: true,
+            picture: false,
         }
     );
     // As it is, the argument is understood: only the sentence is missing.

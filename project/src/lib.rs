@@ -15,9 +15,11 @@
 pub mod config;
 pub mod coverage;
 pub mod discover;
+pub mod evaluate;
 pub mod files;
 pub mod format;
 pub mod grammars;
+pub mod learn;
 pub mod load;
 pub mod test_run;
 

@@ -6,8 +6,10 @@
 
 pub mod check;
 pub mod completions;
+pub mod eval;
 pub mod fmt;
 pub mod init;
+pub mod learn;
 pub mod lsp;
 pub mod man;
 pub mod parse;

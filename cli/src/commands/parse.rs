@@ -1,14 +1,17 @@
 //! `trellis parse`: the most probable trees of sentences, their
 //! probabilities, and why a sentence does not parse.
 
+use super::Stop;
 use super::{Outcome, Ran};
 use crate::output::{emit, ParseFormat, Stream, Term};
 use crate::render::{brackets, human, json};
 use crate::shared::{fail, load_runnable};
+use grammar_lang::Grammar;
 use rayon::prelude::*;
 use std::io::Read;
-use std::path::PathBuf;
-use trellis_engine::parser::{ParseError, ParseOptions, ParseOutcome};
+use std::path::{Path, PathBuf};
+use trellis_engine::parser::{ParseError, ParseOptions, ParseOutcome, ParsedTree};
+use trellis_ide::picture::{tree_picture, Surface};
 
 pub const LONG_ABOUT: &str = "Parse sentences with a grammar.\n\n\
     Each sentence is split on whitespace into words, which must match the \
@@ -58,6 +61,18 @@ pub struct ParseArgs {
     #[arg(long)]
     pub no_count: bool,
 
+    /// Print trees in the labels of the treebank a grammar was learned from
+    /// (`trellis learn`): binarization's intermediate symbols dissolved,
+    /// annotations dropped, labels unescaped
+    #[arg(long)]
+    pub treebank_labels: bool,
+
+    /// Also draw each parsed sentence's tree as an SVG picture in FILE (with
+    /// several sentences, FILE-1.svg, FILE-2.svg, …; with --kbest N the N
+    /// trees side by side)
+    #[arg(long, value_name = "FILE")]
+    pub svg: Option<PathBuf>,
+
     /// `human` for people, `json` for one object per sentence, one per
     /// line, `brackets` for labelled-bracket trees with bare words
     #[arg(long, value_enum, default_value_t = ParseFormat::Human)]
@@ -86,6 +101,66 @@ fn read_sentences(args: &ParseArgs) -> Result<Vec<String>, String> {
         .collect())
 }
 
+/// Where the picture of sentence `n` (0-based) of `count` goes: `path`
+/// itself for a single sentence, `stem-N.ext` for several.
+fn picture_path(path: &Path, n: usize, count: usize) -> PathBuf {
+    if count == 1 {
+        return path.to_path_buf();
+    }
+    let stem = path
+        .file_stem()
+        .map(|s| s.to_string_lossy().into_owned())
+        .unwrap_or_default();
+    let ext = path
+        .extension()
+        .map(|e| e.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "svg".to_string());
+    path.with_file_name(format!("{stem}-{}.{ext}", n + 1))
+}
+
+/// Writes one SVG picture per parsed sentence and says where on standard
+/// error (standard output keeps the chosen format).
+fn draw_pictures(
+    path: &Path,
+    grammar: &Grammar,
+    sentences: &[String],
+    results: &[Result<ParseOutcome, ParseError>],
+    kbest: usize,
+) -> Result<(), Stop> {
+    for (n, (sentence, result)) in sentences.iter().zip(results).enumerate() {
+        let target = picture_path(path, n, sentences.len());
+        let trees: Vec<ParsedTree> = match result {
+            Ok(outcome) if kbest > 1 => outcome.kbest.clone(),
+            Ok(outcome) => outcome.best.iter().cloned().collect(),
+            Err(_) => Vec::new(),
+        };
+        if trees.is_empty() {
+            emit(
+                Stream::Stderr,
+                &format!("note: no picture for sentence {} (it has no tree)\n", n + 1),
+            );
+            continue;
+        }
+        let svg = tree_picture(grammar, sentence, &trees, Surface::Standalone);
+        std::fs::write(&target, svg).map_err(|e| {
+            fail(
+                format!("cannot write {}: {e}", target.display()),
+                Outcome::Failure,
+            )
+        })?;
+        emit(Stream::Stderr, &format!("wrote {}\n", target.display()));
+    }
+    Ok(())
+}
+
+/// Rewrites an outcome's trees in the labels of the treebank the grammar
+/// was learned from.
+fn to_treebank_labels(outcome: &mut ParseOutcome) {
+    for parsed in outcome.best.iter_mut().chain(outcome.kbest.iter_mut()) {
+        parsed.tree = trellis_treebank::debinarize(&parsed.tree);
+    }
+}
+
 /// Runs `trellis parse`.
 pub fn run(args: &ParseArgs, term: Term) -> Ran {
     let analysis = load_runnable(&args.grammar, "parse", term)?;
@@ -97,10 +172,15 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
         count_parses: !args.no_count,
         explain: true,
     };
-    let results: Vec<Result<ParseOutcome, ParseError>> = sentences
+    let mut results: Vec<Result<ParseOutcome, ParseError>> = sentences
         .par_iter()
         .map(|s| parser.parse_line(s, &options))
         .collect();
+    if args.treebank_labels {
+        for outcome in results.iter_mut().flatten() {
+            to_treebank_labels(outcome);
+        }
+    }
     let mut out = String::new();
     for (n, (sentence, result)) in sentences.iter().zip(&results).enumerate() {
         match args.format {
@@ -126,6 +206,12 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
         }
     }
     emit(Stream::Stdout, &out);
+    if let Some(svg) = &args.svg {
+        let grammar = analysis
+            .runnable()
+            .map_err(|e| fail(e, Outcome::Findings))?;
+        draw_pictures(svg, grammar, &sentences, &results, args.kbest)?;
+    }
     let failed = results
         .iter()
         .filter(|r| !matches!(r, Ok(o) if o.parsed()))

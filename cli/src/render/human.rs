@@ -915,6 +915,74 @@ pub fn test_grammar(run: &GrammarRun, detail: TestDetail, color: bool) -> String
     out
 }
 
+/// A PARSEVAL report: the totals, then precision, recall and F1 per label.
+pub fn evaluation(e: &trellis_project::evaluate::Evaluation) -> String {
+    use trellis_treebank::eval::Totals;
+    let t = &e.totals;
+    let pct = |a: usize, b: usize| {
+        if b == 0 {
+            "–".to_string()
+        } else {
+            format!("{:.2}%", 100.0 * a as f64 / b as f64)
+        }
+    };
+    let (p, r, f) = Totals::prf(t.matched, t.gold, t.test);
+    let mut out = String::new();
+    out.push_str(&format!("sentences    {}", t.sentences));
+    if t.skipped > 0 {
+        out.push_str(&format!(
+            " ({} over the length cut-off left out)",
+            t.skipped
+        ));
+    }
+    out.push('\n');
+    out.push_str(&format!(
+        "brackets     {} gold, {} predicted, {} matched\n",
+        t.gold, t.test, t.matched
+    ));
+    out.push_str(&format!("precision    {:.2}%\n", 100.0 * p));
+    out.push_str(&format!("recall       {:.2}%\n", 100.0 * r));
+    out.push_str(&format!("F1           {:.2}%\n", 100.0 * f));
+    out.push_str(&format!(
+        "exact match  {} ({} of {})\n",
+        pct(t.exact, t.sentences),
+        t.exact,
+        t.sentences
+    ));
+    let per_sentence = if t.sentences == 0 {
+        0.0
+    } else {
+        t.crossing as f64 / t.sentences as f64
+    };
+    out.push_str(&format!(
+        "crossing     {per_sentence:.2} brackets per sentence; {} of sentences with none\n",
+        pct(t.no_crossing, t.sentences)
+    ));
+    if !t.labels.is_empty() {
+        let width = t
+            .labels
+            .keys()
+            .map(|l| l.chars().count())
+            .max()
+            .unwrap_or(5)
+            .max(5);
+        out.push_str(&format!(
+            "\n{:<width$}  {:>6}  {:>9}  {:>7}  {:>9}  {:>7}  {:>7}\n",
+            "label", "gold", "predicted", "matched", "precision", "recall", "F1"
+        ));
+        for (label, &(m, g, pr)) in &t.labels {
+            let (p, r, f) = Totals::prf(m, g, pr);
+            out.push_str(&format!(
+                "{label:<width$}  {g:>6}  {pr:>9}  {m:>7}  {:>8.2}%  {:>6.2}%  {:>6.2}%\n",
+                100.0 * p,
+                100.0 * r,
+                100.0 * f
+            ));
+        }
+    }
+    out
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

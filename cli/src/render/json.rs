@@ -618,6 +618,45 @@ fn json_case(sources: &SourceMap, case: &TestCase, outcome: &CaseOutcome) -> Jso
     }
 }
 
+/// The JSON document of `trellis eval`: every sentence, the totals and
+/// the figures per label (README.md, "JSON output").
+pub fn evaluation(e: &trellis_project::evaluate::Evaluation) -> serde_json::Value {
+    use trellis_treebank::eval::Totals;
+    let figures = |m: usize, g: usize, t: usize| {
+        let (p, r, f) = Totals::prf(m, g, t);
+        serde_json::json!({"matched": m, "gold": g, "predicted": t, "precision": p, "recall": r, "f1": f})
+    };
+    let t = &e.totals;
+    let mut total = figures(t.matched, t.gold, t.test);
+    let share = |a: usize, b: usize| if b == 0 { 0.0 } else { a as f64 / b as f64 };
+    total["sentences"] = t.sentences.into();
+    total["skipped"] = t.skipped.into();
+    total["exact_match"] = share(t.exact, t.sentences).into();
+    total["crossing_per_sentence"] = share(t.crossing, t.sentences).into();
+    total["no_crossing"] = share(t.no_crossing, t.sentences).into();
+    let labels: serde_json::Map<String, serde_json::Value> = t
+        .labels
+        .iter()
+        .map(|(label, &(m, g, p))| (label.clone(), figures(m, g, p)))
+        .collect();
+    let sentences: Vec<serde_json::Value> = e
+        .sentences
+        .iter()
+        .map(|s| {
+            let mut v = figures(s.score.matched, s.score.gold, s.score.test);
+            v["index"] = s.index.into();
+            v["gold_line"] = s.gold_line.into();
+            v["predicted_line"] = s.test_line.into();
+            v["length"] = s.score.length.into();
+            v["crossing"] = s.score.crossing.into();
+            v["exact"] = s.score.exact().into();
+            v["skipped"] = s.score.skipped.into();
+            v
+        })
+        .collect();
+    serde_json::json!({"sentences": sentences, "total": total, "labels": labels})
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

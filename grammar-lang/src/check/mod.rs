@@ -7,6 +7,9 @@
 //! * [`names`] — `undefined`, `no-start`, `unknown-start`, `duplicate-rule`
 //! * [`graph`] — `unreachable`, `unproductive`, `unary-cycle`
 //! * [`arity`] — `arity`
+//! * [`sentences`] — `unknown-word` (over the test blocks as written)
+//!
+//! (`terminal-spacing` is reported by lowering, which reads each terminal.)
 //!
 //! Every analysis is linear (or near-linear) in the size of the grammar:
 //! ids index vectors, and nothing compares all pairs of rules or symbols.
@@ -16,6 +19,7 @@
 pub mod arity;
 pub mod graph;
 pub mod names;
+pub mod sentences;
 pub mod suggest;
 pub mod weights;
 
@@ -25,12 +29,16 @@ use crate::config::Config;
 use crate::diagnostic::Diagnostic;
 use crate::model::{fraction, Decimal, Grammar, Ratio};
 use crate::source::SourceMap;
+use crate::syntax::ast::SyntaxFile;
 use num_traits::{Signed, ToPrimitive};
 
 /// Runs every model-level check and appends its findings to `out`.
+/// `syntax` holds the files' syntax, indexed like `sources` (checks that
+/// point inside a string, like `unknown-word`, read it).
 pub fn run_checks(
     grammar: &Grammar,
     sources: &SourceMap,
+    syntax: &[SyntaxFile],
     config: &Config,
     out: &mut Vec<Diagnostic>,
 ) {
@@ -38,6 +46,7 @@ pub fn run_checks(
     names::check(grammar, sources, out);
     graph::check(grammar, out);
     arity::check(grammar, config, out);
+    sentences::check(grammar, sources, syntax, out);
 }
 
 /// An exact number for a message: `99/100 (0.99)`, `4/3 (≈1.3333333333)`,

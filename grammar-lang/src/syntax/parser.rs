@@ -672,7 +672,8 @@ impl FromIterator<BodyElem> for Body {
 }
 
 /// Reports the empty alternatives of a body: two `|` with nothing between
-/// them, a `|` with no alternative on either side, and empty terminals `""`.
+/// them, a `|` with no alternative on either side, and empty terminals `""`
+/// (or terminals of whitespace only, which hold no word either).
 fn check_body(body: Body, src: &str, report: &mut dyn FnMut(Span, &str)) -> Vec<Alternative> {
     for &span in &body.empty_pipes {
         report(span, "empty alternative: epsilon rules are not supported");
@@ -680,8 +681,13 @@ fn check_body(body: Body, src: &str, report: &mut dyn FnMut(Span, &str)) -> Vec<
     for alt in &body.alternatives {
         for item in &alt.items {
             if let Item::Terminal(s) = item {
-                if s.value.is_empty() && s.span.text(src).ends_with('"') {
+                if !s.span.text(src).ends_with('"') {
+                    continue;
+                }
+                if s.value.is_empty() {
                     report(s.span, "empty terminal `\"\"`: it matches no word, and epsilon rules are not supported");
+                } else if crate::model::words(&s.value).next().is_none() {
+                    report(s.span, "terminal of whitespace only: it matches no word (sentences are split at whitespace), and epsilon rules are not supported");
                 }
             }
         }

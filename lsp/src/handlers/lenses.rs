@@ -51,6 +51,7 @@ pub async fn code_lenses(
                                 sentence: None,
                                 kbest: None,
                                 show: true,
+                                picture: false,
                             },
                         ),
                         CodeLensKind::Sample => Sample::command(

@@ -8,7 +8,8 @@ use crate::guard::CancelFlag;
 use crate::server::Backend;
 use tower_lsp::jsonrpc;
 use tower_lsp::lsp_types::MessageType;
-use trellis_engine::parser::{ParseOptions, ParseOutcome};
+use trellis_engine::parser::{ParseOptions, ParseOutcome, ParsedTree};
+use trellis_ide::picture::{tree_picture, Surface};
 
 pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<ParseResult> {
     let mut sentences = params.sentences;
@@ -28,11 +29,13 @@ pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<Pa
         kbest: params.kbest.unwrap_or(1).max(1),
         ..ParseOptions::default()
     };
+    let picture = params.picture;
     let cancel = CancelFlag::default();
     let guard = cancel.guard();
     let outcome = backend
         .run("parsing", move || {
             let parser = target.analysis().parser().map_err(|e| e.to_string())?;
+            let grammar = target.analysis().runnable().map_err(|e| e.to_string())?;
             let mut results = Vec::new();
             for sentence in sentences {
                 if cancel.is_cancelled() {
@@ -45,7 +48,13 @@ pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<Pa
                         error: Some(e.to_string()),
                         ..SentenceParse::default()
                     },
-                    Ok(out) => sentence_parse(sentence, &out),
+                    Ok(out) => {
+                        let mut parse = sentence_parse(sentence, &out);
+                        if picture {
+                            parse.picture = picture_of(grammar, &parse.sentence, &out);
+                        }
+                        parse
+                    }
                 });
             }
             Ok(Some(ParseResult { results }))
@@ -53,6 +62,21 @@ pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<Pa
         .await?;
     guard.disarm();
     finish(backend, params.show, outcome, summary).await
+}
+
+/// The picture of a parsed sentence's trees (the k best when more than one
+/// was asked for), drawn for a webview.
+fn picture_of(
+    grammar: &grammar_lang::Grammar,
+    sentence: &str,
+    out: &ParseOutcome,
+) -> Option<String> {
+    let trees: Vec<ParsedTree> = if out.kbest.len() > 1 {
+        out.kbest.clone()
+    } else {
+        out.best.iter().cloned().collect()
+    };
+    (!trees.is_empty()).then(|| tree_picture(grammar, sentence, &trees, Surface::Inline))
 }
 
 fn sentence_parse(sentence: String, out: &ParseOutcome) -> SentenceParse {
@@ -75,6 +99,7 @@ fn sentence_parse(sentence: String, out: &ParseOutcome) -> SentenceParse {
             .collect(),
         explanation: out.explanation.as_ref().map(|e| e.to_string()),
         error: None,
+        picture: None,
     }
 }
 
