@@ -16,7 +16,11 @@ fn primes(n: usize) -> Vec<u64> {
     let mut out: Vec<u64> = Vec::with_capacity(n);
     let mut k = 2u64;
     while out.len() < n {
-        if out.iter().take_while(|&&p| p * p <= k).all(|&p| k % p != 0) {
+        if out
+            .iter()
+            .take_while(|&&p| p * p <= k)
+            .all(|&p| !k.is_multiple_of(p))
+        {
             out.push(k);
         }
         k += 1;
