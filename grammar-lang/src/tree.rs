@@ -3,6 +3,14 @@
 use crate::syntax::lexer::quote;
 use std::fmt;
 
+/// How deep the brackets of an expected tree in a `test` block may nest.
+/// Deeper brackets are a located `syntax` error and are not read, so that
+/// no walk over a tree written by hand (parsing, lowering, judging,
+/// printing, formatting, the editor's features) can run out of stack. Hand
+/// written trees are a few dozen levels deep; a thousand leaves room for
+/// generated ones.
+pub const MAX_TREE_DEPTH: usize = 1000;
+
 /// A parse tree: inner nodes carry a non-terminal label, leaves are words.
 #[derive(Clone, Debug, PartialEq, Eq, Hash)]
 pub enum Tree {

@@ -324,3 +324,59 @@ fn a_mistake_inside_a_multi_line_tree_is_reported_once_and_reading_resumes_at_th
     assert_eq!(test.cases.len(), 1);
     assert_eq!(test.cases[0].expect, Expectation::Reject);
 }
+
+#[test]
+fn brackets_deeper_than_the_limit_are_one_error_at_the_first_bracket_too_deep() {
+    use grammar_lang::tree::MAX_TREE_DEPTH;
+    let depth = 3 * MAX_TREE_DEPTH;
+    let text = format!(
+        "start S\nS {{ \"a\" }}\ntest \"t\" {{\n  accept \"a\" as {}\"a\"{}\n  reject \"b\"\n}}\n",
+        "(S ".repeat(depth),
+        ")".repeat(depth)
+    );
+    let column = "  accept \"a\" as ".len() + 3 * MAX_TREE_DEPTH + 1;
+    assert_eq!(
+        errors(&text),
+        [(
+            4,
+            column as u32,
+            format!("this expected tree nests deeper than {MAX_TREE_DEPTH} levels; the brackets from here to their `)` are not read")
+        )]
+    );
+    // The tree is kept down to the limit, and the next case is read.
+    let Some(Decl::Test(test)) = parse(&text).decls.last().cloned() else {
+        panic!("last declaration is the test block")
+    };
+    assert_eq!(test.cases.len(), 2);
+    let mut levels = 0;
+    let mut node = test.cases[0].tree.as_ref();
+    while let Some(tree) = node {
+        levels += 1;
+        node = tree.children.iter().find_map(|c| match c {
+            TreeChild::Node(n) => Some(n),
+            TreeChild::Leaf(_) => None,
+        });
+    }
+    assert_eq!(levels, MAX_TREE_DEPTH);
+}
+
+#[test]
+fn unclosed_brackets_deeper_than_the_limit_end_at_the_next_case() {
+    use grammar_lang::tree::MAX_TREE_DEPTH;
+    let text = format!(
+        "start S\nS {{ \"a\" }}\ntest \"t\" {{\n  accept \"a\" as {}\n  reject \"b\"\n}}\n",
+        "(S ".repeat(2 * MAX_TREE_DEPTH),
+    );
+    let found = errors(&text);
+    assert!(found.iter().all(|(line, ..)| *line == 4), "{found:?}");
+    assert!(found[0].2.contains("is not closed"), "{found:?}");
+    assert!(
+        found.iter().any(|(.., m)| m.contains("nests deeper than")),
+        "{found:?}"
+    );
+    let Some(Decl::Test(test)) = parse(&text).decls.last().cloned() else {
+        panic!("last declaration is the test block")
+    };
+    assert_eq!(test.cases.len(), 2);
+    assert_eq!(test.cases[1].expect, Expectation::Reject);
+}

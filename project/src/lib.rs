@@ -24,8 +24,8 @@ pub mod learn;
 pub mod load;
 pub mod test_run;
 
-pub use config::{ConfigProblem, EditorLimits, Resolver, Settings, Stamps};
 pub use cache::FileCache;
+pub use config::{ConfigProblem, EditorLimits, Resolver, Settings, Stamps};
 
 pub use discover::{discover, identity, paths_or_here, Root};
 pub use files::{read_file, read_text, write_atomic, DiskLoader, Overlay, ReadPolicy};

@@ -35,6 +35,20 @@ fn severity_color(severity: Severity) -> Color {
 /// snippets, each headed by its own location, instead of one long snippet.
 const SNIPPET_GAP: u32 = 6;
 
+/// The widest stretch of a source line a report shows, in characters. A
+/// report on a longer line (a generated grammar, a file pasted onto one
+/// line) shows a window of this many characters around its spans, cut with
+/// `…`, so that each report stays small whatever the line (common practice
+/// for terminal output; ariadne would draw the whole line once per label).
+pub const EXCERPT_WIDTH: usize = 160;
+
+/// Reports shown per file; the findings past them are counted on one line
+/// (`--format json` keeps every one).
+pub const REPORTS_PER_FILE: usize = 50;
+
+/// Spans drawn in one report that merges repeated findings on a line.
+const MERGED_SPANS: usize = 8;
+
 /// An ariadne source id: a file and which snippet of it. ariadne draws one
 /// snippet per id, so two ids for one file give two snippets.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
@@ -145,12 +159,28 @@ impl<'a> HumanRenderer<'a> {
     /// One report: `error[code]: message`, the snippet with the primary span
     /// (and its label) and every related span with its message, then help.
     pub fn render(&mut self, d: &Diagnostic) -> String {
+        self.render_merged(d, &[])
+    }
+
+    /// One report for `d` and the findings in `repeats`, the same finding
+    /// again further along `d`'s line: the message says how many there
+    /// are, and the first few spans are drawn.
+    fn render_merged(&mut self, d: &Diagnostic, repeats: &[&Diagnostic]) -> String {
         let sources = self.cache.sources;
         let kind_name = format!("{}[{}]", d.severity, d.code);
         let kind = ReportKind::Custom(&kind_name, severity_color(d.severity));
+        let message = if repeats.is_empty() {
+            d.message.clone()
+        } else {
+            format!(
+                "{} ({} times on this line)",
+                d.message,
+                thousands(repeats.len() + 1)
+            )
+        };
         let Some(primary_file) = file(sources, d.location.file) else {
             // No source to show: header and help only.
-            let mut out = format!("{kind_name}: {}\n", d.message);
+            let mut out = format!("{kind_name}: {message}\n");
             if let Some(help) = &d.help {
                 out.push_str(&format!("  help: {help}\n"));
             }
@@ -170,11 +200,33 @@ impl<'a> HumanRenderer<'a> {
                 d.label.as_deref().unwrap_or("here"),
             )
         }];
+        for again in repeats.iter().take(MERGED_SPANS - 1) {
+            labels.push(Pending {
+                color: severity_color(d.severity),
+                ..Pending::new(
+                    primary_file,
+                    d.location.file,
+                    clamp(&primary_file.text, again.location.span),
+                    again.label.as_deref().unwrap_or("here"),
+                )
+            });
+        }
         for Related { location, message } in &d.related {
             if let Some(f) = file(sources, location.file) {
                 let range = clamp(&f.text, location.span);
                 labels.push(Pending::new(f, location.file, range, message));
             }
+        }
+        if labels.iter().any(|l| on_long_line(sources, l)) {
+            let out = windowed(
+                sources,
+                &kind_name,
+                &message,
+                &labels,
+                d.help.as_deref(),
+                self.color.then(|| severity_color(d.severity)),
+            );
+            return self.finish_text(out);
         }
         let labels = snippets(labels);
         let Some(primary) = labels
@@ -182,11 +234,11 @@ impl<'a> HumanRenderer<'a> {
             .find(|(_, l)| l.primary)
             .map(|(s, l)| (*s, l.range.clone()))
         else {
-            return self.finish_text(format!("{kind_name}: {}\n", d.message));
+            return self.finish_text(format!("{kind_name}: {message}\n"));
         };
         let mut report = Report::build(kind, primary)
             .with_config(config)
-            .with_message(&d.message);
+            .with_message(&message);
         for (order, (snippet, l)) in labels.into_iter().enumerate() {
             let mut label = Label::new((snippet, l.range))
                 .with_message(l.message)
@@ -206,7 +258,7 @@ impl<'a> HumanRenderer<'a> {
             .write_for_stdout(&mut self.cache, &mut buf)
             .is_err()
         {
-            return self.finish_text(format!("{kind_name}: {}\n", d.message));
+            return self.finish_text(format!("{kind_name}: {message}\n"));
         }
         self.finish_text(String::from_utf8_lossy(&buf).into_owned())
     }
@@ -220,6 +272,238 @@ impl<'a> HumanRenderer<'a> {
             strip_ansi(&text)
         }
     }
+}
+
+/// Whether `label` lies on a line longer than [`EXCERPT_WIDTH`] characters.
+fn on_long_line(sources: &SourceMap, label: &Pending<'_>) -> bool {
+    let Some(f) = file(sources, label.file) else {
+        return false;
+    };
+    (label.first_line..=label.last_line).any(|line| {
+        let text = line_text(f, line);
+        text.len() > EXCERPT_WIDTH && text.chars().count() > EXCERPT_WIDTH
+    })
+}
+
+/// The text of 0-based `line` of `f`, without its line break.
+fn line_text(f: &SourceFile, line: u32) -> &str {
+    let start = f.lines.line_start(line);
+    let end = f.lines.line_start(line + 1).max(start);
+    f.text
+        .get(start..end)
+        .unwrap_or("")
+        .trim_end_matches(['\n', '\r'])
+}
+
+/// A report on a line too long to show whole: each line with a span is
+/// shown as a window of [`EXCERPT_WIDTH`] characters around its first span,
+/// with the spans inside the window underlined. Drawn like ariadne's
+/// reports, so the two kinds read alike.
+fn windowed(
+    sources: &SourceMap,
+    kind_name: &str,
+    message: &str,
+    labels: &[Pending<'_>],
+    help: Option<&str>,
+    color: Option<Color>,
+) -> String {
+    use ariadne::Fmt;
+    let mut labels: Vec<&Pending> = labels.iter().collect();
+    // The primary span first, then by place.
+    labels.sort_by_key(|l| (!l.primary, l.file, l.range.start));
+    let width = labels
+        .iter()
+        .map(|l| (l.first_line + 1).to_string().len())
+        .max()
+        .unwrap_or(1);
+    let margin = " ".repeat(width + 2);
+    let header = match color {
+        Some(c) => kind_name.fg(c).to_string(),
+        None => kind_name.to_string(),
+    };
+    let mut out = format!("{header}: {message}\n");
+    let mut shown: Vec<(FileId, u32)> = Vec::new();
+    for (n, label) in labels.iter().enumerate() {
+        let key = (label.file, label.first_line);
+        if shown.contains(&key) {
+            continue;
+        }
+        shown.push(key);
+        let Some(f) = file(sources, label.file) else {
+            continue;
+        };
+        let line_start = f.lines.line_start(label.first_line);
+        let text = line_text(f, label.first_line);
+        let position = super::position(f, label.range.start);
+        let corner = if n == 0 { "╭" } else { "├" };
+        out.push_str(&format!(
+            "{margin}{corner}─[ {}:{}:{} ]\n{margin}│\n",
+            f.path.display(),
+            position.line,
+            position.column
+        ));
+        // The window: EXCERPT_WIDTH characters starting a little before
+        // this span, in character columns of the line.
+        let column = position.column as usize - 1;
+        let total = text.chars().count();
+        let from = column
+            .saturating_sub(EXCERPT_WIDTH / 4)
+            .min(total.saturating_sub(EXCERPT_WIDTH));
+        let to = (from + EXCERPT_WIDTH).min(total);
+        let excerpt: String = text
+            .chars()
+            .skip(from)
+            .take(to - from)
+            .map(|c| if c == '\t' { ' ' } else { c })
+            .collect();
+        let cut_left = if from > 0 { "…" } else { "" };
+        let cut_right = if to < total { "…" } else { "" };
+        out.push_str(&format!(
+            " {:>width$} │ {cut_left}{excerpt}{cut_right}\n",
+            label.first_line + 1
+        ));
+        // Every span on this line that starts inside the window.
+        let offset = usize::from(from > 0);
+        let mut marks: Vec<char> = Vec::new();
+        let mut notes: Vec<(usize, &str)> = Vec::new();
+        let mut outside = 0;
+        for other in labels
+            .iter()
+            .filter(|o| o.file == label.file && o.first_line == label.first_line)
+        {
+            let start = f.text[line_start..other.range.start].chars().count();
+            if start < from || start >= to {
+                outside += 1;
+                continue;
+            }
+            let end = if other.last_line == other.first_line {
+                start + f.text[other.range.clone()].chars().count()
+            } else {
+                to
+            };
+            let (a, b) = (
+                start - from + offset,
+                (end.min(to) - from + offset).max(start - from + offset + 1),
+            );
+            if marks.len() < b {
+                marks.resize(b, ' ');
+            }
+            for (i, m) in marks[a..b].iter_mut().enumerate() {
+                *m = if i == 0 { '┬' } else { '─' };
+            }
+            if !notes.iter().any(|(_, m)| *m == other.message) {
+                notes.push((a, other.message));
+            }
+        }
+        let marks: String = marks.into_iter().collect();
+        out.push_str(&format!("{margin}│ {}\n", marks.trim_end()));
+        for (at, note) in notes {
+            out.push_str(&format!("{margin}│ {}╰── {note}\n", " ".repeat(at)));
+        }
+        if outside > 0 {
+            out.push_str(&format!(
+                "{margin}│ (and {} more outside this excerpt)\n",
+                thousands(outside)
+            ));
+        }
+    }
+    if let Some(help) = help {
+        out.push_str(&format!("{margin}│ \n{margin}│ Help: {help}\n"));
+    }
+    out.push_str(&format!("{}╯\n", "─".repeat(width + 3)));
+    out
+}
+
+/// `n` with its digits grouped by thousands: `7,993`.
+pub fn thousands(n: usize) -> String {
+    let digits = n.to_string();
+    let mut out = String::with_capacity(digits.len() + digits.len() / 3);
+    for (i, c) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i).is_multiple_of(3) {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    out
+}
+
+/// Findings as people read them, each report followed by an empty line.
+/// `findings` pairs each diagnostic with the index of its analysis, whose
+/// sources `sources_of` gives. The same finding repeated along one line
+/// (same code, severity and message, no related spans) is one report that
+/// counts them; a file gets at most [`REPORTS_PER_FILE`] reports, and one
+/// line at the end counts the findings past them.
+pub fn findings<'a>(
+    sources_of: &dyn Fn(usize) -> &'a SourceMap,
+    findings: &[(usize, &Diagnostic)],
+    color: bool,
+) -> String {
+    let mut renderers: HashMap<usize, HumanRenderer> = HashMap::new();
+    // Per file (by its path): reports shown, and the findings left out.
+    let mut per_file: Vec<(String, usize, usize)> = Vec::new();
+    let mut out = String::new();
+    let mut k = 0;
+    while let Some(&(i, d)) = findings.get(k) {
+        let sources = sources_of(i);
+        let line =
+            file(sources, d.location.file).map(|f| f.lines.line_of(d.location.span.start as usize));
+        let mut end = k + 1;
+        while let Some(&(j, e)) = findings.get(end) {
+            let same = j == i
+                && d.related.is_empty()
+                && e.related.is_empty()
+                && e.location.file == d.location.file
+                && e.code == d.code
+                && e.severity == d.severity
+                && e.message == d.message
+                && line.is_some()
+                && file(sources, e.location.file)
+                    .map(|f| f.lines.line_of(e.location.span.start as usize))
+                    == line;
+            if !same {
+                break;
+            }
+            end += 1;
+        }
+        let path = file(sources, d.location.file)
+            .map(|f| f.path.display().to_string())
+            .unwrap_or_default();
+        let at = match per_file.iter().position(|(p, ..)| *p == path) {
+            Some(at) => at,
+            None => {
+                per_file.push((path, 0, 0));
+                per_file.len() - 1
+            }
+        };
+        let entry = &mut per_file[at];
+        if entry.1 < REPORTS_PER_FILE {
+            entry.1 += 1;
+            let repeats: Vec<&Diagnostic> = findings[k + 1..end].iter().map(|&(_, e)| e).collect();
+            let renderer = renderers
+                .entry(i)
+                .or_insert_with(|| HumanRenderer::new(sources, color));
+            out.push_str(&renderer.render_merged(d, &repeats));
+            out.push('\n');
+        } else {
+            entry.2 += end - k;
+        }
+        k = end;
+    }
+    for (path, _, left_out) in per_file {
+        if left_out > 0 {
+            let in_file = if path.is_empty() {
+                String::new()
+            } else {
+                format!(" in {path}")
+            };
+            out.push_str(&format!(
+                "… and {} more {}{in_file} (`--format json` lists every finding)\n\n",
+                thousands(left_out),
+                if left_out == 1 { "finding" } else { "findings" }
+            ));
+        }
+    }
+    out
 }
 
 /// `text` without ANSI escape sequences (`ESC [ ... final-byte`).
@@ -305,15 +589,7 @@ pub fn check_report(
     deny_warnings: bool,
     color: bool,
 ) -> String {
-    let mut renderers: HashMap<usize, HumanRenderer> = HashMap::new();
-    let mut out = String::new();
-    for &(i, d) in findings {
-        let renderer = renderers
-            .entry(i)
-            .or_insert_with(|| HumanRenderer::new(&checked[i].analysis.sources, color));
-        out.push_str(&renderer.render(d));
-        out.push('\n');
-    }
+    let mut out = self::findings(&|i| &checked[i].analysis.sources, findings, color);
     out.push_str(&summary(files, counts));
     if deny_warnings && counts.warnings > 0 {
         out.push_str(" (warnings are denied)");
@@ -324,13 +600,8 @@ pub fn check_report(
 
 /// Every diagnostic in `diagnostics` rendered, each followed by an empty line.
 pub fn diagnostics(sources: &SourceMap, diagnostics: &[Diagnostic], color: bool) -> String {
-    let mut renderer = HumanRenderer::new(sources, color);
-    let mut out = String::new();
-    for d in diagnostics {
-        out.push_str(&renderer.render(d));
-        out.push('\n');
-    }
-    out
+    let all: Vec<(usize, &Diagnostic)> = diagnostics.iter().map(|d| (0, d)).collect();
+    findings(&|_| sources, &all, color)
 }
 
 // --- `trellis parse` ---

@@ -66,6 +66,37 @@ pub fn number_text(r: &Ratio) -> String {
     }
 }
 
+/// A fraction for a label: exact when short, otherwise its approximate
+/// value and how long the exact fraction is (`≈2.000000e-1 (exact: a
+/// fraction of about 12,000 digits)`), so that a block of thousands of
+/// weights does not print a fraction thousands of digits long.
+pub fn short_fraction(r: &Ratio) -> String {
+    let bits = r.numer().bits() + r.denom().bits();
+    if bits <= 133 {
+        return crate::model::fraction(r);
+    }
+    // A number of b bits has about b·log10(2) decimal digits.
+    let digits = (bits as f64 * std::f64::consts::LOG10_2).round() as u64;
+    format!(
+        "{} (exact: a fraction of about {} digits)",
+        approximate(r),
+        grouped(digits)
+    )
+}
+
+/// `n` with its digits grouped by thousands: `12,000`.
+fn grouped(n: u64) -> String {
+    let digits = n.to_string();
+    let mut out = String::new();
+    for (i, c) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i).is_multiple_of(3) {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    out
+}
+
 /// `≈1.2e-15051`: the decimal exponent from the bit lengths and the leading
 /// digits from the top 64 bits of numerator and denominator.
 fn approximate(r: &Ratio) -> String {
@@ -107,6 +138,20 @@ mod tests {
             .map(|i| hasher.hash_one(format!("w{i}")) & 0xfff)
             .collect();
         assert!(buckets.len() > 1800, "only {} buckets used", buckets.len());
+    }
+
+    #[test]
+    fn label_fractions_are_shortened_when_huge() {
+        let r = |n: BigInt, d: BigInt| Ratio::new(n, d);
+        assert_eq!(short_fraction(&r(BigInt::from(3), BigInt::from(4))), "3/4");
+        // (2^4000 + 1) / (5 · 2^4000) is 1/5 to far beyond f64 precision;
+        // 2^4000 has 1,205 decimal digits (4000 · log10 2 = 1204.1).
+        let big = BigInt::from(1) << 4000u32;
+        let text = short_fraction(&r(&big + 1, &big * 5));
+        assert!(
+            text.starts_with("≈2.000000e-1 (exact: a fraction of about 2,"),
+            "{text}"
+        );
     }
 
     #[test]

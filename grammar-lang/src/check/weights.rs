@@ -15,10 +15,10 @@
 //! blocks (an unreadable weight or an empty alternative was already
 //! reported) and for blocks without rules (reported as `unproductive`).
 
-use super::number_text;
+use super::{number_text, short_fraction};
 use crate::diagnostic::{Code, Diagnostic};
 use crate::lower::exact_sum;
-use crate::model::{fraction, Grammar, Ratio};
+use crate::model::{Grammar, Ratio};
 use num_traits::{One, Signed, Zero};
 
 pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
@@ -156,7 +156,7 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
                         number_text(&amount)
                     ),
                 )
-                .with_label(format!("sums to {}", fraction(&block.mass)))
+                .with_label(format!("sums to {}", short_fraction(&block.mass)))
                 .with_help(format!(
                     "make the weights of `{name}` add up to exactly 1 (an unweighted alternative \
                      takes whatever is left), or mark the block `relative` to divide the weights \

@@ -24,6 +24,7 @@
 use super::ast::*;
 use super::lexer::{lex, unquote_small, Token, TokenKind};
 use crate::span::Span;
+use crate::tree::MAX_TREE_DEPTH;
 use smol_str::SmolStr;
 
 use TokenKind as T;
@@ -34,10 +35,18 @@ pub fn parse(text: &str) -> SyntaxFile {
     let mut kinds = Vec::with_capacity(tokens.len() / 2);
     let mut spans = Vec::with_capacity(tokens.len() / 2);
     let mut doc_comments = Vec::new();
+    let mut depth = TreeDepth::default();
+    let mut too_deep = Vec::new();
     for (i, t) in tokens.iter().enumerate() {
         if !t.kind.is_trivia() {
-            kinds.push(t.kind);
-            spans.push(t.span);
+            match depth.step(t.kind) {
+                Keep::Token => {
+                    kinds.push(t.kind);
+                    spans.push(t.span);
+                }
+                Keep::TooDeep => too_deep.push(t.span),
+                Keep::Skipped => {}
+            }
         } else if t.kind == TokenKind::DocComment {
             doc_comments.push(i);
         }
@@ -49,6 +58,16 @@ pub fn parse(text: &str) -> SyntaxFile {
         mut damaged,
         ..
     } = parser;
+    errors.extend(too_deep.into_iter().map(|span| SyntaxError {
+        span,
+        message: format!(
+            "this expected tree nests deeper than {MAX_TREE_DEPTH} levels; the brackets from here to their `)` are not read"
+        ),
+        help: Some(format!(
+            "an expected tree may nest at most {MAX_TREE_DEPTH} brackets deep: test a shorter sentence, or leave out `as (…)` to check only that the sentence is accepted"
+        )),
+        empty_rule: false,
+    }));
     attach_docs(&mut decls, &tokens, &doc_comments, text);
     errors.sort_by_key(|e| (e.span.start, e.span.end));
     errors.dedup();
@@ -58,6 +77,67 @@ pub fn parse(text: &str) -> SyntaxFile {
         decls,
         errors,
         damaged,
+    }
+}
+
+/// What the parser does with one significant token.
+enum Keep {
+    Token,
+    /// The `(` that opens a bracket deeper than [`MAX_TREE_DEPTH`]: left
+    /// out, and reported.
+    TooDeep,
+    /// Inside a bracket deeper than [`MAX_TREE_DEPTH`]: left out.
+    Skipped,
+}
+
+/// Tracks how deep the brackets of expected trees nest, so that the
+/// parser (which descends once per bracket) and every later walk over a
+/// tree stay within [`MAX_TREE_DEPTH`] levels whatever the input. A
+/// bracket that would open one level deeper is left out of the parser's
+/// input together with everything up to its `)`; a token that cannot be
+/// part of a tree (a keyword, a brace, a weight) ends every open bracket,
+/// as the parser's own recovery does.
+#[derive(Default)]
+struct TreeDepth {
+    open: usize,
+    /// How many brackets are open inside the one being left out (0 when
+    /// none is).
+    skipping: usize,
+}
+
+impl TreeDepth {
+    fn step(&mut self, kind: TokenKind) -> Keep {
+        use TokenKind as T;
+        match kind {
+            T::LParen if self.skipping > 0 => {
+                self.skipping += 1;
+                Keep::Skipped
+            }
+            T::LParen if self.open >= MAX_TREE_DEPTH => {
+                self.skipping = 1;
+                Keep::TooDeep
+            }
+            T::LParen => {
+                self.open += 1;
+                Keep::Token
+            }
+            T::RParen if self.skipping > 0 => {
+                self.skipping -= 1;
+                Keep::Skipped
+            }
+            T::RParen => {
+                self.open = self.open.saturating_sub(1);
+                Keep::Token
+            }
+            // Newlines stay: a tree's layout is free, and a case ends at one.
+            T::Ident | T::String | T::UnterminatedString if self.skipping > 0 => Keep::Skipped,
+            T::Ident | T::String | T::UnterminatedString | T::Newline => Keep::Token,
+            _ => {
+                self.open = 0;
+                self.skipping = 0;
+                Keep::Token
+            }
+        }
     }
 }
 

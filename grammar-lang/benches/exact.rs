@@ -1,0 +1,63 @@
+//! Exact arithmetic on hostile weights: a block of 3,000 alternatives
+//! `1/p` over distinct primes (its exact sum has a 13,000-digit
+//! denominator), and one weight written with 200,000 digits. Both are
+//! analysed whole by `analyze_text`.
+
+use criterion::{criterion_group, criterion_main, Criterion};
+use grammar_lang::analyze_text;
+use std::hint::black_box;
+use std::time::Duration;
+
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
+/// The first `n` primes, by trial division.
+fn primes(n: usize) -> Vec<u64> {
+    let mut out: Vec<u64> = Vec::with_capacity(n);
+    let mut k = 2u64;
+    while out.len() < n {
+        if out
+            .iter()
+            .take_while(|&&p| p * p <= k)
+            .all(|&p| !k.is_multiple_of(p))
+        {
+            out.push(k);
+        }
+        k += 1;
+    }
+    out
+}
+
+fn prime_reciprocals(n: usize) -> String {
+    let mut text = String::from("grammar harbour\nstart Call\nCall {\n");
+    for p in primes(n) {
+        text.push_str(&format!("  1/{p} \"ahoy\"\n"));
+    }
+    text.push_str("}\n");
+    text
+}
+
+fn long_weight(digits: usize) -> String {
+    format!(
+        "grammar harbour\nstart Call\nCall {{\n  0.{} \"ahoy\"\n  \"hail\"\n}}\n",
+        "3".repeat(digits)
+    )
+}
+
+fn bench_exact(c: &mut Criterion) {
+    let mut group = c.benchmark_group("exact");
+    group.sample_size(10);
+    group.measurement_time(Duration::from_secs(5));
+    let reciprocals = prime_reciprocals(3_000);
+    group.bench_function("prime_reciprocals_3000", |b| {
+        b.iter(|| analyze_text(black_box(&reciprocals)))
+    });
+    let weight = long_weight(200_000);
+    group.bench_function("weight_200000_digits", |b| {
+        b.iter(|| analyze_text(black_box(&weight)))
+    });
+    group.finish();
+}
+
+criterion_group!(benches, bench_exact);
+criterion_main!(benches);
