@@ -38,6 +38,7 @@ pub fn check(
         grammar,
         suggester: None,
         out,
+        broken: Vec::new(),
     };
     for (index, file) in syntax.iter().enumerate() {
         let id = FileId(index as u32);
@@ -45,6 +46,14 @@ pub fn check(
             break;
         }
         let text = sources.get(id).text.as_str();
+        // A string the parser already reported (a bad escape, say) or had to
+        // repair gets no second finding: one mistake, one error.
+        checker.broken = file
+            .errors
+            .iter()
+            .map(|e| e.span)
+            .chain(file.damaged.iter().map(|d| d.span))
+            .collect();
         for decl in &file.decls {
             let Decl::Test(test) = decl else {
                 continue;
@@ -76,6 +85,8 @@ struct Checker<'a, 'o> {
     /// Over the grammar's words, built only when a word is unknown.
     suggester: Option<Suggester<'a>>,
     out: &'o mut Vec<Diagnostic>,
+    /// Spans of the current file the parser reported or repaired.
+    broken: Vec<Span>,
 }
 
 impl<'a> Checker<'a, '_> {
@@ -93,6 +104,10 @@ impl<'a> Checker<'a, '_> {
     }
 
     fn string(&mut self, file: FileId, text: &str, s: &Str, place: Place) {
+        let overlaps = |b: &Span| b.start < s.span.end && s.span.start < b.end;
+        if self.broken.iter().any(overlaps) {
+            return;
+        }
         let token = s.span.text(text);
         for (word, span) in located_words(token, s.span.start as usize) {
             if self.grammar.term(&word).is_none() {
