@@ -103,6 +103,12 @@
 
 ;;; 3. eglot and flymake
 
+(defun trellis-test--before-p (a b)
+  "Whether the (line . severity) A sorts before B: by line, then severity."
+  (or (< (car a) (car b))
+      (and (= (car a) (car b))
+           (string< (symbol-name (cdr a)) (symbol-name (cdr b))))))
+
 (defun trellis-test--cli-findings (file)
   "The (line . severity) of each finding `trellis check' reports in FILE."
   (with-temp-buffer
@@ -115,7 +121,7 @@
                      collect (cons (alist-get 'line d)
                                    (pcase (alist-get 'severity d)
                                      ("error" :error) ("warning" :warning) (_ :note))))
-            (lambda (a b) (< (car a) (car b)))))))
+            #'trellis-test--before-p))))
 
 (defun trellis-test--flymake-findings ()
   "The (line . type) of each diagnostic flymake shows in this buffer."
@@ -126,7 +132,7 @@
                           ((or :warning 'eglot-warning) :warning)
                           (_ :note))))
                 (flymake-diagnostics))
-        (lambda (a b) (< (car a) (car b)))))
+        #'trellis-test--before-p))
 
 (let* ((dir (make-temp-file "trellis-emacs" t))
        (broken (expand-file-name "broken.trellis" dir))
@@ -168,10 +174,15 @@
                                   (memq (flymake-diagnostic-type syntax) '(:error eglot-error))
                                   (string-match-p "character `=`" (flymake-diagnostic-text syntax)))
                              (and syntax (flymake-diagnostic-text syntax))))
-      (when (eglot-current-server)
-        (condition-case err
-            (eglot-shutdown (eglot-current-server))
-          (error (message "note  eglot-shutdown: %S" err))))))
+      ;; eglot sends `shutdown' with `"params": null'; the server must
+      ;; accept it and end cleanly.
+      (let ((server (eglot-current-server)))
+        (trellis-test--check "eglot shuts the server down cleanly"
+                             (and server
+                                  (condition-case err
+                                      (progn (eglot-shutdown server) t)
+                                    (error (message "eglot-shutdown: %S" err) nil)))
+                             "eglot-shutdown signalled an error"))))
   (delete-directory dir t))
 
 (message "%d passed, %d failed" trellis-test--passed trellis-test--failed)
