@@ -26,13 +26,79 @@ pub struct LearnOptions {
     pub header: Vec<String>,
 }
 
+/// A fast hasher for the counts' keys (the multiply-and-rotate step of the
+/// Fx hash, common practice in compilers): ids, and the names interned
+/// once each. Not resistant to crafted collisions, which a local tool
+/// reading its user's own treebank need not be.
+#[derive(Default, Clone, Copy)]
+struct IdHasher(u64);
+
+impl std::hash::Hasher for IdHasher {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        let mut chunks = bytes.chunks_exact(8);
+        for chunk in &mut chunks {
+            let mut word = [0u8; 8];
+            word.copy_from_slice(chunk);
+            self.write_u64(u64::from_le_bytes(word));
+        }
+        for &b in chunks.remainder() {
+            self.write_u64(u64::from(b));
+        }
+    }
+    fn write_u32(&mut self, n: u32) {
+        self.write_u64(u64::from(n));
+    }
+    fn write_u64(&mut self, n: u64) {
+        self.0 = (self.0.rotate_left(5) ^ n).wrapping_mul(0x51_7c_c1_b7_27_22_0a_95);
+    }
+    fn write_usize(&mut self, n: usize) {
+        self.write_u64(n as u64);
+    }
+}
+
+type IdMap<K, V> = HashMap<K, V, std::hash::BuildHasherDefault<IdHasher>>;
+
 /// Rule counts over any number of trees, in memory proportional to the
-/// grammar (not to the trees).
+/// grammar (not to the trees). Symbols and words are interned: a rule is
+/// its left-hand side's id and its right-hand side's items, each a symbol
+/// id times two or a word id times two plus one.
 #[derive(Clone, Debug, Default)]
 pub struct Counts {
-    rules: HashMap<String, HashMap<Vec<Item>, u64>>,
-    roots: HashMap<String, u64>,
+    symbols: Interner,
+    words: Interner,
+    rules: IdMap<u32, IdMap<Box<[u32]>, u64>>,
+    roots: IdMap<u32, u64>,
     trees: u64,
+}
+
+/// Names to dense ids and back.
+#[derive(Clone, Debug, Default)]
+struct Interner {
+    ids: IdMap<String, u32>,
+    names: Vec<String>,
+}
+
+impl Interner {
+    fn id(&mut self, name: &str) -> u32 {
+        if let Some(&id) = self.ids.get(name) {
+            return id;
+        }
+        let id = self.names.len() as u32;
+        self.names.push(name.to_string());
+        self.ids.insert(name.to_string(), id);
+        id
+    }
+
+    fn get(&self, name: &str) -> Option<u32> {
+        self.ids.get(name).copied()
+    }
+
+    fn name(&self, id: u32) -> &str {
+        &self.names[id as usize]
+    }
 }
 
 /// The start symbol when trees have different root labels: a name with
@@ -51,51 +117,77 @@ impl Counts {
 
     /// How many distinct rules were seen.
     pub fn rule_count(&self) -> usize {
-        self.rules.values().map(HashMap::len).sum()
+        self.rules.values().map(|b| b.len()).sum()
     }
 
     /// Counts the rules of one tree whose labels are already trellis names
-    /// (a tree from [`crate::binarize`]).
+    /// (a tree from [`crate::binarize`]). Allocates only for rules and
+    /// names not seen before.
     pub fn add(&mut self, tree: &Tree) {
         self.trees += 1;
         if let Some(root) = tree.label() {
-            *self.roots.entry(root.to_string()).or_default() += 1;
+            let id = self.symbols.id(root);
+            *self.roots.entry(id).or_default() += 1;
         }
+        let mut rhs: Vec<u32> = Vec::with_capacity(4);
         let mut stack = vec![tree];
         while let Some(node) = stack.pop() {
             let Tree::Node { label, children } = node else {
                 continue;
             };
-            let rhs: Vec<Item> = children
-                .iter()
-                .map(|c| match c {
-                    Tree::Node { label, .. } => Item::Symbol(label.clone()),
-                    Tree::Leaf(word) => Item::Word(word.clone()),
-                })
-                .collect();
-            let block = match self.rules.get_mut(label.as_str()) {
-                Some(block) => block,
-                None => self.rules.entry(label.clone()).or_default(),
-            };
-            *block.entry(rhs).or_default() += 1;
+            rhs.clear();
+            for c in children {
+                rhs.push(match c {
+                    Tree::Node { label, .. } => self.symbols.id(label) * 2,
+                    Tree::Leaf(word) => self.words.id(word) * 2 + 1,
+                });
+            }
+            let lhs = self.symbols.id(label);
+            let block = self.rules.entry(lhs).or_default();
+            match block.get_mut(rhs.as_slice()) {
+                Some(n) => *n += 1,
+                None => {
+                    block.insert(rhs.as_slice().into(), 1);
+                }
+            }
             stack.extend(children.iter());
         }
     }
 
     /// The count of a rule (`lhs` and `rhs` as trellis names and words).
     pub fn count(&self, lhs: &str, rhs: &[Item]) -> u64 {
-        self.rules
-            .get(lhs)
-            .and_then(|b| b.get(rhs))
-            .copied()
+        let Some(lhs) = self.symbols.get(lhs) else {
+            return 0;
+        };
+        let key: Option<Vec<u32>> = rhs
+            .iter()
+            .map(|item| match item {
+                Item::Symbol(s) => self.symbols.get(s).map(|id| id * 2),
+                Item::Word(w) => self.words.get(w).map(|id| id * 2 + 1),
+            })
+            .collect();
+        key.and_then(|key| self.rules.get(&lhs)?.get(key.as_slice()).copied())
             .unwrap_or(0)
+    }
+
+    /// An item of an interned right-hand side.
+    fn item(&self, code: u32) -> Item {
+        if code.is_multiple_of(2) {
+            Item::Symbol(self.symbols.name(code / 2).to_string())
+        } else {
+            Item::Word(self.words.name(code / 2).to_string())
+        }
     }
 
     /// The start symbol: the one root label, or [`SHARED_ROOT`] over all.
     pub fn start(&self) -> Option<String> {
         match self.roots.len() {
             0 => None,
-            1 => self.roots.keys().next().cloned(),
+            1 => self
+                .roots
+                .keys()
+                .next()
+                .map(|&id| self.symbols.name(id).to_string()),
             _ => Some(SHARED_ROOT.to_string()),
         }
     }
@@ -127,8 +219,12 @@ impl Counts {
         };
         let _ = writeln!(out, "start {start}");
         if start == SHARED_ROOT {
-            let mut roots: Vec<(&String, &u64)> = self.roots.iter().collect();
-            roots.sort_by(|a, b| b.1.cmp(a.1).then(a.0.cmp(b.0)));
+            let mut roots: Vec<(&str, u64)> = self
+                .roots
+                .iter()
+                .map(|(&id, &n)| (self.symbols.name(id), n))
+                .collect();
+            roots.sort_by(|a, b| b.1.cmp(&a.1).then(a.0.cmp(b.0)));
             let _ = writeln!(
                 out,
                 "\n## Trees of every root label.\n{SHARED_ROOT} relative {{"
@@ -138,7 +234,11 @@ impl Counts {
             }
             out.push_str("}\n");
         }
-        let mut names: Vec<&String> = self.rules.keys().collect();
+        let mut names: Vec<(&str, u32)> = self
+            .rules
+            .keys()
+            .map(|&id| (self.symbols.name(id), id))
+            .collect();
         names.sort_by(|a, b| {
             let key = |n: &str| {
                 (
@@ -147,14 +247,16 @@ impl Counts {
                     n.split('+').next().unwrap_or(n).to_string(),
                 )
             };
-            key(a).cmp(&key(b)).then(a.cmp(b))
+            key(a.0).cmp(&key(b.0)).then(a.0.cmp(b.0))
         });
-        for name in names {
-            let block = &self.rules[name];
-            let mut rules: Vec<(&Vec<Item>, &u64)> = block.iter().collect();
-            rules.sort_by(|a, b| b.1.cmp(a.1).then(a.0.cmp(b.0)));
+        for (name, id) in names {
+            let mut rules: Vec<(Vec<Item>, u64)> = self.rules[&id]
+                .iter()
+                .map(|(rhs, &n)| (rhs.iter().map(|&code| self.item(code)).collect(), n))
+                .collect();
+            rules.sort_by(|a, b| b.1.cmp(&a.1).then(a.0.cmp(&b.0)));
             let _ = writeln!(out, "\n{name} relative {{");
-            for (rhs, n) in rules {
+            for (rhs, n) in &rules {
                 let _ = write!(out, "  {n}");
                 for item in rhs {
                     match item {
