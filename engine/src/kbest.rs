@@ -238,6 +238,8 @@ fn post_lists(
     }
 }
 
+/// The derivation of rank `rank` of `a` over `i..j`. Iterative: a
+/// derivation is as deep as the sentence is long.
 #[allow(clippy::too_many_arguments)]
 fn build(
     g: &CompiledGrammar,
@@ -249,45 +251,64 @@ fn build(
     a: u32,
     rank: usize,
 ) -> Option<Deriv> {
-    let idx = layout.cell(i, j) * layout.n_sym + a as usize;
-    match post[idx].get(rank)?.1 {
-        PostStep::Unary { rule, child_rank } => {
-            let child = g.unary[rule as usize].child;
-            Some(Deriv::Unary {
-                rule,
-                child: Box::new(build(
-                    g,
-                    layout,
-                    pre,
-                    post,
-                    i,
-                    j,
-                    child,
-                    child_rank as usize,
-                )?),
-            })
-        }
-        PostStep::Pre { rank } => match pre[idx].get(rank as usize)?.1 {
-            PreStep::Lex { entry } => Some(Deriv::Lex {
-                sym: a,
-                pos: i,
-                entry,
-            }),
-            PreStep::Bin {
-                rule,
-                split,
-                li,
-                ri,
-            } => {
-                let split = split as usize;
-                let left = g.bin_left[rule as usize];
-                let right = g.bin[rule as usize].right;
-                Some(Deriv::Bin {
-                    rule,
-                    left: Box::new(build(g, layout, pre, post, i, split, left, li as usize)?),
-                    right: Box::new(build(g, layout, pre, post, split, j, right, ri as usize)?),
-                })
-            }
-        },
+    enum Step {
+        Enter(usize, usize, u32, usize),
+        /// The child is built: wrap it in unary rule `rule`.
+        Unary(u32),
+        /// Both children are built: join them by binary rule `rule`.
+        Bin(u32),
     }
+    let mut built: Vec<Deriv> = Vec::new();
+    let mut steps = vec![Step::Enter(i, j, a, rank)];
+    while let Some(step) = steps.pop() {
+        match step {
+            Step::Enter(i, j, a, rank) => {
+                let idx = layout.cell(i, j) * layout.n_sym + a as usize;
+                match post[idx].get(rank)?.1 {
+                    PostStep::Unary { rule, child_rank } => {
+                        let child = g.unary[rule as usize].child;
+                        steps.push(Step::Unary(rule));
+                        steps.push(Step::Enter(i, j, child, child_rank as usize));
+                    }
+                    PostStep::Pre { rank } => match pre[idx].get(rank as usize)?.1 {
+                        PreStep::Lex { entry } => built.push(Deriv::Lex {
+                            sym: a,
+                            pos: i,
+                            entry,
+                        }),
+                        PreStep::Bin {
+                            rule,
+                            split,
+                            li,
+                            ri,
+                        } => {
+                            let split = split as usize;
+                            let left = g.bin_left[rule as usize];
+                            let right = g.bin[rule as usize].right;
+                            steps.push(Step::Bin(rule));
+                            steps.push(Step::Enter(split, j, right, ri as usize));
+                            steps.push(Step::Enter(i, split, left, li as usize));
+                        }
+                    },
+                }
+            }
+            Step::Unary(rule) => {
+                let child = built.pop()?;
+                built.push(Deriv::Unary {
+                    rule,
+                    child: Box::new(child),
+                });
+            }
+            Step::Bin(rule) => {
+                let right = built.pop()?;
+                let left = built.pop()?;
+                built.push(Deriv::Bin {
+                    rule,
+                    left: Box::new(left),
+                    right: Box::new(right),
+                });
+            }
+        }
+    }
+    built.pop()
 }

@@ -181,6 +181,9 @@ enum PreStep {
 }
 
 /// The best derivation of `sym` over `i..j` (after the unary closure).
+///
+/// Iterative, like every walk over a derivation here: a derivation is as
+/// deep as the sentence is long, and sentences may be thousands of words.
 pub(crate) fn best_derivation(
     g: &CompiledGrammar,
     chart: &ViterbiChart,
@@ -189,10 +192,78 @@ pub(crate) fn best_derivation(
     j: usize,
     sym: u32,
 ) -> Option<Deriv> {
+    enum Step {
+        /// Derive `sym` over `i..j`.
+        Enter(usize, usize, u32),
+        /// Both children of binary rule `rule` are built; wrap the node in
+        /// the unary chain (innermost rule last).
+        Close { rule: u32, chain: Vec<u32> },
+    }
+    let mut built: Vec<Deriv> = Vec::new();
+    let mut steps = vec![Step::Enter(i, j, sym)];
+    while let Some(step) = steps.pop() {
+        match step {
+            Step::Enter(i, j, sym) => {
+                let (target, chain, pre) = best_step(g, chart, words, i, j, sym)?;
+                match pre {
+                    PreStep::Lex(entry) => built.push(wrap(
+                        Deriv::Lex {
+                            sym: target,
+                            pos: i,
+                            entry,
+                        },
+                        &chain,
+                    )),
+                    PreStep::Bin { rule, split } => {
+                        let left = g.bin_left[rule as usize];
+                        let right = g.bin[rule as usize].right;
+                        steps.push(Step::Close { rule, chain });
+                        steps.push(Step::Enter(split, j, right));
+                        steps.push(Step::Enter(i, split, left));
+                    }
+                }
+            }
+            Step::Close { rule, chain } => {
+                let right = built.pop()?;
+                let left = built.pop()?;
+                let node = Deriv::Bin {
+                    rule,
+                    left: Box::new(left),
+                    right: Box::new(right),
+                };
+                built.push(wrap(node, &chain));
+            }
+        }
+    }
+    built.pop()
+}
+
+/// `node` under the unary rules of `chain` (outermost first).
+fn wrap(mut node: Deriv, chain: &[u32]) -> Deriv {
+    for &rule in chain.iter().rev() {
+        node = Deriv::Unary {
+            rule,
+            child: Box::new(node),
+        };
+    }
+    node
+}
+
+/// How the best derivation of `sym` over `i..j` starts: the symbol B its
+/// best unary chain `sym ⇒* B` ends in, that chain's rules (outermost
+/// first), and B's own best step. `None` when `sym` does not derive the
+/// span.
+fn best_step(
+    g: &CompiledGrammar,
+    chart: &ViterbiChart,
+    words: &[&str],
+    i: usize,
+    j: usize,
+    sym: u32,
+) -> Option<(u32, Vec<u32>, PreStep)> {
     if chart.get(i, j, sym) == f64::NEG_INFINITY {
         return None;
     }
-    // Which symbol B does the best chain sym ⇒* B end in?
     let mut target = sym;
     let mut target_score = if g.in_unary[sym as usize] {
         best_pre(g, chart, words, i, j, sym).map_or(f64::NEG_INFINITY, |(s, _)| s)
@@ -215,8 +286,7 @@ pub(crate) fn best_derivation(
             }
         }
     }
-    let mut node = pre_derivation(g, chart, words, i, j, target)?;
-    // Wrap the chain sym ⇒ … ⇒ target, innermost rule first.
+    let (_, pre) = best_pre(g, chart, words, i, j, target)?;
     let mut chain = Vec::new();
     let mut at = sym;
     while at != target {
@@ -224,91 +294,119 @@ pub(crate) fn best_derivation(
         chain.push(first);
         at = g.unary[first as usize].child;
     }
-    for &rule in chain.iter().rev() {
-        node = Deriv::Unary {
-            rule,
-            child: Box::new(node),
-        };
-    }
-    Some(node)
-}
-
-fn pre_derivation(
-    g: &CompiledGrammar,
-    chart: &ViterbiChart,
-    words: &[&str],
-    i: usize,
-    j: usize,
-    sym: u32,
-) -> Option<Deriv> {
-    match best_pre(g, chart, words, i, j, sym)?.1 {
-        PreStep::Lex(entry) => Some(Deriv::Lex { sym, pos: i, entry }),
-        PreStep::Bin { rule, split } => {
-            let left = g.bin_left[rule as usize];
-            let right = g.bin[rule as usize].right;
-            Some(Deriv::Bin {
-                rule,
-                left: Box::new(best_derivation(g, chart, words, i, split, left)?),
-                right: Box::new(best_derivation(g, chart, words, split, j, right)?),
-            })
-        }
-    }
+    Some((target, chain, pre))
 }
 
 /// The log-probability of a derivation: the sum of its rules' log-probabilities.
 pub(crate) fn derivation_logprob(g: &CompiledGrammar, words: &[&str], d: &Deriv) -> f64 {
+    let mut total = 0.0;
+    let mut stack = vec![d];
+    while let Some(d) = stack.pop() {
+        total += match d {
+            Deriv::Lex { pos, entry, .. } => g
+                .lexicon
+                .get(words[*pos])
+                .and_then(|es| es.get(*entry as usize))
+                .map_or(f64::NEG_INFINITY, |e| e.lp),
+            Deriv::Bin { rule, left, right } => {
+                stack.push(left);
+                stack.push(right);
+                g.bin[*rule as usize].lp
+            }
+            Deriv::Unary { rule, child } => {
+                stack.push(child);
+                g.unary[*rule as usize].lp
+            }
+        };
+    }
+    total
+}
+
+impl Drop for Deriv {
+    /// Takes deep derivations apart without recursing.
+    fn drop(&mut self) {
+        let mut stack = Vec::new();
+        detach_children(self, &mut stack);
+        while let Some(mut d) = stack.pop() {
+            detach_children(&mut d, &mut stack);
+        }
+    }
+}
+
+/// Moves `d`'s children onto `out`, leaving leaves in their place.
+fn detach_children(d: &mut Deriv, out: &mut Vec<Deriv>) {
+    const LEAF: Deriv = Deriv::Lex {
+        sym: 0,
+        pos: 0,
+        entry: 0,
+    };
     match d {
-        Deriv::Lex { pos, entry, .. } => g
-            .lexicon
-            .get(words[*pos])
-            .and_then(|es| es.get(*entry as usize))
-            .map_or(f64::NEG_INFINITY, |e| e.lp),
-        Deriv::Bin { rule, left, right } => {
-            g.bin[*rule as usize].lp
-                + derivation_logprob(g, words, left)
-                + derivation_logprob(g, words, right)
+        Deriv::Lex { .. } => {}
+        Deriv::Bin { left, right, .. } => {
+            out.push(std::mem::replace(&mut **left, LEAF));
+            out.push(std::mem::replace(&mut **right, LEAF));
         }
-        Deriv::Unary { rule, child } => {
-            g.unary[*rule as usize].lp + derivation_logprob(g, words, child)
-        }
+        Deriv::Unary { child, .. } => out.push(std::mem::replace(&mut **child, LEAF)),
     }
 }
 
 /// Converts a compiled derivation to the user's tree: intermediates are
 /// spliced out, pre-terminals become plain words, every unary rule of a
-/// chain shows as its own node.
+/// chain shows as its own node. Iterative.
 pub(crate) fn to_user_trees(
     g: &CompiledGrammar,
     words: &[&str],
     d: &Deriv,
 ) -> Vec<grammar_lang::tree::Tree> {
     use grammar_lang::tree::Tree;
-    match d {
-        Deriv::Lex { sym, pos, .. } => {
-            let leaf = Tree::leaf(words[*pos]);
-            if g.is_user(*sym) {
-                vec![Tree::node(g.names[*sym as usize].clone(), vec![leaf])]
-            } else {
-                vec![leaf]
+    enum Step<'a> {
+        Enter(&'a Deriv),
+        /// The child is built: put it under the unary rule's parent.
+        CloseUnary(u32),
+        /// Both children are built: join them, under the parent if it is
+        /// the user's.
+        CloseBin(u32),
+    }
+    // Each finished piece: the trees it contributes to its parent.
+    let mut built: Vec<Vec<Tree>> = Vec::new();
+    let mut steps = vec![Step::Enter(d)];
+    while let Some(step) = steps.pop() {
+        match step {
+            Step::Enter(Deriv::Lex { sym, pos, .. }) => {
+                let leaf = Tree::leaf(words[*pos]);
+                built.push(if g.is_user(*sym) {
+                    vec![Tree::node(g.names[*sym as usize].clone(), vec![leaf])]
+                } else {
+                    vec![leaf]
+                });
             }
-        }
-        Deriv::Unary { rule, child } => {
-            let parent = g.unary[*rule as usize].parent;
-            vec![Tree::node(
-                g.names[parent as usize].clone(),
-                to_user_trees(g, words, child),
-            )]
-        }
-        Deriv::Bin { rule, left, right } => {
-            let mut kids = to_user_trees(g, words, left);
-            kids.extend(to_user_trees(g, words, right));
-            let parent = g.bin[*rule as usize].parent;
-            if g.is_user(parent) {
-                debug_assert!(matches!(g.bin_origin[*rule as usize], Origin::User(_)));
-                vec![Tree::node(g.names[parent as usize].clone(), kids)]
-            } else {
-                kids
+            Step::Enter(Deriv::Unary { rule, child }) => {
+                steps.push(Step::CloseUnary(*rule));
+                steps.push(Step::Enter(child));
+            }
+            Step::Enter(Deriv::Bin { rule, left, right }) => {
+                steps.push(Step::CloseBin(*rule));
+                steps.push(Step::Enter(right));
+                steps.push(Step::Enter(left));
+            }
+            Step::CloseUnary(rule) => {
+                let kids = built.pop().unwrap_or_default();
+                let parent = g.unary[rule as usize].parent;
+                built.push(vec![Tree::node(g.names[parent as usize].clone(), kids)]);
+            }
+            Step::CloseBin(rule) => {
+                let right = built.pop().unwrap_or_default();
+                let mut kids = built.pop().unwrap_or_default();
+                kids.extend(right);
+                let parent = g.bin[rule as usize].parent;
+                if g.is_user(parent) {
+                    debug_assert!(matches!(g.bin_origin[rule as usize], Origin::User(_)));
+                    built.push(vec![Tree::node(g.names[parent as usize].clone(), kids)]);
+                } else {
+                    built.push(kids);
+                }
             }
         }
     }
+    built.pop().unwrap_or_default()
 }
