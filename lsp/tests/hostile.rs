@@ -6,6 +6,10 @@
 //! ends the way the LSP specification says (3.17, "exit Notification"):
 //! status 0 after `shutdown`, 1 without.
 
+#[path = "common/binary.rs"]
+mod binary;
+
+use binary::trellis_binary;
 use serde::Deserialize;
 use serde_json::value::RawValue;
 use serde_json::{json, Value};
@@ -25,41 +29,8 @@ const GRAMMAR: &str =
 /// against hanging, not a measurement).
 const PATIENCE: Duration = Duration::from_secs(60);
 
-fn repo() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .parent()
-        .expect("the lsp crate is in the workspace")
-        .to_path_buf()
-}
-
 fn corpus() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/hostile")
-}
-
-/// Builds the `trellis` binary (a no-op when it is up to date) and returns
-/// its path, as cargo reports it.
-fn trellis_binary() -> PathBuf {
-    let out = Command::new(env!("CARGO"))
-        .args([
-            "build",
-            "--quiet",
-            "-p",
-            "trellis-cli",
-            "--bin",
-            "trellis",
-            "--message-format=json",
-        ])
-        .current_dir(repo())
-        .stderr(Stdio::inherit())
-        .output()
-        .expect("cargo runs");
-    assert!(out.status.success(), "building trellis failed");
-    String::from_utf8_lossy(&out.stdout)
-        .lines()
-        .filter_map(|line| serde_json::from_str::<Value>(line).ok())
-        .filter(|m| m["reason"] == "compiler-artifact" && m["target"]["name"] == "trellis")
-        .find_map(|m| m["executable"].as_str().map(PathBuf::from))
-        .expect("cargo names the trellis executable")
 }
 
 fn frame(body: &[u8]) -> Vec<u8> {

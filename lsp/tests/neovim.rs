@@ -6,23 +6,20 @@
 //! test is skipped with a message — except under CI (env `CI` set), where it
 //! fails.
 
+#[path = "common/binary.rs"]
+mod binary;
+
+use binary::{repo, trellis_binary};
 use serde_json::Value;
 use std::collections::BTreeSet;
 use std::fs;
-use std::path::{Path, PathBuf};
+use std::path::Path;
 use std::process::{Command, Stdio};
 use std::time::{Duration, Instant};
 
 /// Generous bound on the whole editor session, so a hung editor fails the
 /// test instead of hanging it (not a measurement).
 const SESSION_LIMIT: Duration = Duration::from_secs(240);
-
-fn repo() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR"))
-        .parent()
-        .expect("lsp/ has a parent")
-        .to_path_buf()
-}
 
 fn nvim_available() -> bool {
     Command::new("nvim")
@@ -31,32 +28,6 @@ fn nvim_available() -> bool {
         .stderr(Stdio::null())
         .status()
         .is_ok_and(|s| s.success())
-}
-
-/// Builds the `trellis` binary (a no-op when it is up to date) and returns
-/// its path, as cargo reports it.
-fn trellis_binary() -> PathBuf {
-    let out = Command::new(env!("CARGO"))
-        .args([
-            "build",
-            "--quiet",
-            "-p",
-            "trellis-cli",
-            "--bin",
-            "trellis",
-            "--message-format=json",
-        ])
-        .current_dir(repo())
-        .stderr(Stdio::inherit())
-        .output()
-        .expect("cargo runs");
-    assert!(out.status.success(), "building trellis failed");
-    String::from_utf8_lossy(&out.stdout)
-        .lines()
-        .filter_map(|line| serde_json::from_str::<Value>(line).ok())
-        .filter(|m| m["reason"] == "compiler-artifact" && m["target"]["name"] == "trellis")
-        .find_map(|m| m["executable"].as_str().map(PathBuf::from))
-        .expect("cargo names the trellis executable")
 }
 
 /// The (code, 0-based line) of each diagnostic `trellis check --format json`
