@@ -24,6 +24,10 @@ pub enum Item {
 pub struct LearnOptions {
     /// Lines of the header comment (inputs, options, tree count), without `#`.
     pub header: Vec<String>,
+    /// Words seen at most this many times in all (0: none) also count, at
+    /// every use, for the unseen-word terminal of their shape class
+    /// ([`grammar_lang::unseen`]), so the grammar reads words it never saw.
+    pub rare: u64,
 }
 
 /// A fast hasher for the counts' keys (the multiply-and-rotate step of the
@@ -249,11 +253,9 @@ impl Counts {
             };
             key(a.0).cmp(&key(b.0)).then(a.0.cmp(b.0))
         });
+        let rare = self.rare_words(options.rare);
         for (name, id) in names {
-            let mut rules: Vec<(Vec<Item>, u64)> = self.rules[&id]
-                .iter()
-                .map(|(rhs, &n)| (rhs.iter().map(|&code| self.item(code)).collect(), n))
-                .collect();
+            let mut rules = self.block(id, &rare);
             rules.sort_by(|a, b| b.1.cmp(&a.1).then(a.0.cmp(&b.0)));
             let _ = writeln!(out, "\n{name} relative {{");
             for (rhs, n) in &rules {
@@ -275,6 +277,66 @@ impl Counts {
             out.push_str("}\n");
         }
         out
+    }
+}
+
+impl Counts {
+    /// Which words (by id) are seen at most `rare` times in all, each with
+    /// the unseen-word terminal of its shape class; empty when `rare` is 0.
+    fn rare_words(&self, rare: u64) -> IdMap<u32, &'static str> {
+        let mut out = IdMap::default();
+        if rare == 0 {
+            return out;
+        }
+        let mut seen = vec![0u64; self.words.names.len()];
+        for block in self.rules.values() {
+            for (rhs, &n) in block {
+                for &code in rhs.iter() {
+                    if code % 2 == 1 {
+                        seen[(code / 2) as usize] += n;
+                    }
+                }
+            }
+        }
+        for (id, &n) in seen.iter().enumerate() {
+            if n <= rare {
+                let class = grammar_lang::unseen::class_of(self.words.name(id as u32));
+                out.insert(id as u32, class);
+            }
+        }
+        out
+    }
+
+    /// The alternatives of `lhs`'s block with their counts: each counted
+    /// rule, and for each rule with a rare word the same rule with every
+    /// rare word replaced by its class terminal, counted as often (rules
+    /// that come out the same are summed).
+    fn block(&self, lhs: u32, rare: &IdMap<u32, &'static str>) -> Vec<(Vec<Item>, u64)> {
+        let mut rules: Vec<(Vec<Item>, u64)> = Vec::new();
+        let mut classes: std::collections::BTreeMap<Vec<Item>, u64> = Default::default();
+        for (rhs, &n) in &self.rules[&lhs] {
+            rules.push((rhs.iter().map(|&code| self.item(code)).collect(), n));
+            let has_rare = rhs
+                .iter()
+                .any(|&code| code % 2 == 1 && rare.contains_key(&(code / 2)));
+            if has_rare {
+                let class_rhs = rhs
+                    .iter()
+                    .map(|&code| match rare.get(&(code / 2)) {
+                        Some(class) if code % 2 == 1 => Item::Word((*class).to_string()),
+                        _ => self.item(code),
+                    })
+                    .collect();
+                *classes.entry(class_rhs).or_default() += n;
+            }
+        }
+        for (rhs, n) in classes {
+            match rules.iter_mut().find(|(r, _)| *r == rhs) {
+                Some((_, m)) => *m += n,
+                None => rules.push((rhs, n)),
+            }
+        }
+        rules
     }
 }
 
@@ -304,6 +366,7 @@ mod tests {
         assert_eq!(counts.trees(), 4);
         let text = counts.to_source(&LearnOptions {
             header: vec!["learned from 4 trees".into()],
+            rare: 0,
         });
         assert_eq!(
             text,
