@@ -156,12 +156,16 @@ pub fn chain(word: &str) -> Vec<&'static str> {
 fn suffix_class(word: &str) -> Option<&'static str> {
     let len = word.chars().count();
     SUFFIXES.iter().find_map(|&(suffix, class)| {
-        let fits = word.ends_with(suffix) && len >= suffix.chars().count() + 2;
-        let plural_s = suffix != "s" || {
-            let before = word[..word.len() - 1].chars().next_back();
-            before.is_some_and(|c| c.is_alphabetic() && c != 's')
-        };
-        (fits && plural_s).then_some(class)
+        let stem = word.strip_suffix(suffix)?;
+        if len < suffix.chars().count() + 2 {
+            return None;
+        }
+        let plural_s = suffix != "s"
+            || stem
+                .chars()
+                .next_back()
+                .is_some_and(|c| c.is_alphabetic() && c != 's');
+        plural_s.then_some(class)
     })
 }
 

@@ -6,7 +6,7 @@ use crate::files::{io_reason, open_regular};
 use std::io::{BufRead, BufReader};
 use std::path::{Path, PathBuf};
 use trellis_treebank::learn::{Counts, LearnOptions};
-use trellis_treebank::{binarize, clean, Cleaning, Markov, TreeReader};
+use trellis_treebank::{clean, Cleaning, Markov, TreeReader};
 
 /// A treebank file for reading: gzip-compressed files (by their magic
 /// bytes, whatever their name) are decompressed as they are read.
@@ -114,7 +114,7 @@ pub fn learn_from_files(
                 }
             };
             match clean(tree, &how.cleaning) {
-                Some(tree) => counts.add(&binarize(&tree, how.markov)),
+                Some(tree) => counts.add_binarized(&tree, how.markov),
                 None => emptied += 1,
             }
         }

@@ -6,7 +6,8 @@
 //! a multinomial; common practice). The grammar is written with the counts
 //! themselves as `relative` weights, so it states exactly what was seen.
 
-use crate::names::{escape, is_intermediate};
+use crate::binarize::Markov;
+use crate::names::{annotated, escape, is_intermediate};
 use grammar_lang::syntax::lexer::quote;
 use grammar_lang::tree::Tree;
 use std::collections::HashMap;
@@ -39,7 +40,10 @@ struct IdHasher(u64);
 
 impl std::hash::Hasher for IdHasher {
     fn finish(&self) -> u64 {
-        self.0
+        // The multiply leaves its best-mixed bits at the top; the table
+        // indexes buckets by the low bits (rotating them down is what
+        // rustc-hash 2 does; common practice).
+        self.0.rotate_left(26)
     }
     fn write(&mut self, bytes: &[u8]) {
         let mut chunks = bytes.chunks_exact(8);
@@ -76,7 +80,28 @@ pub struct Counts {
     rules: IdMap<u32, IdMap<Box<[u32]>, u64>>,
     roots: IdMap<u32, u64>,
     trees: u64,
+    /// For [`Counts::add_binarized`]: names built once each.
+    names: Names,
 }
+
+/// The derived names [`Counts::add_binarized`] has built, by what they
+/// are made of, so each is built (and escaped) once.
+#[derive(Clone, Debug, Default)]
+struct Names {
+    /// Raw treebank labels to dense label ids.
+    labels: IdMap<String, u32>,
+    /// The escaped name of each label id.
+    escaped: Vec<String>,
+    /// (label, ancestors' labels up to the vertical order, `u32::MAX`
+    /// after) to the node's symbol id.
+    nodes: IdMap<[u32; MAX_KEPT + 1], u32>,
+    /// (kind, parent symbol, sibling codes) to an intermediate's symbol id.
+    intermediates: IdMap<Box<[u32]>, u32>,
+}
+
+/// The most ancestors [`Counts::add_binarized`] remembers itself (vertical
+/// order 8, the command line's limit); beyond, it binarizes first.
+const MAX_KEPT: usize = 7;
 
 /// Names to dense ids and back.
 #[derive(Clone, Debug, Default)]
@@ -156,6 +181,172 @@ impl Counts {
             }
             stack.extend(children.iter());
         }
+    }
+
+    /// Counts the rules of `tree` (labels as in the treebank) binarized
+    /// as `how` says: the same counts as `self.add(&binarize(tree, how))`,
+    /// without building the binarized tree or any name more than once.
+    pub fn add_binarized(&mut self, tree: &Tree, how: Markov) {
+        let keep = how.vertical.saturating_sub(1);
+        if keep > MAX_KEPT {
+            self.add(&crate::binarize(tree, how));
+            return;
+        }
+        let Tree::Node { label, children } = tree else {
+            self.trees += 1;
+            return;
+        };
+        self.trees += 1;
+        let root = self.node_symbol(label, is_phrasal(children), &[]);
+        *self.roots.entry(root).or_default() += 1;
+        // (node, its symbol, its own and its ancestors' label ids, nearest
+        // first, as many as its children keep).
+        let mut stack: Vec<(&Tree, u32, [u32; MAX_KEPT])> =
+            vec![(tree, root, [u32::MAX; MAX_KEPT])];
+        let mut rhs: Vec<u32> = Vec::with_capacity(8);
+        let mut siblings: Vec<u32> = Vec::with_capacity(8);
+        let mut key: Vec<u32> = Vec::with_capacity(8);
+        while let Some((node, symbol, above)) = stack.pop() {
+            let Tree::Node { label, children } = node else {
+                continue;
+            };
+            // What this node's children remember: its label, then its own
+            // nearest ancestors.
+            let mut below = [u32::MAX; MAX_KEPT];
+            if keep > 0 {
+                below[0] = self.label_id(label);
+                below[1..keep].copy_from_slice(&above[..keep - 1]);
+            }
+            rhs.clear();
+            siblings.clear();
+            for child in children {
+                match child {
+                    Tree::Node {
+                        label: child_label,
+                        children: grandchildren,
+                    } => {
+                        let s = self.node_symbol(
+                            child_label,
+                            is_phrasal(grandchildren),
+                            &below[..keep],
+                        );
+                        rhs.push(s * 2);
+                        siblings.push(self.label_id(child_label) * 2);
+                        stack.push((child, s, below));
+                    }
+                    Tree::Leaf(word) => {
+                        let w = self.words.id(word);
+                        rhs.push(w * 2 + 1);
+                        siblings.push(w * 2 + 1);
+                    }
+                }
+            }
+            let n = rhs.len();
+            if n <= 2 {
+                self.count_rule(symbol, &rhs);
+                continue;
+            }
+            // Factored to the right: symbol → c0 I1, I(k) → ck I(k+1), …,
+            // I(n−2) → c(n−2) c(n−1).
+            let mut lhs = symbol;
+            for k in 1..n - 1 {
+                let mid = self.intermediate(symbol, &siblings, k, how, &mut key);
+                self.count_rule(lhs, &[rhs[k - 1], mid * 2]);
+                lhs = mid;
+            }
+            self.count_rule(lhs, &rhs[n - 2..]);
+        }
+    }
+
+    fn count_rule(&mut self, lhs: u32, rhs: &[u32]) {
+        let block = self.rules.entry(lhs).or_default();
+        match block.get_mut(rhs) {
+            Some(n) => *n += 1,
+            None => {
+                block.insert(rhs.into(), 1);
+            }
+        }
+    }
+
+    /// The dense id of a raw treebank label (its escaped name kept).
+    fn label_id(&mut self, label: &str) -> u32 {
+        if let Some(&id) = self.names.labels.get(label) {
+            return id;
+        }
+        let id = self.names.escaped.len() as u32;
+        self.names.escaped.push(escape(label));
+        self.names.labels.insert(label.to_string(), id);
+        id
+    }
+
+    /// The symbol of a node labelled `label` under ancestors `above`
+    /// (label ids, nearest first, as many as the vertical order keeps):
+    /// annotated when it is phrasal, as `binarize` names it.
+    fn node_symbol(&mut self, label: &str, phrasal: bool, above: &[u32]) -> u32 {
+        let l = self.label_id(label);
+        let mut key = [u32::MAX; MAX_KEPT + 1];
+        key[0] = l;
+        if phrasal {
+            for (slot, &a) in key[1..].iter_mut().zip(above) {
+                *slot = a;
+            }
+        }
+        if let Some(&id) = self.names.nodes.get(&key) {
+            return id;
+        }
+        let escaped = &self.names.escaped;
+        let ancestors: Vec<&str> = key[1..]
+            .iter()
+            .take_while(|&&a| a != u32::MAX)
+            .map(|&a| escaped[a as usize].as_str())
+            .collect();
+        let name = annotated(&escaped[l as usize], &ancestors);
+        let id = self.symbols.id(&name);
+        self.names.nodes.insert(key, id);
+        id
+    }
+
+    /// The intermediate symbol covering children `k..` of a node named by
+    /// symbol `parent` whose children are `siblings` (label id × 2, or
+    /// word id × 2 + 1), as `binarize` names it.
+    fn intermediate(
+        &mut self,
+        parent: u32,
+        siblings: &[u32],
+        k: usize,
+        how: Markov,
+        key: &mut Vec<u32>,
+    ) -> u32 {
+        let window = match how.horizontal {
+            None => &siblings[k..],
+            Some(h) => &siblings[k.saturating_sub(h)..k],
+        };
+        key.clear();
+        key.push(u32::from(how.horizontal.is_some()));
+        key.push(parent);
+        key.extend_from_slice(window);
+        if let Some(&id) = self.names.intermediates.get(key.as_slice()) {
+            return id;
+        }
+        let mut name = self.symbols.name(parent).to_string();
+        if how.horizontal.is_some() {
+            name.push('\'');
+            if window.is_empty() {
+                name.push('+');
+            }
+        }
+        for &code in window {
+            name.push('+');
+            if code % 2 == 0 {
+                name.push_str(&self.names.escaped[(code / 2) as usize]);
+            } else {
+                name.push_str("_word_");
+                name.push_str(&escape(self.words.name(code / 2)));
+            }
+        }
+        let id = self.symbols.id(&name);
+        self.names.intermediates.insert(key.as_slice().into(), id);
+        id
     }
 
     /// The count of a rule (`lhs` and `rhs` as trellis names and words).
@@ -338,6 +529,11 @@ impl Counts {
         }
         rules
     }
+}
+
+/// Whether a node with these children is phrasal (has a node among them).
+fn is_phrasal(children: &[Tree]) -> bool {
+    children.iter().any(|c| matches!(c, Tree::Node { .. }))
 }
 
 /// A plain treebank label as a trellis name (for callers that count trees

@@ -229,6 +229,24 @@ proptest! {
         }
         prop_assert_eq!(debinarize(&binary), tree);
     }
+
+    #[test]
+    fn counting_while_binarizing_counts_what_binarizing_first_counts(
+        trees in prop::collection::vec(arb_tree(), 1..6),
+        h in prop::option::of(0usize..4),
+        v in 1usize..5,
+    ) {
+        let how = Markov { horizontal: h, vertical: v };
+        let (mut fused, mut apart) = (Counts::new(), Counts::new());
+        for t in &trees {
+            fused.add_binarized(t, how);
+            apart.add(&binarize(t, how));
+        }
+        prop_assert_eq!(fused.trees(), apart.trees());
+        prop_assert_eq!(fused.rule_count(), apart.rule_count());
+        let options = LearnOptions { header: Vec::new(), rare: 1 };
+        prop_assert_eq!(fused.to_source(&options), apart.to_source(&options));
+    }
 }
 
 /// Learns with rare words (seen at most `rare` times) feeding the
