@@ -77,7 +77,12 @@ type IdMap<K, V> = HashMap<K, V, std::hash::BuildHasherDefault<IdHasher>>;
 pub struct Counts {
     symbols: Interner,
     words: Interner,
+    /// Rules of more than two items, by left-hand side.
     rules: IdMap<u32, IdMap<Box<[u32]>, u64>>,
+    /// Rules of at most two items (every rule of a binarized tree), by
+    /// left-hand side and the items packed into one number ([`pack`]): one
+    /// flat table of fixed-size keys, the hot path of learning.
+    short: IdMap<(u32, u64), u64>,
     roots: IdMap<u32, u64>,
     trees: u64,
     /// For [`Counts::add_binarized`]: names built once each.
@@ -146,7 +151,7 @@ impl Counts {
 
     /// How many distinct rules were seen.
     pub fn rule_count(&self) -> usize {
-        self.rules.values().map(|b| b.len()).sum()
+        self.rules.values().map(|b| b.len()).sum::<usize>() + self.short.len()
     }
 
     /// Counts the rules of one tree whose labels are already trellis names
@@ -172,13 +177,7 @@ impl Counts {
                 });
             }
             let lhs = self.symbols.id(label);
-            let block = self.rules.entry(lhs).or_default();
-            match block.get_mut(rhs.as_slice()) {
-                Some(n) => *n += 1,
-                None => {
-                    block.insert(rhs.as_slice().into(), 1);
-                }
-            }
+            self.count_rule(lhs, &rhs);
             stack.extend(children.iter());
         }
     }
@@ -259,6 +258,10 @@ impl Counts {
     }
 
     fn count_rule(&mut self, lhs: u32, rhs: &[u32]) {
+        if rhs.len() <= 2 {
+            *self.short.entry((lhs, pack(rhs))).or_default() += 1;
+            return;
+        }
         let block = self.rules.entry(lhs).or_default();
         match block.get_mut(rhs) {
             Some(n) => *n += 1,
@@ -361,8 +364,14 @@ impl Counts {
                 Item::Word(w) => self.words.get(w).map(|id| id * 2 + 1),
             })
             .collect();
-        key.and_then(|key| self.rules.get(&lhs)?.get(key.as_slice()).copied())
-            .unwrap_or(0)
+        key.and_then(|key| {
+            if key.len() <= 2 {
+                self.short.get(&(lhs, pack(&key))).copied()
+            } else {
+                self.rules.get(&lhs)?.get(key.as_slice()).copied()
+            }
+        })
+        .unwrap_or(0)
     }
 
     /// An item of an interned right-hand side.
@@ -429,8 +438,8 @@ impl Counts {
             }
             out.push_str("}\n");
         }
-        let mut names: Vec<(&str, u32)> = self
-            .rules
+        let grouped = self.grouped();
+        let mut names: Vec<(&str, u32)> = grouped
             .keys()
             .map(|&id| (self.symbols.name(id), id))
             .collect();
@@ -446,7 +455,7 @@ impl Counts {
         });
         let rare = self.rare_words(options.rare);
         for (name, id) in names {
-            let mut rules = self.block(id, &rare);
+            let mut rules = self.block(&grouped[&id], &rare);
             rules.sort_by(|a, b| b.1.cmp(&a.1).then(a.0.cmp(&b.0)));
             let _ = writeln!(out, "\n{name} relative {{");
             for (rhs, n) in &rules {
@@ -480,12 +489,10 @@ impl Counts {
             return out;
         }
         let mut seen = vec![0u64; self.words.names.len()];
-        for block in self.rules.values() {
-            for (rhs, &n) in block {
-                for &code in rhs.iter() {
-                    if code % 2 == 1 {
-                        seen[(code / 2) as usize] += n;
-                    }
+        for (_, rhs, n) in self.all_rules() {
+            for &code in rhs.iter() {
+                if code % 2 == 1 {
+                    seen[(code / 2) as usize] += n;
                 }
             }
         }
@@ -498,14 +505,40 @@ impl Counts {
         out
     }
 
-    /// The alternatives of `lhs`'s block with their counts: each counted
+    /// Every counted rule as (left-hand side, items, count).
+    fn all_rules(&self) -> impl Iterator<Item = (u32, Vec<u32>, u64)> + '_ {
+        let short = self
+            .short
+            .iter()
+            .map(|(&(lhs, packed), &n)| (lhs, unpack(packed), n));
+        let long = self
+            .rules
+            .iter()
+            .flat_map(|(&lhs, block)| block.iter().map(move |(rhs, &n)| (lhs, rhs.to_vec(), n)));
+        short.chain(long)
+    }
+
+    /// The counted rules grouped by left-hand side.
+    fn grouped(&self) -> IdMap<u32, Vec<(Vec<u32>, u64)>> {
+        let mut out: IdMap<u32, Vec<(Vec<u32>, u64)>> = IdMap::default();
+        for (lhs, rhs, n) in self.all_rules() {
+            out.entry(lhs).or_default().push((rhs, n));
+        }
+        out
+    }
+
+    /// The alternatives of a block (its counted rules given) with their counts: each counted
     /// rule, and for each rule with a rare word the same rule with every
     /// rare word replaced by its class terminal, counted as often (rules
     /// that come out the same are summed).
-    fn block(&self, lhs: u32, rare: &IdMap<u32, &'static str>) -> Vec<(Vec<Item>, u64)> {
+    fn block(
+        &self,
+        counted: &[(Vec<u32>, u64)],
+        rare: &IdMap<u32, &'static str>,
+    ) -> Vec<(Vec<Item>, u64)> {
         let mut rules: Vec<(Vec<Item>, u64)> = Vec::new();
         let mut classes: std::collections::BTreeMap<Vec<Item>, u64> = Default::default();
-        for (rhs, &n) in &self.rules[&lhs] {
+        for &(ref rhs, n) in counted {
             rules.push((rhs.iter().map(|&code| self.item(code)).collect(), n));
             let has_rare = rhs
                 .iter()
@@ -528,6 +561,28 @@ impl Counts {
             }
         }
         rules
+    }
+}
+
+/// At most two item codes packed into one number: 0 for none, the first
+/// plus one in the high half (0 when there is one item), the last plus one
+/// in the low half.
+fn pack(rhs: &[u32]) -> u64 {
+    match *rhs {
+        [] => 0,
+        [a] => u64::from(a) + 1,
+        [a, b] => ((u64::from(a) + 1) << 32) | (u64::from(b) + 1),
+        _ => unreachable!("only rules of at most two items are packed"),
+    }
+}
+
+/// The item codes of a [`pack`]ed number.
+fn unpack(packed: u64) -> Vec<u32> {
+    let (high, low) = ((packed >> 32) as u32, packed as u32);
+    match (high, low) {
+        (_, 0) => Vec::new(),
+        (0, b) => vec![b - 1],
+        (a, b) => vec![a - 1, b - 1],
     }
 }
 
