@@ -102,8 +102,9 @@ pub struct Mismatch {
     pub node: usize,
     pub message: String,
     pub help: String,
-    /// The block the needed rule would go in, when the label names one.
-    pub block: Option<NtId>,
+    /// The block the needed rule would go in, when the label names one,
+    /// and the alternative it would need there, in the grammar's syntax.
+    pub block: Option<(NtId, String)>,
 }
 
 /// One right-hand-side item of a tree node, before it is matched.
@@ -289,7 +290,7 @@ impl<'g> Fit<'g> {
             help: format!(
                 "add the alternative `{alternative}` to the block `{name}`, or correct the tree"
             ),
-            block: Some(lhs),
+            block: Some((lhs, alternative)),
         }
     }
 
