@@ -85,24 +85,11 @@ pub struct Fitted {
     /// Blocks that could not keep their notation, by name, with why.
     pub fallbacks: Vec<(String, NotExact)>,
     /// Findings of the fitted grammar that the original did not have (a
-    /// rule of weight 0, a leak, a symbol left unproductive, …), placed in
-    /// the new text.
+    /// rule of weight 0, a leak, …), placed in the new text.
     pub new_findings: Vec<PlacedError>,
     /// Test cases that held with the old weights and fail with the new:
     /// the test's name and the case as written.
     pub broken_cases: Vec<(String, String)>,
-}
-
-impl Fitted {
-    /// The names of the symbols the new weights leave without a way to
-    /// words (see [`Estimate::unproductive`]).
-    pub fn unproductive<'a>(&self, analysis: &'a Analysis) -> Vec<&'a str> {
-        self.estimate
-            .unproductive
-            .iter()
-            .map(|&nt| analysis.grammar.nt_name(nt))
-            .collect()
-    }
 }
 
 /// A rule as its block writes it: `Kind → "fresh water"` (the model

@@ -364,27 +364,10 @@ impl<'g> Fit<'g> {
                 rules,
             });
         }
-        let before: Vec<bool> = grammar_lang::check::graph::productive_with(grammar, |r| {
-            grammar.rule(r).probability != zero
-        });
-        let mut new_zero = vec![false; grammar.rules.len()];
-        for block in &blocks {
-            for rule in &block.rules {
-                new_zero[rule.rule.index()] = rule.new == zero;
-            }
-        }
-        let after = grammar_lang::check::graph::productive_with(grammar, |r| {
-            grammar.rule(r).probability != zero && !new_zero[r.index()]
-        });
-        let unproductive = grammar
-            .nt_ids()
-            .filter(|nt| before[nt.index()] && !after[nt.index()])
-            .collect();
         Estimate {
             smoothing: smoothing.clone(),
             trees: self.trees,
             blocks,
-            unproductive,
         }
     }
 }
@@ -467,11 +450,14 @@ pub struct Estimate {
     /// How many trees were counted.
     pub trees: u64,
     /// Every block of the grammar that lowering resolved, in symbol order.
+    ///
+    /// No symbol loses its way to words, even without smoothing: a symbol
+    /// some tree uses derives that tree's words through rules the trees
+    /// use (each counted at least once, so of positive probability), and
+    /// a block no tree uses keeps its weights. A weight of 0 can still
+    /// make a rule useless (`zero-weight`) or a test fail; the project
+    /// layer analyses the fitted grammar again to say so.
     pub blocks: Vec<BlockFit>,
-    /// Symbols that derived a string of words before the fit and derive
-    /// none after it: every way out of them now goes through a rule of
-    /// probability 0 (possible only without smoothing).
-    pub unproductive: Vec<NtId>,
 }
 
 impl Estimate {
@@ -521,15 +507,13 @@ mod tests {
         assert_eq!(trip.total, 4);
         assert_eq!(trip.rules[0].new, Ratio::new_i64(3, 4));
         assert_eq!(trip.rules[1].new, Ratio::new_i64(1, 4));
-        // Kind: day 1, fresh water 2, single 0 → 1/3, 2/3, 0; `single`
-        // has other words to fall back on, so nothing is unproductive.
+        // Kind: day 1, fresh water 2, single 0 → 1/3, 2/3, 0.
         let kind = &e.blocks[1];
         let news: Vec<Ratio> = kind.rules.iter().map(|r| r.new.clone()).collect();
         assert_eq!(
             news,
             [Ratio::new_i64(1, 3), Ratio::new_i64(2, 3), Ratio::from(0)]
         );
-        assert!(e.unproductive.is_empty());
         // Add-1 (Laplace): (3+1)/(4+2) = 4/6, (1+1)/(4+2) = 2/6.
         let e = f.estimate(&Smoothing::parse("add-1").unwrap());
         assert_eq!(e.blocks[0].rules[0].new, Ratio::new_i64(4, 6));

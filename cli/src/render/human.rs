@@ -1106,11 +1106,6 @@ pub fn fit_summary(
     for (block, why) in &fitted.fallbacks {
         out.push_str(&format!("note: `{block}` is written in fractions: {why}\n"));
     }
-    for name in fitted.unproductive(analysis) {
-        out.push_str(&format!(
-            "warning: with the new weights `{name}` derives no words: every way out of it has probability 0; smooth the counts (--smoothing add-0.5) or add trees that use it\n"
-        ));
-    }
     for finding in &fitted.new_findings {
         out.push_str(&format!(
             "warning: the fitted grammar has a new finding: {finding}\n"

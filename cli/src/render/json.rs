@@ -791,7 +791,6 @@ pub fn fitted(
         "written": written,
         "changed_files": fitted.changed.iter().map(|r| r.path.display().to_string()).collect::<Vec<_>>(),
         "blocks": blocks,
-        "unproductive": fitted.unproductive(analysis),
         "fallbacks": fallbacks,
         "new_findings": fitted.new_findings.iter().map(|f| f.to_string()).collect::<Vec<_>>(),
         "broken_cases": broken,
