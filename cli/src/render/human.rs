@@ -1104,7 +1104,7 @@ pub fn fit_summary(
         ));
     }
     for (block, why) in &fitted.fallbacks {
-        out.push_str(&format!("note: `{block}` is written in fractions: {why}\n"));
+        out.push_str(&format!("note: `{block}` takes exact fractions: {why}\n"));
     }
     for finding in &fitted.new_findings {
         out.push_str(&format!(
