@@ -276,6 +276,47 @@ fn a_node_no_rule_produces_is_located_with_the_rule_it_needs() {
 }
 
 #[test]
+fn cleaning_applies_before_matching_and_errors_keep_their_place() {
+    let dir = setup();
+    fs::write(
+        dir.path().join("tagged.mrg"),
+        "( (Entry-LOG (Lamp-1 lamp) (Status=2 lit)) )\n(Entry (Weather-X (-NONE- *) fog))\n",
+    )
+    .unwrap();
+    let run = trellis(
+        dir.path(),
+        &[
+            "fit",
+            "logbook.trellis",
+            "tagged.mrg",
+            "--strip-functions",
+            "--drop-empty",
+            "--dry-run",
+        ],
+    );
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    assert!(
+        run.stderr.contains("fitted 4 blocks to 2 trees"),
+        "{}",
+        run.stderr
+    );
+    // Without --drop-empty the empty element is a node no rule produces,
+    // reported at its own bracket on line 2 (the outer bracket of line 1
+    // is not a node).
+    let run = trellis(
+        dir.path(),
+        &["fit", "logbook.trellis", "tagged.mrg", "--strip-functions"],
+    );
+    assert_eq!(run.code, 1);
+    assert!(
+        run.stderr
+            .contains("error: tagged.mrg:2:19: `-NONE-` is not a symbol of the grammar"),
+        "{}",
+        run.stderr
+    );
+}
+
+#[test]
 fn a_dry_run_prints_old_and_new_probabilities_and_writes_nothing() {
     let dir = setup();
     let run = trellis(

@@ -541,6 +541,19 @@ mod tests {
     }
 
     #[test]
+    fn a_relative_block_in_percent_states_probabilities() {
+        let g = grammar("start S\nS relative {\n  60% \"a\"\n  60% \"b\"\n}\n");
+        let f = fit(&g, "(S a) (S a) (S a) (S b)");
+        let e = f.estimate(&Smoothing::None);
+        assert!(!e.blocks[0].counts_written);
+        // Shares of 100, not counts: 3/4 and 1/4.
+        assert_eq!(
+            e.blocks[0].weights().unwrap(),
+            [Ratio::new_i64(3, 4), Ratio::new_i64(1, 4)]
+        );
+    }
+
+    #[test]
     fn a_node_no_rule_produces_names_the_rule_needed() {
         let g = grammar(FERRY);
         let f = Fit::new(&g);
