@@ -117,20 +117,22 @@ enum Child<'t> {
 #[derive(Debug)]
 pub struct Fit<'g> {
     grammar: &'g Grammar,
-    /// Each (left-hand side, right-hand side) to its first rule: a rule
+    /// Per left-hand side, each right-hand side to its first rule: a rule
     /// written twice in a block (`duplicate-rule`) is credited to the first.
-    rules: HashMap<(NtId, Box<[Sym]>), RuleId>,
+    rules: HashMap<NtId, HashMap<Box<[Sym]>, RuleId>>,
     counts: Vec<u64>,
     trees: u64,
 }
 
 impl<'g> Fit<'g> {
     pub fn new(grammar: &'g Grammar) -> Fit<'g> {
-        let mut rules = HashMap::with_capacity(grammar.rules.len());
+        let mut rules: HashMap<NtId, HashMap<Box<[Sym]>, RuleId>> = HashMap::new();
         for id in grammar.rule_ids() {
             let rule = grammar.rule(id);
             rules
-                .entry((rule.lhs, rule.rhs.clone().into_boxed_slice()))
+                .entry(rule.lhs)
+                .or_default()
+                .entry(rule.rhs.clone().into_boxed_slice())
                 .or_insert(id);
         }
         Fit {
@@ -218,7 +220,8 @@ impl<'g> Fit<'g> {
             }
             let found = if matched {
                 self.rules
-                    .get(&(lhs, std::mem::take(&mut rhs).into_boxed_slice()))
+                    .get(&lhs)
+                    .and_then(|by_rhs| by_rhs.get(rhs.as_slice()))
             } else {
                 None
             };
