@@ -97,12 +97,6 @@ pub fn is_unseen_terminal(terminal: &str) -> bool {
     terminal.starts_with(PREFIX) && terminals().any(|t| t == terminal)
 }
 
-/// Whether `terminal` is spelled like an unseen-word terminal (`"<unseen…"`)
-/// without being one: most likely a misspelt class.
-pub fn looks_reserved(terminal: &str) -> bool {
-    terminal.starts_with(PREFIX) && !is_unseen_terminal(terminal)
-}
-
 /// The class name of an unseen-word terminal (`"<unseen:lower>"` → `lower`,
 /// `"<unseen>"` → `unseen`).
 pub fn class_name(terminal: &str) -> &str {
@@ -194,8 +188,7 @@ mod tests {
                 "{t}"
             );
         }
-        assert!(looks_reserved("<unseen:capitalized>"));
-        assert!(!looks_reserved("<unseen:capitalised>"));
-        assert!(!looks_reserved("unseen"));
+        assert!(!is_unseen_terminal("<unseen:capitalized>"));
+        assert!(!is_unseen_terminal("unseen"));
     }
 }
