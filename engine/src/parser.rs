@@ -230,10 +230,11 @@ impl Parser {
         stop: &dyn Fn() -> bool,
     ) -> Result<ParseOutcome, ParseError> {
         let words = self.check_size(words, options)?;
+        let keys = self.keys(&words);
         let watch = Watch(stop);
         let g = &self.grammar;
         let n = words.len();
-        let vit = viterbi::fill(g, &words, watch)?;
+        let vit = viterbi::fill(g, &keys, watch)?;
         let root_score = vit.get(0, n, g.start);
         if root_score == f64::NEG_INFINITY {
             return Ok(ParseOutcome {
@@ -242,23 +243,25 @@ impl Parser {
                 sentence_probability: 0.0,
                 sentence_log_probability: f64::NEG_INFINITY,
                 parse_count: options.count_parses.then(Count::zero),
-                explanation: options.explain.then(|| explain(g, &words, &vit)),
+                explanation: options
+                    .explain
+                    .then(|| in_own_words(explain(g, &keys, &vit), &words)),
             });
         }
         let best =
-            best_derivation(g, &vit, &words, 0, n, g.start).map(|d| self.tree_of(&words, &d));
-        let ins = inside::fill(g, &words, &vit, watch)?;
+            best_derivation(g, &vit, &keys, 0, n, g.start).map(|d| self.tree_of(&keys, &words, &d));
+        let ins = inside::fill(g, &keys, &vit, watch)?;
         let sentence_log_probability = ins.get(0, n, g.start);
         let kbest = match options.kbest {
             0 => Vec::new(),
             1 => best.iter().cloned().collect(),
-            k => kbest::kbest(g, &words, &vit, k, watch)?
+            k => kbest::kbest(g, &keys, &vit, k, watch)?
                 .into_iter()
-                .map(|(d, _)| self.tree_of(&words, &d))
+                .map(|(d, _)| self.tree_of(&keys, &words, &d))
                 .collect(),
         };
         let parse_count = if options.count_parses {
-            Some(count_parses(g, &words, &vit, watch)?)
+            Some(count_parses(g, &keys, &vit, watch)?)
         } else {
             None
         };
@@ -296,10 +299,11 @@ impl Parser {
             explain: false,
         };
         let words = self.check_size(words, &options)?;
+        let keys = self.keys(&words);
         let g = &self.grammar;
-        let vit = viterbi::fill(g, &words, Watch(stop))?;
-        Ok(best_derivation(g, &vit, &words, 0, words.len(), g.start)
-            .map(|d| self.tree_of(&words, &d)))
+        let vit = viterbi::fill(g, &keys, Watch(stop))?;
+        Ok(best_derivation(g, &vit, &keys, 0, words.len(), g.start)
+            .map(|d| self.tree_of(&keys, &words, &d)))
     }
 
     /// The number of binary-rule evaluations one chart pass makes for
@@ -317,8 +321,9 @@ impl Parser {
             ..ParseOptions::default()
         };
         let words = self.check_size(words, &options)?;
+        let keys = self.keys(&words);
         let g = &self.grammar;
-        let vit = viterbi::fill(g, &words, Watch(&|| false))?;
+        let vit = viterbi::fill(g, &keys, Watch(&|| false))?;
         let layout = vit.layout;
         let mut evals = 0u64;
         for len in 2..=layout.n {
@@ -396,8 +401,36 @@ impl Parser {
         self.parse(&words, options)
     }
 
-    fn tree_of(&self, words: &[&str], d: &Deriv) -> ParsedTree {
-        let log_probability = derivation_logprob(&self.grammar, words, d);
+    /// What each word is looked up as ([`CompiledGrammar::lexicon_key`]):
+    /// the word itself, or the unseen-word terminal of its shape class.
+    fn keys<'w>(&self, words: &[&'w str]) -> Vec<&'w str> {
+        words.iter().map(|w| self.grammar.lexicon_key(w)).collect()
+    }
+
+    /// The words of a sentence the grammar reads as unseen-word terminals
+    /// ([`grammar_lang::unseen`]), each with its position and the terminal
+    /// it is read as, in sentence order.
+    pub fn unseen_words<'w, S: AsRef<str>>(
+        &self,
+        words: &'w [S],
+    ) -> Vec<(usize, &'w str, &'static str)> {
+        words
+            .iter()
+            .enumerate()
+            .filter_map(|(i, w)| {
+                let w = w.as_ref();
+                let key = self.grammar.lexicon_key(w);
+                grammar_lang::unseen::terminals()
+                    .find(|t| *t == key && *t != w)
+                    .map(|t| (i, w, t))
+            })
+            .collect()
+    }
+
+    /// The tree of derivation `d` over the lexicon keys `keys`, with the
+    /// sentence's own `words` at its leaves.
+    fn tree_of(&self, keys: &[&str], words: &[&str], d: &Deriv) -> ParsedTree {
+        let log_probability = derivation_logprob(&self.grammar, keys, d);
         let tree = to_user_trees(&self.grammar, words, d)
             .into_iter()
             .next()
@@ -413,4 +446,25 @@ impl Parser {
             log_probability,
         }
     }
+}
+
+/// An explanation computed over lexicon keys, told in the sentence's own
+/// words (an unseen word is shown as written, not as its class).
+fn in_own_words(mut e: Explanation, words: &[&str]) -> Explanation {
+    for u in &mut e.unknown_words {
+        if let Some(w) = words.get(u.position) {
+            u.word = (*w).to_string();
+        }
+    }
+    for f in &mut e.fragments {
+        if let Some(ws) = words.get(f.start..f.end) {
+            f.text = ws.join(" ");
+        }
+    }
+    if let Some(at) = &mut e.breakdown.stuck_at {
+        if let Some(w) = words.get(at.position) {
+            at.word = (*w).to_string();
+        }
+    }
+    e
 }

@@ -265,7 +265,7 @@ pub fn tree_rules(grammar: &Grammar, tree: &Tree) -> Result<Vec<RuleId>, String>
         let mut rhs = Vec::with_capacity(children.len());
         for child in children {
             let sym = match child {
-                Tree::Leaf(word) => grammar.term(word).map(Sym::T),
+                Tree::Leaf(word) => grammar.word_term(word).map(Sym::T),
                 Tree::Node { label, .. } => grammar.nt(label).map(Sym::N),
             };
             let Some(sym) = sym else {

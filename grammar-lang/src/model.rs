@@ -272,6 +272,16 @@ impl Grammar {
         self.term_index.get(word).copied()
     }
 
+    /// The terminal a word of a sentence is read as: the word itself when
+    /// it is a terminal, otherwise the first unseen-word terminal of its
+    /// shape class chain that the grammar has ([`crate::unseen`]).
+    pub fn word_term(&self, word: &str) -> Option<TermId> {
+        self.term(word).or_else(|| {
+            crate::unseen::resolve(word, |t| self.term_index.contains_key(t))
+                .and_then(|t| self.term(t))
+        })
+    }
+
     pub fn nt_name(&self, id: NtId) -> &str {
         &self.nonterminals[id.index()].name
     }

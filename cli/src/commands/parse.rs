@@ -220,6 +220,8 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
                     out.push('\n');
                 }
                 out.push_str(&human::parse_report(sentence, result));
+                let words: Vec<&str> = sentence.split_whitespace().collect();
+                out.push_str(&human::unseen_words(&parser.unseen_words(&words)));
             }
             ParseFormat::Brackets => {
                 if n > 0 && args.kbest > 1 {

@@ -608,6 +608,21 @@ pub fn diagnostics(sources: &SourceMap, diagnostics: &[Diagnostic], color: bool)
 
 /// The report on one sentence: its best trees and probabilities, or why it
 /// has no parse.
+/// The words of a sentence read as unseen-word terminals, one line each
+/// (positions 1-based), for the end of a sentence's report.
+pub fn unseen_words(unseen: &[(usize, &str, &str)]) -> String {
+    let mut out = String::new();
+    for (position, word, terminal) in unseen {
+        out.push_str(&format!(
+            "  unseen word {} (word {}) read as {}\n",
+            quote(word),
+            position + 1,
+            quote(terminal)
+        ));
+    }
+    out
+}
+
 pub fn parse_report(sentence: &str, result: &Result<ParseOutcome, String>) -> String {
     let mut out = format!("sentence: {sentence}\n");
     match result {
