@@ -212,7 +212,7 @@ impl<'g> Fit<'g> {
                         // The child is reported at its own place.
                         None => return Err(self.unknown_label(child_node + kid, label)),
                     },
-                    Child::Word(word) => match self.grammar.term(word) {
+                    Child::Word(word) => match self.grammar.word_term(word) {
                         Some(t) => rhs.push(Sym::T(t)),
                         None => matched = false,
                     },
@@ -274,7 +274,7 @@ impl<'g> Fit<'g> {
         let unknown: Vec<String> = children
             .iter()
             .filter_map(|c| match c {
-                Child::Word(w) if self.grammar.term(w).is_none() => Some(format!("`{w}`")),
+                Child::Word(w) if self.grammar.word_term(w).is_none() => Some(format!("`{w}`")),
                 _ => None,
             })
             .collect();
@@ -521,6 +521,23 @@ mod tests {
         let e = f.estimate(&Smoothing::parse("add-1").unwrap());
         assert_eq!(e.blocks[0].rules[0].new, Ratio::new_i64(4, 6));
         assert_eq!(e.blocks[0].rules[1].new, Ratio::new_i64(2, 6));
+    }
+
+    #[test]
+    fn a_word_the_grammar_lacks_counts_for_its_unseen_word_class() {
+        // As the parser reads it: a capitalised word no terminal spells is
+        // read as "<unseen:capitalised>" when the grammar has that terminal.
+        let g = grammar(
+            "start Trip\nTrip {\n  0.5 \"to\" Port\n  0.5 \"ticket\"\n}\nPort {\n  0.5 \"Ardmore\"\n  0.5 \"<unseen:capitalised>\"\n}\n",
+        );
+        let f = fit(
+            &g,
+            "(Trip to (Port Zorbo)) (Trip to (Port Ardmore)) (Trip to (Port Quayle))",
+        );
+        let e = f.estimate(&Smoothing::None);
+        // Port: Ardmore 1, the capitalised class 2 → 1/3, 2/3 (maximum likelihood).
+        let news: Vec<Ratio> = e.blocks[1].rules.iter().map(|r| r.new.clone()).collect();
+        assert_eq!(news, [Ratio::new_i64(1, 3), Ratio::new_i64(2, 3)]);
     }
 
     #[test]
