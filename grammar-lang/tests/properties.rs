@@ -333,12 +333,15 @@ fn tree(labels: Vec<String>) -> impl Strategy<Value = Tree> {
         )
             .prop_map(|(label, children)| Tree::node(label, children))
     })
-    .prop_flat_map(move |t| match t {
+    .prop_flat_map(move |t| match &t {
         // A test tree is always rooted in a node.
-        Tree::Leaf(w) => select(labels.clone())
-            .prop_map(move |label| Tree::node(label, vec![Tree::leaf(w.clone())]))
-            .boxed(),
-        node => Just(node).boxed(),
+        Tree::Leaf(w) => {
+            let w = w.clone();
+            select(labels.clone())
+                .prop_map(move |label| Tree::node(label, vec![Tree::leaf(w.clone())]))
+                .boxed()
+        }
+        Tree::Node { .. } => Just(t).boxed(),
     })
 }
 
