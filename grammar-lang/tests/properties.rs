@@ -496,6 +496,7 @@ fn build(spec: &ModelSpec) -> Grammar {
             relative: block.relative,
             doc: doc_text(&block.doc),
             mass: Ratio::one(),
+            approximate: None,
         });
     }
     for test in &spec.tests {
@@ -620,6 +621,7 @@ const BROKEN: &str = include_str!("../../examples/broken.trellis");
 const BROKEN_CYCLE: &str = include_str!("../../examples/broken_cycle.trellis");
 const BROKEN_NO_START: &str = include_str!("../../examples/broken_no_start.trellis");
 const BROKEN_UNKNOWN_START: &str = include_str!("../../examples/broken_unknown_start.trellis");
+const BROKEN_PRECISION: &str = include_str!("../../examples/broken_precision.trellis");
 
 /// Analyses `examples/<file>` with the other example files loadable.
 fn analyze_example(file: &str, text: &str) -> Analysis {
@@ -695,6 +697,7 @@ fn the_broken_examples_show_every_static_diagnostic_code() {
         ("broken.trellis", BROKEN),
         ("broken_no_start.trellis", BROKEN_NO_START),
         ("broken_unknown_start.trellis", BROKEN_UNKNOWN_START),
+        ("broken_precision.trellis", BROKEN_PRECISION),
     ] {
         shown.extend(
             analyze_example(file, text)
