@@ -25,7 +25,7 @@ pub mod learn;
 pub mod load;
 pub mod test_run;
 
-pub use cache::FileCache;
+pub use cache::{FileCache, SyntaxCache};
 pub use config::{ConfigProblem, EditorLimits, Resolver, Settings, Stamps};
 
 pub use discover::{discover, identity, paths_or_here, Root};

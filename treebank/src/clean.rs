@@ -39,8 +39,14 @@ pub fn clean(tree: Tree, how: &Cleaning) -> Option<Tree> {
     let mut steps = vec![Step::Enter(tree)];
     while let Some(step) = steps.pop() {
         match step {
-            Step::Enter(Tree::Leaf(word)) => built.push(Some(Tree::Leaf(word))),
-            Step::Enter(Tree::Node { label, children }) => {
+            Step::Enter(tree) => {
+                let (label, children) = match tree.into_parts() {
+                    Ok(node) => node,
+                    Err(word) => {
+                        built.push(Some(Tree::Leaf(word)));
+                        continue;
+                    }
+                };
                 if how.drop_empty && label == "-NONE-" {
                     built.push(None);
                     continue;
@@ -97,8 +103,14 @@ pub fn clean_located<P: Clone + Default>(
     let mut steps = vec![Step::Enter(tree)];
     while let Some(step) = steps.pop() {
         match step {
-            Step::Enter(Tree::Leaf(word)) => built.push(Some((Tree::Leaf(word), Vec::new()))),
-            Step::Enter(Tree::Node { label, children }) => {
+            Step::Enter(tree) => {
+                let (label, children) = match tree.into_parts() {
+                    Ok(node) => node,
+                    Err(word) => {
+                        built.push(Some((Tree::Leaf(word), Vec::new())));
+                        continue;
+                    }
+                };
                 let at = positions.get(next).cloned().unwrap_or_default();
                 next += 1;
                 if how.drop_empty && label == "-NONE-" {

@@ -65,6 +65,8 @@ enum Token {
     Open,
     Close,
     Atom(String),
+    /// A word written in double quotes (escapes resolved).
+    Quoted(String),
 }
 
 impl<R: BufRead> TreeReader<R> {
@@ -181,9 +183,16 @@ impl<R: BufRead> TreeReader<R> {
         let mut word = String::new();
         while self.pos < self.chars.len() {
             match self.chars[self.pos] {
+                '"' if word.is_empty() => {
+                    return Err(self.error(
+                        line,
+                        column,
+                        "`\"\"` is an empty word: a word needs at least one character",
+                    ));
+                }
                 '"' => {
                     self.pos += 1;
-                    return Ok((Token::Atom(word), line, column));
+                    return Ok((Token::Quoted(word), line, column));
                 }
                 '\\' if self.pos + 1 < self.chars.len()
                     && matches!(self.chars[self.pos + 1], '"' | '\\') =>
@@ -222,7 +231,7 @@ impl<R: BufRead> TreeReader<R> {
                     "`)` closes nothing: the brackets before it are already balanced",
                 ));
             }
-            Token::Atom(word) => {
+            Token::Atom(word) | Token::Quoted(word) => {
                 return Err(self.error(
                     line,
                     column,
@@ -258,7 +267,17 @@ impl<R: BufRead> TreeReader<R> {
                 ));
             };
             match token {
-                Token::Atom(atom) => {
+                Token::Quoted(word) if expect_label => {
+                    return Err(self.error(
+                        line,
+                        column,
+                        format!(
+                            "the label `{word}` is in quotes: only words may be quoted; write \
+                             the label bare, as in `(NP …)`"
+                        ),
+                    ));
+                }
+                Token::Atom(atom) | Token::Quoted(atom) => {
                     let top = stack
                         .last_mut()
                         .expect("a node is open while reading a tree");
@@ -391,6 +410,28 @@ mod tests {
             [
                 Ok("(A day ticket)".to_string()),
                 Ok("(B say \"hi\")".to_string())
+            ]
+        );
+    }
+
+    #[test]
+    fn labels_cannot_be_quoted_and_words_cannot_be_empty() {
+        // Found by the `treebank` fuzz target: a quoted label (`"S "`) was
+        // read as a label holding a space, which no bracket notation can
+        // print back, and `""` as an empty word.
+        let got = read("(\"S \" NV x)\n(S \"\")\n(S \"a b\")\n");
+        assert_eq!(
+            got,
+            [
+                Err(
+                    "1:2: the label `S ` is in quotes: only words may be quoted; write the \
+                     label bare, as in `(NP …)`"
+                        .to_string()
+                ),
+                Err(
+                    "2:4: `\"\"` is an empty word: a word needs at least one character".to_string()
+                ),
+                Ok("(S a b)".to_string()),
             ]
         );
     }
