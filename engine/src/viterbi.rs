@@ -7,7 +7,7 @@
 //! re-deriving the arg-max at each item from the finished chart, which keeps
 //! the inner loop to one add, one add and one compare per rule.
 
-use crate::chart::{kernels, Layout, Stopped, Watch};
+use crate::chart::{fill_cells, kernels, Layout, Stopped, Watch, Workers};
 use crate::compile::{CompiledGrammar, Origin, Visit};
 
 /// A derivation in the compiled grammar.
@@ -45,12 +45,13 @@ impl ViterbiChart {
     }
 }
 
-/// Fills the Viterbi chart for `words`, asking `watch` once per cell.
-#[allow(clippy::needless_range_loop)] // cells are addressed by (i, j)
+/// Fills the Viterbi chart for `words`, asking `watch` once per cell; the
+/// cells of one span length may be spread over `workers`.
 pub(crate) fn fill(
     g: &CompiledGrammar,
     words: &[&str],
     watch: Watch,
+    workers: &Workers,
 ) -> Result<ViterbiChart, Stopped> {
     let layout = Layout::new(words.len(), g.symbol_count());
     let n_sym = layout.n_sym;
@@ -59,79 +60,39 @@ pub(crate) fn fill(
     let mut present_start = Vec::with_capacity(cells + 1);
     present_start.push(0u32);
     let mut present: Vec<u32> = Vec::new();
-    let mut pre = vec![f64::NEG_INFINITY; n_sym];
-    let mut rmask = vec![0u64; g.mask_words];
+    let rules_per_left = (g.bin.len() / n_sym.max(1)).max(1) as u64;
     for len in 1..=layout.n {
-        for i in 0..=layout.n - len {
-            let j = i + len;
-            let c = layout.cell(i, j);
-            watch.check()?;
-            pre.fill(f64::NEG_INFINITY);
-            let (done, rest) = score.split_at_mut(c * n_sym);
-            if len == 1 {
-                if let Some(entries) = g.lexicon.get(words[i]) {
-                    for e in entries {
-                        let slot = &mut pre[e.sym as usize];
-                        if e.lp > *slot {
-                            *slot = e.lp;
-                        }
-                    }
-                }
-            } else {
-                for k in i + 1..j {
-                    let l = layout.cell(i, k);
-                    let r = layout.cell(k, j);
-                    let left = &done[l * n_sym..(l + 1) * n_sym];
-                    let right = &done[r * n_sym..(r + 1) * n_sym];
-                    let lp_start = present_start[l] as usize;
-                    let lp_end = present_start[l + 1] as usize;
-                    let rp = &present[present_start[r] as usize..present_start[r + 1] as usize];
-                    let mut rmask_ready = false;
-                    for &b in &present[lp_start..lp_end] {
-                        let lb = left[b as usize];
-                        let base = b as usize * n_sym;
-                        match g.visit(b, rp.len()) {
-                            Visit::Scan => kernels::max_scan(
-                                &g.bin[g.binary_rule_range(b)],
-                                lb,
-                                right,
-                                &mut pre,
-                            ),
-                            Visit::Pairs(table) => {
-                                kernels::max_pairs(&g.bin, table, base, rp, lb, right, &mut pre)
-                            }
-                            Visit::Mask(table, bmask) => {
-                                if !rmask_ready {
-                                    kernels::fill_mask(&mut rmask, rp);
-                                    rmask_ready = true;
-                                }
-                                kernels::max_mask(
-                                    &g.bin, table, base, bmask, &rmask, lb, right, &mut pre,
-                                )
-                            }
-                        }
-                    }
-                }
-            }
-            let row = &mut rest[..n_sym];
-            row.copy_from_slice(&pre);
-            for &b in &g.unary_children {
-                let pb = pre[b as usize];
-                if pb == f64::NEG_INFINITY {
-                    continue;
-                }
-                for &(a, w) in &g.vit_closure[b as usize] {
-                    let cand = w + pb;
-                    if cand > row[a as usize] {
-                        row[a as usize] = cand;
-                    }
-                }
-            }
-            for (s, &v) in row.iter().enumerate() {
-                if v > f64::NEG_INFINITY {
-                    present.push(s as u32);
-                }
-            }
+        let first = layout.cell(0, len);
+        let count = layout.n - len + 1;
+        let (done, rest) = score.split_at_mut(first * n_sym);
+        let mut outs: Vec<(&mut [f64], Vec<u32>)> = rest[..count * n_sym]
+            .chunks_mut(n_sym)
+            .map(|row| (row, Vec::new()))
+            .collect();
+        let done = Done {
+            layout,
+            score: done,
+            present_start: &present_start,
+            present: &present,
+        };
+        let work = |i: usize| -> u64 {
+            (i + 1..i + len)
+                .map(|k| done.present(layout.cell(i, k)).len() as u64 * rules_per_left)
+                .sum()
+        };
+        fill_cells(
+            workers,
+            watch,
+            &mut outs,
+            work,
+            || Scratch {
+                pre: vec![f64::NEG_INFINITY; n_sym],
+                rmask: vec![0u64; g.mask_words],
+            },
+            |i, (row, out), scratch| fill_cell(g, words, &done, i, i + len, row, out, scratch),
+        )?;
+        for (_, out) in outs {
+            present.extend_from_slice(&out);
             present_start.push(present.len() as u32);
         }
     }
@@ -141,6 +102,112 @@ pub(crate) fn fill(
         present_start,
         present,
     })
+}
+
+/// The finished part of a Viterbi chart: every cell shorter than the ones
+/// being filled.
+struct Done<'a> {
+    layout: Layout,
+    score: &'a [f64],
+    present_start: &'a [u32],
+    present: &'a [u32],
+}
+
+impl Done<'_> {
+    #[inline]
+    fn present(&self, c: usize) -> &[u32] {
+        &self.present[self.present_start[c] as usize..self.present_start[c + 1] as usize]
+    }
+
+    #[inline]
+    fn row(&self, c: usize) -> &[f64] {
+        let n_sym = self.layout.n_sym;
+        &self.score[c * n_sym..(c + 1) * n_sym]
+    }
+}
+
+/// One cell's working rows.
+struct Scratch {
+    pre: Vec<f64>,
+    rmask: Vec<u64>,
+}
+
+/// Fills `row`, cell `(i, j)`, from the finished shorter cells, and lists
+/// its present symbols in `out`.
+#[allow(clippy::too_many_arguments)]
+fn fill_cell(
+    g: &CompiledGrammar,
+    words: &[&str],
+    done: &Done,
+    i: usize,
+    j: usize,
+    row: &mut [f64],
+    out: &mut Vec<u32>,
+    scratch: &mut Scratch,
+) {
+    let layout = done.layout;
+    let n_sym = layout.n_sym;
+    let Scratch { pre, rmask } = scratch;
+    pre.fill(f64::NEG_INFINITY);
+    if j - i == 1 {
+        if let Some(entries) = g.lexicon.get(words[i]) {
+            for e in entries {
+                let slot = &mut pre[e.sym as usize];
+                if e.lp > *slot {
+                    *slot = e.lp;
+                }
+            }
+        }
+    } else {
+        for k in i + 1..j {
+            let l = layout.cell(i, k);
+            let r = layout.cell(k, j);
+            let left = done.row(l);
+            let right = done.row(r);
+            let rp = done.present(r);
+            if rp.is_empty() {
+                continue;
+            }
+            let mut rmask_ready = false;
+            for &b in done.present(l) {
+                let lb = left[b as usize];
+                let base = b as usize * n_sym;
+                match g.visit(b, rp.len()) {
+                    Visit::Scan => {
+                        kernels::max_scan(&g.bin[g.binary_rule_range(b)], lb, right, pre)
+                    }
+                    Visit::Pairs(table) => {
+                        kernels::max_pairs(&g.bin, table, base, rp, lb, right, pre)
+                    }
+                    Visit::Mask(table, bmask) => {
+                        if !rmask_ready {
+                            kernels::fill_mask(rmask, rp);
+                            rmask_ready = true;
+                        }
+                        kernels::max_mask(&g.bin, table, base, bmask, rmask, lb, right, pre)
+                    }
+                }
+            }
+        }
+    }
+    row.copy_from_slice(pre);
+    for &b in &g.unary_children {
+        let pb = pre[b as usize];
+        if pb == f64::NEG_INFINITY {
+            continue;
+        }
+        for &(a, w) in &g.vit_closure[b as usize] {
+            let cand = w + pb;
+            if cand > row[a as usize] {
+                row[a as usize] = cand;
+            }
+        }
+    }
+    for (s, &v) in row.iter().enumerate() {
+        if v > f64::NEG_INFINITY {
+            out.push(s as u32);
+        }
+    }
 }
 
 /// The best score of `sym` over `i..j` before the unary closure, with its
