@@ -232,6 +232,37 @@ pub(crate) mod kernels {
         }
     }
 
+    /// [`max_scan`] for `N` split points at once: the rules of `b` are read
+    /// once and each parent's slot is updated once for all `N` (the same
+    /// maximum of the same sums, `lp + lb + right[C]`, as `N` scans).
+    #[inline]
+    pub fn max_scan_n<const N: usize>(
+        rules: &[BinRule],
+        lb: [f64; N],
+        right: [&[f64]; N],
+        pre: &mut [f64],
+    ) {
+        let n = pre.len();
+        for row in right {
+            assert_eq!(row.len(), n);
+        }
+        for rule in rules {
+            let (r, a) = (rule.right as usize, rule.parent as usize);
+            debug_assert!(r < n && a < n);
+            let mut best = f64::NEG_INFINITY;
+            for t in 0..N {
+                // SAFETY: r < n_sym = right[t].len() (see module doc).
+                let cand = rule.lp + lb[t] + unsafe { *right[t].get_unchecked(r) };
+                best = if cand > best { cand } else { best };
+            }
+            // SAFETY: a < n_sym = pre.len() (see module doc).
+            unsafe {
+                let slot = pre.get_unchecked_mut(a);
+                *slot = if best > *slot { best } else { *slot };
+            }
+        }
+    }
+
     /// The same over the right cell's present symbols `rp`, looking up the
     /// rules of each `(b, c)` pair in `table` (row `b` starts at `base`).
     #[inline]
