@@ -252,6 +252,7 @@ impl Baseline {
         b
     }
 
+    #[allow(clippy::needless_range_loop)] // cells are addressed by (i, j)
     fn parse(&self, words: &[String]) -> f64 {
         let max = self.max;
         let (n, m) = (words.len(), self.n_sym);
