@@ -104,7 +104,7 @@ impl Workers {
 
 impl fmt::Debug for Workers {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "Workers({} threads)", self.threads())
+        write!(f, "Workers {{ threads: {} }}", self.threads())
     }
 }
 

@@ -75,7 +75,12 @@ pub(crate) fn fill(
         };
         let work = |i: usize| -> u64 {
             (i + 1..i + len)
-                .map(|k| vit.present(layout.cell(i, k)).len() as u64 * rules_per_left)
+                .map(|k| {
+                    // A left symbol's rules are scanned, or looked up by
+                    // each right symbol (a few steps each), whichever is less.
+                    let right = vit.present(layout.cell(k, i + len)).len() as u64;
+                    vit.present(layout.cell(i, k)).len() as u64 * rules_per_left.min(3 * right)
+                })
                 .sum()
         };
         fill_cells(
