@@ -18,6 +18,7 @@ pub mod coverage;
 pub mod discover;
 pub mod evaluate;
 pub mod files;
+pub mod fit;
 pub mod format;
 pub mod grammars;
 pub mod learn;

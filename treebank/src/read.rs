@@ -49,6 +49,8 @@ pub struct TreeReader<R> {
     resync: bool,
     /// Where the tree read last (or being read) starts.
     tree_start: (usize, usize),
+    /// Where each node of the tree read last opens, in pre-order.
+    positions: Vec<(usize, usize)>,
 }
 
 /// An open node while reading.
@@ -76,7 +78,16 @@ impl<R: BufRead> TreeReader<R> {
             done: false,
             resync: false,
             tree_start: (0, 0),
+            positions: Vec::new(),
         }
+    }
+
+    /// Where each node of the tree read last opens (its `(`: line and
+    /// column, 1-based), in pre-order — the order of
+    /// [`Tree`]'s nodes walked parent first, children left to right; words
+    /// have no entry. An unlabelled outer bracket is not a node and has none.
+    pub fn positions(&self) -> &[(usize, usize)] {
+        &self.positions
     }
 
     /// The line and column where the last tree read (or the malformed one)
@@ -200,6 +211,8 @@ impl<R: BufRead> TreeReader<R> {
             return Ok(None);
         };
         self.tree_start = (line, column);
+        self.positions.clear();
+        self.positions.push((line, column));
         match first {
             Token::Open => {}
             Token::Close => {
@@ -277,6 +290,7 @@ impl<R: BufRead> TreeReader<R> {
                         line,
                         column,
                     });
+                    self.positions.push((line, column));
                     expect_label = true;
                 }
                 Token::Close => {
@@ -294,6 +308,7 @@ impl<R: BufRead> TreeReader<R> {
                         }
                         None if stack.is_empty() && open.children.len() == 1 => {
                             // The unlabelled outer bracket: `( (S …) )`.
+                            self.positions.remove(0);
                             let mut children = open.children;
                             let only = children.pop().expect("one child");
                             if only.label().is_none() {
@@ -419,6 +434,17 @@ mod tests {
                 .as_ref()
                 .is_err_and(|e| e.starts_with("1:1: `word` stands outside")),
             "{got:?}"
+        );
+    }
+
+    #[test]
+    fn every_node_is_located_in_pre_order() {
+        let mut reader = TreeReader::new("( (S (NP (DT the)\n  (NN ferry)) (VP x)) )\n".as_bytes());
+        assert!(reader.next().is_some_and(|t| t.is_ok()));
+        // S, NP, DT, NN, VP; the unlabelled outer bracket is not a node.
+        assert_eq!(
+            reader.positions(),
+            [(1, 3), (1, 6), (1, 10), (2, 3), (2, 15)]
         );
     }
 
