@@ -17,6 +17,7 @@
 //! assert_eq!(outcome.best.unwrap().tree.to_brackets(), r#"(S "hello")"#);
 //! ```
 
+pub use crate::chart::{Spread, Task, Workers};
 use crate::chart::{Stopped, Watch};
 use crate::compile::{CompileError, CompiledGrammar};
 use crate::count::{count_parses, Count};
@@ -41,6 +42,11 @@ pub struct ParseOptions {
     pub count_parses: bool,
     /// Explain a failed parse.
     pub explain: bool,
+    /// Threads the chart passes may spread one sentence's cells over (only
+    /// the calling thread by default). Results are the same bit for bit
+    /// whatever the threads; small sentences and grammars stay on the
+    /// calling thread.
+    pub workers: Workers,
 }
 
 impl Default for ParseOptions {
@@ -50,6 +56,7 @@ impl Default for ParseOptions {
             max_chart_bytes: DEFAULT_MAX_CHART_BYTES,
             count_parses: true,
             explain: true,
+            workers: Workers::default(),
         }
     }
 }
@@ -234,7 +241,7 @@ impl Parser {
         let watch = Watch(stop);
         let g = &self.grammar;
         let n = words.len();
-        let vit = viterbi::fill(g, &keys, watch)?;
+        let vit = viterbi::fill(g, &keys, watch, &options.workers)?;
         let root_score = vit.get(0, n, g.start);
         if root_score == f64::NEG_INFINITY {
             return Ok(ParseOutcome {
@@ -250,7 +257,7 @@ impl Parser {
         }
         let best =
             best_derivation(g, &vit, &keys, 0, n, g.start).map(|d| self.tree_of(&keys, &words, &d));
-        let ins = inside::fill(g, &keys, &vit, watch)?;
+        let ins = inside::fill(g, &keys, &vit, watch, &options.workers)?;
         let sentence_log_probability = ins.get(0, n, g.start);
         let kbest = match options.kbest {
             0 => Vec::new(),
@@ -293,15 +300,30 @@ impl Parser {
         stop: &dyn Fn() -> bool,
     ) -> Result<Option<ParsedTree>, ParseError> {
         let options = ParseOptions {
-            kbest: 1,
             max_chart_bytes,
+            ..ParseOptions::default()
+        };
+        self.best_tree_with(words, &options, stop)
+    }
+
+    /// [`Parser::best_tree_until`] with the chart limit and the workers of
+    /// `options` (the rest of `options` is not used).
+    pub fn best_tree_with<S: AsRef<str>>(
+        &self,
+        words: &[S],
+        options: &ParseOptions,
+        stop: &dyn Fn() -> bool,
+    ) -> Result<Option<ParsedTree>, ParseError> {
+        let options = ParseOptions {
+            kbest: 1,
             count_parses: false,
             explain: false,
+            ..options.clone()
         };
         let words = self.check_size(words, &options)?;
         let keys = self.keys(&words);
         let g = &self.grammar;
-        let vit = viterbi::fill(g, &keys, Watch(stop))?;
+        let vit = viterbi::fill(g, &keys, Watch(stop), &options.workers)?;
         Ok(best_derivation(g, &vit, &keys, 0, words.len(), g.start)
             .map(|d| self.tree_of(&keys, &words, &d)))
     }
@@ -323,7 +345,7 @@ impl Parser {
         let words = self.check_size(words, &options)?;
         let keys = self.keys(&words);
         let g = &self.grammar;
-        let vit = viterbi::fill(g, &keys, Watch(&|| false))?;
+        let vit = viterbi::fill(g, &keys, Watch(&|| false), &Workers::default())?;
         let layout = vit.layout;
         let mut evals = 0u64;
         for len in 2..=layout.n {

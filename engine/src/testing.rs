@@ -147,6 +147,7 @@ pub fn run_case_until(
                 max_chart_bytes,
                 count_parses: false,
                 explain: true,
+                ..ParseOptions::default()
             };
             let explanation = parser
                 .parse_until(&words, &options, stop)
