@@ -78,6 +78,10 @@ enum Command {
     /// labelled brackets).
     #[command(long_about = commands::learn::LONG_ABOUT)]
     Learn(commands::learn::LearnArgs),
+    /// Re-estimate the weights of a grammar from trees written in its own
+    /// symbols; only the weights change.
+    #[command(long_about = commands::fit::LONG_ABOUT)]
+    Fit(commands::fit::FitArgs),
     /// Score predicted trees against gold trees (PARSEVAL labelled
     /// brackets: precision, recall, F1, exact match, crossing brackets).
     #[command(long_about = commands::eval::LONG_ABOUT)]
@@ -116,6 +120,7 @@ fn main() -> ExitCode {
         Command::Parse(args) => commands::parse::run(&args, term),
         Command::Init(args) => commands::init::run(&args),
         Command::Learn(args) => commands::learn::run(&args),
+        Command::Fit(args) => commands::fit::run(&args, term),
         Command::Eval(args) => commands::eval::run(&args),
         Command::Completions(args) => commands::completions::run(&args, Cli::command()),
         Command::Man(args) => commands::man::run(&args, Cli::command()),

@@ -175,6 +175,9 @@ pub fn note_run(analysis: &Analysis, run: &Run) {
     if let Some(note) = run.rescaled_note() {
         out.push_str(&format!("note: {note}\n"));
     }
+    if let Some(note) = run.approximate_note() {
+        out.push_str(&format!("note: {note}\n"));
+    }
     let ignored = run.ignored_errors();
     if !ignored.is_empty() {
         out.push_str(&format!(

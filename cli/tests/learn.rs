@@ -192,3 +192,64 @@ fn markovization_options_shape_the_symbols() {
         missing.stderr
     );
 }
+
+#[test]
+fn with_rare_words_a_learned_grammar_parses_and_tests_sentences_with_new_words() {
+    let dir = tempfile::tempdir().unwrap();
+    fs::write(dir.path().join("kiosk.mrg"), TREES).unwrap();
+    let run = trellis(
+        dir.path(),
+        &["learn", "kiosk.mrg", "--rare", "1", "-o", "learned.trellis"],
+    );
+    assert_eq!(run.code, 0, "{}{}", run.stdout, run.stderr);
+    let learned = fs::read_to_string(dir.path().join("learned.trellis")).unwrap();
+    // "oxna" is seen once (lower-case, no listed suffix), "tolsey" twice.
+    assert!(
+        learned
+            .contains("NNP relative {\n  2  \"tolsey\"\n  1  \"<unseen:lower>\"\n  1  \"oxna\"\n}"),
+        "{learned}"
+    );
+    let check = trellis(dir.path(), &["check", "learned.trellis"]);
+    assert_eq!(check.code, 0, "{}{}", check.stdout, check.stderr);
+
+    // "skerry" was never seen: read as an unseen lower-case word.
+    let parse = trellis(
+        dir.path(),
+        &["parse", "learned.trellis", "two tickets to skerry"],
+    );
+    assert_eq!(parse.code, 0, "{}{}", parse.stdout, parse.stderr);
+    assert!(
+        parse
+            .stdout
+            .contains("unseen word \"skerry\" (word 4) read as \"<unseen:lower>\""),
+        "{}",
+        parse.stdout
+    );
+    let brackets = trellis(
+        dir.path(),
+        &[
+            "parse",
+            "learned.trellis",
+            "--format",
+            "brackets",
+            "--treebank-labels",
+            "two tickets to skerry",
+        ],
+    );
+    assert_eq!(
+        brackets.stdout.trim(),
+        "(S (NP (CD two) (NNS tickets)) (PP (TO to) (NP (NNP skerry))))"
+    );
+
+    // A test block against it: the new word is no `unknown-word`.
+    fs::write(
+        dir.path().join("tests.trellis"),
+        "use \"learned.trellis\"\n\ntest \"new places\" {\n  accept \"one ticket to skerry\"\n}\n",
+    )
+    .unwrap();
+    let check = trellis(dir.path(), &["check", "tests.trellis"]);
+    assert_eq!(check.code, 0, "{}{}", check.stdout, check.stderr);
+    assert!(!check.stdout.contains("unknown-word"), "{}", check.stdout);
+    let test = trellis(dir.path(), &["test", "tests.trellis"]);
+    assert_eq!(test.code, 0, "{}{}", test.stdout, test.stderr);
+}

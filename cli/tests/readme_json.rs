@@ -284,6 +284,7 @@ fn readme_lists_every_command_and_the_diagnostic() {
         [
             "check",
             "diagnostic",
+            "fit",
             "fmt",
             "parse",
             "sample",
@@ -300,6 +301,21 @@ fn check_prints_what_readme_documents() {
         "check",
         dir.path(),
         &[&["ferry_kiosk.trellis"], &["broken.trellis"]],
+    );
+}
+
+#[test]
+fn fit_prints_what_readme_documents() {
+    let dir = setup();
+    fs::write(
+        dir.path().join("trees.mrg"),
+        "(Request (Ticket (Kind day) ticket))\n(Request a (Ticket a (Kind single) ticket))\n",
+    )
+    .unwrap();
+    check_command(
+        "fit",
+        dir.path(),
+        &[&["--dry-run", "kiosk.trellis", "trees.mrg"]],
     );
 }
 

@@ -23,7 +23,9 @@ use grammar_lang::{FileId, Location, MemoryLoader, Span};
 use num_bigint::BigInt;
 use std::hint::black_box;
 use std::path::Path;
-use trellis_engine::parser::{ParseOptions, Parser, DEFAULT_MAX_CHART_BYTES};
+use trellis_engine::parser::{
+    ParseOptions, Parser, Spread, Task, Workers, DEFAULT_MAX_CHART_BYTES,
+};
 
 /// SplitMix64 (Steele, Lea & Flood 2014).
 struct Rng(u64);
@@ -113,6 +115,12 @@ fn generated_grammar(ambiguity: usize) -> Grammar {
 }
 
 fn bench_generated(c: &mut Criterion) {
+    for ambiguity in [0, 4] {
+        let g = generated_grammar(ambiguity);
+        for words in [20, 40] {
+            report_against_baseline(&g, ambiguity, words);
+        }
+    }
     bench_generated_with(c, 0, "generated_300nt_30k_rules_40_words");
     bench_generated_with(c, 4, "generated_ambiguous_lexicon_40_words");
 }
@@ -198,6 +206,239 @@ fn bench_generated_with(c: &mut Criterion, ambiguity: usize, name: &str) {
         })
     });
     group.finish();
+}
+
+/// The straightforward CKY the issue measures against: a dense chart of
+/// `f64` scores, binary rules indexed by left child, loops over split
+/// points, present left symbols and that symbol's rules, then the unary
+/// rules relaxed to a fixed point. `max` picks Viterbi in log space,
+/// otherwise inside sums in linear space. Returns the root's value.
+struct Baseline {
+    n_sym: usize,
+    by_left: Vec<Vec<(usize, usize, f64)>>,
+    unary: Vec<(usize, usize, f64)>,
+    /// Rule weights are stored once for each mode: log-probabilities for
+    /// Viterbi, probabilities for inside.
+    max: bool,
+    lex: std::collections::HashMap<String, Vec<(usize, f64)>>,
+    start: usize,
+}
+
+impl Baseline {
+    fn new(g: &Grammar, max: bool) -> Baseline {
+        let n_sym = g.nonterminals.len();
+        let mut b = Baseline {
+            n_sym,
+            by_left: vec![Vec::new(); n_sym],
+            unary: Vec::new(),
+            max,
+            lex: Default::default(),
+            start: g.start.expect("start").0 as usize,
+        };
+        for rule in &g.rules {
+            let a = rule.lhs.0 as usize;
+            let p = if max { rule.p.ln() } else { rule.p };
+            match rule.rhs[..] {
+                [Sym::N(l), Sym::N(r)] => b.by_left[l.0 as usize].push((r.0 as usize, a, p)),
+                [Sym::N(c)] => b.unary.push((c.0 as usize, a, p)),
+                [Sym::T(t)] => b
+                    .lex
+                    .entry(g.term_text(t).to_string())
+                    .or_default()
+                    .push((a, p)),
+                _ => panic!("the baseline reads binary, unary and lexical rules only"),
+            }
+        }
+        b
+    }
+
+    #[allow(clippy::needless_range_loop)] // cells are addressed by (i, j)
+    fn parse(&self, words: &[String]) -> f64 {
+        let max = self.max;
+        let (n, m) = (words.len(), self.n_sym);
+        let zero = if max { f64::NEG_INFINITY } else { 0.0 };
+        let mut chart = vec![zero; (n + 1) * (n + 1) * m];
+        let at = |i: usize, j: usize| (i * (n + 1) + j) * m;
+        for len in 1..=n {
+            for i in 0..=n - len {
+                let (j, c) = (i + len, at(i, i + len));
+                for &(a, p) in self
+                    .lex
+                    .get(&words[i])
+                    .filter(|_| len == 1)
+                    .into_iter()
+                    .flatten()
+                {
+                    chart[c + a] = if max {
+                        chart[c + a].max(p)
+                    } else {
+                        chart[c + a] + p
+                    };
+                }
+                for k in i + 1..j {
+                    let (l, r) = (at(i, k), at(k, j));
+                    for b in 0..m {
+                        let lb = chart[l + b];
+                        if lb == zero {
+                            continue;
+                        }
+                        for &(rc, a, p) in &self.by_left[b] {
+                            let rv = chart[r + rc];
+                            if rv == zero {
+                                continue;
+                            }
+                            chart[c + a] = if max {
+                                chart[c + a].max(p + lb + rv)
+                            } else {
+                                chart[c + a] + p * lb * rv
+                            };
+                        }
+                    }
+                }
+                for _ in 0..m {
+                    let mut changed = false;
+                    for &(b, a, p) in &self.unary {
+                        let v = if max {
+                            p + chart[c + b]
+                        } else {
+                            p * chart[c + b]
+                        };
+                        if v > chart[c + a] {
+                            chart[c + a] = v;
+                            changed = true;
+                        }
+                    }
+                    if !changed || !max {
+                        break;
+                    }
+                }
+            }
+        }
+        chart[at(0, n) + self.start]
+    }
+}
+
+/// Prints the time of the Viterbi pass (best tree) and of the inside pass
+/// (a parse without count, less the best tree) against [`Baseline`] on the
+/// same sentences, in thread CPU time, and the chart bytes per sentence.
+fn report_against_baseline(g: &Grammar, ambiguity: usize, len: usize) {
+    let parser = Parser::new(g).expect("the generated grammar compiles");
+    let (base_max, base_sum) = (Baseline::new(g, true), Baseline::new(g, false));
+    // Random word strings that the grammar parses (a string it does not
+    // parse skips the inside pass).
+    let mut rng = Rng(len as u64);
+    let sentences: Vec<Vec<String>> = std::iter::repeat_with(|| {
+        (0..len)
+            .map(|_| format!("w{}", rng.below(WORDS)))
+            .collect::<Vec<_>>()
+    })
+    .take(2000)
+    .filter(|s| {
+        parser
+            .best_tree(s, DEFAULT_MAX_CHART_BYTES)
+            .is_ok_and(|t| t.is_some())
+    })
+    .take(4)
+    .collect();
+    assert!(!sentences.is_empty(), "no random {len}-word string parses");
+    let options = ParseOptions {
+        kbest: 1,
+        count_parses: false,
+        explain: false,
+        ..ParseOptions::default()
+    };
+    // The machine is shared: the thread's CPU time, rounds of the four
+    // measurements interleaved (so that a busy moment weighs on all of
+    // them), the least of five rounds of at least 0.1 s each (the CPU
+    // clock may tick coarsely).
+    let once = |f: &dyn Fn(&Vec<String>)| {
+        let (mut spent, mut runs) = (0.0, 0usize);
+        while spent < 1e8 {
+            spent += cpu_time_ns(|| sentences.iter().for_each(f)).unwrap_or(f64::NAN);
+            runs += sentences.len();
+            if spent.is_nan() {
+                break;
+            }
+        }
+        spent / runs as f64
+    };
+    let mut least = [f64::INFINITY; 4];
+    for _ in 0..5 {
+        let round = [
+            once(&|s| {
+                black_box(base_max.parse(s));
+            }),
+            once(&|s| {
+                black_box(base_sum.parse(s));
+            }),
+            once(&|s| {
+                black_box(parser.best_tree(s, DEFAULT_MAX_CHART_BYTES).expect("fits"));
+            }),
+            once(&|s| {
+                black_box(parser.parse(s, &options).expect("fits"));
+            }),
+        ];
+        for (l, t) in least.iter_mut().zip(round) {
+            *l = l.min(t);
+        }
+    }
+    let [base_vit, base_ins, vit, full] = least;
+    let ins = full - vit;
+    eprintln!(
+        "baseline ratio, ambiguity {ambiguity}, {len} words: Viterbi {:.2}× ({:.2} vs {:.2} ms), inside {:.2}× ({:.2} vs {:.2} ms); chart {:.1} MiB per sentence",
+        base_vit / vit, vit / 1e6, base_vit / 1e6, base_ins / ins, ins / 1e6, base_ins / 1e6,
+        parser.chart_bytes(len, &options) as f64 / (1 << 20) as f64
+    );
+    // One long sentence on one and on two threads (wall clock, least of
+    // three rounds): the chart passes spread each span length's cells.
+    if len >= 30 {
+        let wall = |threads: usize| {
+            let pool = rayon::ThreadPoolBuilder::new()
+                .num_threads(threads)
+                .build()
+                .expect("a thread pool");
+            let spread = ParseOptions {
+                workers: Workers::new(RayonThreads),
+                ..options.clone()
+            };
+            pool.install(|| {
+                (0..3)
+                    .map(|_| {
+                        let start = std::time::Instant::now();
+                        let mut runs = 0;
+                        while start.elapsed().as_secs_f64() < 0.3 {
+                            for s in &sentences {
+                                black_box(parser.parse(s, &spread).expect("fits"));
+                            }
+                            runs += sentences.len();
+                        }
+                        start.elapsed().as_secs_f64() / runs as f64
+                    })
+                    .fold(f64::INFINITY, f64::min)
+            })
+        };
+        let (one, two) = (wall(1), wall(2));
+        eprintln!(
+            "threads, ambiguity {ambiguity}, {len} words: Viterbi + inside {:.2} ms on 1 thread, {:.2} ms on 2 ({:.2}×)",
+            one * 1e3,
+            two * 1e3,
+            one / two
+        );
+    }
+}
+
+/// rayon's threads for the chart passes, as the command line hands them in.
+struct RayonThreads;
+
+impl Spread for RayonThreads {
+    fn threads(&self) -> usize {
+        rayon::current_num_threads()
+    }
+
+    fn run<'a>(&self, tasks: Vec<Task<'a>>) {
+        use rayon::prelude::*;
+        tasks.into_par_iter().for_each(|task| task());
+    }
 }
 
 /// CPU time of this thread while running `f`, in nanoseconds (Linux

@@ -6,6 +6,9 @@
 //! current one. Each cell holds one value per compiled symbol, contiguously
 //! (`index = cell · n_sym + symbol`).
 
+use std::fmt;
+use std::sync::Arc;
+
 /// Sizes and cell numbering of a chart for `n` words and `n_sym` symbols.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
 pub(crate) struct Layout {
@@ -53,6 +56,117 @@ impl Watch<'_> {
             Ok(())
         }
     }
+}
+
+/// Something that runs independent pieces of work, possibly on several
+/// threads: the shells hand one to the engine (the engine itself starts no
+/// threads). Cells of one span length depend only on shorter cells, so a
+/// chart pass may fill them in any order, on any thread.
+pub trait Spread: Send + Sync {
+    /// How many threads the tasks may run on (1: no point in splitting).
+    fn threads(&self) -> usize;
+    /// Runs every task exactly once, in any order, and returns when all
+    /// have finished.
+    fn run<'a>(&self, tasks: Vec<Task<'a>>);
+    /// The estimated work (in rule visits) of a batch of cells below which
+    /// the calling thread fills it alone: handing work to other threads
+    /// costs a few microseconds, one rule visit about a nanosecond.
+    fn min_work(&self) -> u64 {
+        1_000_000
+    }
+}
+
+/// One piece of work handed to a [`Spread`].
+pub type Task<'a> = Box<dyn FnOnce() + Send + 'a>;
+
+/// The threads a parse may use: none beyond the caller's by default.
+/// Results never depend on it: every chart cell is computed the same way,
+/// by one thread, whichever thread that is.
+#[derive(Clone, Default)]
+pub struct Workers(Option<Arc<dyn Spread>>);
+
+impl Workers {
+    /// Only the calling thread.
+    pub fn caller_only() -> Workers {
+        Workers(None)
+    }
+
+    /// The threads of `spread`.
+    pub fn new(spread: impl Spread + 'static) -> Workers {
+        Workers(Some(Arc::new(spread)))
+    }
+
+    /// How many threads these workers have.
+    pub fn threads(&self) -> usize {
+        self.0.as_ref().map_or(1, |s| s.threads().max(1))
+    }
+}
+
+impl fmt::Debug for Workers {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "Workers {{ threads: {} }}", self.threads())
+    }
+}
+
+impl PartialEq for Workers {
+    fn eq(&self, other: &Workers) -> bool {
+        match (&self.0, &other.0) {
+            (None, None) => true,
+            (Some(a), Some(b)) => Arc::ptr_eq(a, b),
+            _ => false,
+        }
+    }
+}
+
+/// Fills the cells of one span length: `fill(n, &mut outs[n], scratch)` for
+/// each, asking `watch` once per cell. With several workers, batches of
+/// cells whose estimated `work(n)` reaches [`Spread::min_work`] are spread over them
+/// (the watch is then asked for a batch's cells before it starts).
+pub(crate) fn fill_cells<T: Send, S>(
+    workers: &Workers,
+    watch: Watch,
+    outs: &mut [T],
+    work: impl Fn(usize) -> u64,
+    scratch: impl Fn() -> S + Sync,
+    fill: impl Fn(usize, &mut T, &mut S) + Sync,
+) -> Result<(), Stopped> {
+    let mut own = None;
+    let spread = match &workers.0 {
+        Some(s) if s.threads() > 1 => s,
+        _ => {
+            let s = own.get_or_insert_with(&scratch);
+            for (n, out) in outs.iter_mut().enumerate() {
+                watch.check()?;
+                fill(n, out, s);
+            }
+            return Ok(());
+        }
+    };
+    let batch = 4 * spread.threads();
+    let mut first = 0;
+    for chunk in outs.chunks_mut(batch) {
+        let total: u64 = (first..first + chunk.len()).map(&work).sum();
+        if total < spread.min_work() {
+            let s = own.get_or_insert_with(&scratch);
+            for (n, out) in chunk.iter_mut().enumerate() {
+                watch.check()?;
+                fill(first + n, out, s);
+            }
+        } else {
+            for _ in 0..chunk.len() {
+                watch.check()?;
+            }
+            let (fill, scratch) = (&fill, &scratch);
+            let tasks = chunk
+                .iter_mut()
+                .enumerate()
+                .map(|(n, out)| Box::new(move || fill(first + n, out, &mut scratch())) as Task<'_>)
+                .collect();
+            spread.run(tasks);
+        }
+        first += chunk.len();
+    }
+    Ok(())
 }
 
 /// `ln(e^a + e^b)` without overflow; `-inf` is the zero.
@@ -114,6 +228,37 @@ pub(crate) mod kernels {
                 let slot = pre.get_unchecked_mut(a);
                 // A select, not a branch: which rule wins is unpredictable.
                 *slot = if cand > *slot { cand } else { *slot };
+            }
+        }
+    }
+
+    /// [`max_scan`] for `N` split points at once: the rules of `b` are read
+    /// once and each parent's slot is updated once for all `N` (the same
+    /// maximum of the same sums, `lp + lb + right[C]`, as `N` scans).
+    #[inline]
+    pub fn max_scan_n<const N: usize>(
+        rules: &[BinRule],
+        lb: [f64; N],
+        right: [&[f64]; N],
+        pre: &mut [f64],
+    ) {
+        let n = pre.len();
+        for row in right {
+            assert_eq!(row.len(), n);
+        }
+        for rule in rules {
+            let (r, a) = (rule.right as usize, rule.parent as usize);
+            debug_assert!(r < n && a < n);
+            let mut best = f64::NEG_INFINITY;
+            for t in 0..N {
+                // SAFETY: r < n_sym = right[t].len() (see module doc).
+                let cand = rule.lp + lb[t] + unsafe { *right[t].get_unchecked(r) };
+                best = if cand > best { cand } else { best };
+            }
+            // SAFETY: a < n_sym = pre.len() (see module doc).
+            unsafe {
+                let slot = pre.get_unchecked_mut(a);
+                *slot = if best > *slot { best } else { *slot };
             }
         }
     }

@@ -174,6 +174,8 @@ pub struct CompiledGrammar {
     /// The user's rules with positive probability, for explanations.
     pub(crate) user_rules: Vec<(u32, Vec<Item>)>,
     pub(crate) user_rules_of: Vec<Vec<u32>>,
+    /// Whether any unseen-word terminal is in the lexicon.
+    pub(crate) has_unseen: bool,
 }
 
 impl CompiledGrammar {
@@ -309,7 +311,9 @@ impl CompiledGrammar {
 
         let closures = unary_closures(grammar, n_sym, &unary)?;
 
+        let has_unseen = grammar_lang::unseen::terminals().any(|t| b.lexicon.contains_key(t));
         Ok(CompiledGrammar {
+            has_unseen,
             kinds: b.kinds,
             names: grammar
                 .nonterminals
@@ -386,6 +390,17 @@ impl CompiledGrammar {
             .get(word)
             .map(|es| es.iter().map(|e| (e.sym, e.p, e.origin)).collect())
             .unwrap_or_default()
+    }
+
+    /// The key under which `word` is looked up in the lexicon: the word
+    /// itself when some rule produces it, otherwise the unseen-word
+    /// terminal of its shape class that the grammar has
+    /// ([`grammar_lang::unseen`]), or the word again when there is none.
+    pub fn lexicon_key<'w>(&self, word: &'w str) -> &'w str {
+        if self.lexicon.contains_key(word) || !self.has_unseen {
+            return word;
+        }
+        grammar_lang::unseen::resolve(word, |t| self.lexicon.contains_key(t)).unwrap_or(word)
     }
 
     /// The summed unary closure `C[A][B] = Σ over chains A ⇒* B` (1 on the

@@ -17,6 +17,7 @@
 //! assert_eq!(outcome.best.unwrap().tree.to_brackets(), r#"(S "hello")"#);
 //! ```
 
+pub use crate::chart::{Spread, Task, Workers};
 use crate::chart::{Stopped, Watch};
 use crate::compile::{CompileError, CompiledGrammar};
 use crate::count::{count_parses, Count};
@@ -42,6 +43,11 @@ pub struct ParseOptions {
     pub count_parses: bool,
     /// Explain a failed parse.
     pub explain: bool,
+    /// Threads the chart passes may spread one sentence's cells over (only
+    /// the calling thread by default). Results are the same bit for bit
+    /// whatever the threads; small sentences and grammars stay on the
+    /// calling thread.
+    pub workers: Workers,
 }
 
 impl Default for ParseOptions {
@@ -51,6 +57,7 @@ impl Default for ParseOptions {
             max_chart_bytes: DEFAULT_MAX_CHART_BYTES,
             count_parses: true,
             explain: true,
+            workers: Workers::default(),
         }
     }
 }
@@ -237,10 +244,11 @@ impl Parser {
         stop: &dyn Fn() -> bool,
     ) -> Result<ParseOutcome, ParseError> {
         let words = self.check_size(words, options)?;
+        let keys = self.keys(&words);
         let watch = Watch(stop);
         let g = &self.grammar;
         let n = words.len();
-        let vit = viterbi::fill(g, &words, watch)?;
+        let vit = viterbi::fill(g, &keys, watch, &options.workers)?;
         let root_score = vit.get(0, n, g.start);
         if root_score == f64::NEG_INFINITY {
             return Ok(ParseOutcome {
@@ -249,12 +257,14 @@ impl Parser {
                 sentence_probability: 0.0,
                 sentence_log_probability: f64::NEG_INFINITY,
                 parse_count: options.count_parses.then(Count::zero),
-                explanation: options.explain.then(|| explain(g, &words, &vit)),
+                explanation: options
+                    .explain
+                    .then(|| in_own_words(explain(g, &keys, &vit), &words)),
             });
         }
         let best =
-            best_derivation(g, &vit, &words, 0, n, g.start).map(|d| self.tree_of(&words, &d));
-        let ins = inside::fill(g, &words, &vit, watch)?;
+            best_derivation(g, &vit, &keys, 0, n, g.start).map(|d| self.tree_of(&keys, &words, &d));
+        let ins = inside::fill(g, &keys, &vit, watch, &options.workers)?;
         let sentence_log_probability = ins.get(0, n, g.start);
         let kbest = match options.kbest {
             0 => Vec::new(),
@@ -262,11 +272,11 @@ impl Parser {
             k => {
                 let chart = self.chart_bytes(n, options);
                 let budget = options.max_chart_bytes.saturating_sub(chart);
-                match kbest::kbest(g, &words, &vit, k, budget, watch) {
+                match kbest::kbest(g, &keys, &vit, k, budget, watch) {
                     Ok(found) => found
                         .trees
                         .into_iter()
-                        .map(|(d, _)| self.tree_of(&words, &d))
+                        .map(|(d, _)| self.tree_of(&keys, &words, &d))
                         .collect(),
                     Err(kbest::Cut::Stopped) => return Err(ParseError::Stopped),
                     Err(kbest::Cut::OverBudget { found, used }) => {
@@ -282,7 +292,7 @@ impl Parser {
             }
         };
         let parse_count = if options.count_parses {
-            Some(count_parses(g, &words, &vit, watch)?)
+            Some(count_parses(g, &keys, &vit, watch)?)
         } else {
             None
         };
@@ -314,16 +324,32 @@ impl Parser {
         stop: &dyn Fn() -> bool,
     ) -> Result<Option<ParsedTree>, ParseError> {
         let options = ParseOptions {
-            kbest: 1,
             max_chart_bytes,
+            ..ParseOptions::default()
+        };
+        self.best_tree_with(words, &options, stop)
+    }
+
+    /// [`Parser::best_tree_until`] with the chart limit and the workers of
+    /// `options` (the rest of `options` is not used).
+    pub fn best_tree_with<S: AsRef<str>>(
+        &self,
+        words: &[S],
+        options: &ParseOptions,
+        stop: &dyn Fn() -> bool,
+    ) -> Result<Option<ParsedTree>, ParseError> {
+        let options = ParseOptions {
+            kbest: 1,
             count_parses: false,
             explain: false,
+            ..options.clone()
         };
         let words = self.check_size(words, &options)?;
+        let keys = self.keys(&words);
         let g = &self.grammar;
-        let vit = viterbi::fill(g, &words, Watch(stop))?;
-        Ok(best_derivation(g, &vit, &words, 0, words.len(), g.start)
-            .map(|d| self.tree_of(&words, &d)))
+        let vit = viterbi::fill(g, &keys, Watch(stop), &options.workers)?;
+        Ok(best_derivation(g, &vit, &keys, 0, words.len(), g.start)
+            .map(|d| self.tree_of(&keys, &words, &d)))
     }
 
     /// The number of binary-rule evaluations one chart pass makes for
@@ -341,8 +367,9 @@ impl Parser {
             ..ParseOptions::default()
         };
         let words = self.check_size(words, &options)?;
+        let keys = self.keys(&words);
         let g = &self.grammar;
-        let vit = viterbi::fill(g, &words, Watch(&|| false))?;
+        let vit = viterbi::fill(g, &keys, Watch(&|| false), &Workers::default())?;
         let layout = vit.layout;
         let mut evals = 0u64;
         for len in 2..=layout.n {
@@ -377,10 +404,11 @@ impl Parser {
             ..ParseOptions::default()
         };
         let words = self.check_size(words, &options)?;
+        let keys = self.keys(&words);
         let g = &self.grammar;
         let watch = Watch(&|| false);
-        let vit = viterbi::fill(g, &words, watch)?;
-        match kbest::kbest(g, &words, &vit, kbest, u64::MAX, watch) {
+        let vit = viterbi::fill(g, &keys, watch, &Workers::default())?;
+        match kbest::kbest(g, &keys, &vit, kbest, u64::MAX, watch) {
             Ok(found) => Ok(found.state_bytes),
             Err(_) => Err(ParseError::Stopped),
         }
@@ -416,8 +444,36 @@ impl Parser {
         self.parse(&words, options)
     }
 
-    fn tree_of(&self, words: &[&str], d: &Deriv) -> ParsedTree {
-        let log_probability = derivation_logprob(&self.grammar, words, d);
+    /// What each word is looked up as ([`CompiledGrammar::lexicon_key`]):
+    /// the word itself, or the unseen-word terminal of its shape class.
+    fn keys<'w>(&self, words: &[&'w str]) -> Vec<&'w str> {
+        words.iter().map(|w| self.grammar.lexicon_key(w)).collect()
+    }
+
+    /// The words of a sentence the grammar reads as unseen-word terminals
+    /// ([`grammar_lang::unseen`]), each with its position and the terminal
+    /// it is read as, in sentence order.
+    pub fn unseen_words<'w, S: AsRef<str>>(
+        &self,
+        words: &'w [S],
+    ) -> Vec<(usize, &'w str, &'static str)> {
+        words
+            .iter()
+            .enumerate()
+            .filter_map(|(i, w)| {
+                let w = w.as_ref();
+                let key = self.grammar.lexicon_key(w);
+                grammar_lang::unseen::terminals()
+                    .find(|t| *t == key && *t != w)
+                    .map(|t| (i, w, t))
+            })
+            .collect()
+    }
+
+    /// The tree of derivation `d` over the lexicon keys `keys`, with the
+    /// sentence's own `words` at its leaves.
+    fn tree_of(&self, keys: &[&str], words: &[&str], d: &Deriv) -> ParsedTree {
+        let log_probability = derivation_logprob(&self.grammar, keys, d);
         let tree = to_user_trees(&self.grammar, words, d)
             .into_iter()
             .next()
@@ -433,4 +489,25 @@ impl Parser {
             log_probability,
         }
     }
+}
+
+/// An explanation computed over lexicon keys, told in the sentence's own
+/// words (an unseen word is shown as written, not as its class).
+fn in_own_words(mut e: Explanation, words: &[&str]) -> Explanation {
+    for u in &mut e.unknown_words {
+        if let Some(w) = words.get(u.position) {
+            u.word = (*w).to_string();
+        }
+    }
+    for f in &mut e.fragments {
+        if let Some(ws) = words.get(f.start..f.end) {
+            f.text = ws.join(" ");
+        }
+    }
+    if let Some(at) = &mut e.breakdown.stuck_at {
+        if let Some(w) = words.get(at.position) {
+            at.word = (*w).to_string();
+        }
+    }
+    e
 }

@@ -147,6 +147,7 @@ pub fn run_case_until(
                 max_chart_bytes,
                 count_parses: false,
                 explain: true,
+                ..ParseOptions::default()
             };
             let explanation = parser
                 .parse_until(&words, &options, stop)
@@ -265,7 +266,7 @@ pub fn tree_rules(grammar: &Grammar, tree: &Tree) -> Result<Vec<RuleId>, String>
         let mut rhs = Vec::with_capacity(children.len());
         for child in children {
             let sym = match child {
-                Tree::Leaf(word) => grammar.term(word).map(Sym::T),
+                Tree::Leaf(word) => grammar.word_term(word).map(Sym::T),
                 Tree::Node { label, .. } => grammar.nt(label).map(Sym::N),
             };
             let Some(sym) = sym else {

@@ -7,7 +7,7 @@
 //! re-deriving the arg-max at each item from the finished chart, which keeps
 //! the inner loop to one add, one add and one compare per rule.
 
-use crate::chart::{kernels, Layout, Stopped, Watch};
+use crate::chart::{fill_cells, kernels, Layout, Stopped, Watch, Workers};
 use crate::compile::{CompiledGrammar, Origin, Visit};
 
 /// A derivation in the compiled grammar.
@@ -45,12 +45,13 @@ impl ViterbiChart {
     }
 }
 
-/// Fills the Viterbi chart for `words`, asking `watch` once per cell.
-#[allow(clippy::needless_range_loop)] // cells are addressed by (i, j)
+/// Fills the Viterbi chart for `words`, asking `watch` once per cell; the
+/// cells of one span length may be spread over `workers`.
 pub(crate) fn fill(
     g: &CompiledGrammar,
     words: &[&str],
     watch: Watch,
+    workers: &Workers,
 ) -> Result<ViterbiChart, Stopped> {
     let layout = Layout::new(words.len(), g.symbol_count());
     let n_sym = layout.n_sym;
@@ -59,79 +60,45 @@ pub(crate) fn fill(
     let mut present_start = Vec::with_capacity(cells + 1);
     present_start.push(0u32);
     let mut present: Vec<u32> = Vec::new();
-    let mut pre = vec![f64::NEG_INFINITY; n_sym];
-    let mut rmask = vec![0u64; g.mask_words];
+    let rules_per_left = (g.bin.len() / n_sym.max(1)).max(1) as u64;
     for len in 1..=layout.n {
-        for i in 0..=layout.n - len {
-            let j = i + len;
-            let c = layout.cell(i, j);
-            watch.check()?;
-            pre.fill(f64::NEG_INFINITY);
-            let (done, rest) = score.split_at_mut(c * n_sym);
-            if len == 1 {
-                if let Some(entries) = g.lexicon.get(words[i]) {
-                    for e in entries {
-                        let slot = &mut pre[e.sym as usize];
-                        if e.lp > *slot {
-                            *slot = e.lp;
-                        }
-                    }
-                }
-            } else {
-                for k in i + 1..j {
-                    let l = layout.cell(i, k);
-                    let r = layout.cell(k, j);
-                    let left = &done[l * n_sym..(l + 1) * n_sym];
-                    let right = &done[r * n_sym..(r + 1) * n_sym];
-                    let lp_start = present_start[l] as usize;
-                    let lp_end = present_start[l + 1] as usize;
-                    let rp = &present[present_start[r] as usize..present_start[r + 1] as usize];
-                    let mut rmask_ready = false;
-                    for &b in &present[lp_start..lp_end] {
-                        let lb = left[b as usize];
-                        let base = b as usize * n_sym;
-                        match g.visit(b, rp.len()) {
-                            Visit::Scan => kernels::max_scan(
-                                &g.bin[g.binary_rule_range(b)],
-                                lb,
-                                right,
-                                &mut pre,
-                            ),
-                            Visit::Pairs(table) => {
-                                kernels::max_pairs(&g.bin, table, base, rp, lb, right, &mut pre)
-                            }
-                            Visit::Mask(table, bmask) => {
-                                if !rmask_ready {
-                                    kernels::fill_mask(&mut rmask, rp);
-                                    rmask_ready = true;
-                                }
-                                kernels::max_mask(
-                                    &g.bin, table, base, bmask, &rmask, lb, right, &mut pre,
-                                )
-                            }
-                        }
-                    }
-                }
-            }
-            let row = &mut rest[..n_sym];
-            row.copy_from_slice(&pre);
-            for &b in &g.unary_children {
-                let pb = pre[b as usize];
-                if pb == f64::NEG_INFINITY {
-                    continue;
-                }
-                for &(a, w) in &g.vit_closure[b as usize] {
-                    let cand = w + pb;
-                    if cand > row[a as usize] {
-                        row[a as usize] = cand;
-                    }
-                }
-            }
-            for (s, &v) in row.iter().enumerate() {
-                if v > f64::NEG_INFINITY {
-                    present.push(s as u32);
-                }
-            }
+        let first = layout.cell(0, len);
+        let count = layout.n - len + 1;
+        let (done, rest) = score.split_at_mut(first * n_sym);
+        let mut outs: Vec<(&mut [f64], Vec<u32>)> = rest[..count * n_sym]
+            .chunks_mut(n_sym)
+            .map(|row| (row, Vec::new()))
+            .collect();
+        let done = Done {
+            layout,
+            score: done,
+            present_start: &present_start,
+            present: &present,
+        };
+        let work = |i: usize| -> u64 {
+            (i + 1..i + len)
+                .map(|k| {
+                    // A left symbol's rules are scanned, or looked up by
+                    // each right symbol (a few steps each), whichever is less.
+                    let right = done.present(layout.cell(k, i + len)).len() as u64;
+                    done.present(layout.cell(i, k)).len() as u64 * rules_per_left.min(3 * right)
+                })
+                .sum()
+        };
+        fill_cells(
+            workers,
+            watch,
+            &mut outs,
+            work,
+            || Scratch {
+                pre: vec![f64::NEG_INFINITY; n_sym],
+                rmask: vec![0u64; g.mask_words],
+                groups: Groups::new(n_sym),
+            },
+            |i, (row, out), scratch| fill_cell(g, words, &done, i, i + len, row, out, scratch),
+        )?;
+        for (_, out) in outs {
+            present.extend_from_slice(&out);
             present_start.push(present.len() as u32);
         }
     }
@@ -141,6 +108,236 @@ pub(crate) fn fill(
         present_start,
         present,
     })
+}
+
+/// The finished part of a Viterbi chart: every cell shorter than the ones
+/// being filled.
+struct Done<'a> {
+    layout: Layout,
+    score: &'a [f64],
+    present_start: &'a [u32],
+    present: &'a [u32],
+}
+
+impl Done<'_> {
+    #[inline]
+    fn present(&self, c: usize) -> &[u32] {
+        &self.present[self.present_start[c] as usize..self.present_start[c + 1] as usize]
+    }
+
+    #[inline]
+    fn row(&self, c: usize) -> &[f64] {
+        let n_sym = self.layout.n_sym;
+        &self.score[c * n_sym..(c + 1) * n_sym]
+    }
+}
+
+/// One cell's working rows.
+struct Scratch {
+    pre: Vec<f64>,
+    rmask: Vec<u64>,
+    groups: Groups,
+}
+
+/// Fills `row`, cell `(i, j)`, from the finished shorter cells, and lists
+/// its present symbols in `out`.
+#[allow(clippy::too_many_arguments)]
+fn fill_cell(
+    g: &CompiledGrammar,
+    words: &[&str],
+    done: &Done,
+    i: usize,
+    j: usize,
+    row: &mut [f64],
+    out: &mut Vec<u32>,
+    scratch: &mut Scratch,
+) {
+    let Scratch { pre, rmask, groups } = scratch;
+    pre.fill(f64::NEG_INFINITY);
+    if j - i == 1 {
+        if let Some(entries) = g.lexicon.get(words[i]) {
+            for e in entries {
+                let slot = &mut pre[e.sym as usize];
+                if e.lp > *slot {
+                    *slot = e.lp;
+                }
+            }
+        }
+    } else {
+        fill_grouped(g, done, i, j, pre, rmask, groups);
+    }
+    row.copy_from_slice(pre);
+    for &b in &g.unary_children {
+        let pb = pre[b as usize];
+        if pb == f64::NEG_INFINITY {
+            continue;
+        }
+        for &(a, w) in &g.vit_closure[b as usize] {
+            let cand = w + pb;
+            if cand > row[a as usize] {
+                row[a as usize] = cand;
+            }
+        }
+    }
+    for (s, &v) in row.iter().enumerate() {
+        if v > f64::NEG_INFINITY {
+            out.push(s as u32);
+        }
+    }
+}
+
+/// The binary rules of cell `(i, j)`, split point by split point, over the
+/// present symbols of each left cell: the plain loop [`fill_grouped`] must
+/// agree with.
+#[cfg(test)]
+fn fill_by_split(
+    g: &CompiledGrammar,
+    done: &Done,
+    i: usize,
+    j: usize,
+    pre: &mut [f64],
+    rmask: &mut [u64],
+) {
+    let layout = done.layout;
+    for k in i + 1..j {
+        let l = layout.cell(i, k);
+        let r = layout.cell(k, j);
+        let left = done.row(l);
+        let right = done.row(r);
+        let rp = done.present(r);
+        if rp.is_empty() {
+            continue;
+        }
+        let mut rmask_ready = false;
+        for &b in done.present(l) {
+            visit_one(
+                g,
+                b,
+                left[b as usize],
+                right,
+                rp,
+                rmask,
+                &mut rmask_ready,
+                pre,
+            );
+        }
+    }
+}
+
+/// Rules `A → b C` over one split point: `pre[A] = max(pre[A], lp + lb +
+/// right[C])`, visiting `b`'s rules whichever way [`CompiledGrammar::visit`]
+/// finds cheapest.
+#[allow(clippy::too_many_arguments)]
+#[inline]
+fn visit_one(
+    g: &CompiledGrammar,
+    b: u32,
+    lb: f64,
+    right: &[f64],
+    rp: &[u32],
+    rmask: &mut [u64],
+    rmask_ready: &mut bool,
+    pre: &mut [f64],
+) {
+    let base = b as usize * right.len();
+    match g.visit(b, rp.len()) {
+        Visit::Scan => kernels::max_scan(&g.bin[g.binary_rule_range(b)], lb, right, pre),
+        Visit::Pairs(table) => kernels::max_pairs(&g.bin, table, base, rp, lb, right, pre),
+        Visit::Mask(table, bmask) => {
+            if !*rmask_ready {
+                kernels::fill_mask(rmask, rp);
+                *rmask_ready = true;
+            }
+            kernels::max_mask(&g.bin, table, base, bmask, rmask, lb, right, pre)
+        }
+    }
+}
+
+/// Left symbols waiting for a scan of their rules, up to four split points
+/// each, so that [`kernels::max_scan_n`] reads the rules once for all.
+struct Groups {
+    lb: Vec<[f64; 4]>,
+    split: Vec<[u32; 4]>,
+    count: Vec<u8>,
+    touched: Vec<u32>,
+}
+
+impl Groups {
+    fn new(n_sym: usize) -> Groups {
+        Groups {
+            lb: vec![[0.0; 4]; n_sym],
+            split: vec![[0; 4]; n_sym],
+            count: vec![0; n_sym],
+            touched: Vec::new(),
+        }
+    }
+}
+
+/// The binary rules of cell `(i, j)`. A left symbol whose rules are best
+/// scanned (see [`CompiledGrammar::visit`]) is queued and its rules are
+/// read once for up to four split points; the other visits happen at once.
+/// Every candidate is the same sum `lp + lb + right[C]` as in the split by
+/// split loop and the maximum does not depend on the order, so the scores
+/// are the same bit for bit.
+fn fill_grouped(
+    g: &CompiledGrammar,
+    done: &Done,
+    i: usize,
+    j: usize,
+    pre: &mut [f64],
+    rmask: &mut [u64],
+    groups: &mut Groups,
+) {
+    let layout = done.layout;
+    let mut rights: Vec<&[f64]> = Vec::with_capacity(j - i);
+    let scan = |groups: &Groups, rights: &[&[f64]], b: u32, pre: &mut [f64]| {
+        let rules = &g.bin[g.binary_rule_range(b)];
+        let (lb, at) = (groups.lb[b as usize], groups.split[b as usize]);
+        let row = |t: usize| rights[at[t] as usize];
+        match groups.count[b as usize] {
+            1 => kernels::max_scan(rules, lb[0], row(0), pre),
+            2 => kernels::max_scan_n(rules, [lb[0], lb[1]], [row(0), row(1)], pre),
+            3 => kernels::max_scan_n(rules, [lb[0], lb[1], lb[2]], [row(0), row(1), row(2)], pre),
+            4 => kernels::max_scan_n(rules, lb, [row(0), row(1), row(2), row(3)], pre),
+            _ => {}
+        }
+    };
+    for k in i + 1..j {
+        let l = layout.cell(i, k);
+        let r = layout.cell(k, j);
+        let rp = done.present(r);
+        if rp.is_empty() {
+            continue;
+        }
+        let (left, right) = (done.row(l), done.row(r));
+        let s = rights.len() as u32;
+        rights.push(right);
+        let mut rmask_ready = false;
+        for &b in done.present(l) {
+            let lb = left[b as usize];
+            if matches!(g.visit(b, rp.len()), Visit::Scan) {
+                let n = groups.count[b as usize] as usize;
+                if n == 0 {
+                    groups.touched.push(b);
+                }
+                groups.lb[b as usize][n] = lb;
+                groups.split[b as usize][n] = s;
+                groups.count[b as usize] = n as u8 + 1;
+                if n == 3 {
+                    scan(groups, &rights, b, pre);
+                    groups.count[b as usize] = 0;
+                }
+            } else {
+                visit_one(g, b, lb, right, rp, rmask, &mut rmask_ready, pre);
+            }
+        }
+    }
+    for t in 0..groups.touched.len() {
+        let b = groups.touched[t];
+        scan(groups, &rights, b, pre);
+        groups.count[b as usize] = 0;
+    }
+    groups.touched.clear();
 }
 
 /// The best score of `sym` over `i..j` before the unary closure, with its
@@ -409,4 +606,85 @@ pub(crate) fn to_user_trees(
         }
     }
     built.pop().unwrap_or_default()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A grammar whose cells hold most symbols: every non-terminal has
+    /// binary rules over many pairs and most words belong to several.
+    fn dense_grammar() -> CompiledGrammar {
+        let mut text = String::from("start N0\n");
+        let mut seed = 7u64;
+        let mut next = |n: u64| {
+            seed = seed
+                .wrapping_mul(6364136223846793005)
+                .wrapping_add(1442695040888963407);
+            (seed >> 33) % n
+        };
+        for a in 0..16 {
+            text.push_str(&format!("N{a} relative {{\n"));
+            for _ in 0..40 {
+                text.push_str(&format!(
+                    "  | {} N{} N{}\n",
+                    1 + next(9),
+                    next(16),
+                    next(16)
+                ));
+            }
+            for w in 0..4 {
+                if next(2) == 0 {
+                    text.push_str(&format!("  | 1 \"w{w}\"\n"));
+                }
+            }
+            text.push_str("  | 1 \"w4\"\n}\n");
+        }
+        let analysis = grammar_lang::analyze_text(&text);
+        assert!(!analysis.has_errors(), "{:?}", analysis.diagnostics);
+        CompiledGrammar::new(&analysis.grammar).expect("compiles")
+    }
+
+    #[test]
+    fn grouped_scans_give_the_same_scores_bit_for_bit_as_split_by_split() {
+        let g = dense_grammar();
+        let words = ["w0", "w4", "w1", "w2", "w4", "w3", "w0", "w1", "w4", "w2"];
+        let chart = fill(&g, &words, Watch(&|| false), &Workers::default()).expect("runs");
+        let done = Done {
+            layout: chart.layout,
+            score: &chart.score,
+            present_start: &chart.present_start,
+            present: &chart.present,
+        };
+        let n_sym = g.symbol_count();
+        let mut rmask = vec![0u64; g.mask_words];
+        let mut groups = Groups::new(n_sym);
+        let mut compared = 0;
+        for len in 3..=words.len() {
+            for i in 0..=words.len() - len {
+                let j = i + len;
+                let mut by_split = vec![f64::NEG_INFINITY; n_sym];
+                let mut grouped = vec![f64::NEG_INFINITY; n_sym];
+                fill_by_split(&g, &done, i, j, &mut by_split, &mut rmask);
+                fill_grouped(&g, &done, i, j, &mut grouped, &mut rmask, &mut groups);
+                compared += 1;
+                let bits = |v: &[f64]| v.iter().map(|x| x.to_bits()).collect::<Vec<_>>();
+                assert_eq!(bits(&by_split), bits(&grouped), "cell ({i}, {j})");
+            }
+        }
+        assert!(compared > 10);
+        // Grouping happened: some left symbol is scanned at several split
+        // points of one cell.
+        let (i, j) = (0, words.len());
+        let layout = chart.layout;
+        let scanned = (i + 1..j)
+            .filter(|&k| {
+                let rp = done.present(layout.cell(k, j));
+                done.present(layout.cell(i, k)).iter().any(|&b| {
+                    b == 0 && !rp.is_empty() && matches!(g.visit(b, rp.len()), Visit::Scan)
+                })
+            })
+            .count();
+        assert!(scanned >= 2, "N0 is scanned at {scanned} split points");
+    }
 }

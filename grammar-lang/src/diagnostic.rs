@@ -82,6 +82,8 @@ codes! {
         "A weight that is not a number, e.g. a division by zero.";
     SumNotOne = "sum-not-one", Error,
         "A block (not `relative`) whose probabilities do not add up to exactly 1.";
+    ApproximateSum = "approximate-sum", Note,
+        "A block whose exact sum is too large to compute (more than 65,536 bits): its sum is checked, and its probabilities resolved, in floating point.";
     NoMassLeft = "no-mass-left", Error,
         "Unweighted alternatives in a block whose weighted ones already use all the mass.";
     AllZero = "all-zero", Error,

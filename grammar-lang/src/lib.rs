@@ -27,6 +27,7 @@ pub mod source;
 pub mod span;
 pub mod syntax;
 pub mod tree;
+pub mod unseen;
 pub mod weight;
 
 pub use analysis::{analyze, analyze_text, Analysis};

@@ -110,68 +110,168 @@ pub enum Share<'a> {
 /// In both kinds a negative weight (an error of its own, `negative-weight`)
 /// counts as 0 so that the other numbers stay probabilities, and a
 /// [`Share::Broken`] weight counts as 0 as well.
-pub fn resolve_block(relative: bool, shares: &[Share<'_>]) -> Vec<Ratio> {
+///
+/// A block whose exact sum would need more than
+/// [`model::EXACT_SUM_BITS`] is resolved the same way in floating point
+/// (see [`Resolved::approximate`]).
+pub fn resolve_block(relative: bool, shares: &[Share<'_>]) -> Resolved {
     resolve_shares(relative, shares.iter().copied())
 }
 
+/// A block's resolved probabilities.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Resolved {
+    /// One per alternative, in order.
+    pub probabilities: Vec<Ratio>,
+    /// Their sum.
+    pub mass: Ratio,
+    /// Set when the exact sum was past the limit: the probabilities and
+    /// the mass are then exact values of floating-point numbers.
+    pub approximate: Option<model::Approximation>,
+}
+
+/// The weight an alternative counts with (`None`: a share of the rest).
+fn counted<'a>(s: Share<'a>, relative: bool, zero: &'a Ratio, one: &'a Ratio) -> Option<&'a Ratio> {
+    match s {
+        Share::Weighted(w) if w.is_negative() => Some(zero),
+        Share::Weighted(w) => Some(w),
+        Share::Unweighted if relative => Some(one),
+        Share::Unweighted => None,
+        Share::Broken => Some(zero),
+    }
+}
+
 /// [`resolve_block`] over any list of shares that can be read more than once.
-fn resolve_shares<'a>(
-    relative: bool,
-    shares: impl Iterator<Item = Share<'a>> + Clone,
-) -> Vec<Ratio> {
+fn resolve_shares<'a>(relative: bool, shares: impl Iterator<Item = Share<'a>> + Clone) -> Resolved {
     let zero = Ratio::zero();
     let one = Ratio::one();
-    // The weight each alternative counts with (`None`: a share of the rest).
-    fn counted<'a>(
-        s: Share<'a>,
-        relative: bool,
-        zero: &'a Ratio,
-        one: &'a Ratio,
-    ) -> Option<&'a Ratio> {
-        match s {
-            Share::Weighted(w) if w.is_negative() => Some(zero),
-            Share::Weighted(w) => Some(w),
-            Share::Unweighted if relative => Some(one),
-            Share::Unweighted => None,
-            Share::Broken => Some(zero),
-        }
-    }
-    let sum = exact_sum(
+    let Some(sum) = capped_sum(
         shares
             .clone()
             .filter_map(|s| counted(s, relative, &zero, &one)),
-    );
+    ) else {
+        return resolve_approximately(relative, shares);
+    };
     if relative {
         if sum.is_zero() {
-            return shares.map(|_| Ratio::zero()).collect();
+            return Resolved {
+                probabilities: shares.map(|_| Ratio::zero()).collect(),
+                mass: Ratio::zero(),
+                approximate: None,
+            };
         }
-        return shares
-            .map(|s| match counted(s, relative, &zero, &one) {
-                Some(w) if sum.is_one() => w.clone(),
-                Some(w) => exact_div(w, &sum),
-                None => Ratio::zero(),
-            })
-            .collect();
+        return Resolved {
+            probabilities: shares
+                .map(|s| match counted(s, relative, &zero, &one) {
+                    Some(w) if sum.is_one() => w.clone(),
+                    Some(w) => exact_div(w, &sum),
+                    None => Ratio::zero(),
+                })
+                .collect(),
+            mass: Ratio::one(),
+            approximate: None,
+        };
     }
     let unweighted = shares
         .clone()
         .filter(|s| matches!(s, Share::Unweighted))
         .count();
-    let remainder = Ratio::one() - sum;
-    let each = if unweighted > 0 && remainder.is_positive() {
-        exact_div(&remainder, &Ratio::from(unweighted as i64))
+    let remainder = Ratio::one() - &sum;
+    let (each, mass) = if unweighted > 0 && remainder.is_positive() {
+        (
+            exact_div(&remainder, &Ratio::from(unweighted as i64)),
+            Ratio::one(),
+        )
     } else {
-        Ratio::zero()
+        (Ratio::zero(), sum)
     };
-    shares
-        .map(|s| counted(s, relative, &zero, &one).unwrap_or(&each).clone())
-        .collect()
+    Resolved {
+        probabilities: shares
+            .map(|s| counted(s, relative, &zero, &one).unwrap_or(&each).clone())
+            .collect(),
+        mass,
+        approximate: None,
+    }
+}
+
+/// [`resolve_shares`] in floating point, for a block whose exact sum is
+/// past the limit. The sum of `n` counted weights, each rounded to the
+/// nearest float and added one after the other, is within
+/// `γ_n · Σ|w_i|` of the exact sum, `γ_n = n·u / (1 − n·u)` with the unit
+/// roundoff `u = 2^-53` (Higham, *Accuracy and Stability of Numerical
+/// Algorithms*, 2nd ed., §4.2 and Lemma 3.1: one rounding per conversion
+/// and at most `n − 1` per addition give each term at most `n` factors
+/// `1 + δ`, `|δ| ≤ u`).
+fn resolve_approximately<'a>(
+    relative: bool,
+    shares: impl Iterator<Item = Share<'a>> + Clone,
+) -> Resolved {
+    let zero = Ratio::zero();
+    let one = Ratio::one();
+    let floats: Vec<Option<f64>> = shares
+        .clone()
+        .map(|s| counted(s, relative, &zero, &one).map(model::to_f64))
+        .collect();
+    let n = floats.iter().flatten().count() as f64;
+    let weighted: f64 = floats.iter().flatten().sum();
+    let u = f64::EPSILON / 2.0;
+    let gamma = n * u / (1.0 - n * u);
+    let tolerance = gamma * floats.iter().flatten().map(|w| w.abs()).sum::<f64>();
+    let unweighted = floats.iter().filter(|f| f.is_none()).count();
+    let probabilities: Vec<f64> = if relative {
+        floats
+            .iter()
+            .map(|w| match w {
+                Some(w) if weighted > 0.0 => w / weighted,
+                _ => 0.0,
+            })
+            .collect()
+    } else {
+        let each = if unweighted > 0 && weighted < 1.0 {
+            (1.0 - weighted) / unweighted as f64
+        } else {
+            0.0
+        };
+        floats.iter().map(|w| w.unwrap_or(each)).collect()
+    };
+    // A float too large for the range (a weight of 400 digits) is kept as
+    // the largest float: such a block is far from summing to 1 either way.
+    let exact = |x: f64| Ratio::from_f64(x.min(f64::MAX)).unwrap_or_else(Ratio::zero);
+    // The mass the exact resolution would give where it is known to be 1
+    // (a relative block with something to divide by; a plain block whose
+    // unweighted alternatives share what is left), so that runs do not
+    // divide again by a sum that differs from 1 only by rounding.
+    let normalised = if relative {
+        weighted > 0.0
+    } else {
+        unweighted > 0 && weighted < 1.0
+    };
+    let mass = if normalised {
+        Ratio::one()
+    } else {
+        exact(probabilities.iter().sum())
+    };
+    Resolved {
+        probabilities: probabilities.into_iter().map(exact).collect(),
+        mass,
+        approximate: Some(model::Approximation {
+            weighted,
+            tolerance,
+            unweighted: !relative && unweighted > 0,
+        }),
+    }
 }
 
 /// The exact sum of `terms` (inline arithmetic while the values fit in
-/// 64 bits, big rationals beyond; see [`Ratio`]).
+/// 64 bits, big rationals summed by a balanced tree beyond; see [`Ratio`]).
 pub fn exact_sum<'a>(terms: impl IntoIterator<Item = &'a Ratio>) -> Ratio {
     terms.into_iter().sum()
+}
+
+/// The exact sum of `terms`, or `None` when a term or a partial sum needs
+/// more than [`model::EXACT_SUM_BITS`].
+pub fn capped_sum<'a>(terms: impl IntoIterator<Item = &'a Ratio>) -> Option<Ratio> {
+    crate::ratio::capped_sum(terms.into_iter(), model::EXACT_SUM_BITS)
 }
 
 /// `a / b` for `b ≠ 0`, exactly.
@@ -543,6 +643,7 @@ impl Lowerer<'_> {
             relative,
             doc: block.doc.as_ref().map(|d| d.text()),
             mass: Ratio::zero(),
+            approximate: None,
         });
         // The rules go straight into the grammar (in order, as ids are
         // given); their probabilities are filled in once the block is read.
@@ -602,15 +703,18 @@ impl Lowerer<'_> {
                 None if broken => Share::Broken,
                 None => Share::Unweighted,
             });
-        let probabilities = resolve_shares(relative, shares);
+        let resolved = resolve_shares(relative, shares);
         self.broken = broken;
-        let mass = exact_sum(&probabilities);
-        for (rule, probability) in self.grammar.rules[first..].iter_mut().zip(probabilities) {
+        for (rule, probability) in self.grammar.rules[first..]
+            .iter_mut()
+            .zip(resolved.probabilities)
+        {
             rule.p = model::to_f64(&probability);
             rule.probability = probability;
         }
         if let Some(info) = &mut self.grammar.nonterminals[nt.index()].block {
-            info.mass = mass;
+            info.mass = resolved.mass;
+            info.approximate = resolved.approximate;
         }
     }
 
@@ -728,7 +832,7 @@ mod tests {
             .iter()
             .map(|v| v.as_ref().map_or(Share::Unweighted, Share::Weighted))
             .collect();
-        resolve_block(relative, &shares)
+        resolve_block(relative, &shares).probabilities
     }
 
     const U: Option<(i64, i64)> = None;
@@ -781,14 +885,15 @@ mod tests {
     fn negative_and_unreadable_weights_count_as_zero() {
         let p = resolve(false, &[w(5, 4), w(-1, 4)]);
         assert_eq!(p, vec![r(5, 4), r(0, 1)]);
-        let p = resolve_block(false, &[Share::Broken, Share::Unweighted]);
+        let p = resolve_block(false, &[Share::Broken, Share::Unweighted]).probabilities;
         assert_eq!(p, vec![r(0, 1), r(1, 1)]);
         let two = r(-2, 1);
         let one = r(1, 1);
         let p = resolve_block(
             true,
             &[Share::Weighted(&two), Share::Weighted(&one), Share::Broken],
-        );
+        )
+        .probabilities;
         assert_eq!(p, vec![r(0, 1), r(1, 1), r(0, 1)]);
     }
 

@@ -100,6 +100,33 @@ pub struct BlockInfo {
     pub doc: Option<String>,
     /// Sum of the resolved probabilities of the block's rules (1 for a sound block).
     pub mass: Ratio,
+    /// Set when the block's exact sum was too large to compute (more than
+    /// [`EXACT_SUM_BITS`]): its probabilities and `mass` are then the
+    /// exact values of floating-point approximations.
+    pub approximate: Option<Approximation>,
+}
+
+/// The largest exact value, in bits of numerator and denominator together,
+/// that a block's sum is computed with: about 19,700 decimal digits, far
+/// beyond any hand-written or learned grammar (a thousand weights of six
+/// decimal places sum to a few dozen bits). Exact arithmetic on larger
+/// values costs time quadratic in their length (a block of 3,000 weights
+/// `1/p` over distinct primes has a sum of about 86,000 bits); past the
+/// limit the block is resolved in floating point and says so
+/// (`approximate-sum`).
+pub const EXACT_SUM_BITS: u64 = 1 << 16;
+
+/// How a block resolved in floating point was computed.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Approximation {
+    /// The sum of the weights the block counts (negative and broken ones
+    /// as 0, unweighted ones of a `relative` block as 1), in floating point.
+    pub weighted: f64,
+    /// A bound on how far `weighted` is from the exact sum.
+    pub tolerance: f64,
+    /// Whether the block has unweighted alternatives (in a plain block,
+    /// they share `1 − weighted`).
+    pub unweighted: bool,
 }
 
 #[derive(Clone, Debug, PartialEq)]
@@ -270,6 +297,16 @@ impl Grammar {
 
     pub fn term(&self, word: &str) -> Option<TermId> {
         self.term_index.get(word).copied()
+    }
+
+    /// The terminal a word of a sentence is read as: the word itself when
+    /// it is a terminal, otherwise the first unseen-word terminal of its
+    /// shape class chain that the grammar has ([`crate::unseen`]).
+    pub fn word_term(&self, word: &str) -> Option<TermId> {
+        self.term(word).or_else(|| {
+            crate::unseen::resolve(word, |t| self.term_index.contains_key(t))
+                .and_then(|t| self.term(t))
+        })
     }
 
     pub fn nt_name(&self, id: NtId) -> &str {

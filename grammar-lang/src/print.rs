@@ -195,6 +195,7 @@ mod tests {
             relative,
             doc: doc.map(str::to_string),
             mass: Ratio::one(),
+            approximate: None,
         }
     }
 

@@ -139,6 +139,32 @@ impl Ratio {
         }
     }
 
+    /// The size of the value: the bits of its numerator's magnitude and of
+    /// its denominator, together. What exact arithmetic on it costs grows
+    /// with this number.
+    pub fn bits(&self) -> u64 {
+        match &self.0 {
+            Repr::Small(n, d) => {
+                u64::from(64 - n.unsigned_abs().leading_zeros())
+                    + u64::from(64 - d.unsigned_abs().leading_zeros())
+            }
+            Repr::Big(b) => b.numer().bits() + b.denom().bits(),
+        }
+    }
+
+    /// The exact value of a finite float (`None` for infinities and NaN).
+    pub fn from_f64(x: f64) -> Option<Ratio> {
+        BigRational::from_float(x).map(Ratio::from_big)
+    }
+
+    /// A value already in lowest terms with a positive denominator, taken
+    /// as it is (no gcd): for callers that reduced it more cheaply than a
+    /// general gcd can, knowing where the denominator came from.
+    pub(crate) fn from_reduced(numer: BigInt, denom: BigInt) -> Ratio {
+        debug_assert!(denom.is_positive());
+        Ratio::from_big(BigRational::new_raw(numer, denom))
+    }
+
     fn add_ref(&self, other: &Ratio) -> Ratio {
         match (&self.0, &other.0) {
             (Repr::Small(an, ad), Repr::Small(bn, bd)) => {
@@ -357,13 +383,22 @@ impl Neg for &Ratio {
 /// Sums without reducing after every term: the running fraction `n/d` is
 /// reduced only when it no longer fits 64 bits (terms with the running
 /// denominator, the usual case for weights like `0.25 0.30 0.45`, add no
-/// factor at all), and once at the end.
-fn sum_of<'a>(mut terms: impl Iterator<Item = &'a Ratio>) -> Ratio {
+/// factor at all), and once at the end. Past 64 bits the rest is summed by
+/// [`tree_sum`].
+fn sum_of<'a>(terms: impl Iterator<Item = &'a Ratio>) -> Ratio {
+    capped_sum(terms, u64::MAX).expect("no limit, so never over it")
+}
+
+/// The exact sum of `terms` if no term and no partial sum needs more than
+/// `max_bits` bits (numerator and denominator together, see
+/// [`Ratio::bits`]); `None` as soon as one does. The work done before giving
+/// up is bounded by the limit, not by the size of the terms' exact sum.
+pub fn capped_sum<'a>(mut terms: impl Iterator<Item = &'a Ratio>, max_bits: u64) -> Option<Ratio> {
     let (mut n, mut d) = (0i128, 1i128);
     while let Some(term) = terms.next() {
         let Repr::Small(tn, td) = term.0 else {
             let so_far = Ratio::from_i128(n, d);
-            return terms.fold(so_far.add_ref(term), |acc, t| acc.add_ref(t));
+            return tree_sum(so_far, std::iter::once(term).chain(terms), max_bits);
         };
         let (tn, td) = (i128::from(tn), i128::from(td));
         // |n|, d, |tn|, td < 2^63, so nothing here overflows i128.
@@ -377,11 +412,49 @@ fn sum_of<'a>(mut terms: impl Iterator<Item = &'a Ratio>) -> Ratio {
             (n, d) = (n / g, d / g);
             if i64::try_from(n).is_err() || i64::try_from(d).is_err() {
                 let so_far = Ratio::from_i128(n, d);
-                return terms.fold(so_far, |acc, t| acc.add_ref(t));
+                return tree_sum(so_far, terms, max_bits);
             }
         }
     }
-    Ratio::from_i128(n, d)
+    let sum = Ratio::from_i128(n, d);
+    (sum.bits() <= max_bits).then_some(sum)
+}
+
+/// Sums by a balanced tree of additions, level by level: adding the terms
+/// one after the other makes every addition work on the growing sum, which
+/// is quadratic in the size of the result when the denominators share no
+/// factors (`1/2 + 1/3 + 1/5 + …`); pairing them keeps both operands of each
+/// addition about the same size, so only the last few additions are large
+/// (the product-tree idea of D. J. Bernstein's "Fast multiplication and its
+/// applications", 2008 — recalled from memory — applied to sums of
+/// fractions). `None` as soon as a term or a partial sum needs more than
+/// `max_bits` bits.
+fn tree_sum<'a>(
+    first: Ratio,
+    terms: impl Iterator<Item = &'a Ratio>,
+    max_bits: u64,
+) -> Option<Ratio> {
+    let mut level: Vec<Ratio> = vec![first];
+    for term in terms {
+        if term.bits() > max_bits {
+            return None;
+        }
+        level.push(term.clone());
+    }
+    while level.len() > 1 {
+        let mut next = Vec::with_capacity(level.len().div_ceil(2));
+        let mut pairs = level.chunks_exact(2);
+        for pair in &mut pairs {
+            let sum = pair[0].add_ref(&pair[1]);
+            if sum.bits() > max_bits {
+                return None;
+            }
+            next.push(sum);
+        }
+        next.extend(pairs.remainder().iter().cloned());
+        level = next;
+    }
+    Some(level.pop().unwrap_or_else(Ratio::zero))
 }
 
 impl<'a> Sum<&'a Ratio> for Ratio {
@@ -392,7 +465,8 @@ impl<'a> Sum<&'a Ratio> for Ratio {
 
 impl Sum<Ratio> for Ratio {
     fn sum<I: Iterator<Item = Ratio>>(iter: I) -> Ratio {
-        iter.fold(Ratio::zero(), |acc, r| acc.add_ref(&r))
+        let terms: Vec<Ratio> = iter.collect();
+        sum_of(terms.iter())
     }
 }
 

@@ -78,12 +78,40 @@ fn parse_decimal(text: &str) -> Result<Ratio, String> {
     {
         return Err(format!("`{text}` is not a number"));
     }
+    // Trailing zeros after the point change nothing: dropping them first
+    // leaves a mantissa that 10 does not divide, so at most one of 2 and 5
+    // divides both it and the scale 10^k, the only factors the scale has.
+    // Removing that one factor reduces the fraction without a general gcd,
+    // which is quadratic in the length of the numbers (a weight may be
+    // written with a hundred thousand digits).
+    let frac_part = frac_part.trim_end_matches('0');
     let mantissa: BigInt = format!("{int_part}{frac_part}0")
         .parse::<BigInt>()
         .map_err(|_| format!("`{text}` is not a number"))?
         / BigInt::from(10);
-    let scale = BigInt::from(10).pow(frac_part.len() as u32);
-    let value = Ratio::new(mantissa, scale);
+    let places = frac_part.len();
+    let value = if mantissa.is_zero() || places == 0 {
+        Ratio::from_integer(mantissa)
+    } else {
+        let (mut numer, mut twos, mut fives) = (mantissa, places, places);
+        // Powers of 2 by shifting; powers of 5 in chunks of 5^27 (< 2^63),
+        // then one at a time.
+        let shift = (numer.trailing_zeros().unwrap_or(0) as usize).min(twos);
+        numer >>= shift;
+        twos -= shift;
+        let five27 = BigInt::from(5u64.pow(27));
+        while fives >= 27 && (&numer % &five27).is_zero() {
+            numer /= &five27;
+            fives -= 27;
+        }
+        let five = BigInt::from(5);
+        while fives > 0 && (&numer % &five).is_zero() {
+            numer /= &five;
+            fives -= 1;
+        }
+        let denom = (BigInt::one() << twos) * BigInt::from(5).pow(fives as u32);
+        Ratio::from_reduced(numer, denom)
+    };
     Ok(if negative { -value } else { value })
 }
 

@@ -827,6 +827,7 @@ fn a_unary_cycle_through_fifty_thousand_symbols_is_found_without_deep_recursion(
             relative: false,
             doc: None,
             mass: Ratio::from_integer(1.into()),
+            approximate: None,
         });
         for rhs in [Sym::N(ids[(i + 1) % n]), Sym::T(word)] {
             g.push_rule(Rule {

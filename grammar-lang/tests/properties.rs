@@ -333,12 +333,15 @@ fn tree(labels: Vec<String>) -> impl Strategy<Value = Tree> {
         )
             .prop_map(|(label, children)| Tree::node(label, children))
     })
-    .prop_flat_map(move |t| match t {
+    .prop_flat_map(move |t| match &t {
         // A test tree is always rooted in a node.
-        Tree::Leaf(w) => select(labels.clone())
-            .prop_map(move |label| Tree::node(label, vec![Tree::leaf(w.clone())]))
-            .boxed(),
-        node => Just(node).boxed(),
+        Tree::Leaf(w) => {
+            let w = w.clone();
+            select(labels.clone())
+                .prop_map(move |label| Tree::node(label, vec![Tree::leaf(w.clone())]))
+                .boxed()
+        }
+        Tree::Node { .. } => Just(t).boxed(),
     })
 }
 
@@ -493,6 +496,7 @@ fn build(spec: &ModelSpec) -> Grammar {
             relative: block.relative,
             doc: doc_text(&block.doc),
             mass: Ratio::one(),
+            approximate: None,
         });
     }
     for test in &spec.tests {
@@ -617,6 +621,7 @@ const BROKEN: &str = include_str!("../../examples/broken.trellis");
 const BROKEN_CYCLE: &str = include_str!("../../examples/broken_cycle.trellis");
 const BROKEN_NO_START: &str = include_str!("../../examples/broken_no_start.trellis");
 const BROKEN_UNKNOWN_START: &str = include_str!("../../examples/broken_unknown_start.trellis");
+const BROKEN_PRECISION: &str = include_str!("../../examples/broken_precision.trellis");
 
 /// Analyses `examples/<file>` with the other example files loadable.
 fn analyze_example(file: &str, text: &str) -> Analysis {
@@ -692,6 +697,7 @@ fn the_broken_examples_show_every_static_diagnostic_code() {
         ("broken.trellis", BROKEN),
         ("broken_no_start.trellis", BROKEN_NO_START),
         ("broken_unknown_start.trellis", BROKEN_UNKNOWN_START),
+        ("broken_precision.trellis", BROKEN_PRECISION),
     ] {
         shown.extend(
             analyze_example(file, text)

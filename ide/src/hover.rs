@@ -120,7 +120,17 @@ fn rule_hover(grammar: &Grammar, id: RuleId, facts: Option<&EngineFacts>) -> Str
         );
     }
     let _ = writeln!(out, "- total of {}: {}", code(lhs), exact(&mass));
-    if relative {
+    if let Some(approx) = block.and_then(|b| b.approximate.as_ref()) {
+        let _ = writeln!(
+            out,
+            "- computed in floating point: the exact sum of {} needs more than {} bits; its \
+             weights sum to ≈{:.6e} (within ±{:.1e})",
+            code(lhs),
+            grammar_lang::model::EXACT_SUM_BITS,
+            approx.weighted,
+            approx.tolerance
+        );
+    } else if relative {
         let sum: Ratio = grammar
             .rules_of(rule.lhs)
             .map(|(_, r)| {
@@ -185,7 +195,16 @@ fn nt_hover(
             ""
         }
     );
-    if !block.mass.is_one() && rules > 0 {
+    if let Some(approx) = &block.approximate {
+        let _ = writeln!(
+            out,
+            "- weights sum to ≈{:.6e} (within ±{:.1e}), checked in floating point: the exact \
+             sum needs more than {} bits",
+            approx.weighted,
+            approx.tolerance,
+            grammar_lang::model::EXACT_SUM_BITS
+        );
+    } else if !block.mass.is_one() && rules > 0 {
         let _ = writeln!(
             out,
             "- probabilities sum to {}{}",

@@ -51,6 +51,7 @@
 //! | links on `use` paths | `document_links` | `Vec<DocumentLink>` |
 //! | highlight occurrences | `document_highlights` | `Vec<Highlight>` |
 //! | formatting (whole file or a range) | `formatting` | `Vec<TextEdit>`, or the syntax errors |
+//! | new weights for blocks, as edits of their weight tokens | `reweight`, `edited_texts` | `Vec<Reweighted>`, the edited texts |
 //! | a grammar the engine may run | `run`, `run_tests` | [`Run`] (weights divided by their block sums, ignored errors), or [`NotRunnable`] naming the stopping errors |
 //!
 //! Each method calls the function of the same name in this crate, which
@@ -68,6 +69,7 @@ mod lookup;
 mod navigation;
 mod numbers;
 pub mod picture;
+mod reweight;
 mod run;
 mod structure;
 mod symbols;
@@ -82,6 +84,7 @@ pub use hints::{code_lenses, inlay_hints, CodeLens, CodeLensKind, InlayHint};
 pub use hover::{hover, EngineFacts, Hover};
 pub use lookup::{lookup, Lookup, NtRole};
 pub use navigation::{definition, prepare_rename, references, rename, RenameError};
+pub use reweight::{apply_edits, reweight, Reweighted};
 pub use run::{run_probability, NotRunnable, PlacedError, Run};
 pub use structure::{
     document_highlights, document_links, folding_ranges, DocumentLink, FoldKind, FoldingRange,

@@ -84,6 +84,48 @@ impl<'a> Run<'a> {
         trellis_engine::Parser::new(&self.grammar).map_err(|e| NotRunnable::Engine(e.to_string()))
     }
 
+    /// The blocks of the run's grammar whose probabilities were resolved in
+    /// floating point (their exact sums are past
+    /// [`grammar_lang::model::EXACT_SUM_BITS`]), in symbol order.
+    pub fn approximate(&self) -> Vec<NtId> {
+        self.grammar
+            .nt_ids()
+            .filter(|&nt| {
+                self.grammar
+                    .nonterminal(nt)
+                    .block
+                    .as_ref()
+                    .is_some_and(|b| b.approximate.is_some())
+            })
+            .collect()
+    }
+
+    /// One sentence for people saying which blocks the run uses in floating
+    /// point, or `None`.
+    pub fn approximate_note(&self) -> Option<String> {
+        let listed: Vec<String> = self
+            .approximate()
+            .into_iter()
+            .map(|nt| format!("`{}`", self.grammar.nt_name(nt)))
+            .collect();
+        if listed.is_empty() {
+            return None;
+        }
+        Some(format!(
+            "the probabilities of {} {} were computed in floating point: {} exact sum{} more \
+             than {} bits (see the `approximate-sum` note)",
+            if listed.len() == 1 { "block" } else { "blocks" },
+            listed.join(", "),
+            if listed.len() == 1 { "its" } else { "their" },
+            if listed.len() == 1 {
+                " needs"
+            } else {
+                "s need"
+            },
+            grammar_lang::model::EXACT_SUM_BITS
+        ))
+    }
+
     /// One sentence for people saying which blocks were rescaled, or `None`.
     pub fn rescaled_note(&self) -> Option<String> {
         let names = self.rescaled_names();

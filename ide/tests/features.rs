@@ -283,6 +283,38 @@ fn hover_on_a_weight_gives_the_rule_exact_probability_share_and_total() {
 }
 
 #[test]
+fn hover_on_a_block_past_the_exact_limit_says_it_was_summed_in_floating_point() {
+    // A weight of 30,000 digits: its block's exact sum needs about 200,000
+    // bits, past `EXACT_SUM_BITS`, so the block is resolved in floating
+    // point and both hovers say so. The bound is γ₁ · 1/3 = u/(1 − u) · 1/3
+    // with u = 2^-53 (see `lower::resolve_block`).
+    let text = format!(
+        "start Call\nCa$0ll {{\n  0.{} \"ahoy\"\n  \"hail\"\n}}\n",
+        "3".repeat(30_000)
+    );
+    let (f, a) = analyse(&text);
+    let h = hover_at_cursor(&f, &a, None);
+    assert!(
+        h.markdown.contains(
+            "- weights sum to ≈3.333333e-1 (within ±3.7e-17), checked in floating point: the \
+             exact sum needs more than 65536 bits\n"
+        ),
+        "{}",
+        h.markdown
+    );
+    let ahoy = a.grammar.nonterminal(a.grammar.nt("Call").unwrap()).rules[0];
+    let weight = a.grammar.rule(ahoy).weight.as_ref().expect("weighted");
+    let at = weight.location.span.start as usize;
+    let rule = ide::hover(&a, a.index(), FileId(0), at, None).expect("a hover");
+    assert!(
+        rule.markdown
+            .contains("- computed in floating point: the exact sum of `Call`"),
+        "{}",
+        rule.markdown
+    );
+}
+
+#[test]
 fn hover_on_a_relative_alternative_shows_the_division_and_expected_uses() {
     // The cursor on the space between weight and word: anywhere on the
     // alternative. The expected uses are the engine's to compute; here

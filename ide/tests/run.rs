@@ -70,3 +70,41 @@ fn a_block_whose_sum_is_off_runs_divided_by_its_sum_exactly() {
         .collect();
     assert_eq!(used, [1.0 / 3.0, 2.0 / 3.0]);
 }
+
+#[test]
+fn a_relative_block_past_the_exact_limit_runs_in_floating_point_and_says_so() {
+    // A relative weight of 30,000 digits and an unweighted alternative
+    // (weight 1): the exact sum is past `EXACT_SUM_BITS`, so the block is
+    // divided in floating point. It is not rescaled a second time (its
+    // mass is 1, as the exact division would make it), and the run names
+    // it.
+    let text = format!(
+        "start S\nS relative {{\n  0.{} \"a\"\n  \"b\"\n}}\n",
+        "3".repeat(30_000)
+    );
+    let analysis = analyze_text(&text);
+    let run = analysis.run(None).expect("a note does not stop a run");
+    assert!(run.rescaled().is_empty());
+    let s = analysis.grammar.nt("S").unwrap();
+    assert_eq!(run.approximate(), [s]);
+    let note = run.approximate_note().expect("a note");
+    assert!(
+        note.starts_with("the probabilities of block `S` were computed in floating point"),
+        "{note}"
+    );
+    // 1/3 : 1, that is 1/4 and 3/4, to the float's precision.
+    let p: Vec<f64> = analysis
+        .grammar
+        .nonterminal(s)
+        .rules
+        .iter()
+        .map(|&r| run.grammar().rule(r).p)
+        .collect();
+    assert!(
+        (p[0] - 0.25).abs() < 1e-15 && (p[1] - 0.75).abs() < 1e-15,
+        "{p:?}"
+    );
+    // A block below the limit gives no note.
+    let small = analyze_text("start S\nS relative {\n  1/3 \"a\"\n  \"b\"\n}\n");
+    assert_eq!(small.run(None).unwrap().approximate_note(), None);
+}

@@ -20,6 +20,7 @@ use std::sync::{Arc, Mutex, MutexGuard};
 use tokio::sync::Notify;
 use tower_lsp::lsp_types::{Location, Position, Url};
 use trellis_ide::Analysis;
+use trellis_project::SyntaxCache;
 
 /// State shared by the handlers and the analysis worker.
 #[derive(Debug, Default)]
@@ -33,6 +34,9 @@ pub struct Shared {
     /// The client can watch files for the server (dynamic registration of
     /// `workspace/didChangeWatchedFiles`).
     pub client_watches: AtomicBool,
+    /// The syntax of every file the open grammars read, shared by their
+    /// analyses.
+    pub parsed: Arc<SyntaxCache>,
 }
 
 impl Shared {
@@ -105,7 +109,9 @@ impl Shared {
             (ws.snapshot(), seq)
         };
         let job_root = root.clone();
-        let Some(result) = run_blocking(move || analyze_root(&job_root, &snapshot, seq)).await?
+        let parsed = self.parsed.clone();
+        let Some(result) =
+            run_blocking(move || analyze_root(&job_root, &snapshot, seq, &parsed)).await?
         else {
             return Ok(None);
         };

@@ -41,6 +41,8 @@ use tower_lsp::LspService;
 pub const PARSE_ERROR: i64 = -32700;
 /// JSON-RPC 2.0, section 5.1: JSON that is not a valid request object.
 pub const INVALID_REQUEST: i64 = -32600;
+/// JSON-RPC 2.0, section 5.1: the method does not exist (as a request).
+pub const METHOD_NOT_FOUND: i64 = -32601;
 /// LSP 3.17, `LSPErrorCodes.ServerCancelled`: the server cancelled the
 /// request (here: too many already in flight); the client may retry.
 pub const SERVER_CANCELLED: i64 = -32802;
@@ -169,6 +171,37 @@ fn plain_id(raw: &RawValue) -> Option<Id> {
     }
 }
 
+/// The notifications of LSP 3.17, in either direction: methods that exist
+/// only as messages without an `id`.
+const NOTIFICATIONS: &[&str] = &[
+    "$/cancelRequest",
+    "$/logTrace",
+    "$/progress",
+    "$/setTrace",
+    "exit",
+    "initialized",
+    "notebookDocument/didChange",
+    "notebookDocument/didClose",
+    "notebookDocument/didOpen",
+    "notebookDocument/didSave",
+    "telemetry/event",
+    "textDocument/didChange",
+    "textDocument/didClose",
+    "textDocument/didOpen",
+    "textDocument/didSave",
+    "textDocument/publishDiagnostics",
+    "textDocument/willSave",
+    "window/logMessage",
+    "window/showMessage",
+    "window/workDoneProgress/cancel",
+    "workspace/didChangeConfiguration",
+    "workspace/didChangeWatchedFiles",
+    "workspace/didChangeWorkspaceFolders",
+    "workspace/didCreateFiles",
+    "workspace/didDeleteFiles",
+    "workspace/didRenameFiles",
+];
+
 /// Reads one message body; `Err` is the error response to send.
 pub fn decode(body: &[u8], stand_ins: &StandIns) -> Result<Incoming, Vec<u8>> {
     let envelope: Envelope = match serde_json::from_slice(body) {
@@ -232,6 +265,21 @@ pub fn decode(body: &[u8], stand_ins: &StandIns) -> Result<Incoming, Vec<u8>> {
             let Ok(method) = serde_json::from_str::<String>(method.get()) else {
                 return invalid("`method` must be a string");
             };
+            // A message with an `id` is a request (JSON-RPC 2.0, section
+            // 4.1), and no request has a notification's name: answered like
+            // any request for a method the server does not have (`-32601`,
+            // as vscode-jsonrpc's servers answer it) and not acted on, so
+            // that an answer that is an error never goes with an effect.
+            if envelope.id.is_some() && NOTIFICATIONS.contains(&method.as_str()) {
+                return Err(error_response(
+                    id,
+                    METHOD_NOT_FOUND,
+                    &format!(
+                        "method not found: `{method}` is a notification, not a request; send \
+                         it without an `id` (this message was not acted on)"
+                    ),
+                ));
+            }
             // `params` may be left out or null (LSP methods without
             // parameters); otherwise JSON-RPC wants an array or an object.
             if let Some(raw) = envelope.params {

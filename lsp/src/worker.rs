@@ -69,7 +69,9 @@ async fn worker(shared: Arc<Shared>, client: Client) {
             let started = Instant::now();
             let job_root = root.clone();
             let job_snapshot = snapshot.clone();
-            let outcome = run_blocking(move || analyze_root(&job_root, &job_snapshot, seq)).await;
+            let parsed = shared.parsed.clone();
+            let outcome =
+                run_blocking(move || analyze_root(&job_root, &job_snapshot, seq, &parsed)).await;
             let result = match outcome {
                 Ok(Some(result)) => Arc::new(result),
                 Ok(None) => continue,
@@ -101,6 +103,15 @@ async fn worker(shared: Arc<Shared>, client: Client) {
         {
             let mut ws = shared.lock();
             ws.in_flight.clear();
+            // Keep the syntax of the files some open grammar still reads.
+            let ws = &*ws;
+            shared.parsed.retain(|path| {
+                ws.docs.contains_key(path)
+                    || ws
+                        .results
+                        .values()
+                        .any(|r| r.analysis.sources.find(path).is_some())
+            });
             // Edits arrived while this round ran: more are likely to follow.
             in_burst = !ws.dirty.is_empty();
         }

@@ -15,7 +15,7 @@ use std::time::Duration;
 use tower_lsp::lsp_types::Url;
 use trellis_ide::Analysis;
 use trellis_project::config::{ConfigProblem, EditorLimits, Settings, Stamps};
-use trellis_project::Overlay;
+use trellis_project::{Overlay, SyntaxCache};
 
 /// One open document: what the editor last sent.
 #[derive(Clone, Debug)]
@@ -79,16 +79,23 @@ impl RootResult {
 }
 
 /// Analyses the document at `root` as the root of a grammar, reading every
-/// other file through the snapshot. Pure apart from disk reads; runs on the
-/// blocking pool.
-pub fn analyze_root(root: &Path, snapshot: &Snapshot, seq: u64) -> Option<RootResult> {
+/// other file through the snapshot and taking each file's syntax from
+/// `parsed` (shared by every analysis of the session: a file several open
+/// grammars use is parsed once per change, not once per grammar per edit).
+/// Pure apart from disk reads; runs on the blocking pool.
+pub fn analyze_root(
+    root: &Path,
+    snapshot: &Snapshot,
+    seq: u64,
+    parsed: &SyntaxCache,
+) -> Option<RootResult> {
     let doc = snapshot.docs.get(root)?;
     let open = |path: &Path| snapshot.docs.get(path).map(|d| d.text.as_str().to_owned());
     let settings = Settings::for_grammar(root, &Overlay::new(open));
     // Only regular files, up to the configured size, confined when
     // trellis.toml says so: a `use` of a FIFO or a device cannot block or
     // flood this worker.
-    let loader = Overlay::new(open).reading(settings.policy.clone());
+    let loader = parsed.over(Overlay::new(open).reading(settings.policy.clone()));
     // The façade's analysis: what `trellis check` reports, the editor reports;
     // and, when trellis.toml asks for them, the rules no passing test uses.
     let mut analysis = trellis_ide::analyze(root, &doc.text, &loader, &settings.config);
@@ -215,5 +222,82 @@ impl Workspace {
             .into_iter()
             .map(|i| results[i].clone())
             .collect()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn doc(path: &str, version: i32, text: &str) -> (PathBuf, Doc) {
+        let path = PathBuf::from(path);
+        let uri = Url::from_file_path(&path).expect("an absolute path");
+        let text = Arc::new(text.to_string());
+        (path, Doc { uri, version, text })
+    }
+
+    const LEXICON: &str = "Deck { \"upper\" | \"lower\" }\n";
+
+    #[test]
+    fn a_file_several_open_grammars_use_is_parsed_once_per_change() {
+        // Two open grammars use one open lexicon. Analysing both parses
+        // each grammar and the lexicon once (3); analysing them again with
+        // nothing changed parses nothing; an edit of one grammar parses
+        // that grammar alone; an edit of the lexicon parses the lexicon
+        // once for both.
+        let mut snapshot = Snapshot::default();
+        snapshot.docs.extend([
+            doc(
+                "/harbour/trip.trellis",
+                1,
+                "use \"lexicon.trellis\"\nstart Trip\nTrip { \"ferry\" Deck }\n",
+            ),
+            doc(
+                "/harbour/tour.trellis",
+                1,
+                "use \"lexicon.trellis\"\nstart Tour\nTour { \"tour\" Deck }\n",
+            ),
+            doc("/harbour/lexicon.trellis", 1, LEXICON),
+        ]);
+        let parsed = SyntaxCache::new();
+        let trip = Path::new("/harbour/trip.trellis");
+        let tour = Path::new("/harbour/tour.trellis");
+        let analyse = |snapshot: &Snapshot, root: &Path| {
+            let result = analyze_root(root, snapshot, 1, &parsed).expect("an open root");
+            assert!(
+                !result.analysis.has_errors(),
+                "{:?}",
+                result.analysis.diagnostics
+            );
+            assert_eq!(result.analysis.sources.len(), 2);
+        };
+        analyse(&snapshot, trip);
+        analyse(&snapshot, tour);
+        assert_eq!(parsed.parses(), 3);
+        analyse(&snapshot, trip);
+        analyse(&snapshot, tour);
+        assert_eq!(parsed.parses(), 3);
+
+        snapshot.docs.extend([doc(
+            "/harbour/trip.trellis",
+            2,
+            "use \"lexicon.trellis\"\nstart Trip\nTrip { \"ferry\" Deck | \"boat\" Deck }\n",
+        )]);
+        analyse(&snapshot, trip);
+        analyse(&snapshot, tour);
+        assert_eq!(parsed.parses(), 4);
+
+        snapshot.docs.extend([doc(
+            "/harbour/lexicon.trellis",
+            2,
+            "Deck { \"upper\" | \"lower\" | \"car\" }\n",
+        )]);
+        analyse(&snapshot, trip);
+        analyse(&snapshot, tour);
+        assert_eq!(parsed.parses(), 5);
+
+        // A file no open grammar reads any more is forgotten.
+        parsed.retain(|path| path != Path::new("/harbour/tour.trellis"));
+        assert_eq!(parsed.len(), 2);
     }
 }

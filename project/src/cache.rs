@@ -164,3 +164,105 @@ impl FileLoader for CachedLoader<'_> {
         }
     }
 }
+
+/// Parsed files kept between the analyses of a long session (the language
+/// server): every analysis of every open grammar reads its files' syntax
+/// through it ([`SyntaxCache::over`]), so a file that several grammars
+/// `use`, or that did not change since the last edit elsewhere, is parsed
+/// once and not once per grammar per edit. An entry stands for one path
+/// and the very text it was parsed from: a changed text (an edit, a file
+/// changed on disk) is parsed again and replaces it.
+#[derive(Default)]
+pub struct SyntaxCache {
+    entries: Mutex<HashMap<PathBuf, Arc<Parsed>>>,
+    parses: AtomicUsize,
+}
+
+/// A text and its syntax.
+struct Parsed {
+    text: String,
+    syntax: SyntaxFile,
+}
+
+impl std::fmt::Debug for SyntaxCache {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.debug_struct("SyntaxCache")
+            .field("files", &self.len())
+            .field("parses", &self.parses())
+            .finish()
+    }
+}
+
+impl SyntaxCache {
+    pub fn new() -> Self {
+        SyntaxCache::default()
+    }
+
+    /// How many texts were parsed so far.
+    pub fn parses(&self) -> usize {
+        self.parses.load(Ordering::Relaxed)
+    }
+
+    /// How many files are kept.
+    pub fn len(&self) -> usize {
+        self.lock().len()
+    }
+
+    pub fn is_empty(&self) -> bool {
+        self.len() == 0
+    }
+
+    /// Forgets the files for which `keep` is false (those no open grammar
+    /// reads any more), so that the cache holds what the session uses.
+    pub fn retain(&self, keep: impl Fn(&Path) -> bool) {
+        self.lock().retain(|path, _| keep(path));
+    }
+
+    /// `loader`, with the syntax of each file it loads taken from this
+    /// cache.
+    pub fn over<L: FileLoader>(&self, loader: L) -> SharingLoader<'_, L> {
+        SharingLoader {
+            cache: self,
+            inner: loader,
+        }
+    }
+
+    fn lock(&self) -> std::sync::MutexGuard<'_, HashMap<PathBuf, Arc<Parsed>>> {
+        // Entries are inserted whole: a panic elsewhere leaves the map usable.
+        self.entries.lock().unwrap_or_else(PoisonError::into_inner)
+    }
+
+    fn syntax(&self, path: &Path, text: &str, parse: &dyn Fn(&str) -> SyntaxFile) -> SyntaxFile {
+        let found = self.lock().get(path).cloned();
+        if let Some(parsed) = found.filter(|p| p.text == text) {
+            return parsed.syntax.clone();
+        }
+        // Parsed outside the lock: analyses of other grammars go on.
+        self.parses.fetch_add(1, Ordering::Relaxed);
+        let syntax = parse(text);
+        self.lock().insert(
+            path.to_path_buf(),
+            Arc::new(Parsed {
+                text: text.to_owned(),
+                syntax: syntax.clone(),
+            }),
+        );
+        syntax
+    }
+}
+
+/// A loader whose files' syntax comes from a [`SyntaxCache`].
+pub struct SharingLoader<'c, L> {
+    cache: &'c SyntaxCache,
+    inner: L,
+}
+
+impl<L: FileLoader> FileLoader for SharingLoader<'_, L> {
+    fn load(&self, path: &Path) -> Result<String, Unreadable> {
+        self.inner.load(path)
+    }
+
+    fn syntax(&self, path: &Path, text: &str, parse: &dyn Fn(&str) -> SyntaxFile) -> SyntaxFile {
+        self.cache.syntax(path, text, parse)
+    }
+}

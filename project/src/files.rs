@@ -338,9 +338,46 @@ pub fn decode(bytes: Vec<u8>) -> Result<String, String> {
 /// permissions and is then renamed over it, so a reader (or an interrupted
 /// run) sees the old file or the new one, never half of one. The error is a
 /// short reason, phrased to follow "cannot write <path>: ".
+///
+/// A symbolic link is followed: the file it points to is replaced and the
+/// link stays. A path that is not a regular file (`/dev/null`,
+/// `/dev/stdout`, a named pipe) is written into as it is, never renamed
+/// over: replacing a device node with a regular file would break the
+/// machine for every other program.
 pub fn write_atomic(path: &Path, text: &str) -> Result<(), String> {
     use std::io::Write;
     static COUNTER: std::sync::atomic::AtomicU64 = std::sync::atomic::AtomicU64::new(0);
+    let resolved;
+    let path = match std::fs::symlink_metadata(path) {
+        Ok(m) if m.file_type().is_symlink() => {
+            // A dangling link names the file to create.
+            resolved = match std::fs::canonicalize(path) {
+                Ok(target) => target,
+                Err(_) => {
+                    let target = std::fs::read_link(path).map_err(|e| io_reason(&e))?;
+                    match path.parent() {
+                        Some(dir) if target.is_relative() => dir.join(target),
+                        _ => target,
+                    }
+                }
+            };
+            resolved.as_path()
+        }
+        _ => path,
+    };
+    if let Ok(m) = std::fs::metadata(path) {
+        if !m.is_file() {
+            if m.is_dir() {
+                return Err("it is a directory; name a file".into());
+            }
+            return std::fs::OpenOptions::new()
+                .write(true)
+                .truncate(true)
+                .open(path)
+                .and_then(|mut f| f.write_all(text.as_bytes()))
+                .map_err(|e| io_reason(&e));
+        }
+    }
     let dir = match path.parent() {
         Some(dir) if !dir.as_os_str().is_empty() => dir,
         _ => Path::new("."),
@@ -427,6 +464,63 @@ mod tests {
             .map(|e| e.unwrap().file_name())
             .collect();
         assert_eq!(names, vec![std::ffi::OsString::from("g.trellis")]);
+    }
+
+    #[cfg(unix)]
+    #[test]
+    fn an_atomic_write_through_a_symbolic_link_replaces_the_target_and_keeps_the_link() {
+        let dir = tempfile::tempdir().unwrap();
+        let target = dir.path().join("real.trellis");
+        let link = dir.path().join("link.trellis");
+        std::fs::write(&target, "old\n").unwrap();
+        std::os::unix::fs::symlink("real.trellis", &link).unwrap();
+        write_atomic(&link, "new\n").unwrap();
+        assert!(std::fs::symlink_metadata(&link)
+            .unwrap()
+            .file_type()
+            .is_symlink());
+        assert_eq!(std::fs::read_to_string(&target).unwrap(), "new\n");
+        // A dangling link names the file to create.
+        std::fs::remove_file(&target).unwrap();
+        write_atomic(&link, "again\n").unwrap();
+        assert!(std::fs::symlink_metadata(&link)
+            .unwrap()
+            .file_type()
+            .is_symlink());
+        assert_eq!(std::fs::read_to_string(&target).unwrap(), "again\n");
+    }
+
+    /// `-o /dev/null` once replaced the device node with a regular file; a
+    /// named pipe stands in for it here (the same kind of path, safe to
+    /// break).
+    #[cfg(unix)]
+    #[test]
+    fn an_atomic_write_into_a_named_pipe_writes_into_it_and_keeps_the_pipe() {
+        use std::os::unix::fs::FileTypeExt;
+        let dir = tempfile::tempdir().unwrap();
+        let pipe = dir.path().join("out.pipe");
+        let made = std::process::Command::new("mkfifo").arg(&pipe).status();
+        assert!(
+            made.is_ok_and(|s| s.success()),
+            "mkfifo (coreutils) is needed"
+        );
+        let reader = {
+            let pipe = pipe.clone();
+            std::thread::spawn(move || std::fs::read_to_string(pipe).unwrap())
+        };
+        write_atomic(&pipe, "through the pipe\n").unwrap();
+        assert_eq!(reader.join().unwrap(), "through the pipe\n");
+        assert!(std::fs::symlink_metadata(&pipe)
+            .unwrap()
+            .file_type()
+            .is_fifo());
+    }
+
+    #[test]
+    fn an_atomic_write_onto_a_directory_says_so() {
+        let dir = tempfile::tempdir().unwrap();
+        let err = write_atomic(dir.path(), "x").unwrap_err();
+        assert!(err.contains("directory"), "{err}");
     }
 
     #[test]

@@ -6,7 +6,7 @@ use crate::files::{io_reason, open_regular};
 use std::io::{BufRead, BufReader};
 use std::path::{Path, PathBuf};
 use trellis_treebank::learn::{Counts, LearnOptions};
-use trellis_treebank::{binarize, clean, Cleaning, Markov, TreeReader};
+use trellis_treebank::{clean, Cleaning, Markov, TreeReader};
 
 /// A treebank file for reading: gzip-compressed files (by their magic
 /// bytes, whatever their name) are decompressed as they are read.
@@ -34,6 +34,9 @@ pub struct Learning {
     pub cleaning: Cleaning,
     /// Skip malformed trees (and count them) instead of stopping at the first.
     pub keep_going: bool,
+    /// Words seen at most this many times also feed the unseen-word class
+    /// of their shape (0: none); see [`LearnOptions::rare`].
+    pub rare: u64,
 }
 
 /// A malformed tree or an unreadable file, located.
@@ -111,7 +114,7 @@ pub fn learn_from_files(
                 }
             };
             match clean(tree, &how.cleaning) {
-                Some(tree) => counts.add(&binarize(&tree, how.markov)),
+                Some(tree) => counts.add_binarized(&tree, how.markov),
                 None => emptied += 1,
             }
         }
@@ -164,11 +167,22 @@ pub fn learned_source(learned: &Learned, paths: &[PathBuf], how: &Learning) -> S
             learned.skipped.len()
         ));
     }
+    if how.rare > 0 {
+        header.push(format!(
+            "unseen words: words seen at most {} time{} also count for their",
+            how.rare,
+            if how.rare == 1 { "" } else { "s" }
+        ));
+        header.push("shape class's \"<unseen:…>\" terminal (README, \"Unseen words\")".to_string());
+    }
     header.push(String::new());
     header.push("Symbols with `+` are binarization's intermediate symbols and `.`".to_string());
     header.push("marks a parent annotation (see README, \"Learning from trees\");".to_string());
     header.push(
         "`trellis parse --treebank-labels` prints trees in the treebank's labels.".to_string(),
     );
-    learned.counts.to_source(&LearnOptions { header })
+    learned.counts.to_source(&LearnOptions {
+        header,
+        rare: how.rare,
+    })
 }

@@ -18,13 +18,14 @@ pub mod coverage;
 pub mod discover;
 pub mod evaluate;
 pub mod files;
+pub mod fit;
 pub mod format;
 pub mod grammars;
 pub mod learn;
 pub mod load;
 pub mod test_run;
 
-pub use cache::FileCache;
+pub use cache::{FileCache, SyntaxCache};
 pub use config::{ConfigProblem, EditorLimits, Resolver, Settings, Stamps};
 
 pub use discover::{discover, identity, paths_or_here, Root};

@@ -39,8 +39,14 @@ pub fn clean(tree: Tree, how: &Cleaning) -> Option<Tree> {
     let mut steps = vec![Step::Enter(tree)];
     while let Some(step) = steps.pop() {
         match step {
-            Step::Enter(Tree::Leaf(word)) => built.push(Some(Tree::Leaf(word))),
-            Step::Enter(Tree::Node { label, children }) => {
+            Step::Enter(tree) => {
+                let (label, children) = match tree.into_parts() {
+                    Ok(node) => node,
+                    Err(word) => {
+                        built.push(Some(Tree::Leaf(word)));
+                        continue;
+                    }
+                };
                 if how.drop_empty && label == "-NONE-" {
                     built.push(None);
                     continue;
@@ -77,6 +83,93 @@ pub fn clean(tree: Tree, how: &Cleaning) -> Option<Tree> {
     built.pop().flatten()
 }
 
+/// [`clean`], carrying along a position per node: `positions` gives one
+/// for each node of `tree` in pre-order (as
+/// [`TreeReader::positions`](crate::read::TreeReader::positions) does), and
+/// the answer gives one for each node of the cleaned tree, in pre-order —
+/// each node keeps its own, a collapsed chain keeps its lowest node's.
+/// Positions missing from `positions` come out as `P::default()`.
+pub fn clean_located<P: Clone + Default>(
+    tree: Tree,
+    positions: &[P],
+    how: &Cleaning,
+) -> Option<(Tree, Vec<P>)> {
+    enum Step<P> {
+        Enter(Tree),
+        Close(String, usize, P),
+    }
+    let mut next = 0usize;
+    let mut built: Vec<Option<(Tree, Vec<P>)>> = Vec::new();
+    let mut steps = vec![Step::Enter(tree)];
+    while let Some(step) = steps.pop() {
+        match step {
+            Step::Enter(tree) => {
+                let (label, children) = match tree.into_parts() {
+                    Ok(node) => node,
+                    Err(word) => {
+                        built.push(Some((Tree::Leaf(word), Vec::new())));
+                        continue;
+                    }
+                };
+                let at = positions.get(next).cloned().unwrap_or_default();
+                next += 1;
+                if how.drop_empty && label == "-NONE-" {
+                    // Its descendants are dropped with it: skip their positions.
+                    next += count_nodes(&children);
+                    built.push(None);
+                    continue;
+                }
+                let label = if how.strip_functions {
+                    strip_label(&label).to_string()
+                } else {
+                    label
+                };
+                steps.push(Step::Close(label, children.len(), at));
+                steps.extend(children.into_iter().rev().map(Step::Enter));
+            }
+            Step::Close(label, n, at) => {
+                let children: Vec<(Tree, Vec<P>)> = built
+                    .split_off(built.len() - n)
+                    .into_iter()
+                    .flatten()
+                    .collect();
+                if children.is_empty() {
+                    built.push(None);
+                    continue;
+                }
+                if how.collapse_unary
+                    && children.len() == 1
+                    && children[0].0.label() == Some(label.as_str())
+                {
+                    built.extend(children.into_iter().map(Some));
+                    continue;
+                }
+                let mut all = vec![at];
+                let mut kids = Vec::with_capacity(children.len());
+                for (child, positions) in children {
+                    all.extend(positions);
+                    kids.push(child);
+                }
+                built.push(Some((Tree::node(label, kids), all)));
+            }
+        }
+    }
+    built.pop().flatten()
+}
+
+/// How many nodes (not words) `trees` hold, iteratively.
+fn count_nodes(trees: &[Tree]) -> usize {
+    let mut n = 0;
+    let mut stack: Vec<&Tree> = trees.iter().collect();
+    while let Some(t) = stack.pop() {
+        if let Tree::Node { children, .. } = t {
+            n += 1;
+            stack.extend(children.iter());
+        }
+    }
+    n
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -101,6 +194,12 @@ mod tests {
             Some("(S (VP (VB sail) (NP (NN ferries))) (-LRB- -LRB-))")
         );
         assert_eq!(clean(tree("(S (-NONE- *))"), &all), None);
+        // With positions: each surviving node keeps its own, in pre-order.
+        let t = tree("(S (NP-SBJ (-NONE- *)) (VP (VP (V x))) (A y))");
+        // Pre-order: S NP-SBJ -NONE- VP VP V A.
+        let (cleaned, at) = clean_located(t, &[0, 1, 2, 3, 4, 5, 6], &all).unwrap();
+        assert_eq!(cleaned.to_treebank(), "(S (VP (V x)) (A y))");
+        assert_eq!(at, [0, 4, 5, 6]);
         // Nothing asked, nothing changed.
         let t = tree("(S (NP-SBJ (-NONE- *)) (VP (VP x)))");
         assert_eq!(clean(t.clone(), &Cleaning::default()), Some(t));

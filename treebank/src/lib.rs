@@ -7,6 +7,8 @@
 //! * `binarize.rs` — binarization, lossless or with horizontal and
 //!   vertical markovization, under the naming scheme of `names.rs`, and
 //!   its exact inverse;
+//! * `fit.rs` — checking trees written in a grammar's own symbols against
+//!   its rules and re-estimating its weights from them, with smoothing;
 //! * `learn.rs` — counting rules over trees and writing the
 //!   maximum-likelihood grammar in trellis's canonical layout.
 //!
@@ -15,11 +17,12 @@
 pub mod binarize;
 pub mod clean;
 pub mod eval;
+pub mod fit;
 pub mod learn;
 pub mod names;
 pub mod read;
 
 pub use binarize::{binarize, debinarize, Markov};
-pub use clean::{clean, Cleaning};
+pub use clean::{clean, clean_located, Cleaning};
 pub use learn::{Counts, LearnOptions};
 pub use read::{ReadError, TreeReader};

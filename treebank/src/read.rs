@@ -49,6 +49,8 @@ pub struct TreeReader<R> {
     resync: bool,
     /// Where the tree read last (or being read) starts.
     tree_start: (usize, usize),
+    /// Where each node of the tree read last opens, in pre-order.
+    positions: Vec<(usize, usize)>,
 }
 
 /// An open node while reading.
@@ -63,6 +65,8 @@ enum Token {
     Open,
     Close,
     Atom(String),
+    /// A word written in double quotes (escapes resolved).
+    Quoted(String),
 }
 
 impl<R: BufRead> TreeReader<R> {
@@ -76,7 +80,16 @@ impl<R: BufRead> TreeReader<R> {
             done: false,
             resync: false,
             tree_start: (0, 0),
+            positions: Vec::new(),
         }
+    }
+
+    /// Where each node of the tree read last opens (its `(`: line and
+    /// column, 1-based), in pre-order — the order of
+    /// [`Tree`]'s nodes walked parent first, children left to right; words
+    /// have no entry. An unlabelled outer bracket is not a node and has none.
+    pub fn positions(&self) -> &[(usize, usize)] {
+        &self.positions
     }
 
     /// The line and column where the last tree read (or the malformed one)
@@ -170,9 +183,16 @@ impl<R: BufRead> TreeReader<R> {
         let mut word = String::new();
         while self.pos < self.chars.len() {
             match self.chars[self.pos] {
+                '"' if word.is_empty() => {
+                    return Err(self.error(
+                        line,
+                        column,
+                        "`\"\"` is an empty word: a word needs at least one character",
+                    ));
+                }
                 '"' => {
                     self.pos += 1;
-                    return Ok((Token::Atom(word), line, column));
+                    return Ok((Token::Quoted(word), line, column));
                 }
                 '\\' if self.pos + 1 < self.chars.len()
                     && matches!(self.chars[self.pos + 1], '"' | '\\') =>
@@ -200,6 +220,8 @@ impl<R: BufRead> TreeReader<R> {
             return Ok(None);
         };
         self.tree_start = (line, column);
+        self.positions.clear();
+        self.positions.push((line, column));
         match first {
             Token::Open => {}
             Token::Close => {
@@ -209,7 +231,7 @@ impl<R: BufRead> TreeReader<R> {
                     "`)` closes nothing: the brackets before it are already balanced",
                 ));
             }
-            Token::Atom(word) => {
+            Token::Atom(word) | Token::Quoted(word) => {
                 return Err(self.error(
                     line,
                     column,
@@ -245,7 +267,17 @@ impl<R: BufRead> TreeReader<R> {
                 ));
             };
             match token {
-                Token::Atom(atom) => {
+                Token::Quoted(word) if expect_label => {
+                    return Err(self.error(
+                        line,
+                        column,
+                        format!(
+                            "the label `{word}` is in quotes: only words may be quoted; write \
+                             the label bare, as in `(NP …)`"
+                        ),
+                    ));
+                }
+                Token::Atom(atom) | Token::Quoted(atom) => {
                     let top = stack
                         .last_mut()
                         .expect("a node is open while reading a tree");
@@ -277,6 +309,7 @@ impl<R: BufRead> TreeReader<R> {
                         line,
                         column,
                     });
+                    self.positions.push((line, column));
                     expect_label = true;
                 }
                 Token::Close => {
@@ -294,6 +327,7 @@ impl<R: BufRead> TreeReader<R> {
                         }
                         None if stack.is_empty() && open.children.len() == 1 => {
                             // The unlabelled outer bracket: `( (S …) )`.
+                            self.positions.remove(0);
                             let mut children = open.children;
                             let only = children.pop().expect("one child");
                             if only.label().is_none() {
@@ -381,6 +415,28 @@ mod tests {
     }
 
     #[test]
+    fn labels_cannot_be_quoted_and_words_cannot_be_empty() {
+        // Found by the `treebank` fuzz target: a quoted label (`"S "`) was
+        // read as a label holding a space, which no bracket notation can
+        // print back, and `""` as an empty word.
+        let got = read("(\"S \" NV x)\n(S \"\")\n(S \"a b\")\n");
+        assert_eq!(
+            got,
+            [
+                Err(
+                    "1:2: the label `S ` is in quotes: only words may be quoted; write the \
+                     label bare, as in `(NP …)`"
+                        .to_string()
+                ),
+                Err(
+                    "2:4: `\"\"` is an empty word: a word needs at least one character".to_string()
+                ),
+                Ok("(S a b)".to_string()),
+            ]
+        );
+    }
+
+    #[test]
     fn malformed_trees_are_located_and_reading_goes_on() {
         let text = "(S (NP x)\n(S (VP y))\n(S ())\nword\n(S z))\n(S (A b)) )\n(T u)\n";
         let got = read(text);
@@ -419,6 +475,17 @@ mod tests {
                 .as_ref()
                 .is_err_and(|e| e.starts_with("1:1: `word` stands outside")),
             "{got:?}"
+        );
+    }
+
+    #[test]
+    fn every_node_is_located_in_pre_order() {
+        let mut reader = TreeReader::new("( (S (NP (DT the)\n  (NN ferry)) (VP x)) )\n".as_bytes());
+        assert!(reader.next().is_some_and(|t| t.is_ok()));
+        // S, NP, DT, NN, VP; the unlabelled outer bracket is not a node.
+        assert_eq!(
+            reader.positions(),
+            [(1, 3), (1, 6), (1, 10), (2, 3), (2, 15)]
         );
     }
 

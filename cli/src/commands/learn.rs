@@ -20,6 +20,10 @@ pub const LONG_ABOUT: &str = "Learn a grammar from annotated trees.\n\n\
     child still to come); --horizontal H remembers only the last H children \
     generated, and --vertical V annotates each phrasal node with its V−1 \
     nearest ancestors. README's \"Learning from trees\" explains the names.\n\n\
+    --rare K lets words seen at most K times also count for the unseen-word \
+    terminal of their shape class (`\"<unseen:suffix-ing>\"`, …): the parser \
+    reads a word it does not know as its class, so the grammar parses \
+    sentences with new words (README, \"Unseen words\").\n\n\
     Exit status: 0 when the grammar was written; 1 when a tree is malformed \
     (its file, line and column are named; --keep-going skips such trees and \
     counts them); 2 when a file cannot be read or written.";
@@ -67,6 +71,12 @@ pub struct LearnArgs {
     #[arg(long)]
     pub collapse_unary: bool,
 
+    /// Words seen at most K times also count for the unseen-word class of
+    /// their shape (`"<unseen:capitalised>"`, …), so the grammar reads
+    /// words it never saw (0: off)
+    #[arg(long, value_name = "K", default_value_t = 0)]
+    pub rare: u64,
+
     /// Skip malformed trees (each is reported, with a count at the end)
     /// instead of stopping at the first
     #[arg(long)]
@@ -89,6 +99,7 @@ pub fn run(args: &LearnArgs) -> Ran {
             collapse_unary: args.collapse_unary,
         },
         keep_going: args.keep_going,
+        rare: args.rare,
     };
     let interactive = std::io::stderr().is_terminal();
     let bar = interactive.then(|| {

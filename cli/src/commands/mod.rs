@@ -7,6 +7,7 @@
 pub mod check;
 pub mod completions;
 pub mod eval;
+pub mod fit;
 pub mod fmt;
 pub mod init;
 pub mod learn;

@@ -10,7 +10,9 @@ use grammar_lang::Grammar;
 use rayon::prelude::*;
 use std::io::Read;
 use std::path::{Path, PathBuf};
-use trellis_engine::parser::{ParseError, ParseOptions, ParseOutcome, ParsedTree};
+use trellis_engine::parser::{
+    ParseError, ParseOptions, ParseOutcome, ParsedTree, Spread, Task, Workers,
+};
 use trellis_ide::picture::{tree_picture, Surface};
 
 pub const LONG_ABOUT: &str = "Parse sentences with a grammar.\n\n\
@@ -177,6 +179,21 @@ fn to_treebank_labels(outcome: &mut ParseOutcome) {
     }
 }
 
+/// The engine's chart passes may spread a long sentence's cells over
+/// rayon's threads; with many sentences, rayon's work stealing shares the
+/// same threads between the sentences and their cells.
+struct RayonThreads;
+
+impl Spread for RayonThreads {
+    fn threads(&self) -> usize {
+        rayon::current_num_threads()
+    }
+
+    fn run<'a>(&self, tasks: Vec<Task<'a>>) {
+        tasks.into_par_iter().for_each(|task| task());
+    }
+}
+
 /// Runs `trellis parse`.
 pub fn run(args: &ParseArgs, term: Term) -> Ran {
     let analysis = load(&args.grammar)?;
@@ -188,6 +205,7 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
         max_chart_bytes: args.max_chart_mib.saturating_mul(1 << 20),
         count_parses: !args.no_count,
         explain: true,
+        workers: Workers::new(RayonThreads),
     };
     let limits = ParseLimits {
         max_chart_mib: args.max_chart_mib,
@@ -221,6 +239,8 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
                     out.push('\n');
                 }
                 out.push_str(&human::parse_report(sentence, result));
+                let words: Vec<&str> = sentence.split_whitespace().collect();
+                out.push_str(&human::unseen_words(&parser.unseen_words(&words)));
             }
             ParseFormat::Brackets => {
                 if n > 0 && args.kbest > 1 {

@@ -608,6 +608,21 @@ pub fn diagnostics(sources: &SourceMap, diagnostics: &[Diagnostic], color: bool)
 
 /// The report on one sentence: its best trees and probabilities, or why it
 /// has no parse.
+/// The words of a sentence read as unseen-word terminals, one line each
+/// (positions 1-based), for the end of a sentence's report.
+pub fn unseen_words(unseen: &[(usize, &str, &str)]) -> String {
+    let mut out = String::new();
+    for (position, word, terminal) in unseen {
+        out.push_str(&format!(
+            "  unseen word {} (word {}) read as {}\n",
+            quote(word),
+            position + 1,
+            quote(terminal)
+        ));
+    }
+    out
+}
+
 pub fn parse_report(sentence: &str, result: &Result<ParseOutcome, String>) -> String {
     let mut out = format!("sentence: {sentence}\n");
     match result {
@@ -990,6 +1005,131 @@ pub fn evaluation(e: &trellis_project::evaluate::Evaluation) -> String {
                 100.0 * f
             ));
         }
+    }
+    out
+}
+
+/// `trellis fit --dry-run`: per block the trees use, every rule with its
+/// count and its old and new probability; then the blocks no tree uses.
+pub fn fit_table(
+    analysis: &trellis_ide::Analysis,
+    fitted: &trellis_project::fit::Fitted,
+) -> String {
+    use grammar_lang::model::Decimal;
+    let grammar = &analysis.grammar;
+    let rows: Vec<(String, String, String, String)> = fitted
+        .estimate
+        .seen()
+        .flat_map(|b| b.rules.iter())
+        .map(|r| {
+            (
+                trellis_project::fit::rule_as_written(analysis, r.rule),
+                r.count.to_string(),
+                Decimal(&r.old).to_string(),
+                Decimal(&r.new).to_string(),
+            )
+        })
+        .collect();
+    let width = |f: fn(&(String, String, String, String)) -> &String, title: &str| {
+        rows.iter()
+            .map(|r| f(r).chars().count())
+            .chain([title.chars().count()])
+            .max()
+            .unwrap_or(0)
+    };
+    let (w_rule, w_count, w_old) = (
+        width(|r| &r.0, "rule"),
+        width(|r| &r.1, "count"),
+        width(|r| &r.2, "old"),
+    );
+    let pad = |s: &str, w: usize| format!("{s}{}", " ".repeat(w.saturating_sub(s.chars().count())));
+    let mut out = format!(
+        "{}  {}  {}  new\n",
+        pad("rule", w_rule),
+        format_args!("{:>w_count$}", "count"),
+        pad("old", w_old)
+    );
+    let mut row = rows.iter();
+    for block in fitted.estimate.seen() {
+        out.push('\n');
+        for _ in &block.rules {
+            let Some((rule, count, old, new)) = row.next() else {
+                break;
+            };
+            out.push_str(&format!(
+                "{}  {count:>w_count$}  {}  {new}\n",
+                pad(rule, w_rule),
+                pad(old, w_old)
+            ));
+        }
+    }
+    let unseen: Vec<&str> = fitted
+        .estimate
+        .unseen()
+        .map(|b| grammar.nt_name(b.nt))
+        .collect();
+    if !unseen.is_empty() {
+        out.push_str(&format!(
+            "\nno tree uses {} (weights kept): {}\n",
+            if unseen.len() == 1 {
+                "this block"
+            } else {
+                "these blocks"
+            },
+            unseen.join(", ")
+        ));
+    }
+    out
+}
+
+/// What `trellis fit` did, for stderr: the counts, the blocks kept, and a
+/// warning for every way the new weights change the grammar beyond
+/// themselves.
+pub fn fit_summary(
+    analysis: &trellis_ide::Analysis,
+    fitted: &trellis_project::fit::Fitted,
+) -> String {
+    let e = &fitted.estimate;
+    let grammar = &analysis.grammar;
+    let seen = e.seen().count();
+    let mut out = format!(
+        "fitted {seen} block{} to {} tree{} (smoothing {})",
+        if seen == 1 { "" } else { "s" },
+        e.trees,
+        if e.trees == 1 { "" } else { "s" },
+        e.smoothing
+    );
+    if !fitted.skipped.is_empty() {
+        out.push_str(&format!("; {} trees skipped", fitted.skipped.len()));
+    }
+    if fitted.emptied > 0 {
+        out.push_str(&format!(
+            "; {} trees left empty by cleaning",
+            fitted.emptied
+        ));
+    }
+    out.push('\n');
+    let unseen: Vec<&str> = e.unseen().map(|b| grammar.nt_name(b.nt)).collect();
+    if !unseen.is_empty() {
+        out.push_str(&format!(
+            "kept the weights of {} block{} no tree uses: {}\n",
+            unseen.len(),
+            if unseen.len() == 1 { "" } else { "s" },
+            unseen.join(", ")
+        ));
+    }
+    for (block, why) in &fitted.fallbacks {
+        out.push_str(&format!("note: `{block}` takes exact fractions: {why}\n"));
+    }
+    for finding in &fitted.new_findings {
+        out.push_str(&format!(
+            "warning: the fitted grammar has a new finding: {finding}\n"
+        ));
+    }
+    for (test, case) in &fitted.broken_cases {
+        out.push_str(&format!(
+            "warning: test \"{test}\": `{case}` held with the old weights and fails with the new\n"
+        ));
     }
     out
 }

@@ -722,6 +722,81 @@ pub fn evaluation(e: &trellis_project::evaluate::Evaluation) -> serde_json::Valu
     serde_json::json!({"sentences": sentences, "total": total, "labels": labels})
 }
 
+/// The JSON document of `trellis fit` (README.md, "JSON output"):
+/// every block with its rules' counts and old and new probabilities
+/// (exact, as `p/q`, and as numbers), and the warnings.
+pub fn fitted(
+    analysis: &trellis_ide::Analysis,
+    fitted: &trellis_project::fit::Fitted,
+    written: bool,
+) -> serde_json::Value {
+    use grammar_lang::model::to_f64;
+    let grammar = &analysis.grammar;
+    let e = &fitted.estimate;
+    let blocks: Vec<serde_json::Value> = e
+        .blocks
+        .iter()
+        .map(|b| {
+            let rules: Vec<serde_json::Value> = b
+                .rules
+                .iter()
+                .map(|r| {
+                    let location = grammar.rule(r.rule).location;
+                    let source = analysis.sources.get(location.file);
+                    let at = source.lines.chars(
+                        &source.text,
+                        (location.span.start as usize).min(source.text.len()),
+                    );
+                    let mut v = serde_json::json!({
+                        "rule": trellis_project::fit::rule_as_written(analysis, r.rule),
+                        "file": source.path.display().to_string(),
+                        "line": at.line + 1,
+                        "column": at.col + 1,
+                        "count": r.count,
+                        "old": r.old.to_string(),
+                        "new": r.new.to_string(),
+                        "old_probability": to_f64(&r.old),
+                        "new_probability": to_f64(&r.new),
+                    });
+                    if let Some(w) = &r.weight {
+                        v["weight"] = w.to_string().into();
+                    }
+                    v
+                })
+                .collect();
+            serde_json::json!({
+                "name": grammar.nt_name(b.nt),
+                "seen": b.seen(),
+                "total": b.total,
+                "relative": b.relative,
+                "rules": rules,
+            })
+        })
+        .collect();
+    let broken: Vec<serde_json::Value> = fitted
+        .broken_cases
+        .iter()
+        .map(|(test, case)| serde_json::json!({"test": test, "case": case}))
+        .collect();
+    let fallbacks: Vec<serde_json::Value> = fitted
+        .fallbacks
+        .iter()
+        .map(|(block, why)| serde_json::json!({"block": block, "reason": why.to_string()}))
+        .collect();
+    serde_json::json!({
+        "smoothing": e.smoothing.to_string(),
+        "trees": e.trees,
+        "skipped": fitted.skipped.iter().map(|p| p.to_string()).collect::<Vec<_>>(),
+        "emptied": fitted.emptied,
+        "written": written,
+        "changed_files": fitted.changed.iter().map(|r| r.path.display().to_string()).collect::<Vec<_>>(),
+        "blocks": blocks,
+        "fallbacks": fallbacks,
+        "new_findings": fitted.new_findings.iter().map(|f| f.to_string()).collect::<Vec<_>>(),
+        "broken_cases": broken,
+    })
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

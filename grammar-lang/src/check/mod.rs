@@ -3,7 +3,8 @@
 //! Each analysis lives in its own module and reports under stable
 //! [`Code`](crate::diagnostic::Code)s:
 //!
-//! * [`weights`] — `sum-not-one`, `no-mass-left`, `zero-weight`, `negative-weight`
+//! * [`weights`] — `sum-not-one`, `no-mass-left`, `zero-weight`, `negative-weight`,
+//!   `approximate-sum`
 //! * [`names`] — `undefined`, `no-start`, `unknown-start`, `duplicate-rule`
 //! * [`graph`] — `unreachable`, `unproductive`, `unary-cycle`
 //! * [`arity`] — `arity`
@@ -85,7 +86,7 @@ pub fn short_fraction(r: &Ratio) -> String {
 }
 
 /// `n` with its digits grouped by thousands: `12,000`.
-fn grouped(n: u64) -> String {
+pub(crate) fn grouped(n: u64) -> String {
     let digits = n.to_string();
     let mut out = String::new();
     for (i, c) in digits.chars().enumerate() {

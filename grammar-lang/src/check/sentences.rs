@@ -16,6 +16,10 @@
 //!   hold whatever the rules say, which is worth knowing. A level set in
 //!   `trellis.toml` applies to both.
 //!
+//! A word that is no terminal but that the grammar reads as one of its
+//! unseen-word terminals ([`crate::unseen`]) can parse, so it is no
+//! mistake: it gets a note only when a known word is close to it.
+//!
 //! The check reads the test blocks as written (the syntax), because the
 //! model keeps no spans of single words. Cost: linear in the length of the
 //! sentences, plus one search of the grammar's words per unknown word.
@@ -27,6 +31,7 @@ use crate::source::{FileId, SourceMap};
 use crate::span::Span;
 use crate::syntax::ast::{Decl, Expectation, Str, SyntaxFile, TreeChild, TreeSyntax};
 use crate::syntax::lexer::quote;
+use crate::unseen;
 
 pub fn check(
     grammar: &Grammar,
@@ -110,18 +115,60 @@ impl<'a> Checker<'a, '_> {
         }
         let token = s.span.text(text);
         for (word, span) in located_words(token, s.span.start as usize) {
-            if self.grammar.term(&word).is_none() {
-                self.report(Location::new(file, span), &word, place);
+            if self.grammar.term(&word).is_some() {
+                continue;
+            }
+            let grammar = self.grammar;
+            match unseen::resolve(&word, |t| grammar.term(t).is_some()) {
+                Some(class) => self.report_unseen(Location::new(file, span), &word, class),
+                None => self.report(Location::new(file, span), &word, place),
             }
         }
     }
 
-    fn report(&mut self, at: Location, word: &str, place: Place) {
+    /// The closest known word to `word`, if one is close.
+    fn closest(&mut self, word: &str) -> Option<&'a str> {
         let grammar = self.grammar;
-        let suggestion = self
-            .suggester
-            .get_or_insert_with(|| Suggester::new(grammar.terminals.iter().map(String::as_str)))
-            .closest(word);
+        self.suggester
+            .get_or_insert_with(|| {
+                Suggester::new(
+                    grammar
+                        .terminals
+                        .iter()
+                        .map(String::as_str)
+                        .filter(|t| !unseen::is_unseen_terminal(t)),
+                )
+            })
+            .closest(word)
+    }
+
+    /// A word no terminal contains that the grammar reads as an unseen-word
+    /// terminal: the case can hold, so it is not a mistake; a note only
+    /// when a known word is close to it (a typo would go unnoticed).
+    fn report_unseen(&mut self, at: Location, word: &str, class: &str) {
+        let Some(suggestion) = self.closest(word) else {
+            return;
+        };
+        let message = format!(
+            "`{word}` is not a word of the grammar; it is read as an unseen word of class \
+             `{}` ({}); did you mean `{suggestion}`?",
+            unseen::class_name(class),
+            quote(class)
+        );
+        let quoted = quote(suggestion);
+        let mut d = Diagnostic::new(Code::UnknownWord, at, message)
+            .with_label("read as an unseen word")
+            .with_help(format!(
+                "if the word is a typo, write `{suggestion}`; if it stands for any unseen \
+                 word, leave it"
+            ))
+            .with_suggestion(Some(quoted[1..quoted.len() - 1].to_string()));
+        d.severity = Severity::Note;
+        self.out.push(d);
+    }
+
+    fn report(&mut self, at: Location, word: &str, place: Place) {
+        let suggestion = self.closest(word);
         if place == Place::Reject && suggestion.is_none() {
             // Unknown on purpose, most likely: see the module documentation.
             return;

@@ -15,10 +15,10 @@
 //! blocks (an unreadable weight or an empty alternative was already
 //! reported) and for blocks without rules (reported as `unproductive`).
 
-use super::{number_text, short_fraction};
+use super::{grouped, number_text, short_fraction};
 use crate::diagnostic::{Code, Diagnostic};
 use crate::lower::exact_sum;
-use crate::model::{Grammar, Ratio};
+use crate::model::{Approximation, Grammar, NtId, Ratio, Rule, EXACT_SUM_BITS};
 use num_traits::{One, Signed, Zero};
 
 pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
@@ -100,6 +100,12 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
             }
         }
         let rule_count = grammar.nonterminal(nt).rules.len();
+        if let Some(approx) = &block.approximate {
+            if !has_negative && !grammar.is_damaged(nt) && rule_count > 0 {
+                approximate(grammar, nt, approx, &unweighted, out);
+            }
+            continue;
+        }
         if block.relative || has_negative || grammar.is_damaged(nt) || rule_count == 0 {
             continue;
         }
@@ -165,4 +171,107 @@ pub fn check(grammar: &Grammar, out: &mut Vec<Diagnostic>) {
             );
         }
     }
+}
+
+/// The findings on a block resolved in floating point (its exact sum is
+/// past [`EXACT_SUM_BITS`]): `sum-not-one` or `no-mass-left` when the
+/// floating-point sum is farther from 1 than its error bound, and in every
+/// case an `approximate-sum` note saying how the block was computed.
+fn approximate(
+    grammar: &Grammar,
+    nt: NtId,
+    approx: &Approximation,
+    unweighted: &[&Rule],
+    out: &mut Vec<Diagnostic>,
+) {
+    let Some(block) = &grammar.nonterminal(nt).block else {
+        return;
+    };
+    let name = grammar.nt_name(nt);
+    let (sum, tolerance) = (approx.weighted, approx.tolerance);
+    let how = format!(
+        "checked approximately: the exact sum needs more than {} bits, so it was computed in \
+         floating point, within ±{tolerance:.1e}",
+        grouped(EXACT_SUM_BITS)
+    );
+    let decided = !block.relative
+        && if approx.unweighted {
+            sum - tolerance >= 1.0
+        } else {
+            (sum - 1.0).abs() > tolerance
+        };
+    if decided && approx.unweighted {
+        if let Some((first, rest)) = unweighted.split_first() {
+            let mut d = Diagnostic::new(
+                Code::NoMassLeft,
+                first.location,
+                format!(
+                    "the weighted alternatives of `{name}` already sum to ≈{sum:.6e}, at least the \
+                     whole probability 1 of the block, so the unweighted alternatives get \
+                     probability 0 ({how})"
+                ),
+            )
+            .with_label("gets nothing")
+            .with_help(format!(
+                "lower the weights so that something is left for the unweighted alternatives, \
+                 give them weights of their own, or mark `{name}` `relative`"
+            ));
+            for rule in rest {
+                d = d.with_related(rule.location, "also gets nothing");
+            }
+            out.push(d.with_related(block.name, "block defined here"));
+        }
+    } else if decided {
+        let gap = sum - 1.0;
+        let side = if gap < 0.0 { "short" } else { "too much" };
+        out.push(
+            Diagnostic::new(
+                Code::SumNotOne,
+                block.name,
+                format!(
+                    "block `{name}` sums to ≈{sum:.6e}: ≈{:.6e} {side} ({how})",
+                    gap.abs()
+                ),
+            )
+            .with_label(format!("sums to ≈{sum:.6e} (checked approximately)"))
+            .with_help(format!(
+                "make the weights of `{name}` add up to exactly 1 (an unweighted alternative \
+                 takes whatever is left), or mark the block `relative` to divide the weights by \
+                 their sum"
+            )),
+        );
+    }
+    let what = if block.relative {
+        format!(
+            "the weights of the relative block `{name}` sum to ≈{sum:.6e} (within \
+             ±{tolerance:.1e}); each probability is its weight divided by that sum in floating \
+             point"
+        )
+    } else if decided {
+        format!("the sum of `{name}` was {how}")
+    } else if !approx.unweighted {
+        format!(
+            "the sum of `{name}` was {how}: ≈{sum:.6e}, within the error bound of 1, so whether \
+             it is exactly 1 cannot be told"
+        )
+    } else if sum + tolerance < 1.0 {
+        format!(
+            "the weights of `{name}` sum to ≈{sum:.6e} ({how}); the unweighted alternatives \
+             share the rest in floating point"
+        )
+    } else {
+        format!(
+            "the weights of `{name}` sum to ≈{sum:.6e} ({how}): too close to 1 to tell whether \
+             anything is left for the unweighted alternatives"
+        )
+    };
+    out.push(
+        Diagnostic::new(Code::ApproximateSum, block.name, what)
+            .with_label("checked approximately")
+            .with_help(format!(
+                "runs use these floating-point probabilities; to have the sum computed exactly, \
+                 write the weights of `{name}` with fewer digits or over fewer distinct \
+                 denominators (for example as whole counts in a `relative` block)"
+            )),
+    );
 }
