@@ -92,6 +92,7 @@ pub use structure::{
 };
 pub use symbols::{
     document_symbols, workspace_symbols, DocumentSymbol, SymbolKind, WorkspaceSymbol, MAX_CHILDREN,
+    MAX_OUTLINE_CHILDREN,
 };
 pub use tokens::{semantic_tokens, SemanticToken, TokenClass, TokenModifiers};
 

@@ -42,7 +42,37 @@ pub struct DocumentSymbol {
 /// and editors ask for the outline on every edit.
 pub const MAX_CHILDREN: usize = 2000;
 
-/// The entry that stands for the children past [`MAX_CHILDREN`] (spans in
+/// Most children the whole outline lists, over all blocks and tests: a
+/// learned grammar of a few hundred blocks of hundreds of alternatives
+/// would otherwise answer every edit with tens of megabytes. When the
+/// blocks ask for more, each gets the same share (its own count if
+/// smaller), so every block keeps its first rules and its "… N more"
+/// entry; the blocks themselves are always listed.
+pub const MAX_OUTLINE_CHILDREN: usize = 5000;
+
+/// The most children each entry may list so that the outline stays within
+/// [`MAX_OUTLINE_CHILDREN`]: the largest share `c` with
+/// `Σ min(wanted_i, c) ≤ MAX_OUTLINE_CHILDREN`, where `wanted_i` is an
+/// entry's count capped at [`MAX_CHILDREN`].
+fn fair_share(wanted: &[usize]) -> usize {
+    let listed = |c: usize| wanted.iter().map(|&w| w.min(c)).sum::<usize>();
+    if listed(MAX_CHILDREN) <= MAX_OUTLINE_CHILDREN {
+        return MAX_CHILDREN;
+    }
+    // `listed` grows with `c`; the largest `c` that fits, by bisection.
+    let (mut lo, mut hi) = (0, MAX_CHILDREN);
+    while lo < hi {
+        let mid = (lo + hi).div_ceil(2);
+        if listed(mid) <= MAX_OUTLINE_CHILDREN {
+            lo = mid;
+        } else {
+            hi = mid - 1;
+        }
+    }
+    lo
+}
+
+/// The entry that stands for the children past those listed (spans in
 /// order); `None` when there are none.
 fn more(
     mut spans: impl Iterator<Item = Span>,
@@ -81,15 +111,31 @@ fn thousands(n: usize) -> String {
 
 /// The outline of `file`: its declarations in order, blocks with their
 /// rules as children and tests with their cases, at most
-/// [`MAX_CHILDREN`] of each.
+/// [`MAX_CHILDREN`] of each and [`MAX_OUTLINE_CHILDREN`] in all.
 ///
 /// Cost: linear in the number of declarations and alternatives, and the
-/// answer's size in the number of declarations (at most `MAX_CHILDREN` + 1
-/// children each).
+/// answer's size in the number of declarations plus at most
+/// `MAX_OUTLINE_CHILDREN` children.
 pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol> {
     let Some(syntax) = locate::syntax(analysis, file) else {
         return Vec::new();
     };
+    let wanted: Vec<usize> = syntax
+        .decls
+        .iter()
+        .filter_map(|decl| match decl {
+            Decl::Block(b) => Some(
+                b.alternatives
+                    .iter()
+                    .filter(|a| !a.items.is_empty())
+                    .count(),
+            ),
+            Decl::Test(t) => Some(t.cases.len()),
+            _ => None,
+        })
+        .map(|n| n.min(MAX_CHILDREN))
+        .collect();
+    let share = fair_share(&wanted);
     let text = locate::text(analysis, file);
     let leaf = |name: String, detail, kind, span, selection_span| DocumentSymbol {
         name,
@@ -133,7 +179,7 @@ pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol
                 let count = rules.len();
                 let mut children: Vec<DocumentSymbol> = rules
                     .iter()
-                    .take(MAX_CHILDREN)
+                    .take(share)
                     .map(|alt| {
                         let first = alt.items[0].span();
                         let last = alt.items[alt.items.len() - 1].span();
@@ -153,7 +199,7 @@ pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol
                     })
                     .collect();
                 if let Some(more) = more(
-                    rules[MAX_CHILDREN.min(count)..].iter().map(|a| a.span),
+                    rules[share.min(count)..].iter().map(|a| a.span),
                     SymbolKind::Rule,
                     "rule",
                     "rules",
@@ -186,7 +232,7 @@ pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol
                 children: t
                     .cases
                     .iter()
-                    .take(MAX_CHILDREN)
+                    .take(share)
                     .map(|c| {
                         leaf(
                             c.sentence.value.to_string(),
@@ -204,7 +250,7 @@ pub fn document_symbols(analysis: &Analysis, file: FileId) -> Vec<DocumentSymbol
                         )
                     })
                     .chain(more(
-                        t.cases.iter().skip(MAX_CHILDREN).map(|c| c.span),
+                        t.cases.iter().skip(share).map(|c| c.span),
                         SymbolKind::TestCase,
                         "case",
                         "cases",

@@ -1390,3 +1390,48 @@ fn document_highlights_of_a_word_mark_the_same_quoted_word_everywhere_in_the_fil
         .collect();
     assert_eq!(a.document_highlights(file, offset), expected);
 }
+
+/// A learned grammar's shape: many blocks of hundreds of alternatives. The
+/// outline lists every block, the same share of rules from each (the
+/// largest share within MAX_OUTLINE_CHILDREN), and one "… N more" entry per
+/// block for the rest, so its size no longer grows with the alternatives.
+#[test]
+fn the_whole_outline_lists_at_most_max_outline_children_rules_shared_between_blocks() {
+    use trellis_ide::MAX_OUTLINE_CHILDREN;
+    const BLOCKS: usize = 60;
+    const ALTERNATIVES: usize = 300;
+    let mut text = String::from("=== main.trellis ===\nstart S\nS relative {\n");
+    for b in 0..BLOCKS {
+        text.push_str(&format!("  1 P{b}\n"));
+    }
+    text.push_str("}\n");
+    for b in 0..BLOCKS {
+        text.push_str(&format!("P{b} relative {{\n"));
+        for a in 0..ALTERNATIVES {
+            text.push_str(&format!("  1 \"p{b}x{a}\"\n"));
+        }
+        text.push_str("}\n");
+    }
+    let (_, a) = analyse_clean(&text);
+    let outline = a.document_symbols(id(&a, "main.trellis"));
+    // `start`, `S` and the 60 blocks.
+    assert_eq!(outline.len(), 2 + BLOCKS);
+    // S asks for 60 rules and each P block for 300: 60 + 60·c ≤ 5,000 gives
+    // the share c = 82 (60 + 4,920 = 4,980; c = 83 would list 5,040).
+    let share = (MAX_OUTLINE_CHILDREN - BLOCKS) / BLOCKS;
+    assert_eq!(share, 82);
+    assert_eq!(outline[1].children.len(), BLOCKS, "S lists all its rules");
+    for block in &outline[2..] {
+        assert_eq!(block.children.len(), share + 1, "{}", block.name);
+        assert_eq!(
+            block.children[share].name,
+            format!("… {} more rules", ALTERNATIVES - share)
+        );
+    }
+    let listed: usize = outline
+        .iter()
+        .flat_map(|d| &d.children)
+        .filter(|c| !c.name.starts_with('…'))
+        .count();
+    assert!(listed <= MAX_OUTLINE_CHILDREN, "{listed}");
+}

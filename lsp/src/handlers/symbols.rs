@@ -1,7 +1,8 @@
 //! Symbols: the outline of a document (`textDocument/documentSymbol`) and
 //! the search across every open grammar (`workspace/symbol`). The outline
-//! lists at most `trellis_ide::MAX_CHILDREN` rules of a block (the rest in
-//! one entry), so its size follows the blocks, not the alternatives.
+//! lists at most `trellis_ide::MAX_CHILDREN` rules of a block and
+//! `MAX_OUTLINE_CHILDREN` in all (the rest of each block in one entry), so
+//! its size follows the blocks, not the alternatives.
 
 use crate::convert::{self, Positions};
 use crate::server::Backend;
