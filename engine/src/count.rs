@@ -144,13 +144,17 @@ pub(crate) fn count_parses(
                     row[s as usize] = std::mem::replace(&mut pre[s as usize], Count::zero());
                 }
             }
+            // Under a beam, only over the symbols it kept (`crate::beam`).
+            let kept = &vit.score[c * n_sym..(c + 1) * n_sym];
             for &b in &g.unary_nodes {
                 let pb = &pre[b as usize];
-                if pb.is_zero() {
+                if pb.is_zero() || (vit.pruned && kept[b as usize] == f64::NEG_INFINITY) {
                     continue;
                 }
                 for (a, w) in &g.count_closure[b as usize] {
-                    row[*a as usize].add_product(w, pb);
+                    if !vit.pruned || kept[*a as usize] > f64::NEG_INFINITY {
+                        row[*a as usize].add_product(w, pb);
+                    }
                 }
             }
         }

@@ -98,7 +98,7 @@ pub(crate) fn kbest(
                     list.truncate(k);
                     list
                 } else {
-                    pre_list(g, &layout, &post, i, j, a, k)
+                    pre_list(g, &layout, &post, &vit.score, i, j, a, k)
                 };
                 pre[c * n_sym + a as usize] = list;
             }
@@ -116,10 +116,15 @@ pub(crate) fn kbest(
 
 type PostLists = Vec<Vec<(f64, PostStep)>>;
 
+/// `kept` is the Viterbi chart's scores: under a beam, a symbol it pruned
+/// (`-inf`) may appear inside a unary chain of its cell but is never used
+/// as a child (see `crate::beam`).
+#[allow(clippy::too_many_arguments)]
 fn pre_list(
     g: &CompiledGrammar,
     layout: &Layout,
     post: &PostLists,
+    kept: &[f64],
     i: usize,
     j: usize,
     a: u32,
@@ -134,7 +139,11 @@ fn pre_list(
         for split in i + 1..j {
             let l = layout.cell(i, split) * n_sym + left as usize;
             let rr = layout.cell(split, j) * n_sym + rule.right as usize;
-            if post[l].is_empty() || post[rr].is_empty() {
+            if post[l].is_empty()
+                || post[rr].is_empty()
+                || kept[l] == f64::NEG_INFINITY
+                || kept[rr] == f64::NEG_INFINITY
+            {
                 continue;
             }
             let e = edges.len() as u32;
