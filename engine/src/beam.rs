@@ -68,13 +68,19 @@ impl Beam {
 
     /// One line for people: how results were pruned.
     pub fn describe(&self) -> String {
-        match self.max_symbols {
-            Some(n) => format!(
-                "a beam of {} (natural log) and at most {n} symbol{} per cell",
-                self.log_width,
+        let size = |n: usize| {
+            format!(
+                "at most {n} symbol{} per cell",
                 if n == 1 { "" } else { "s" }
-            ),
-            None => format!("a beam of {} (natural log) per cell", self.log_width),
+            )
+        };
+        match (self.log_width.is_finite(), self.max_symbols) {
+            (true, Some(n)) => {
+                format!("a beam of {} (natural log) and {}", self.log_width, size(n))
+            }
+            (true, None) => format!("a beam of {} (natural log) per cell", self.log_width),
+            (false, Some(n)) => format!("a beam of {}", size(n)),
+            (false, None) => "a beam without limits".to_string(),
         }
     }
 
