@@ -156,7 +156,7 @@ fn editor_settings_lower_and_raise_the_parse_limits() {
     // Lowered: 1 MiB of chart and at most 3 trees.
     let dir = project("[editor]\nparse-chart-mib = 1\nparse-max-kbest = 3\n");
     let (mut server, uri) = Server::start(dir.path(), AMBIGUOUS);
-    let response = server.parse(&uri, &words(200), 1);
+    let response = server.parse(&uri, &words(300), 1);
     let result = &response["result"]["results"][0];
     assert_eq!(result["parsed"], false, "{response}");
     assert!(result["sentenceProbability"].is_null(), "{response}");
@@ -183,7 +183,7 @@ fn editor_settings_lower_and_raise_the_parse_limits() {
     // Raised: 200 trees, above the default of 100, and the long sentence.
     let dir = project("[editor]\nparse-chart-mib = 2048\nparse-max-kbest = 200\n");
     let (mut server, uri) = Server::start(dir.path(), AMBIGUOUS);
-    let response = server.parse(&uri, &words(200), 1);
+    let response = server.parse(&uri, &words(300), 1);
     assert_eq!(
         response["result"]["results"][0]["parsed"], true,
         "{response}"

@@ -161,13 +161,21 @@ fn ambiguous() -> tempfile::TempDir {
     dir
 }
 
+/// `n` words "a", space-separated.
+fn words(n: usize) -> String {
+    vec!["a"; n].join(" ")
+}
+
 #[test]
 fn a_chart_refused_for_its_kbest_lists_names_kbest_not_the_sentence_length() {
-    let dir = setup();
+    // 40 words of the ambiguous grammar: a small chart, and Catalan(39)
+    // trees, of which the k-best pass cannot find 100,000 within 1 MiB.
+    let dir = ambiguous();
+    let sentence = words(40);
     let args = [
         "parse",
-        "g.trellis",
-        "a day ticket",
+        "s.trellis",
+        sentence.as_str(),
         "--kbest",
         "100000",
         "--max-chart-mib",
@@ -177,7 +185,7 @@ fn a_chart_refused_for_its_kbest_lists_names_kbest_not_the_sentence_length() {
     assert_eq!(run.code, 1, "{}", run.stderr);
     let text = &run.stdout;
     assert!(
-        text.contains("not analysed: keeping the 100000 most probable trees"),
+        text.contains("not analysed: finding the 100000 most probable trees"),
         "{text}"
     );
     assert!(
@@ -204,13 +212,14 @@ fn a_chart_refused_for_its_kbest_lists_names_kbest_not_the_sentence_length() {
 
 #[test]
 fn a_refused_sentence_has_a_null_probability_in_json_not_zero() {
-    let dir = setup();
+    let dir = ambiguous();
+    let sentence = words(40);
     let run = trellis(
         dir.path(),
         &[
             "parse",
-            "g.trellis",
-            "a day ticket",
+            "s.trellis",
+            sentence.as_str(),
             "--kbest",
             "100000",
             "--max-chart-mib",
@@ -230,6 +239,7 @@ fn a_refused_sentence_has_a_null_probability_in_json_not_zero() {
         "{error}"
     );
     // A sentence that does not parse still has probability 0 (it is known).
+    let dir = setup();
     let run = trellis(
         dir.path(),
         &["parse", "g.trellis", "ticket day", "--format", "json"],
@@ -249,7 +259,7 @@ fn max_seconds_stops_a_long_parse_and_says_which_option_stopped_it() {
         &[
             "parse",
             "s.trellis",
-            &sentence,
+            sentence.as_str(),
             "--max-seconds",
             "0.000000001",
         ],
@@ -268,7 +278,7 @@ fn max_seconds_stops_a_long_parse_and_says_which_option_stopped_it() {
         &[
             "parse",
             "s.trellis",
-            &sentence,
+            sentence.as_str(),
             "--max-seconds",
             "1e-9",
             "--format",

@@ -39,7 +39,8 @@ pub struct ParseOptions {
     pub kbest: usize,
     /// Refuse sentences whose chart would need more memory than this.
     pub max_chart_bytes: u64,
-    /// Count the parses exactly (big integers; costs time on large grammars).
+    /// Count the parses exactly (machine integers while the counts fit, big
+    /// integers past them; about one more Viterbi-sized pass).
     pub count_parses: bool,
     /// Explain a failed parse.
     pub explain: bool,
@@ -116,8 +117,13 @@ pub enum ParseError {
         needed_bytes: u64,
         limit_bytes: u64,
     },
-    /// The chart itself fits, but the lists of the `kbest` most probable
-    /// trees it would keep per item do not; `fits` trees (at least 1) would.
+    /// The chart itself fits, but finding the `kbest` most probable trees
+    /// needs more memory than the limit leaves (the k-best state grows with
+    /// the number of chart items the trees reach, and is counted as it
+    /// grows): `needed_bytes` is what the chart and that state had reached
+    /// when they crossed the limit, so at least that much is needed.
+    /// `fits` trees (at least 1) were complete within the limit: asking for
+    /// that many fits.
     KbestTooLarge {
         words: usize,
         kbest: usize,
@@ -148,14 +154,13 @@ impl ParseError {
             ParseError::KbestTooLarge {
                 words,
                 kbest,
-                needed_bytes,
                 limit_bytes,
                 fits,
+                ..
             } => format!(
-                "keeping the {kbest} most probable trees of every chart item of a sentence of \
-                 {words} words needs about {} MiB, more than the limit of {} MiB; the sentence \
-                 itself fits, and so do {fits} tree{}",
-                mib(*needed_bytes),
+                "finding the {kbest} most probable trees of a sentence of {words} words needs \
+                 more memory than the limit of {} MiB; the sentence itself fits, and so do \
+                 the {fits} most probable tree{}",
                 limit_bytes / (1 << 20),
                 if *fits == 1 { "" } else { "s" }
             ),
@@ -217,13 +222,14 @@ impl Parser {
         // Viterbi score + present list + inside log and scaled values.
         let mut per_item: u128 = 8 + 4 + 8 + 8;
         if options.count_parses {
-            per_item += std::mem::size_of::<Count>() as u128;
+            // Machine integers while the counts fit (wider ones, and big
+            // integers, only after an overflow).
+            per_item += 8;
         }
-        if options.kbest > 1 {
-            // Two list headers plus up to k entries of each list.
-            per_item += 2 * 24 + 2 * 24 * options.kbest as u128;
-        }
-        let per_cell: u128 = 8 + 1 + 4;
+        // The k-best pass keeps nothing per item: its state grows with the
+        // items the k trees reach, and is budgeted as it grows (what is left
+        // of `max_chart_bytes` after this estimate).
+        let per_cell: u128 = 8 + 1 + 4 + u128::from(options.kbest > 1);
         let total = cells * (n_sym * per_item + per_cell);
         u64::try_from(total).unwrap_or(u64::MAX)
     }
@@ -238,8 +244,9 @@ impl Parser {
     }
 
     /// [`Parser::parse`], giving up with [`ParseError::Stopped`] as soon as
-    /// `stop` returns true. Every chart pass (Viterbi, inside, count,
-    /// k-best) asks `stop` once per chart cell, so a long sentence stops
+    /// `stop` returns true. Every chart pass (Viterbi, inside, count) asks
+    /// `stop` once per chart cell, and the lazy k-best pass once per cell it
+    /// visits and every thousand steps or so, so a long sentence stops
     /// within one cell's work of the request (a cancelled editor request,
     /// a time budget).
     pub fn parse_until<S: AsRef<str>>(
@@ -280,10 +287,27 @@ impl Parser {
         let kbest = match options.kbest {
             0 => Vec::new(),
             1 => best.iter().cloned().collect(),
-            k => kbest::kbest(g, &keys, &vit, k, watch)?
-                .into_iter()
-                .map(|(d, _)| self.tree_of(&keys, &words, &d))
-                .collect(),
+            k => {
+                let chart = self.chart_bytes(n, options);
+                let budget = options.max_chart_bytes.saturating_sub(chart);
+                match kbest::kbest(g, &keys, &vit, k, budget, watch) {
+                    Ok(found) => found
+                        .trees
+                        .into_iter()
+                        .map(|(d, _)| self.tree_of(&keys, &words, &d))
+                        .collect(),
+                    Err(kbest::Cut::Stopped) => return Err(ParseError::Stopped),
+                    Err(kbest::Cut::OverBudget { found, used }) => {
+                        return Err(ParseError::KbestTooLarge {
+                            words: n,
+                            kbest: k,
+                            needed_bytes: chart.saturating_add(used),
+                            limit_bytes: options.max_chart_bytes,
+                            fits: found.max(1),
+                        })
+                    }
+                }
+            }
         };
         let parse_count = if options.count_parses {
             Some(count_parses(g, &keys, &vit, watch)?)
@@ -384,6 +408,31 @@ impl Parser {
         Ok(evals)
     }
 
+    /// The bytes of state the k-best pass needs to find the `kbest` most
+    /// probable trees of `words` (for benchmarks: it grows with `kbest` and
+    /// the number of chart items those trees reach, not with the chart).
+    pub fn kbest_state_bytes<S: AsRef<str>>(
+        &self,
+        words: &[S],
+        kbest: usize,
+    ) -> Result<u64, ParseError> {
+        let options = ParseOptions {
+            kbest,
+            count_parses: false,
+            explain: false,
+            ..ParseOptions::default()
+        };
+        let words = self.check_size(words, &options)?;
+        let keys = self.keys(&words);
+        let g = &self.grammar;
+        let watch = Watch(&|| false);
+        let vit = viterbi::fill(g, &keys, watch, &Workers::default(), None)?;
+        match kbest::kbest(g, &keys, &vit, kbest, u64::MAX, watch) {
+            Ok(found) => Ok(found.state_bytes),
+            Err(_) => Err(ParseError::Stopped),
+        }
+    }
+
     fn check_size<'w, S: AsRef<str>>(
         &self,
         words: &'w [S],
@@ -394,38 +443,10 @@ impl Parser {
         }
         let needed = self.chart_bytes(words.len(), options);
         if needed > options.max_chart_bytes {
-            let fewest = ParseOptions {
-                kbest: options.kbest.min(1),
-                ..options.clone()
-            };
-            if self.chart_bytes(words.len(), &fewest) > options.max_chart_bytes {
-                return Err(ParseError::ChartTooLarge {
-                    words: words.len(),
-                    needed_bytes: needed,
-                    limit_bytes: options.max_chart_bytes,
-                });
-            }
-            // The k-best lists are what does not fit: find the most trees
-            // that do (the size grows with k, so bisect).
-            let (mut fits, mut over) = (1usize, options.kbest);
-            while over - fits > 1 {
-                let mid = fits + (over - fits) / 2;
-                let trial = ParseOptions {
-                    kbest: mid,
-                    ..options.clone()
-                };
-                if self.chart_bytes(words.len(), &trial) <= options.max_chart_bytes {
-                    fits = mid;
-                } else {
-                    over = mid;
-                }
-            }
-            return Err(ParseError::KbestTooLarge {
+            return Err(ParseError::ChartTooLarge {
                 words: words.len(),
-                kbest: options.kbest,
                 needed_bytes: needed,
                 limit_bytes: options.max_chart_bytes,
-                fits,
             });
         }
         Ok(words.iter().map(|w| w.as_ref()).collect())

@@ -404,3 +404,118 @@ fn left_child_with_many_rules_uses_indexed_lookup_and_still_matches_enumeration(
     }
     assert!(compared > 300, "only {compared} trees compared");
 }
+
+#[test]
+fn counts_stay_exact_where_they_outgrow_machine_integers() {
+    // S → S S | "a": n words have Catalan(n − 1) parses (the Catalan
+    // numbers count the binary bracketings of n leaves; OEIS A000108),
+    // computed here by the closed form C(m) = (2m)! / (m! (m + 1)!) in big
+    // integers. Catalan(36) ≈ 1.1e19 still fits 64 bits, Catalan(37) ≈
+    // 4.2e19 does not, and Catalan(67) ≈ 1.1e38 is past 128 bits' reach of
+    // its products: the counting pass changes representation twice between
+    // 30 and 80 words, and every count stays exact.
+    fn closed_form(m: u32) -> BigUint {
+        let factorial = |n: u32| (1..=n).fold(BigUint::from(1u32), |f, k| f * BigUint::from(k));
+        factorial(2 * m) / (factorial(m) * factorial(m + 1))
+    }
+    let g = grammar("S", &[("S", "S S", "0.4"), ("S", "\"a\"", "0.6")]);
+    let parser = Parser::new(&g).unwrap();
+    let no_trees = ParseOptions {
+        kbest: 0,
+        ..options(1)
+    };
+    for n in 30..=80u32 {
+        let words = vec!["a"; n as usize];
+        let out = parser.parse(&words, &no_trees).unwrap();
+        assert_eq!(
+            out.parse_count,
+            Some(Count::Finite(closed_form(n - 1))),
+            "{n} words"
+        );
+    }
+    assert!(closed_form(36) < BigUint::from(u64::MAX));
+    assert!(closed_form(37) > BigUint::from(u64::MAX));
+}
+
+#[test]
+fn an_infinite_count_stays_infinite_where_the_finite_ones_overflow() {
+    // S → S (1/4) | X (3/4), X → X X | "a": every S is infinitely
+    // ambiguous (the self-loop repeats any number of times) while the X
+    // counts (Catalan numbers) outgrow 64 and 128 bits on the way up.
+    let g = grammar(
+        "S",
+        &[
+            ("S", "S", "1/4"),
+            ("S", "X", "3/4"),
+            ("X", "X X", "1/2"),
+            ("X", "\"a\"", "1/2"),
+        ],
+    );
+    let parser = Parser::new(&g).unwrap();
+    for n in [1usize, 37, 80] {
+        let out = parser.parse(&vec!["a"; n], &options(0)).unwrap();
+        assert_eq!(out.parse_count, Some(Count::Infinite), "{n} words");
+    }
+}
+
+#[test]
+fn kbest_on_random_grammars_with_unary_cycles_matches_bounded_enumeration() {
+    // The lazy k-best produces each symbol's derivations in a cell through
+    // the unary rules, cycles included. Reference: enumeration with unary
+    // chains of at most (k + 1)·|N| steps. A derivation with a longer chain
+    // has at least k strictly more probable ones (cut out its cycles one
+    // after another: each cycle has probability below 1), so the k best lie
+    // within the bound.
+    let k = 4;
+    let mut rng = Rng(0x1a2b);
+    let mut compared = 0;
+    for round in 0..30 {
+        let nts = 2 + round % 2;
+        let g = random_grammar(&mut rng, nts, true);
+        let parser = Parser::new(&g).unwrap();
+        let bound = (k + 1) * g.nonterminals.len();
+        for words in all_sentences(2) {
+            if count_derivations(&g, &words, bound) > 3_000 {
+                continue; // too many to enumerate quickly; other sentences cover it
+            }
+            let mut top: Vec<(String, f64)> = all_derivations(&g, &words, bound)
+                .into_iter()
+                .map(|(t, p)| (t.to_brackets(), p))
+                .collect();
+            top.sort_by(|a, b| b.1.total_cmp(&a.1));
+            let out = parser.parse(&words, &options(k)).unwrap();
+            let context = format!("round {round}, sentence {words:?}");
+            assert_eq!(out.kbest.len(), top.len().min(k), "{context}");
+            for (rank, (got, want)) in out.kbest.iter().zip(&top).enumerate() {
+                assert!(
+                    rel(got.probability, want.1) < 1e-12,
+                    "{context}: rank {rank}: {} vs {}",
+                    got.probability,
+                    want.1
+                );
+                // The tree is one the enumeration has, with that probability.
+                let brackets = got.tree.to_brackets();
+                assert!(
+                    top.iter()
+                        .any(|(t, p)| *t == brackets && rel(*p, got.probability) < 1e-12),
+                    "{context}: {brackets} is not a derivation of probability {}",
+                    got.probability
+                );
+                compared += 1;
+            }
+            // No derivation twice: a tree shows up at most as often as the
+            // enumeration has it (twice when two equal rules make it).
+            for t in &out.kbest {
+                let brackets = t.tree.to_brackets();
+                let got = out
+                    .kbest
+                    .iter()
+                    .filter(|u| u.tree.to_brackets() == brackets)
+                    .count();
+                let have = top.iter().filter(|(u, _)| *u == brackets).count();
+                assert!(got <= have, "{context}: {brackets} {got} times");
+            }
+        }
+    }
+    assert!(compared > 150, "only {compared} trees compared");
+}

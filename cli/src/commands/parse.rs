@@ -32,8 +32,9 @@ pub const LONG_ABOUT: &str = "Parse sentences with a grammar.\n\n\
     divided by their sum; a note says which blocks. Errors in blocks the \
     start symbol cannot reach do not stop the run (a note lists them).\n\n\
     Two budgets bound each sentence: --max-chart-mib refuses a sentence \
-    whose chart (with the lists --kbest keeps) would need more memory, \
-    before parsing it; --max-seconds stops a parse that runs longer. A \
+    whose chart would need more memory, before parsing it, and stops the \
+    search for the --kbest trees when it outgrows what the chart leaves; \
+    --max-seconds stops a parse that runs longer. A \
     refused or stopped sentence is reported as such, with the option to \
     change.\n\n\
     For very large grammars, --beam WIDTH prunes each chart cell to the \
