@@ -310,3 +310,99 @@ fn max_seconds_stops_a_long_parse_and_says_which_option_stopped_it() {
         );
     }
 }
+
+#[test]
+fn a_beam_says_the_results_are_not_exact_in_both_formats() {
+    let dir = setup();
+    // "a day ticket" has two trees (see the first test); keeping one symbol
+    // per chart cell drops the one that starts with "a" inside the Ticket.
+    let run = trellis(
+        dir.path(),
+        &[
+            "parse",
+            "g.trellis",
+            "a day ticket",
+            "--kbest",
+            "2",
+            "--beam-size",
+            "1",
+        ],
+    );
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    assert!(run.stdout.contains("trees: 1"), "{}", run.stdout);
+    assert!(
+        run.stdout.contains(
+            "note: pruned with a beam of at most 1 symbol per cell: not exact; probabilities \
+             are lower bounds, the best tree may be missed, the tree count counts surviving \
+             trees only"
+        ),
+        "{}",
+        run.stdout
+    );
+    let run = trellis(
+        dir.path(),
+        &[
+            "parse",
+            "g.trellis",
+            "a day ticket",
+            "--beam",
+            "0",
+            "--format",
+            "json",
+        ],
+    );
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let doc: Value = serde_json::from_str(run.stdout.trim()).unwrap();
+    assert_eq!(doc["exact"], Value::Bool(false), "{doc}");
+    assert_eq!(doc["beam"]["log_width"], 0.0, "{doc}");
+    assert_eq!(doc["beam"]["max_symbols"], Value::Null, "{doc}");
+    assert_eq!(doc["parse_count"], "1", "{doc}");
+    // A lower bound on the exact 1/6 (see the first test): one tree's 1/12.
+    let p = doc["sentence_probability"].as_f64().unwrap();
+    assert!((p - 1.0 / 12.0).abs() < 1e-15, "{p}");
+    // A beam wide enough to drop nothing: exact, and no field says otherwise.
+    let run = trellis(
+        dir.path(),
+        &[
+            "parse",
+            "g.trellis",
+            "a day ticket",
+            "--beam",
+            "100",
+            "--format",
+            "json",
+        ],
+    );
+    let doc: Value = serde_json::from_str(run.stdout.trim()).unwrap();
+    assert!(
+        doc.get("exact").is_none() && doc.get("beam").is_none(),
+        "{doc}"
+    );
+    assert_eq!(doc["parse_count"], "2", "{doc}");
+    let human = trellis(
+        dir.path(),
+        &["parse", "g.trellis", "a day ticket", "--beam", "100"],
+    );
+    assert!(!human.stdout.contains("pruned"), "{}", human.stdout);
+}
+
+#[test]
+fn a_bad_beam_is_refused_with_what_to_write() {
+    let dir = setup();
+    let run = trellis(
+        dir.path(),
+        &["parse", "g.trellis", "a day ticket", "--beam", "wide"],
+    );
+    assert_eq!(run.code, 2, "{}", run.stderr);
+    assert!(
+        run.stderr
+            .contains("`wide` is not a beam width (a natural-log width of 0 or more"),
+        "{}",
+        run.stderr
+    );
+    let run = trellis(
+        dir.path(),
+        &["parse", "g.trellis", "a day ticket", "--beam-size", "0"],
+    );
+    assert_eq!(run.code, 2, "{}", run.stderr);
+}

@@ -357,6 +357,15 @@ fn parse_prints_what_readme_documents() {
                 "0",
                 "two return tickets to marrowby please",
             ],
+            &[
+                grammar,
+                "--beam",
+                "0",
+                "--beam-size",
+                "1",
+                // Pruned: "two" is one symbol in one tree, another in the other.
+                "two adults",
+            ],
         ],
     );
 }

@@ -11,6 +11,10 @@
 //!     twice: with a nearly unambiguous lexicon (most cells hold few
 //!     symbols, so index look-ups weigh more than evaluations) and with every
 //!     word in about five word classes (denser cells).
+//!     The same 40-word sentences are also parsed under per-cell beams
+//!     (`ParseOptions::beam`), printing the speed ratio against the exact
+//!     Viterbi + inside, whether the best tree stayed the same, and how much
+//!     of the sentence probability survived.
 //! (b) The ferry-kiosk example grammar (`examples/ferry_kiosk.trellis`) with
 //!     15-word sentences sampled from it: full parse including the parse count.
 
@@ -24,7 +28,7 @@ use num_bigint::BigInt;
 use std::hint::black_box;
 use std::path::Path;
 use trellis_engine::parser::{
-    ParseOptions, Parser, Spread, Task, Workers, DEFAULT_MAX_CHART_BYTES,
+    Beam, ParseOptions, Parser, Spread, Task, Workers, DEFAULT_MAX_CHART_BYTES,
 };
 
 /// SplitMix64 (Steele, Lea & Flood 2014).
@@ -120,6 +124,7 @@ fn bench_generated(c: &mut Criterion) {
         for words in [20, 40] {
             report_against_baseline(&g, ambiguity, words);
         }
+        report_beams(&g, ambiguity, 40);
     }
     bench_generated_with(c, 0, "generated_300nt_30k_rules_40_words");
     bench_generated_with(c, 4, "generated_ambiguous_lexicon_40_words");
@@ -198,6 +203,17 @@ fn bench_generated_with(c: &mut Criterion, ambiguity: usize, name: &str) {
         })
     });
     group.throughput(Throughput::Elements(sentences.len() as u64));
+    let beam = ParseOptions {
+        beam: Some(Beam::new(5.0, None).expect("a valid beam")),
+        ..options.clone()
+    };
+    group.bench_function("viterbi_and_inside_beam_5_sentences", |b| {
+        b.iter(|| {
+            for s in &sentences {
+                black_box(parser.parse(black_box(s), &beam).expect("fits"));
+            }
+        })
+    });
     group.bench_function("full_parse_sentences", |b| {
         b.iter(|| {
             for s in &sentences {
@@ -423,6 +439,87 @@ fn report_against_baseline(g: &Grammar, ambiguity: usize, len: usize) {
             one * 1e3,
             two * 1e3,
             one / two
+        );
+    }
+}
+
+/// Viterbi + inside under a few beams against the exact parse on the same
+/// parsable sentences (thread CPU time, least of three rounds): the speed
+/// ratio, how many sentences kept the exact best tree, and the share of the
+/// sentence probability that survived (the pruned one is a lower bound).
+fn report_beams(g: &Grammar, ambiguity: usize, len: usize) {
+    let parser = Parser::new(g).expect("the generated grammar compiles");
+    let mut rng = Rng(len as u64 + 1000);
+    let sentences: Vec<Vec<String>> = std::iter::repeat_with(|| {
+        (0..len)
+            .map(|_| format!("w{}", rng.below(WORDS)))
+            .collect::<Vec<_>>()
+    })
+    .take(2000)
+    .filter(|s| {
+        parser
+            .best_tree(s, DEFAULT_MAX_CHART_BYTES)
+            .is_ok_and(|t| t.is_some())
+    })
+    .take(4)
+    .collect();
+    assert!(!sentences.is_empty(), "no random {len}-word string parses");
+    let exact_options = ParseOptions {
+        kbest: 1,
+        count_parses: false,
+        explain: false,
+        ..ParseOptions::default()
+    };
+    let time = |options: &ParseOptions| {
+        (0..3)
+            .map(|_| {
+                cpu_time_ns(|| {
+                    for s in &sentences {
+                        black_box(parser.parse(s, options).expect("fits"));
+                    }
+                })
+                .unwrap_or(f64::NAN)
+            })
+            .fold(f64::INFINITY, f64::min)
+            / sentences.len() as f64
+    };
+    let exact: Vec<_> = sentences
+        .iter()
+        .map(|s| parser.parse(s, &exact_options).expect("fits"))
+        .collect();
+    let exact_ns = time(&exact_options);
+    for beam in [
+        Beam::new(10.0, None).expect("a valid beam"),
+        Beam::new(5.0, None).expect("a valid beam"),
+        Beam::new(5.0, Some(30)).expect("a valid beam"),
+    ] {
+        let options = ParseOptions {
+            beam: Some(beam),
+            ..exact_options.clone()
+        };
+        let pruned: Vec<_> = sentences
+            .iter()
+            .map(|s| parser.parse(s, &options).expect("fits"))
+            .collect();
+        let same_best = pruned
+            .iter()
+            .zip(&exact)
+            .filter(|(p, e)| p.best.as_ref().map(|t| &t.tree) == e.best.as_ref().map(|t| &t.tree))
+            .count();
+        let kept: f64 = pruned
+            .iter()
+            .zip(&exact)
+            .map(|(p, e)| (p.sentence_log_probability - e.sentence_log_probability).exp())
+            .fold(f64::INFINITY, f64::min);
+        let ns = time(&options);
+        eprintln!(
+            "beam, ambiguity {ambiguity}, {len} words, {}: Viterbi + inside {:.2}× the exact speed ({:.2} vs {:.2} ms); best tree the same in {same_best} of {} sentences; at least {:.3} of P(sentence) kept",
+            beam.describe(),
+            exact_ns / ns,
+            ns / 1e6,
+            exact_ns / 1e6,
+            sentences.len(),
+            kept
         );
     }
 }

@@ -376,12 +376,17 @@ fn fill<T: Tally>(
                     row[s as usize] = T::ZERO;
                 }
             }
+            // Under a beam, only over the symbols it kept (`crate::beam`).
+            let kept = &vit.score[c * n_sym..(c + 1) * n_sym];
             for &b in &g.unary_nodes {
                 let pb = &pre[b as usize];
-                if pb.is_zero() {
+                if pb.is_zero() || (vit.pruned && kept[b as usize] == f64::NEG_INFINITY) {
                     continue;
                 }
                 for (a, w) in &closure[b as usize] {
+                    if vit.pruned && kept[*a as usize] == f64::NEG_INFINITY {
+                        continue;
+                    }
                     if !row[*a as usize].add_product(w, pb) {
                         return Ok(Filled::Overflow(c));
                     }

@@ -241,13 +241,29 @@ fn fill_cell(
         }
     }
     // Summed unary closure: post[A] = Σ_B C[A][B] · pre[B].
-    for &b in &g.unary_nodes {
-        let pb = pre[b as usize];
-        if pb == f64::NEG_INFINITY {
-            continue;
+    if vit.pruned {
+        // Only over symbols the beam kept (see `crate::beam`).
+        let kept = &vit.score[c * n_sym..(c + 1) * n_sym];
+        for &b in &g.unary_nodes {
+            let pb = pre[b as usize];
+            if pb == f64::NEG_INFINITY || kept[b as usize] == f64::NEG_INFINITY {
+                continue;
+            }
+            for &(a, lw) in &g.sum_closure[b as usize] {
+                if kept[a as usize] > f64::NEG_INFINITY {
+                    row[a as usize] = log_add(row[a as usize], lw + pb);
+                }
+            }
         }
-        for &(a, lw) in &g.sum_closure[b as usize] {
-            row[a as usize] = log_add(row[a as usize], lw + pb);
+    } else {
+        for &b in &g.unary_nodes {
+            let pb = pre[b as usize];
+            if pb == f64::NEG_INFINITY {
+                continue;
+            }
+            for &(a, lw) in &g.sum_closure[b as usize] {
+                row[a as usize] = log_add(row[a as usize], lw + pb);
+            }
         }
     }
     let mut mx = f64::NEG_INFINITY;

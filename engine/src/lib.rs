@@ -1,5 +1,6 @@
 //! The probabilistic engine of trellis (see ARCHITECTURE.md).
 
+pub mod beam;
 pub(crate) mod chart;
 pub mod compile;
 pub mod consistency;

@@ -17,6 +17,7 @@
 //! assert_eq!(outcome.best.unwrap().tree.to_brackets(), r#"(S "hello")"#);
 //! ```
 
+pub use crate::beam::Beam;
 pub use crate::chart::{Spread, Task, Workers};
 use crate::chart::{Stopped, Watch};
 use crate::compile::{CompileError, CompiledGrammar};
@@ -48,6 +49,11 @@ pub struct ParseOptions {
     /// whatever the threads; small sentences and grammars stay on the
     /// calling thread.
     pub workers: Workers,
+    /// Prune the Viterbi chart with a per-cell beam ([`crate::beam`]); `None`
+    /// (the default) parses exactly. Under a beam the sentence probability
+    /// is a lower bound, the best tree may be missed and the parse count
+    /// counts surviving trees only; see [`ParseOutcome::beam`].
+    pub beam: Option<Beam>,
 }
 
 impl Default for ParseOptions {
@@ -58,6 +64,7 @@ impl Default for ParseOptions {
             count_parses: true,
             explain: true,
             workers: Workers::default(),
+            beam: None,
         }
     }
 }
@@ -86,6 +93,11 @@ pub struct ParseOutcome {
     pub parse_count: Option<Count>,
     /// Why the sentence does not parse (only when it does not and it was asked for).
     pub explanation: Option<Explanation>,
+    /// The beam that pruned the chart, when one dropped any symbol: the
+    /// results are then not exact. `None` when the results are exact (no
+    /// beam asked for, or it dropped nothing; a sentence that no tree
+    /// survives the beam for is parsed again exactly).
+    pub beam: Option<Beam>,
 }
 
 impl ParseOutcome {
@@ -248,7 +260,12 @@ impl Parser {
         let watch = Watch(stop);
         let g = &self.grammar;
         let n = words.len();
-        let vit = viterbi::fill(g, &keys, watch, &options.workers)?;
+        let mut vit = viterbi::fill(g, &keys, watch, &options.workers, options.beam.as_ref())?;
+        if vit.pruned && vit.get(0, n, g.start) == f64::NEG_INFINITY {
+            // No tree survived the beam: parse exactly instead.
+            vit = viterbi::fill(g, &keys, watch, &options.workers, None)?;
+        }
+        let beam = options.beam.filter(|_| vit.pruned);
         let root_score = vit.get(0, n, g.start);
         if root_score == f64::NEG_INFINITY {
             return Ok(ParseOutcome {
@@ -260,6 +277,7 @@ impl Parser {
                 explanation: options
                     .explain
                     .then(|| in_own_words(explain(g, &keys, &vit), &words)),
+                beam,
             });
         }
         let best =
@@ -303,6 +321,7 @@ impl Parser {
             sentence_log_probability,
             parse_count,
             explanation: None,
+            beam,
         })
     }
 
@@ -347,7 +366,7 @@ impl Parser {
         let words = self.check_size(words, &options)?;
         let keys = self.keys(&words);
         let g = &self.grammar;
-        let vit = viterbi::fill(g, &keys, Watch(stop), &options.workers)?;
+        let vit = viterbi::fill(g, &keys, Watch(stop), &options.workers, None)?;
         Ok(best_derivation(g, &vit, &keys, 0, words.len(), g.start)
             .map(|d| self.tree_of(&keys, &words, &d)))
     }
@@ -369,7 +388,7 @@ impl Parser {
         let words = self.check_size(words, &options)?;
         let keys = self.keys(&words);
         let g = &self.grammar;
-        let vit = viterbi::fill(g, &keys, Watch(&|| false), &Workers::default())?;
+        let vit = viterbi::fill(g, &keys, Watch(&|| false), &Workers::default(), None)?;
         let layout = vit.layout;
         let mut evals = 0u64;
         for len in 2..=layout.n {
@@ -407,7 +426,7 @@ impl Parser {
         let keys = self.keys(&words);
         let g = &self.grammar;
         let watch = Watch(&|| false);
-        let vit = viterbi::fill(g, &keys, watch, &Workers::default())?;
+        let vit = viterbi::fill(g, &keys, watch, &Workers::default(), None)?;
         match kbest::kbest(g, &keys, &vit, kbest, u64::MAX, watch) {
             Ok(found) => Ok(found.state_bytes),
             Err(_) => Err(ParseError::Stopped),

@@ -7,6 +7,7 @@
 //! re-deriving the arg-max at each item from the finished chart, which keeps
 //! the inner loop to one add, one add and one compare per rule.
 
+use crate::beam::Beam;
 use crate::chart::{fill_cells, kernels, Layout, Stopped, Watch, Workers};
 use crate::compile::{CompiledGrammar, Origin, Visit};
 
@@ -30,6 +31,10 @@ pub(crate) struct ViterbiChart {
     pub score: Vec<f64>,
     present_start: Vec<u32>,
     present: Vec<u32>,
+    /// Whether a [`Beam`] dropped any symbol: pruned symbols score `-inf`
+    /// and are absent from the present lists, which the later passes must
+    /// then also respect in their unary closures.
+    pub pruned: bool,
 }
 
 impl ViterbiChart {
@@ -46,12 +51,14 @@ impl ViterbiChart {
 }
 
 /// Fills the Viterbi chart for `words`, asking `watch` once per cell; the
-/// cells of one span length may be spread over `workers`.
+/// cells of one span length may be spread over `workers`. With a `beam`,
+/// every cell but the whole sentence's is pruned (see [`crate::beam`]).
 pub(crate) fn fill(
     g: &CompiledGrammar,
     words: &[&str],
     watch: Watch,
     workers: &Workers,
+    beam: Option<&Beam>,
 ) -> Result<ViterbiChart, Stopped> {
     let layout = Layout::new(words.len(), g.symbol_count());
     let n_sym = layout.n_sym;
@@ -61,14 +68,17 @@ pub(crate) fn fill(
     present_start.push(0u32);
     let mut present: Vec<u32> = Vec::new();
     let rules_per_left = (g.bin.len() / n_sym.max(1)).max(1) as u64;
+    let mut pruned = false;
     for len in 1..=layout.n {
         let first = layout.cell(0, len);
         let count = layout.n - len + 1;
         let (done, rest) = score.split_at_mut(first * n_sym);
-        let mut outs: Vec<(&mut [f64], Vec<u32>)> = rest[..count * n_sym]
+        let mut outs: Vec<(&mut [f64], Vec<u32>, bool)> = rest[..count * n_sym]
             .chunks_mut(n_sym)
-            .map(|row| (row, Vec::new()))
+            .map(|row| (row, Vec::new(), false))
             .collect();
+        // The whole sentence's cell is never pruned.
+        let beam = beam.filter(|_| len < layout.n);
         let done = Done {
             layout,
             score: done,
@@ -94,12 +104,24 @@ pub(crate) fn fill(
                 pre: vec![f64::NEG_INFINITY; n_sym],
                 rmask: vec![0u64; g.mask_words],
                 groups: Groups::new(n_sym),
+                keep: if beam.is_some() {
+                    vec![false; n_sym]
+                } else {
+                    Vec::new()
+                },
+                order: Vec::new(),
             },
-            |i, (row, out), scratch| fill_cell(g, words, &done, i, i + len, row, out, scratch),
+            |i, (row, out, dropped), scratch| {
+                fill_cell(g, words, &done, i, i + len, row, out, scratch);
+                if let Some(beam) = beam {
+                    *dropped = prune_cell(g, beam, row, out, scratch);
+                }
+            },
         )?;
-        for (_, out) in outs {
+        for (_, out, dropped) in outs {
             present.extend_from_slice(&out);
             present_start.push(present.len() as u32);
+            pruned |= dropped;
         }
     }
     Ok(ViterbiChart {
@@ -107,6 +129,7 @@ pub(crate) fn fill(
         score,
         present_start,
         present,
+        pruned,
     })
 }
 
@@ -137,6 +160,56 @@ struct Scratch {
     pre: Vec<f64>,
     rmask: Vec<u64>,
     groups: Groups,
+    /// The symbols a beam keeps (all false between cells).
+    keep: Vec<bool>,
+    order: Vec<u32>,
+}
+
+/// Applies `beam` to the filled cell `row` with present symbols `out`
+/// (`scratch.pre` still holding the cell's scores before the unary
+/// closure). The kept symbols' closure is taken again over kept symbols
+/// only, so every score is that of a surviving derivation; the rest get
+/// `-inf` and leave `out`. Returns whether any symbol was dropped.
+fn prune_cell(
+    g: &CompiledGrammar,
+    beam: &Beam,
+    row: &mut [f64],
+    out: &mut Vec<u32>,
+    scratch: &mut Scratch,
+) -> bool {
+    let Scratch {
+        pre, keep, order, ..
+    } = scratch;
+    if !beam.select(row, out, keep, order) {
+        for &s in order.iter() {
+            keep[s as usize] = false;
+        }
+        return false;
+    }
+    for &s in out.iter() {
+        row[s as usize] = if keep[s as usize] {
+            pre[s as usize]
+        } else {
+            f64::NEG_INFINITY
+        };
+    }
+    for &b in &g.unary_children {
+        let pb = pre[b as usize];
+        if pb == f64::NEG_INFINITY || !keep[b as usize] {
+            continue;
+        }
+        for &(a, w) in &g.vit_closure[b as usize] {
+            let cand = w + pb;
+            if keep[a as usize] && cand > row[a as usize] {
+                row[a as usize] = cand;
+            }
+        }
+    }
+    for &s in order.iter() {
+        keep[s as usize] = false;
+    }
+    out.retain(|&s| row[s as usize] > f64::NEG_INFINITY);
+    true
 }
 
 /// Fills `row`, cell `(i, j)`, from the finished shorter cells, and lists
@@ -152,7 +225,9 @@ fn fill_cell(
     out: &mut Vec<u32>,
     scratch: &mut Scratch,
 ) {
-    let Scratch { pre, rmask, groups } = scratch;
+    let Scratch {
+        pre, rmask, groups, ..
+    } = scratch;
     pre.fill(f64::NEG_INFINITY);
     if j - i == 1 {
         if let Some(entries) = g.lexicon.get(words[i]) {
@@ -649,7 +724,7 @@ mod tests {
     fn grouped_scans_give_the_same_scores_bit_for_bit_as_split_by_split() {
         let g = dense_grammar();
         let words = ["w0", "w4", "w1", "w2", "w4", "w3", "w0", "w1", "w4", "w2"];
-        let chart = fill(&g, &words, Watch(&|| false), &Workers::default()).expect("runs");
+        let chart = fill(&g, &words, Watch(&|| false), &Workers::default(), None).expect("runs");
         let done = Done {
             layout: chart.layout,
             score: &chart.score,

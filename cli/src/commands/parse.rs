@@ -11,7 +11,7 @@ use rayon::prelude::*;
 use std::io::Read;
 use std::path::{Path, PathBuf};
 use trellis_engine::parser::{
-    ParseError, ParseOptions, ParseOutcome, ParsedTree, Spread, Task, Workers,
+    Beam, ParseError, ParseOptions, ParseOutcome, ParsedTree, Spread, Task, Workers,
 };
 use trellis_ide::picture::{tree_picture, Surface};
 
@@ -37,6 +37,12 @@ pub const LONG_ABOUT: &str = "Parse sentences with a grammar.\n\n\
     --max-seconds stops a parse that runs longer. A \
     refused or stopped sentence is reported as such, with the option to \
     change.\n\n\
+    For very large grammars, --beam WIDTH prunes each chart cell to the \
+    symbols whose best log-probability is within WIDTH (natural log) of the \
+    cell's best, and --beam-size N to its N best symbols. Pruned results are \
+    not exact and say so: probabilities are lower bounds, the best tree may \
+    be missed, and the tree count counts surviving trees only. Without \
+    either option parsing is exact.\n\n\
     Exit status: 0 when every sentence parses; 1 when the grammar has errors \
     in what the run uses or some sentence does not parse (or is refused by \
     --max-chart-mib or stopped by --max-seconds); 2 when a file cannot be \
@@ -79,6 +85,21 @@ pub struct ParseArgs {
     #[arg(long)]
     pub no_count: bool,
 
+    /// Prune each chart cell to the symbols within WIDTH (natural log) of
+    /// its best: faster on very large grammars, no longer exact [default:
+    /// no pruning]
+    #[arg(long, value_name = "WIDTH", value_parser = beam_width)]
+    pub beam: Option<f64>,
+
+    /// Keep at most N symbols in each chart cell (N is at least 1; with or
+    /// without --beam) [default: no limit]
+    #[arg(
+        long,
+        value_name = "N",
+        value_parser = clap::builder::RangedU64ValueParser::<usize>::new().range(1..)
+    )]
+    pub beam_size: Option<usize>,
+
     /// Print trees in the labels of the treebank a grammar was learned from
     /// (`trellis learn`): binarization's intermediate symbols dissolved,
     /// annotations dropped, labels unescaped
@@ -95,6 +116,26 @@ pub struct ParseArgs {
     /// line, `brackets` for labelled-bracket trees with bare words
     #[arg(long, value_enum, default_value_t = ParseFormat::Human)]
     pub format: ParseFormat,
+}
+
+/// A beam width: a natural-log width of 0 or more.
+fn beam_width(text: &str) -> Result<f64, String> {
+    match text.trim().parse::<f64>() {
+        Ok(w) if w >= 0.0 && w.is_finite() => Ok(w),
+        _ => Err(format!(
+            "`{text}` is not a beam width (a natural-log width of 0 or more, such as 5)"
+        )),
+    }
+}
+
+/// The beam `--beam` and `--beam-size` ask for, if any.
+fn beam_of(args: &ParseArgs) -> Option<Beam> {
+    if args.beam.is_none() && args.beam_size.is_none() {
+        return None;
+    }
+    // Both values were checked by their parsers, which is all `Beam::new`
+    // checks.
+    Beam::new(args.beam.unwrap_or(f64::INFINITY), args.beam_size).ok()
 }
 
 fn read_sentences(args: &ParseArgs) -> Result<Vec<String>, String> {
@@ -206,6 +247,7 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
         count_parses: !args.no_count,
         explain: true,
         workers: Workers::new(RayonThreads),
+        beam: beam_of(args),
     };
     let limits = ParseLimits {
         max_chart_mib: args.max_chart_mib,

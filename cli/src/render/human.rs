@@ -652,6 +652,13 @@ pub fn parse_report(sentence: &str, result: &Result<ParseOutcome, String>) -> St
                 if let Some(c) = &o.parse_count {
                     out.push_str(&format!("  trees: {c}\n"));
                 }
+                if let Some(beam) = &o.beam {
+                    out.push_str(&format!(
+                        "  note: pruned with {}: not exact; probabilities are lower bounds, \
+                         the best tree may be missed, the tree count counts surviving trees only\n",
+                        beam.describe()
+                    ));
+                }
             }
             None => {
                 out.push_str("  no parse\n");

@@ -191,10 +191,24 @@ pub struct ParseDocument<'a> {
     explanation: Option<JsonExplanation<'a>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     error: Option<String>,
+    /// `false` when a beam pruned the chart (absent when exact).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    exact: Option<bool>,
+    /// The beam that pruned the chart (absent when exact).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    beam: Option<JsonBeam>,
     /// Blocks whose weights were divided by their sum for the run.
     rescaled: &'a [String],
     /// Errors outside what the run uses, which did not stop it.
     ignored_errors: &'a [JsonDiagnostic],
+}
+
+/// A beam: `log_width` is `null` when only `max_symbols` limits it, and
+/// `max_symbols` is `null` without a limit.
+#[derive(Serialize)]
+struct JsonBeam {
+    log_width: Option<f64>,
+    max_symbols: Option<usize>,
 }
 
 #[derive(Serialize)]
@@ -336,6 +350,11 @@ pub fn parse_document<'a>(
             parse_count: o.parse_count.as_ref().map(count_text),
             explanation: o.explanation.as_ref().map(JsonExplanation::from),
             error: None,
+            exact: o.beam.map(|_| false),
+            beam: o.beam.map(|b| JsonBeam {
+                log_width: b.log_width.is_finite().then_some(b.log_width),
+                max_symbols: b.max_symbols,
+            }),
             rescaled,
             ignored_errors,
         },
@@ -349,6 +368,8 @@ pub fn parse_document<'a>(
             parse_count: None,
             explanation: None,
             error: Some(e.clone()),
+            exact: None,
+            beam: None,
             rescaled,
             ignored_errors,
         },
