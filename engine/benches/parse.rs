@@ -21,102 +21,17 @@
 // A benchmark reports what it measured on the terminal.
 #![allow(clippy::print_stdout, clippy::print_stderr)]
 
+mod support;
+
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
-use grammar_lang::model::{Grammar, NtId, Rule, Sym};
-use grammar_lang::{FileId, Location, MemoryLoader, Span};
-use num_bigint::BigInt;
+use grammar_lang::model::{Grammar, NtId, Sym};
+use grammar_lang::MemoryLoader;
 use std::hint::black_box;
 use std::path::Path;
+use support::{cpu_time_ns, generated_grammar, Rng, WORDS};
 use trellis_engine::parser::{
     Beam, ParseOptions, Parser, Spread, Task, Workers, DEFAULT_MAX_CHART_BYTES,
 };
-
-/// SplitMix64 (Steele, Lea & Flood 2014).
-struct Rng(u64);
-impl Rng {
-    fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    fn below(&mut self, n: usize) -> usize {
-        (self.next() % n as u64) as usize
-    }
-}
-
-fn push(g: &mut Grammar, lhs: NtId, rhs: Vec<Sym>, weight: u64, sum: u64) {
-    let loc = Location::new(FileId(0), Span::new(0, 0));
-    let probability = grammar_lang::model::Ratio::new(BigInt::from(weight), BigInt::from(sum));
-    g.push_rule(Rule {
-        lhs,
-        rhs,
-        weight: None,
-        p: weight as f64 / sum as f64,
-        probability,
-        location: loc,
-        doc: None,
-    });
-}
-
-const CLASSES: usize = 50;
-const PHRASES: usize = 250;
-const BINARY_RULES: usize = 30_000;
-const WORDS: usize = 2_000;
-
-/// `ambiguity`: extra word classes per word (0 keeps the lexicon nearly
-/// unambiguous, which leaves most chart cells with few symbols).
-fn generated_grammar(ambiguity: usize) -> Grammar {
-    let mut rng = Rng(0x5eed);
-    let mut g = Grammar::new();
-    let names: Vec<String> = (0..CLASSES)
-        .map(|i| format!("C{i}"))
-        .chain((0..PHRASES).map(|i| format!("P{i}")))
-        .collect();
-    let nts: Vec<NtId> = names.iter().map(|n| g.intern_nt(n)).collect();
-    g.start = Some(nts[CLASSES]);
-    // Binary rules: each phrase symbol gets 120 distinct (left, right) pairs.
-    let per_phrase = BINARY_RULES / PHRASES;
-    for p in 0..PHRASES {
-        let mut pairs = std::collections::HashSet::new();
-        while pairs.len() < per_phrase {
-            pairs.insert((rng.below(nts.len()), rng.below(nts.len())));
-        }
-        let weights: Vec<u64> = (0..per_phrase).map(|_| 1 + rng.below(9) as u64).collect();
-        let sum = weights.iter().sum();
-        let mut pairs: Vec<_> = pairs.into_iter().collect();
-        pairs.sort_unstable();
-        for ((l, r), w) in pairs.into_iter().zip(weights) {
-            push(
-                &mut g,
-                nts[CLASSES + p],
-                vec![Sym::N(nts[l]), Sym::N(nts[r])],
-                w,
-                sum,
-            );
-        }
-    }
-    // Lexicon: every word belongs to one or two word classes.
-    let mut by_class: Vec<Vec<usize>> = vec![Vec::new(); CLASSES];
-    for w in 0..WORDS {
-        by_class[w % CLASSES].push(w);
-        if rng.below(3) == 0 {
-            by_class[rng.below(CLASSES)].push(w);
-        }
-        for _ in 0..ambiguity {
-            by_class[rng.below(CLASSES)].push(w);
-        }
-    }
-    for (c, words) in by_class.iter().enumerate() {
-        let sum = words.len() as u64;
-        for &w in words {
-            let t = g.intern_term(&format!("w{w}"));
-            push(&mut g, nts[c], vec![Sym::T(t)], 1, sum);
-        }
-    }
-    g
-}
 
 fn bench_generated(c: &mut Criterion) {
     for ambiguity in [0, 4] {
@@ -133,10 +48,7 @@ fn bench_generated(c: &mut Criterion) {
 fn bench_generated_with(c: &mut Criterion, ambiguity: usize, name: &str) {
     let g = generated_grammar(ambiguity);
     let parser = Parser::new(&g).expect("the generated grammar compiles");
-    let mut rng = Rng(40);
-    let sentences: Vec<Vec<String>> = (0..4)
-        .map(|_| (0..40).map(|_| format!("w{}", rng.below(WORDS))).collect())
-        .collect();
+    let sentences = support::sentences(40, 4, 40);
     let evals: u64 = sentences
         .iter()
         .map(|s| {
@@ -536,18 +448,6 @@ impl Spread for RayonThreads {
         use rayon::prelude::*;
         tasks.into_par_iter().for_each(|task| task());
     }
-}
-
-/// CPU time of this thread while running `f`, in nanoseconds (Linux
-/// `/proc/thread-self/schedstat`; `None` elsewhere).
-fn cpu_time_ns(f: impl FnOnce()) -> Option<f64> {
-    let read = || -> Option<f64> {
-        let text = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
-        text.split_whitespace().next()?.parse().ok()
-    };
-    let before = read()?;
-    f();
-    Some(read()? - before)
 }
 
 /// Samples a sentence top-down; `None` past `limit` words.
