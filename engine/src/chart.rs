@@ -117,6 +117,25 @@ impl PartialEq for Workers {
         }
     }
 }
+/// The estimated binary work of cell `(i, i + len)`, for [`fill_cells`]:
+/// per split, a left symbol's rules are scanned, or looked up by each right
+/// symbol (a few steps each), whichever is less. `present(c)` is the number
+/// of symbols present in finished cell `c`.
+#[inline]
+pub(crate) fn cell_work(
+    layout: Layout,
+    i: usize,
+    len: usize,
+    rules_per_left: u64,
+    present: impl Fn(usize) -> usize,
+) -> u64 {
+    (i + 1..i + len)
+        .map(|k| {
+            let right = present(layout.cell(k, i + len)) as u64;
+            present(layout.cell(i, k)) as u64 * rules_per_left.min(3 * right)
+        })
+        .sum()
+}
 
 /// Fills the cells of one span length: `fill(n, &mut outs[n], scratch)` for
 /// each, asking `watch` once per cell. With several workers, batches of

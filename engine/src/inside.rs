@@ -9,7 +9,7 @@
 //! best one, or a grammar with a rule below `e^−RANGE`), that split is
 //! combined with exact log-sum-exp instead. Both paths meet in log space.
 
-use crate::chart::{fill_cells, kernels, log_add, Layout, Stopped, Watch, Workers};
+use crate::chart::{cell_work, fill_cells, kernels, log_add, Layout, Stopped, Watch, Workers};
 use crate::compile::{CompiledGrammar, Visit};
 use crate::viterbi::ViterbiChart;
 
@@ -73,16 +73,7 @@ pub(crate) fn fill(
             max: max_done,
             wide: wide_done,
         };
-        let work = |i: usize| -> u64 {
-            (i + 1..i + len)
-                .map(|k| {
-                    // A left symbol's rules are scanned, or looked up by
-                    // each right symbol (a few steps each), whichever is less.
-                    let right = vit.present(layout.cell(k, i + len)).len() as u64;
-                    vit.present(layout.cell(i, k)).len() as u64 * rules_per_left.min(3 * right)
-                })
-                .sum()
-        };
+        let work = |i: usize| cell_work(layout, i, len, rules_per_left, |c| vit.present(c).len());
         fill_cells(
             workers,
             watch,

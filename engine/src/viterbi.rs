@@ -8,7 +8,7 @@
 //! the inner loop to one add, one add and one compare per rule.
 
 use crate::beam::Beam;
-use crate::chart::{fill_cells, kernels, Layout, Stopped, Watch, Workers};
+use crate::chart::{cell_work, fill_cells, kernels, Layout, Stopped, Watch, Workers};
 use crate::compile::{CompiledGrammar, Origin, Visit};
 
 /// A derivation in the compiled grammar.
@@ -85,16 +85,7 @@ pub(crate) fn fill(
             present_start: &present_start,
             present: &present,
         };
-        let work = |i: usize| -> u64 {
-            (i + 1..i + len)
-                .map(|k| {
-                    // A left symbol's rules are scanned, or looked up by
-                    // each right symbol (a few steps each), whichever is less.
-                    let right = done.present(layout.cell(k, i + len)).len() as u64;
-                    done.present(layout.cell(i, k)).len() as u64 * rules_per_left.min(3 * right)
-                })
-                .sum()
-        };
+        let work = |i: usize| cell_work(layout, i, len, rules_per_left, |c| done.present(c).len());
         fill_cells(
             workers,
             watch,
