@@ -246,15 +246,11 @@ impl Baseline {
     }
 }
 
-/// Prints the time of the Viterbi pass (best tree) and of the inside pass
-/// (a parse without count, less the best tree) against [`Baseline`] on the
-/// same sentences, in thread CPU time, and the chart bytes per sentence.
-fn report_against_baseline(g: &Grammar, ambiguity: usize, len: usize) {
-    let parser = Parser::new(g).expect("the generated grammar compiles");
-    let (base_max, base_sum) = (Baseline::new(g, true), Baseline::new(g, false));
-    // Random word strings that the grammar parses (a string it does not
-    // parse skips the inside pass).
-    let mut rng = Rng(len as u64);
+/// Up to four random `len`-word strings of the generated lexicon that the
+/// grammar parses (a string it does not parse skips the inside pass), drawn
+/// from `seed`.
+fn parsable_sentences(parser: &Parser, seed: u64, len: usize) -> Vec<Vec<String>> {
+    let mut rng = Rng(seed);
     let sentences: Vec<Vec<String>> = std::iter::repeat_with(|| {
         (0..len)
             .map(|_| format!("w{}", rng.below(WORDS)))
@@ -269,6 +265,16 @@ fn report_against_baseline(g: &Grammar, ambiguity: usize, len: usize) {
     .take(4)
     .collect();
     assert!(!sentences.is_empty(), "no random {len}-word string parses");
+    sentences
+}
+
+/// Prints the time of the Viterbi pass (best tree) and of the inside pass
+/// (a parse without count, less the best tree) against [`Baseline`] on the
+/// same sentences, in thread CPU time, and the chart bytes per sentence.
+fn report_against_baseline(g: &Grammar, ambiguity: usize, len: usize) {
+    let parser = Parser::new(g).expect("the generated grammar compiles");
+    let (base_max, base_sum) = (Baseline::new(g, true), Baseline::new(g, false));
+    let sentences = parsable_sentences(&parser, len as u64, len);
     let options = ParseOptions {
         kbest: 1,
         count_parses: false,
@@ -361,21 +367,7 @@ fn report_against_baseline(g: &Grammar, ambiguity: usize, len: usize) {
 /// sentence probability that survived (the pruned one is a lower bound).
 fn report_beams(g: &Grammar, ambiguity: usize, len: usize) {
     let parser = Parser::new(g).expect("the generated grammar compiles");
-    let mut rng = Rng(len as u64 + 1000);
-    let sentences: Vec<Vec<String>> = std::iter::repeat_with(|| {
-        (0..len)
-            .map(|_| format!("w{}", rng.below(WORDS)))
-            .collect::<Vec<_>>()
-    })
-    .take(2000)
-    .filter(|s| {
-        parser
-            .best_tree(s, DEFAULT_MAX_CHART_BYTES)
-            .is_ok_and(|t| t.is_some())
-    })
-    .take(4)
-    .collect();
-    assert!(!sentences.is_empty(), "no random {len}-word string parses");
+    let sentences = parsable_sentences(&parser, len as u64 + 1000, len);
     let exact_options = ParseOptions {
         kbest: 1,
         count_parses: false,
