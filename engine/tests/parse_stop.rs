@@ -64,11 +64,12 @@ fn a_stop_that_never_fires_changes_nothing_and_is_asked_once_per_cell_per_pass()
             .parse_until(&words, &options, &|| stop.ask())
             .unwrap();
         assert_eq!(stopped, parser.parse(&words, &options).unwrap());
-        // Viterbi and inside always, and counting when asked: once per
-        // cell. The k-best pass (more than one tree asked for) is lazy: it
-        // asks once for each cell it visits (a few thousand steps, no more,
-        // for these four trees), at least the whole sentence's.
-        let passes = 2 + usize::from(options.count_parses);
+        // Viterbi and inside always: once per cell. These counts stay far
+        // below 2⁵³, so the inside pass takes them too and counting asks
+        // nothing more. The k-best pass (more than one tree asked for) is
+        // lazy: it asks once for each cell it visits (a few thousand steps,
+        // no more, for these four trees), at least the whole sentence's.
+        let passes = 2;
         let calls = stop.calls.get();
         if options.kbest > 1 {
             assert!(
@@ -79,6 +80,37 @@ fn a_stop_that_never_fires_changes_nothing_and_is_asked_once_per_cell_per_pass()
             assert_eq!(calls, passes * cells, "{options:?}");
         }
     }
+}
+
+#[test]
+fn counts_past_two_to_the_53_are_finished_by_a_counting_pass_that_asks_per_cell() {
+    // `S → S S | "a"` has Catalan(n − 1) parses of n words (OEIS A000108),
+    // computed here exactly: the first span length whose count reaches
+    // 2⁵³ is where the inside pass hands counting over.
+    let mut catalan: Vec<u128> = vec![1];
+    for m in 0..40u128 {
+        let next = catalan[m as usize] * 2 * (2 * m + 1) / (m + 2);
+        catalan.push(next);
+    }
+    let n = 40;
+    let handover = (1..=n).find(|&len| catalan[len - 1] >= 1 << 53).unwrap();
+    assert_eq!(handover, 32, "C(31) is the first Catalan number past 2⁵³");
+    // Cells are numbered by span length, then start (`chart::Layout`).
+    let first_of_length = |len: usize| (1..len).map(|l| n - l + 1).sum::<usize>();
+    let cells = n * (n + 1) / 2;
+    let counted_after = cells - first_of_length(handover);
+    let parser = ambiguous();
+    let words = vec!["a"; n];
+    let stop = CountingStop::new(None);
+    let out = parser
+        .parse_until(&words, &ParseOptions::default(), &|| stop.ask())
+        .unwrap();
+    assert_eq!(
+        out.parse_count
+            .and_then(|c| c.finite().map(|v| v.to_string())),
+        Some(catalan[n - 1].to_string())
+    );
+    assert_eq!(stop.calls.get(), 2 * cells + counted_after);
 }
 
 #[test]
