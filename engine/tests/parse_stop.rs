@@ -253,3 +253,47 @@ fn the_kbest_state_grows_with_k_and_the_items_reached_not_with_the_chart() {
     // 820 · 2 · 24 · 100 bytes at most, the lazy state takes far less.
     assert!(hundred < 820 * 2 * 24 * 100 / 4, "{hundred}");
 }
+
+#[test]
+fn large_counts_below_the_root_need_no_counting_pass_when_the_root_count_is_small() {
+    // X → X X | "a" gives every span of n a's Catalan(n − 1) derivations
+    // of X (OEIS A000108), past 2⁵³ from 32 words on; but a sentence that
+    // starts with "x" can only be S → "x" T with T right-branching, one
+    // parse. The huge X counts take no part in it: the inside pass's
+    // capped counts give the root's exactly, and no counting pass runs.
+    let parser = Parser::new(&grammar(
+        "S",
+        &[
+            ("S", "\"x\" T", "0.9"),
+            ("S", "X X", "0.1"),
+            ("T", "\"a\" T", "0.5"),
+            ("T", "\"a\"", "0.5"),
+            ("X", "X X", "0.3"),
+            ("X", "\"a\"", "0.7"),
+        ],
+    ))
+    .unwrap();
+    let n = 40;
+    let mut words = vec!["a"; n];
+    words[0] = "x";
+    let stop = CountingStop::new(None);
+    let out = parser
+        .parse_until(&words, &ParseOptions::default(), &|| stop.ask())
+        .unwrap();
+    assert_eq!(out.parse_count.map(|c| c.to_string()), Some("1".into()));
+    let cells = n * (n + 1) / 2;
+    assert_eq!(stop.calls.get(), 2 * cells, "Viterbi and inside only");
+    // All a's: S → X X over 40 words has Σ_k C(k−1)·C(39−k) = C(39)
+    // parses (the Catalan recurrence), counted past 2⁵³ by the counting
+    // pass.
+    let words = vec!["a"; n];
+    let out = parser.parse(&words, &ParseOptions::default()).unwrap();
+    let mut catalan: Vec<u128> = vec![1];
+    for m in 0..40u128 {
+        catalan.push(catalan[m as usize] * 2 * (2 * m + 1) / (m + 2));
+    }
+    assert_eq!(
+        out.parse_count.map(|c| c.to_string()),
+        Some(catalan[39].to_string())
+    );
+}
