@@ -188,6 +188,44 @@ pub(crate) fn fill_cells<T: Send, S>(
     Ok(())
 }
 
+/// Left symbols waiting for a scan of their rules, up to four split points
+/// each (a value of the left symbol `V` and the split's number among the
+/// cell's), so that a kernel reads the rules once for all of them.
+pub(crate) struct Groups<V> {
+    pub lb: Vec<[V; 4]>,
+    pub split: Vec<[u32; 4]>,
+    /// How many splits are queued per symbol (0 to 4).
+    pub count: Vec<u8>,
+    /// The symbols queued since the last [`Groups::clear`] (a symbol may
+    /// appear more than once: every time its queue restarts).
+    pub touched: Vec<u32>,
+}
+
+impl<V: Copy + Default> Groups<V> {
+    pub fn new(n_sym: usize) -> Groups<V> {
+        Groups {
+            lb: vec![[V::default(); 4]; n_sym],
+            split: vec![[0; 4]; n_sym],
+            count: vec![0; n_sym],
+            touched: Vec::new(),
+        }
+    }
+
+    /// Queues `b` with value `v` at split `split`; `true` when its queue
+    /// is full, to be scanned (and its count reset) at once.
+    #[inline]
+    pub fn push(&mut self, b: u32, v: V, split: u32) -> bool {
+        let n = self.count[b as usize] as usize;
+        if n == 0 {
+            self.touched.push(b);
+        }
+        self.lb[b as usize][n] = v;
+        self.split[b as usize][n] = split;
+        self.count[b as usize] = n as u8 + 1;
+        n == 3
+    }
+}
+
 /// `ln(e^a + e^b)` without overflow; `-inf` is the zero.
 #[inline]
 pub(crate) fn log_add(a: f64, b: f64) -> f64 {
@@ -482,6 +520,37 @@ pub(crate) mod kernels {
             unsafe {
                 let slot = acc.get_unchecked_mut(a);
                 *slot = slot.add(lb.weighted(rule.p).mul(*right.get_unchecked(r)));
+            }
+        }
+    }
+
+    /// [`sum_scan`] for `N` split points at once: the rules of `b` are read
+    /// once and each parent's slot is updated once, by
+    /// `p · Σₜ lb[t] · right[t][C]`.
+    #[inline]
+    pub fn sum_scan_n<L: Lane, const N: usize>(
+        rules: &[LinRule],
+        lb: [L; N],
+        right: [&[L]; N],
+        acc: &mut [L],
+    ) {
+        let n = acc.len();
+        for row in right {
+            assert_eq!(row.len(), n);
+        }
+        for rule in rules {
+            let (r, a) = (rule.right as usize, rule.parent as usize);
+            debug_assert!(r < n && a < n);
+            // SAFETY: r < n_sym = right[t].len() (see module doc).
+            let mut sum = lb[0].mul(unsafe { *right[0].get_unchecked(r) });
+            for t in 1..N {
+                // SAFETY: as above.
+                sum = sum.add(lb[t].mul(unsafe { *right[t].get_unchecked(r) }));
+            }
+            // SAFETY: a < n_sym = acc.len() (see module doc).
+            unsafe {
+                let slot = acc.get_unchecked_mut(a);
+                *slot = slot.add(sum.weighted(rule.p));
             }
         }
     }

@@ -10,7 +10,7 @@
 //! combined with exact log-sum-exp instead. Both paths meet in log space.
 
 use crate::chart::kernels::{self, Counted, Lane};
-use crate::chart::{cell_work, fill_cells, log_add, Layout, Stopped, Watch, Workers};
+use crate::chart::{cell_work, fill_cells, log_add, Groups, Layout, Stopped, Watch, Workers};
 use crate::compile::{CompiledGrammar, Visit};
 use crate::viterbi::ViterbiChart;
 
@@ -267,6 +267,7 @@ impl Pass<'_> {
                 pre: vec![f64::NEG_INFINITY; n_sym],
                 counts: vec![0.0; if L::COUNTS { n_sym } else { 0 }],
                 rmask: vec![0u64; g.mask_words],
+                groups: Groups::new(n_sym),
             },
             |i, out, scratch| fill_cell(g, self.words, &done, i, i + len, out, scratch),
         )
@@ -304,6 +305,29 @@ struct Scratch<L> {
     /// The cell's counts after the unary closure (when counting).
     counts: Vec<f64>,
     rmask: Vec<u64>,
+    groups: Groups<L>,
+}
+
+/// Scans the rules of `b` once for the splits queued in `groups` (and
+/// empties its queue): `acc[A] += p · Σ lb · right[C]` over them.
+fn scan_group<L: Item>(
+    g: &CompiledGrammar,
+    groups: &mut Groups<L>,
+    rights: &[&[L]],
+    b: u32,
+    acc: &mut [L],
+) {
+    let rules = &g.bin_lin[g.binary_rule_range(b)];
+    let (lb, at) = (groups.lb[b as usize], groups.split[b as usize]);
+    let row = |t: usize| rights[at[t] as usize];
+    match groups.count[b as usize] {
+        1 => kernels::sum_scan(rules, lb[0], row(0), acc),
+        2 => kernels::sum_scan_n(rules, [lb[0], lb[1]], [row(0), row(1)], acc),
+        3 => kernels::sum_scan_n(rules, [lb[0], lb[1], lb[2]], [row(0), row(1), row(2)], acc),
+        4 => kernels::sum_scan_n(rules, lb, [row(0), row(1), row(2), row(3)], acc),
+        _ => {}
+    }
+    groups.count[b as usize] = 0;
 }
 
 /// Fills cell `(i, j)` from the finished shorter cells.
@@ -326,6 +350,7 @@ fn fill_cell<L: Item>(
         pre,
         counts,
         rmask,
+        groups,
     } = scratch;
     let c = layout.cell(i, j);
     acc.fill(L::default());
@@ -346,6 +371,8 @@ fn fill_cell<L: Item>(
             let s = done.max[layout.cell(i, k)] + done.max[layout.cell(k, j)];
             scale = scale.max(s);
         }
+        // The right rows of the scaled splits so far, for grouped scans.
+        let mut rights: Vec<&[L]> = Vec::with_capacity(j - i);
         for k in i + 1..j {
             let l = layout.cell(i, k);
             let r = layout.cell(k, j);
@@ -359,13 +386,17 @@ fn fill_cell<L: Item>(
             if scaled {
                 let f = (s - scale).exp();
                 let rp = vit.present(r);
+                let at = rights.len() as u32;
+                rights.push(right);
                 let mut rmask_ready = false;
                 for &b in vit.present(l) {
                     let lb = left[b as usize].weighted(f);
                     let base = b as usize * n_sym;
                     match g.visit(b, rp.len()) {
                         Visit::Scan => {
-                            kernels::sum_scan(&g.bin_lin[g.binary_rule_range(b)], lb, right, acc)
+                            if groups.push(b, lb, at) {
+                                scan_group(g, groups, &rights, b, acc);
+                            }
                         }
                         Visit::Pairs(table) => {
                             kernels::sum_pairs(&g.bin_lin, table, base, rp, lb, right, acc)
@@ -399,6 +430,11 @@ fn fill_cell<L: Item>(
                 }
             }
         }
+        for t in 0..groups.touched.len() {
+            let b = groups.touched[t];
+            scan_group(g, groups, &rights, b, acc);
+        }
+        groups.touched.clear();
     }
     // Pre-closure values in log space.
     for &s in vit.present(c) {

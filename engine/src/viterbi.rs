@@ -8,7 +8,7 @@
 //! the inner loop to one add, one add and one compare per rule.
 
 use crate::beam::Beam;
-use crate::chart::{cell_work, fill_cells, kernels, Layout, Stopped, Watch, Workers};
+use crate::chart::{cell_work, fill_cells, kernels, Groups, Layout, Stopped, Watch, Workers};
 use crate::compile::{CompiledGrammar, Origin, Visit};
 
 /// A derivation in the compiled grammar.
@@ -150,7 +150,7 @@ impl Done<'_> {
 struct Scratch {
     pre: Vec<f64>,
     rmask: Vec<u64>,
-    groups: Groups,
+    groups: Groups<f64>,
     /// The symbols a beam keeps (all false between cells).
     keep: Vec<bool>,
     order: Vec<u32>,
@@ -319,26 +319,6 @@ fn visit_one(
     }
 }
 
-/// Left symbols waiting for a scan of their rules, up to four split points
-/// each, so that [`kernels::max_scan_n`] reads the rules once for all.
-struct Groups {
-    lb: Vec<[f64; 4]>,
-    split: Vec<[u32; 4]>,
-    count: Vec<u8>,
-    touched: Vec<u32>,
-}
-
-impl Groups {
-    fn new(n_sym: usize) -> Groups {
-        Groups {
-            lb: vec![[0.0; 4]; n_sym],
-            split: vec![[0; 4]; n_sym],
-            count: vec![0; n_sym],
-            touched: Vec::new(),
-        }
-    }
-}
-
 /// The binary rules of cell `(i, j)`. A left symbol whose rules are best
 /// scanned (see [`CompiledGrammar::visit`]) is queued and its rules are
 /// read once for up to four split points; the other visits happen at once.
@@ -352,11 +332,11 @@ fn fill_grouped(
     j: usize,
     pre: &mut [f64],
     rmask: &mut [u64],
-    groups: &mut Groups,
+    groups: &mut Groups<f64>,
 ) {
     let layout = done.layout;
     let mut rights: Vec<&[f64]> = Vec::with_capacity(j - i);
-    let scan = |groups: &Groups, rights: &[&[f64]], b: u32, pre: &mut [f64]| {
+    let scan = |groups: &Groups<f64>, rights: &[&[f64]], b: u32, pre: &mut [f64]| {
         let rules = &g.bin[g.binary_rule_range(b)];
         let (lb, at) = (groups.lb[b as usize], groups.split[b as usize]);
         let row = |t: usize| rights[at[t] as usize];
@@ -382,14 +362,7 @@ fn fill_grouped(
         for &b in done.present(l) {
             let lb = left[b as usize];
             if matches!(g.visit(b, rp.len()), Visit::Scan) {
-                let n = groups.count[b as usize] as usize;
-                if n == 0 {
-                    groups.touched.push(b);
-                }
-                groups.lb[b as usize][n] = lb;
-                groups.split[b as usize][n] = s;
-                groups.count[b as usize] = n as u8 + 1;
-                if n == 3 {
+                if groups.push(b, lb, s) {
                     scan(groups, &rights, b, pre);
                     groups.count[b as usize] = 0;
                 }
