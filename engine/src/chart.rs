@@ -233,6 +233,68 @@ mod tests {
 pub(crate) mod kernels {
     use crate::compile::{BinRule, LinRule};
 
+    /// What the sum kernels add up per symbol: a scaled inside probability
+    /// (`f64`), or one with the symbol's parse count beside it
+    /// ([`Counted`]). Rule probabilities and scale factors weigh only the
+    /// probability; products and sums apply to both.
+    pub trait Lane: Copy + Send + Sync + 'static {
+        /// `self` with its probability multiplied by `w`.
+        fn weighted(self, w: f64) -> Self;
+        fn mul(self, other: Self) -> Self;
+        fn add(self, other: Self) -> Self;
+    }
+
+    impl Lane for f64 {
+        #[inline(always)]
+        fn weighted(self, w: f64) -> f64 {
+            self * w
+        }
+        #[inline(always)]
+        fn mul(self, other: f64) -> f64 {
+            self * other
+        }
+        #[inline(always)]
+        fn add(self, other: f64) -> f64 {
+            self + other
+        }
+    }
+
+    /// A scaled inside probability and the number of derivations, side by
+    /// side so that one vector operation updates both. The count is an
+    /// integer held in a double: exact while every value stays below
+    /// 2⁵³, which the inside pass checks per cell (counts only grow, so a
+    /// cell's final values bound every product and partial sum behind them).
+    #[derive(Clone, Copy, Debug, Default, PartialEq)]
+    #[repr(C, align(16))]
+    pub struct Counted {
+        pub lin: f64,
+        pub count: f64,
+    }
+
+    impl Lane for Counted {
+        #[inline(always)]
+        fn weighted(self, w: f64) -> Counted {
+            Counted {
+                lin: self.lin * w,
+                count: self.count,
+            }
+        }
+        #[inline(always)]
+        fn mul(self, other: Counted) -> Counted {
+            Counted {
+                lin: self.lin * other.lin,
+                count: self.count * other.count,
+            }
+        }
+        #[inline(always)]
+        fn add(self, other: Counted) -> Counted {
+            Counted {
+                lin: self.lin + other.lin,
+                count: self.count + other.count,
+            }
+        }
+    }
+
     /// `pre[A] = max(pre[A], lp + lb + right[C])` for every rule `A → b C`.
     #[inline]
     pub fn max_scan(rules: &[BinRule], lb: f64, right: &[f64], pre: &mut [f64]) {
@@ -366,15 +428,15 @@ pub(crate) mod kernels {
     /// The sum version of [`max_mask`].
     #[inline]
     #[allow(clippy::too_many_arguments)]
-    pub fn sum_mask(
+    pub fn sum_mask<L: Lane>(
         rules: &[LinRule],
         table: &[u32],
         base: usize,
         bmask: &[u64],
         rmask: &[u64],
-        lb: f64,
-        right: &[f64],
-        acc: &mut [f64],
+        lb: L,
+        right: &[L],
+        acc: &mut [L],
     ) {
         let n = right.len();
         assert_eq!(acc.len(), n);
@@ -385,13 +447,14 @@ pub(crate) mod kernels {
                 let c = w * 64 + m.trailing_zeros() as usize;
                 m &= m - 1;
                 let (s, e) = (table[base + c] as usize, table[base + c + 1] as usize);
-                let lbc = lb * right[c];
+                let lbc = lb.mul(right[c]);
                 for rule in &rules[s..e] {
                     let a = rule.parent as usize;
                     debug_assert!(a < n);
                     // SAFETY: a < n_sym = acc.len() (see module doc).
                     unsafe {
-                        *acc.get_unchecked_mut(a) += rule.p * lbc;
+                        let slot = acc.get_unchecked_mut(a);
+                        *slot = slot.add(lbc.weighted(rule.p));
                     }
                 }
             }
@@ -409,7 +472,7 @@ pub(crate) mod kernels {
 
     /// `acc[A] += p · lb · right[C]` for every rule `A → b C`.
     #[inline]
-    pub fn sum_scan(rules: &[LinRule], lb: f64, right: &[f64], acc: &mut [f64]) {
+    pub fn sum_scan<L: Lane>(rules: &[LinRule], lb: L, right: &[L], acc: &mut [L]) {
         let n = right.len();
         assert_eq!(acc.len(), n);
         for rule in rules {
@@ -417,7 +480,8 @@ pub(crate) mod kernels {
             debug_assert!(r < n && a < n);
             // SAFETY: r, a < n_sym = right.len() = acc.len() (see module doc).
             unsafe {
-                *acc.get_unchecked_mut(a) += rule.p * lb * *right.get_unchecked(r);
+                let slot = acc.get_unchecked_mut(a);
+                *slot = slot.add(lb.weighted(rule.p).mul(*right.get_unchecked(r)));
             }
         }
     }
@@ -425,14 +489,14 @@ pub(crate) mod kernels {
     /// The same by `(b, c)` pair lookups, as [`max_pairs`].
     #[inline]
     #[allow(clippy::too_many_arguments)]
-    pub fn sum_pairs(
+    pub fn sum_pairs<L: Lane>(
         rules: &[LinRule],
         table: &[u32],
         base: usize,
         rp: &[u32],
-        lb: f64,
-        right: &[f64],
-        acc: &mut [f64],
+        lb: L,
+        right: &[L],
+        acc: &mut [L],
     ) {
         let n = right.len();
         assert_eq!(acc.len(), n);
@@ -448,13 +512,14 @@ pub(crate) mod kernels {
                 )
             };
             if s < e {
-                let lbc = lb * right[c];
+                let lbc = lb.mul(right[c]);
                 for rule in &rules[s..e] {
                     let a = rule.parent as usize;
                     debug_assert!(a < n);
                     // SAFETY: a < n_sym = acc.len() (see module doc).
                     unsafe {
-                        *acc.get_unchecked_mut(a) += rule.p * lbc;
+                        let slot = acc.get_unchecked_mut(a);
+                        *slot = slot.add(lbc.weighted(rule.p));
                     }
                 }
             }

@@ -3,6 +3,7 @@
 
 use crate::chart::{Layout, Stopped, Watch};
 use crate::compile::{CompiledGrammar, Visit};
+use crate::inside::FusedCounts;
 use crate::viterbi::ViterbiChart;
 use num_bigint::BigUint;
 use num_traits::{Bounded, One, Zero};
@@ -94,23 +95,41 @@ impl fmt::Display for Count {
 /// of the start symbol over the whole sentence. `watch` is asked once per
 /// cell.
 ///
-/// The pass runs in machine integers while they hold the counts: `u64`
-/// first, then `u128`, then big integers. Every addition and
-/// multiplication is checked; when a value of some cell does not fit, the
-/// finished cells are widened to the next representation and the pass
-/// resumes at that cell (no finished cell is counted twice). Only the
-/// symbols the Viterbi chart shows present are visited: an item has a
-/// derivation exactly when it is present there.
+/// `fused`: what the inside pass already counted (exact, below 2⁵³): the
+/// answer itself, or the cells counting resumes after. Otherwise the pass
+/// runs in machine integers while they hold the counts: `u64` first, then
+/// `u128`, then big integers. Every addition and multiplication is
+/// checked; when a value of some cell does not fit, the finished cells
+/// are widened to the next representation and the pass resumes at that
+/// cell (no finished cell is counted twice). Only the symbols the Viterbi
+/// chart shows present are visited: an item has a derivation exactly when
+/// it is present there.
 pub(crate) fn count_parses(
     g: &CompiledGrammar,
     words: &[&str],
     vit: &ViterbiChart,
     watch: Watch,
+    fused: Option<FusedCounts>,
 ) -> Result<Count, Stopped> {
     let layout = vit.layout;
     let items = layout.cells() * layout.n_sym;
     let mut narrow: Vec<u64> = vec![0; items];
-    let from = match fill(g, words, vit, watch, &mut narrow, 0)? {
+    let mut start = 0;
+    match fused {
+        Some(FusedCounts::Root(n)) => return Ok(Count::Finite(BigUint::from(n))),
+        Some(FusedCounts::Partial {
+            values,
+            exact_cells,
+        }) => {
+            // Integers below 2⁵³, so the conversion is exact.
+            for (to, from) in narrow.iter_mut().zip(&values) {
+                *to = *from as u64;
+            }
+            start = exact_cells;
+        }
+        None => {}
+    }
+    let from = match fill(g, words, vit, watch, &mut narrow, start, false)? {
         Filled::Done => return Ok(root_count(&layout, g, &narrow)),
         Filled::Overflow(cell) => cell,
     };
@@ -118,13 +137,13 @@ pub(crate) fn count_parses(
         .into_iter()
         .map(|v| if v == u64::MAX { u128::MAX } else { v.into() })
         .collect();
-    let from = match fill(g, words, vit, watch, &mut wide, from)? {
+    let from = match fill(g, words, vit, watch, &mut wide, from, true)? {
         Filled::Done => return Ok(root_count(&layout, g, &wide)),
         Filled::Overflow(cell) => cell,
     };
     let mut big: Vec<Count> = wide.iter().map(Tally::to_count).collect();
     drop(wide);
-    match fill(g, words, vit, watch, &mut big, from)? {
+    match fill(g, words, vit, watch, &mut big, from, true)? {
         Filled::Done => Ok(root_count(&layout, g, &big)),
         // Big integers do not overflow.
         Filled::Overflow(_) => Ok(Count::Infinite),
@@ -284,7 +303,8 @@ impl Tally for Count {
 
 /// Fills `counts` (the whole chart, cells before `from` finished) from cell
 /// number `from` on. The watch is asked once per cell, but not again for
-/// `from` when resuming there.
+/// `from` when `resumed` (this pass asked already, before an overflow
+/// there).
 #[allow(clippy::needless_range_loop)] // cells are addressed by (i, j)
 fn fill<T: Tally>(
     g: &CompiledGrammar,
@@ -293,6 +313,7 @@ fn fill<T: Tally>(
     watch: Watch,
     counts: &mut [T],
     from: usize,
+    mut resumed: bool,
 ) -> Result<Filled, Stopped> {
     let layout = vit.layout;
     let n_sym = layout.n_sym;
@@ -316,7 +337,6 @@ fn fill<T: Tally>(
     }
     let mut pre: Vec<T> = vec![T::ZERO; n_sym];
     let mut rmask = vec![0u64; g.mask_words];
-    let mut resumed = from > 0;
     for len in 1..=layout.n {
         for i in 0..=layout.n - len {
             let j = i + len;

@@ -9,7 +9,8 @@
 //! best one, or a grammar with a rule below `e^−RANGE`), that split is
 //! combined with exact log-sum-exp instead. Both paths meet in log space.
 
-use crate::chart::{cell_work, fill_cells, kernels, log_add, Layout, Stopped, Watch, Workers};
+use crate::chart::kernels::{self, Counted, Lane};
+use crate::chart::{cell_work, fill_cells, log_add, Layout, Stopped, Watch, Workers};
 use crate::compile::{CompiledGrammar, Visit};
 use crate::viterbi::ViterbiChart;
 
@@ -28,41 +29,221 @@ impl InsideChart {
     }
 }
 
+/// Parse counts taken during the inside pass (see [`fill`]).
+pub(crate) enum FusedCounts {
+    /// The sentence's parse count, exactly (below 2⁵³).
+    Root(u64),
+    /// The count reached 2⁵³ somewhere below the root: the counting pass
+    /// resumes at cell `exact_cells` (by number), after the cells whose
+    /// counts are all exact, `values[cell · n_sym + symbol]`.
+    Partial {
+        values: Vec<f64>,
+        exact_cells: usize,
+    },
+}
+
 /// Fills the inside chart; `vit` provides the symbols present in each cell
 /// (a symbol has a positive inside probability exactly where it has a best
 /// derivation). `watch` is asked once per cell; the cells of one span
-/// length may be spread over `workers`.
+/// length may be spread over [`Workers`].
+///
+/// With `count`, the pass also counts derivations, in the same loops (the
+/// count rides beside the probability, [`kernels::Counted`]). A double
+/// holds integers exactly below 2⁵³, so each cell's counts are stored as
+/// `min(count, 2⁵³)`: a value below 2⁵³ is exact, and 2⁵³ means "at least
+/// that many". The stored values keep that meaning from cell to cell
+/// (counts only grow, rounding to nearest is monotone, and a product of a
+/// capped value with a nonzero count is at least the cap), so a root count
+/// below 2⁵³ is the exact answer, however large the counts of items that
+/// take no part in a parse of the whole sentence. Grammars whose unary
+/// chains can repeat (infinite counts) or whose chain counts reach 2⁵³ are
+/// not counted here. The inside values are the same bit for bit either way.
 pub(crate) fn fill(
     g: &CompiledGrammar,
     words: &[&str],
     vit: &ViterbiChart,
     watch: Watch,
     workers: &Workers,
-) -> Result<InsideChart, Stopped> {
+    count: bool,
+) -> Result<(InsideChart, Option<FusedCounts>), Stopped> {
+    let pass = Pass {
+        g,
+        words,
+        vit,
+        watch,
+        workers,
+    };
     let layout = vit.layout;
-    let n_sym = layout.n_sym;
-    let cells = layout.cells();
-    let mut log = vec![f64::NEG_INFINITY; cells * n_sym];
-    let mut lin = vec![0.0f64; cells * n_sym];
-    let mut cell_max = vec![f64::NEG_INFINITY; cells];
-    let mut wide = vec![false; cells];
-    let rules_per_left = (g.bin.len() / n_sym.max(1)).max(1) as u64;
+    let closure = if count { exact_chain_counts(g) } else { None };
+    let Some(closure) = closure else {
+        let mut state = State::<f64>::new(layout);
+        for len in 1..=layout.n {
+            pass.fill_length(&mut state, len, &[])?;
+        }
+        return Ok((state.into_chart(), None));
+    };
+    let mut state = State::<Counted>::new(layout);
     for len in 1..=layout.n {
+        pass.fill_length(&mut state, len, &closure)?;
+    }
+    let root = state.lin[layout.cell(0, layout.n) * layout.n_sym + g.start as usize].count;
+    let counts = if root < EXACT as f64 {
+        FusedCounts::Root(root as u64)
+    } else {
+        let exact_cells = state
+            .inexact
+            .iter()
+            .position(|&x| x)
+            .unwrap_or(layout.cells());
+        FusedCounts::Partial {
+            values: state.lin[..exact_cells * layout.n_sym]
+                .iter()
+                .map(|x| x.count)
+                .collect(),
+            exact_cells,
+        }
+    };
+    Ok((state.into_chart(), Some(counts)))
+}
+
+/// The grammar's unary chain counts as doubles, when all are finite and
+/// below 2⁵³ (`None` otherwise: the counting pass takes those grammars).
+fn exact_chain_counts(g: &CompiledGrammar) -> Option<Vec<Vec<(u32, f64)>>> {
+    g.count_closure
+        .iter()
+        .map(|row| {
+            row.iter()
+                .map(|(a, w)| {
+                    let w = u64::try_from(w.finite()?).ok()?;
+                    (w < EXACT).then_some((*a, w as f64))
+                })
+                .collect()
+        })
+        .collect()
+}
+
+/// Integers below this are exact in a double.
+const EXACT: u64 = 1 << 53;
+
+/// What a chart item holds in the scaled rows: the probability, and with
+/// [`Counted`] the parse count too.
+trait Item: Lane + Default {
+    const COUNTS: bool;
+    fn new(lin: f64, count: f64) -> Self;
+    fn lin(self) -> f64;
+    fn count(self) -> f64;
+}
+
+impl Item for f64 {
+    const COUNTS: bool = false;
+    #[inline(always)]
+    fn new(lin: f64, _: f64) -> f64 {
+        lin
+    }
+    #[inline(always)]
+    fn lin(self) -> f64 {
+        self
+    }
+    #[inline(always)]
+    fn count(self) -> f64 {
+        0.0
+    }
+}
+
+impl Item for Counted {
+    const COUNTS: bool = true;
+    #[inline(always)]
+    fn new(lin: f64, count: f64) -> Counted {
+        Counted { lin, count }
+    }
+    #[inline(always)]
+    fn lin(self) -> f64 {
+        self.lin
+    }
+    #[inline(always)]
+    fn count(self) -> f64 {
+        self.count
+    }
+}
+
+/// The whole chart as it is filled: log values, scaled values (and
+/// counts), each cell's largest log value, whether its values span more
+/// than [`RANGE`], and whether a count of it reached 2⁵³ (and was capped).
+struct State<L> {
+    layout: Layout,
+    log: Vec<f64>,
+    lin: Vec<L>,
+    max: Vec<f64>,
+    wide: Vec<bool>,
+    inexact: Vec<bool>,
+}
+
+impl<L: Item> State<L> {
+    fn new(layout: Layout) -> State<L> {
+        let (cells, items) = (layout.cells(), layout.cells() * layout.n_sym);
+        State {
+            layout,
+            log: vec![f64::NEG_INFINITY; items],
+            lin: vec![L::default(); items],
+            max: vec![f64::NEG_INFINITY; cells],
+            wide: vec![false; cells],
+            inexact: vec![false; if L::COUNTS { cells } else { 0 }],
+        }
+    }
+
+    fn into_chart(self) -> InsideChart {
+        InsideChart {
+            layout: self.layout,
+            log: self.log,
+        }
+    }
+}
+
+/// What every cell of one pass reads.
+struct Pass<'a> {
+    g: &'a CompiledGrammar,
+    words: &'a [&'a str],
+    vit: &'a ViterbiChart,
+    watch: Watch<'a>,
+    workers: &'a Workers,
+}
+
+impl Pass<'_> {
+    /// Fills the cells of span length `len` (every shorter one is done);
+    /// `closure`: the unary chain counts, when counting.
+    fn fill_length<L: Item>(
+        &self,
+        state: &mut State<L>,
+        len: usize,
+        closure: &[Vec<(u32, f64)>],
+    ) -> Result<(), Stopped> {
+        let (g, vit) = (self.g, self.vit);
+        let layout = vit.layout;
+        let n_sym = layout.n_sym;
+        let rules_per_left = (g.bin.len() / n_sym.max(1)).max(1) as u64;
         let first = layout.cell(0, len);
         let count = layout.n - len + 1;
-        let (log_done, log_rest) = log.split_at_mut(first * n_sym);
-        let (lin_done, lin_rest) = lin.split_at_mut(first * n_sym);
-        let (max_done, max_rest) = cell_max.split_at_mut(first);
-        let (wide_done, wide_rest) = wide.split_at_mut(first);
-        let mut outs: Vec<Out> = log_rest[..count * n_sym]
+        let (log_done, log_rest) = state.log.split_at_mut(first * n_sym);
+        let (lin_done, lin_rest) = state.lin.split_at_mut(first * n_sym);
+        let (max_done, max_rest) = state.max.split_at_mut(first);
+        let (wide_done, wide_rest) = state.wide.split_at_mut(first);
+        let mut no_flags = vec![false; count];
+        let inexact_rest = if L::COUNTS {
+            &mut state.inexact[first..first + count]
+        } else {
+            &mut no_flags[..]
+        };
+        let mut outs: Vec<Out<L>> = log_rest[..count * n_sym]
             .chunks_mut(n_sym)
             .zip(lin_rest[..count * n_sym].chunks_mut(n_sym))
             .zip(max_rest[..count].iter_mut().zip(&mut wide_rest[..count]))
-            .map(|((log, lin), (max, wide))| Out {
+            .zip(inexact_rest.iter_mut())
+            .map(|(((log, lin), (max, wide)), inexact)| Out {
                 log,
                 lin,
                 max,
                 wide,
+                inexact,
             })
             .collect();
         let done = Done {
@@ -72,61 +253,68 @@ pub(crate) fn fill(
             lin: lin_done,
             max: max_done,
             wide: wide_done,
+            closure,
         };
         let work = |i: usize| cell_work(layout, i, len, rules_per_left, |c| vit.present(c).len());
         fill_cells(
-            workers,
-            watch,
+            self.workers,
+            self.watch,
             &mut outs,
             work,
             || Scratch {
-                acc: vec![0.0f64; n_sym],
+                acc: vec![L::default(); n_sym],
                 acc_log: vec![f64::NEG_INFINITY; n_sym],
                 pre: vec![f64::NEG_INFINITY; n_sym],
+                counts: vec![0.0; if L::COUNTS { n_sym } else { 0 }],
                 rmask: vec![0u64; g.mask_words],
             },
-            |i, out, scratch| fill_cell(g, words, &done, i, i + len, out, scratch),
-        )?;
+            |i, out, scratch| fill_cell(g, self.words, &done, i, i + len, out, scratch),
+        )
     }
-    Ok(InsideChart { layout, log })
 }
 
 /// The finished cells (shorter than the ones being filled).
-struct Done<'a> {
+struct Done<'a, L> {
     n_sym: usize,
     vit: &'a ViterbiChart,
     log: &'a [f64],
-    lin: &'a [f64],
+    lin: &'a [L],
     max: &'a [f64],
     wide: &'a [bool],
+    /// Unary chain counts (empty when not counting).
+    closure: &'a [Vec<(u32, f64)>],
 }
 
-/// One cell's results: log values, scaled values, largest log value, and
-/// whether its values span more than [`RANGE`].
-struct Out<'a> {
+/// One cell's results: log values, scaled values, largest log value,
+/// whether its values span more than [`RANGE`], and whether its counts
+/// reached 2⁵³.
+struct Out<'a, L> {
     log: &'a mut [f64],
-    lin: &'a mut [f64],
+    lin: &'a mut [L],
     max: &'a mut f64,
     wide: &'a mut bool,
+    inexact: &'a mut bool,
 }
 
 /// One cell's working rows.
-struct Scratch {
-    acc: Vec<f64>,
+struct Scratch<L> {
+    acc: Vec<L>,
     acc_log: Vec<f64>,
     pre: Vec<f64>,
+    /// The cell's counts after the unary closure (when counting).
+    counts: Vec<f64>,
     rmask: Vec<u64>,
 }
 
 /// Fills cell `(i, j)` from the finished shorter cells.
-fn fill_cell(
+fn fill_cell<L: Item>(
     g: &CompiledGrammar,
     words: &[&str],
-    done: &Done,
+    done: &Done<L>,
     i: usize,
     j: usize,
-    out: &mut Out,
-    scratch: &mut Scratch,
+    out: &mut Out<L>,
+    scratch: &mut Scratch<L>,
 ) {
     let vit = done.vit;
     let layout = vit.layout;
@@ -136,16 +324,21 @@ fn fill_cell(
         acc,
         acc_log,
         pre,
+        counts,
         rmask,
     } = scratch;
     let c = layout.cell(i, j);
-    acc.fill(0.0);
+    acc.fill(L::default());
     acc_log.fill(f64::NEG_INFINITY);
     let mut scale = f64::NEG_INFINITY;
     if j - i == 1 {
         if let Some(entries) = g.lexicon.get(words[i]) {
             for e in entries {
-                acc_log[e.sym as usize] = log_add(acc_log[e.sym as usize], e.lp);
+                let s = e.sym as usize;
+                acc_log[s] = log_add(acc_log[s], e.lp);
+                if L::COUNTS {
+                    acc[s] = L::new(acc[s].lin(), acc[s].count() + 1.0);
+                }
             }
         }
     } else {
@@ -161,14 +354,14 @@ fn fill_cell(
                 continue;
             }
             let scaled = !tiny_rules && !done.wide[l] && !done.wide[r] && s - scale > -RANGE;
+            let left = &done.lin[l * n_sym..(l + 1) * n_sym];
+            let right = &done.lin[r * n_sym..(r + 1) * n_sym];
             if scaled {
                 let f = (s - scale).exp();
-                let left = &done.lin[l * n_sym..(l + 1) * n_sym];
-                let right = &done.lin[r * n_sym..(r + 1) * n_sym];
                 let rp = vit.present(r);
                 let mut rmask_ready = false;
                 for &b in vit.present(l) {
-                    let lb = left[b as usize] * f;
+                    let lb = left[b as usize].weighted(f);
                     let base = b as usize * n_sym;
                     match g.visit(b, rp.len()) {
                         Visit::Scan => {
@@ -187,15 +380,20 @@ fn fill_cell(
                     }
                 }
             } else {
-                let left = &done.log[l * n_sym..(l + 1) * n_sym];
-                let right = &done.log[r * n_sym..(r + 1) * n_sym];
+                let left_log = &done.log[l * n_sym..(l + 1) * n_sym];
+                let right_log = &done.log[r * n_sym..(r + 1) * n_sym];
                 for &b in vit.present(l) {
-                    let lb = left[b as usize];
+                    let lb = left_log[b as usize];
+                    let cb = left[b as usize].count();
                     for rule in &g.bin[g.binary_rule_range(b)] {
-                        let rc = right[rule.right as usize];
+                        let rc = right_log[rule.right as usize];
                         if rc > f64::NEG_INFINITY {
-                            let slot = &mut acc_log[rule.parent as usize];
-                            *slot = log_add(*slot, rule.lp + lb + rc);
+                            let a = rule.parent as usize;
+                            acc_log[a] = log_add(acc_log[a], rule.lp + lb + rc);
+                            if L::COUNTS {
+                                let n = acc[a].count() + cb * right[rule.right as usize].count();
+                                acc[a] = L::new(acc[a].lin(), n);
+                            }
                         }
                     }
                 }
@@ -204,7 +402,7 @@ fn fill_cell(
     }
     // Pre-closure values in log space.
     for &s in vit.present(c) {
-        let a = acc[s as usize];
+        let a = acc[s as usize].lin();
         let v = if a > 0.0 {
             a.ln() + scale
         } else {
@@ -213,10 +411,10 @@ fn fill_cell(
         pre[s as usize] = log_add(v, acc_log[s as usize]);
     }
     for &s in &g.unary_nodes {
-        if acc[s as usize] == 0.0 && acc_log[s as usize] == f64::NEG_INFINITY {
+        let a = acc[s as usize].lin();
+        if a == 0.0 && acc_log[s as usize] == f64::NEG_INFINITY {
             pre[s as usize] = f64::NEG_INFINITY;
         } else {
-            let a = acc[s as usize];
             let v = if a > 0.0 {
                 a.ln() + scale
             } else {
@@ -231,29 +429,39 @@ fn fill_cell(
             row[s as usize] = pre[s as usize];
         }
     }
+    // Only over symbols a beam kept (see `crate::beam`).
+    let kept = &vit.score[c * n_sym..(c + 1) * n_sym];
+    let dropped = |s: u32| vit.pruned && kept[s as usize] == f64::NEG_INFINITY;
     // Summed unary closure: post[A] = Σ_B C[A][B] · pre[B].
-    if vit.pruned {
-        // Only over symbols the beam kept (see `crate::beam`).
-        let kept = &vit.score[c * n_sym..(c + 1) * n_sym];
-        for &b in &g.unary_nodes {
-            let pb = pre[b as usize];
-            if pb == f64::NEG_INFINITY || kept[b as usize] == f64::NEG_INFINITY {
-                continue;
-            }
-            for &(a, lw) in &g.sum_closure[b as usize] {
-                if kept[a as usize] > f64::NEG_INFINITY {
-                    row[a as usize] = log_add(row[a as usize], lw + pb);
-                }
+    for &b in &g.unary_nodes {
+        let pb = pre[b as usize];
+        if pb == f64::NEG_INFINITY || dropped(b) {
+            continue;
+        }
+        for &(a, lw) in &g.sum_closure[b as usize] {
+            if !dropped(a) {
+                row[a as usize] = log_add(row[a as usize], lw + pb);
             }
         }
-    } else {
+    }
+    if L::COUNTS {
+        // The same closure over counts: N(A) = Σ_B chains(A ⇒* B) · N_pre(B).
+        for &s in vit.present(c) {
+            counts[s as usize] = if g.in_unary[s as usize] {
+                0.0
+            } else {
+                acc[s as usize].count()
+            };
+        }
         for &b in &g.unary_nodes {
-            let pb = pre[b as usize];
-            if pb == f64::NEG_INFINITY {
+            let pb = acc[b as usize].count();
+            if pb == 0.0 || dropped(b) {
                 continue;
             }
-            for &(a, lw) in &g.sum_closure[b as usize] {
-                row[a as usize] = log_add(row[a as usize], lw + pb);
+            for &(a, w) in &done.closure[b as usize] {
+                if !dropped(a) {
+                    counts[a as usize] += w * pb;
+                }
             }
         }
     }
@@ -267,6 +475,14 @@ fn fill_cell(
         if d < -RANGE {
             *out.wide = true;
         }
-        out.lin[s as usize] = d.exp();
+        let mut n = 0.0;
+        if L::COUNTS {
+            n = counts[s as usize];
+            if n >= EXACT as f64 {
+                n = EXACT as f64;
+                *out.inexact = true;
+            }
+        }
+        out.lin[s as usize] = L::new(d.exp(), n);
     }
 }

@@ -227,9 +227,10 @@ impl Parser {
         // Viterbi score + present list + inside log and scaled values.
         let mut per_item: u128 = 8 + 4 + 8 + 8;
         if options.count_parses {
-            // Machine integers while the counts fit (wider ones, and big
-            // integers, only after an overflow).
-            per_item += 8;
+            // A count beside each scaled inside value, and machine integers
+            // for the counting pass when a count reaches 2⁵³ (wider ones,
+            // and big integers, only after an overflow).
+            per_item += 16;
         }
         // The k-best pass keeps nothing per item: its state grows with the
         // items the k trees reach, and is budgeted as it grows (what is left
@@ -293,7 +294,14 @@ impl Parser {
         }
         let best =
             best_derivation(g, &vit, &keys, 0, n, g.start).map(|d| self.tree_of(&keys, &words, &d));
-        let ins = inside::fill(g, &keys, &vit, watch, &options.workers)?;
+        let (ins, fused) = inside::fill(
+            g,
+            &keys,
+            &vit,
+            watch,
+            &options.workers,
+            options.count_parses,
+        )?;
         let sentence_log_probability = ins.get(0, n, g.start);
         let kbest = match options.kbest {
             0 => Vec::new(),
@@ -321,7 +329,7 @@ impl Parser {
             }
         };
         let parse_count = if options.count_parses {
-            Some(count_parses(g, &keys, &vit, watch)?)
+            Some(count_parses(g, &keys, &vit, watch, fused)?)
         } else {
             None
         };

@@ -410,10 +410,12 @@ fn counts_stay_exact_where_they_outgrow_machine_integers() {
     // S → S S | "a": n words have Catalan(n − 1) parses (the Catalan
     // numbers count the binary bracketings of n leaves; OEIS A000108),
     // computed here by the closed form C(m) = (2m)! / (m! (m + 1)!) in big
-    // integers. Catalan(36) ≈ 1.1e19 still fits 64 bits, Catalan(37) ≈
-    // 4.2e19 does not, and Catalan(67) ≈ 1.1e38 is past 128 bits' reach of
-    // its products: the counting pass changes representation twice between
-    // 30 and 80 words, and every count stays exact.
+    // integers. Catalan(31) ≈ 1.5e16 is the first past 2⁵³, where the
+    // inside pass hands counting over to the counting pass; Catalan(36) ≈
+    // 1.1e19 still fits 64 bits, Catalan(37) ≈ 4.2e19 does not, and
+    // Catalan(67) ≈ 1.1e38 is past 128 bits' reach of its products: between
+    // 30 and 80 words the count changes representation three times, and
+    // every count stays exact.
     fn closed_form(m: u32) -> BigUint {
         let factorial = |n: u32| (1..=n).fold(BigUint::from(1u32), |f, k| f * BigUint::from(k));
         factorial(2 * m) / (factorial(m) * factorial(m + 1))

@@ -64,11 +64,12 @@ fn a_stop_that_never_fires_changes_nothing_and_is_asked_once_per_cell_per_pass()
             .parse_until(&words, &options, &|| stop.ask())
             .unwrap();
         assert_eq!(stopped, parser.parse(&words, &options).unwrap());
-        // Viterbi and inside always, and counting when asked: once per
-        // cell. The k-best pass (more than one tree asked for) is lazy: it
-        // asks once for each cell it visits (a few thousand steps, no more,
-        // for these four trees), at least the whole sentence's.
-        let passes = 2 + usize::from(options.count_parses);
+        // Viterbi and inside always: once per cell. These counts stay far
+        // below 2⁵³, so the inside pass takes them too and counting asks
+        // nothing more. The k-best pass (more than one tree asked for) is
+        // lazy: it asks once for each cell it visits (a few thousand steps,
+        // no more, for these four trees), at least the whole sentence's.
+        let passes = 2;
         let calls = stop.calls.get();
         if options.kbest > 1 {
             assert!(
@@ -79,6 +80,37 @@ fn a_stop_that_never_fires_changes_nothing_and_is_asked_once_per_cell_per_pass()
             assert_eq!(calls, passes * cells, "{options:?}");
         }
     }
+}
+
+#[test]
+fn counts_past_two_to_the_53_are_finished_by_a_counting_pass_that_asks_per_cell() {
+    // `S → S S | "a"` has Catalan(n − 1) parses of n words (OEIS A000108),
+    // computed here exactly: the first span length whose count reaches
+    // 2⁵³ is where the inside pass hands counting over.
+    let mut catalan: Vec<u128> = vec![1];
+    for m in 0..40u128 {
+        let next = catalan[m as usize] * 2 * (2 * m + 1) / (m + 2);
+        catalan.push(next);
+    }
+    let n = 40;
+    let handover = (1..=n).find(|&len| catalan[len - 1] >= 1 << 53).unwrap();
+    assert_eq!(handover, 32, "C(31) is the first Catalan number past 2⁵³");
+    // Cells are numbered by span length, then start (`chart::Layout`).
+    let first_of_length = |len: usize| (1..len).map(|l| n - l + 1).sum::<usize>();
+    let cells = n * (n + 1) / 2;
+    let counted_after = cells - first_of_length(handover);
+    let parser = ambiguous();
+    let words = vec!["a"; n];
+    let stop = CountingStop::new(None);
+    let out = parser
+        .parse_until(&words, &ParseOptions::default(), &|| stop.ask())
+        .unwrap();
+    assert_eq!(
+        out.parse_count
+            .and_then(|c| c.finite().map(|v| v.to_string())),
+        Some(catalan[n - 1].to_string())
+    );
+    assert_eq!(stop.calls.get(), 2 * cells + counted_after);
 }
 
 #[test]
@@ -220,4 +252,48 @@ fn the_kbest_state_grows_with_k_and_the_items_reached_not_with_the_chart() {
     // items (24 bytes an entry, two lists): 100 trees would have taken
     // 820 · 2 · 24 · 100 bytes at most, the lazy state takes far less.
     assert!(hundred < 820 * 2 * 24 * 100 / 4, "{hundred}");
+}
+
+#[test]
+fn large_counts_below_the_root_need_no_counting_pass_when_the_root_count_is_small() {
+    // X → X X | "a" gives every span of n a's Catalan(n − 1) derivations
+    // of X (OEIS A000108), past 2⁵³ from 32 words on; but a sentence that
+    // starts with "x" can only be S → "x" T with T right-branching, one
+    // parse. The huge X counts take no part in it: the inside pass's
+    // capped counts give the root's exactly, and no counting pass runs.
+    let parser = Parser::new(&grammar(
+        "S",
+        &[
+            ("S", "\"x\" T", "0.9"),
+            ("S", "X X", "0.1"),
+            ("T", "\"a\" T", "0.5"),
+            ("T", "\"a\"", "0.5"),
+            ("X", "X X", "0.3"),
+            ("X", "\"a\"", "0.7"),
+        ],
+    ))
+    .unwrap();
+    let n = 40;
+    let mut words = vec!["a"; n];
+    words[0] = "x";
+    let stop = CountingStop::new(None);
+    let out = parser
+        .parse_until(&words, &ParseOptions::default(), &|| stop.ask())
+        .unwrap();
+    assert_eq!(out.parse_count.map(|c| c.to_string()), Some("1".into()));
+    let cells = n * (n + 1) / 2;
+    assert_eq!(stop.calls.get(), 2 * cells, "Viterbi and inside only");
+    // All a's: S → X X over 40 words has Σ_k C(k−1)·C(39−k) = C(39)
+    // parses (the Catalan recurrence), counted past 2⁵³ by the counting
+    // pass.
+    let words = vec!["a"; n];
+    let out = parser.parse(&words, &ParseOptions::default()).unwrap();
+    let mut catalan: Vec<u128> = vec![1];
+    for m in 0..40u128 {
+        catalan.push(catalan[m as usize] * 2 * (2 * m + 1) / (m + 2));
+    }
+    assert_eq!(
+        out.parse_count.map(|c| c.to_string()),
+        Some(catalan[39].to_string())
+    );
 }
