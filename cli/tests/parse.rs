@@ -6,6 +6,7 @@ use common::{trellis, KIOSK};
 
 use serde_json::Value;
 use std::fs;
+use trellis_test_support::grammars::GREENHOUSE_BEAM;
 
 fn setup() -> tempfile::TempDir {
     let dir = tempfile::tempdir().unwrap();
@@ -384,6 +385,67 @@ fn a_beam_says_the_results_are_not_exact_in_both_formats() {
         &["parse", "g.trellis", "a day ticket", "--beam", "100"],
     );
     assert!(!human.stdout.contains("pruned"), "{}", human.stdout);
+}
+
+#[test]
+fn a_beam_that_drops_every_tree_is_given_up_and_says_the_results_are_exact() {
+    let dir = tempfile::tempdir().unwrap();
+    fs::write(dir.path().join("g.trellis"), GREENHOUSE_BEAM).unwrap();
+    // Hand-worked with `GREENHOUSE_BEAM`: one symbol per span keeps only
+    // Zone over "ivy", which no tree of "water ivy" uses, so the beam is
+    // given up; the exact tree has 1/10 · 1/10 = 0.01. "water fern" keeps
+    // a tree (0.09 of the exact 0.24 and 0.33): pruned, not given up.
+    let args = [
+        "parse",
+        "g.trellis",
+        "water ivy",
+        "water fern",
+        "--beam-size",
+        "1",
+    ];
+    let run = trellis(dir.path(), &args);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let (ivy, fern) = run.stdout.split_once("\n\n").unwrap();
+    assert!(
+        ivy.contains(
+            "note: a beam of at most 1 symbol per cell left no tree, so it was given up for \
+             this sentence: the results are exact"
+        ),
+        "{ivy}"
+    );
+    assert!(ivy.contains("P(sentence) = 0.01 "), "{ivy}");
+    assert!(!ivy.contains("pruned"), "{ivy}");
+    assert!(fern.contains("note: pruned with"), "{fern}");
+    assert!(!fern.contains("given up"), "{fern}");
+    let mut json = args.to_vec();
+    json.extend(["--format", "json"]);
+    let run = trellis(dir.path(), &json);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    let docs: Vec<Value> = run
+        .stdout
+        .lines()
+        .map(|l| serde_json::from_str(l).unwrap())
+        .collect();
+    let (ivy, fern) = (&docs[0], &docs[1]);
+    assert_eq!(ivy["exact"], Value::Bool(true), "{ivy}");
+    assert_eq!(ivy["beam_abandoned"], Value::Bool(true), "{ivy}");
+    assert!(ivy.get("beam").is_none(), "{ivy}");
+    assert_eq!(ivy["best"]["tree"], r#"(Command "water" (Plant "ivy"))"#);
+    let p = ivy["sentence_probability"].as_f64().unwrap();
+    assert!((p - 0.01).abs() < 1e-15, "{p}");
+    assert_eq!(fern["exact"], Value::Bool(false), "{fern}");
+    assert!(fern.get("beam_abandoned").is_none(), "{fern}");
+    assert_eq!(fern["beam"]["max_symbols"], 1, "{fern}");
+    // Without a beam, nothing is said.
+    let run = trellis(
+        dir.path(),
+        &["parse", "g.trellis", "water ivy", "--format", "json"],
+    );
+    let doc: Value = serde_json::from_str(run.stdout.trim()).unwrap();
+    assert!(
+        doc.get("exact").is_none() && doc.get("beam_abandoned").is_none(),
+        "{doc}"
+    );
 }
 
 #[test]

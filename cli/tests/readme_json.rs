@@ -14,6 +14,7 @@ use serde_json::Value;
 use std::collections::{BTreeMap, BTreeSet};
 use std::fs;
 use std::path::Path;
+use trellis_test_support::grammars::GREENHOUSE_BEAM;
 
 /// The fields of an object.
 #[derive(Debug, Clone, PartialEq)]
@@ -268,6 +269,7 @@ fn setup() -> tempfile::TempDir {
         ),
     )
     .unwrap();
+    fs::write(dir.path().join("greenhouse.trellis"), GREENHOUSE_BEAM).unwrap();
     fs::write(
         dir.path().join("erring.trellis"),
         "start S\nS {\n  1/2 \"a\"\n}\ntest \"t\" {\n  accept \"a\"\n}\n",
@@ -366,6 +368,8 @@ fn parse_prints_what_readme_documents() {
                 // Pruned: "two" is one symbol in one tree, another in the other.
                 "two adults",
             ],
+            // The beam drops every tree and is given up (see the grammar).
+            &["greenhouse.trellis", "--beam-size", "1", "water ivy"],
         ],
     );
 }

@@ -95,9 +95,14 @@ pub struct ParseOutcome {
     pub explanation: Option<Explanation>,
     /// The beam that pruned the chart, when one dropped any symbol: the
     /// results are then not exact. `None` when the results are exact (no
-    /// beam asked for, or it dropped nothing; a sentence that no tree
-    /// survives the beam for is parsed again exactly).
+    /// beam asked for, or it dropped nothing, or it was given up: see
+    /// [`ParseOutcome::beam_abandoned`]).
     pub beam: Option<Beam>,
+    /// The beam asked for, when it dropped every tree of a sentence that
+    /// has trees: it was given up for this sentence, which was parsed again
+    /// exactly, so the results are exact (and `beam` is `None`). A sentence
+    /// with no tree at all is simply not parsed, beam or no beam.
+    pub beam_abandoned: Option<Beam>,
 }
 
 impl ParseOutcome {
@@ -262,9 +267,14 @@ impl Parser {
         let g = &self.grammar;
         let n = words.len();
         let mut vit = viterbi::fill(g, &keys, watch, &options.workers, options.beam.as_ref())?;
+        let mut beam_abandoned = None;
         if vit.pruned && vit.get(0, n, g.start) == f64::NEG_INFINITY {
-            // No tree survived the beam: parse exactly instead.
+            // No tree survived the beam: parse exactly instead, and say so
+            // when the exact parse has a tree (the beam dropped them all).
             vit = viterbi::fill(g, &keys, watch, &options.workers, None)?;
+            if vit.get(0, n, g.start) > f64::NEG_INFINITY {
+                beam_abandoned = options.beam;
+            }
         }
         let beam = options.beam.filter(|_| vit.pruned);
         let root_score = vit.get(0, n, g.start);
@@ -279,6 +289,7 @@ impl Parser {
                     .explain
                     .then(|| in_own_words(explain(g, &keys, &vit), &words)),
                 beam,
+                beam_abandoned,
             });
         }
         let best =
@@ -330,6 +341,7 @@ impl Parser {
             parse_count,
             explanation: None,
             beam,
+            beam_abandoned,
         })
     }
 

@@ -9,6 +9,7 @@ use num_bigint::BigUint;
 use parse_support::*;
 use trellis_engine::count::Count;
 use trellis_engine::parser::{Beam, ParseOptions, Parser};
+use trellis_test_support::grammars::GREENHOUSE_BEAM;
 
 fn options(kbest: usize, beam: Option<Beam>) -> ParseOptions {
     ParseOptions {
@@ -45,7 +46,7 @@ fn a_beam_that_drops_nothing_gives_the_exact_parse_bit_for_bit() {
                 // Nothing was dropped, so the outcome says it is exact and is
                 // equal in every field, floats included.
                 assert_eq!(out, exact, "{words:?} {beam:?}");
-                assert!(out.beam.is_none());
+                assert!(out.beam.is_none() && out.beam_abandoned.is_none());
                 compared += 1;
             }
         }
@@ -62,7 +63,7 @@ fn a_narrow_beam_gives_lower_bounds_and_keeps_the_best_tree_when_it_survives() {
         Beam::new(f64::INFINITY, Some(1)).unwrap(),
         Beam::new(3.0, Some(2)).unwrap(),
     ];
-    let (mut pruned, mut best_kept, mut best_lost) = (0, 0, 0);
+    let (mut pruned, mut best_kept, mut best_lost, mut abandoned) = (0, 0, 0, 0);
     for (parser, _) in grammars() {
         for words in all_sentences(6) {
             let exact = parser.parse(&words, &options(1, None)).unwrap();
@@ -72,10 +73,19 @@ fn a_narrow_beam_gives_lower_bounds_and_keeps_the_best_tree_when_it_survives() {
                 // back to the exact parse when no tree survives).
                 assert_eq!(out.parsed(), exact.parsed(), "{words:?} {beam:?}");
                 if out.beam.is_none() {
-                    assert_eq!(out, exact, "nothing dropped: {words:?} {beam:?}");
+                    // Nothing dropped, or every tree dropped and the beam
+                    // given up: the exact parse, saying which.
+                    let mut as_exact = out.clone();
+                    if let Some(given_up) = as_exact.beam_abandoned.take() {
+                        assert_eq!(given_up, beam);
+                        assert!(out.parsed());
+                        abandoned += 1;
+                    }
+                    assert_eq!(as_exact, exact, "exact: {words:?} {beam:?}");
                     continue;
                 }
                 assert_eq!(out.beam, Some(beam));
+                assert_eq!(out.beam_abandoned, None);
                 pruned += 1;
                 // Surviving trees are a subset of all trees: each bound
                 // below is the sum/max/count over a subset (the definition).
@@ -113,6 +123,7 @@ fn a_narrow_beam_gives_lower_bounds_and_keeps_the_best_tree_when_it_survives() {
     }
     assert!(pruned > 1000, "{pruned}");
     assert!(best_kept > 100 && best_lost > 10, "{best_kept} {best_lost}");
+    assert!(abandoned > 10, "{abandoned}");
 }
 
 #[test]
@@ -170,4 +181,72 @@ fn a_beam_prunes_symbols_not_derivations_so_the_textbook_ambiguity_survives_one_
     assert!(rel(out.sentence_probability, 0.0015876) < 1e-12);
     assert_eq!(out.kbest, exact.kbest);
     assert_eq!(out.parse_count, exact.parse_count);
+}
+
+fn greenhouse() -> Parser {
+    let analysis = grammar_lang::analyze_text(GREENHOUSE_BEAM);
+    assert!(!analysis.has_errors(), "{:?}", analysis.diagnostics);
+    Parser::new(&analysis.grammar).unwrap()
+}
+
+#[test]
+fn a_beam_that_drops_the_best_tree_says_so_and_gives_the_surviving_tree() {
+    // Hand-worked numbers with `GREENHOUSE_BEAM`: "water fern" has trees of
+    // 0.24 (through Bed) and 0.09 (through Plant); both beams drop Bed.
+    let parser = greenhouse();
+    let words = ["water", "fern"];
+    let exact = parser.parse(&words, &options(2, None)).unwrap();
+    assert!(rel(exact.sentence_probability, 0.33) < 1e-12);
+    assert!(rel(exact.best.as_ref().unwrap().probability, 0.24) < 1e-12);
+    for beam in [
+        Beam::new(0.5, None).unwrap(),
+        Beam::new(f64::INFINITY, Some(1)).unwrap(),
+    ] {
+        let out = parser.parse(&words, &options(2, Some(beam))).unwrap();
+        assert_eq!(out.beam, Some(beam));
+        assert_eq!(out.beam_abandoned, None);
+        let best = out.best.as_ref().unwrap();
+        assert_eq!(
+            best.tree.to_brackets(),
+            r#"(Command "water" (Plant "fern"))"#
+        );
+        assert!(rel(best.probability, 0.09) < 1e-12);
+        assert!(rel(out.sentence_probability, 0.09) < 1e-12);
+        assert_eq!(out.kbest.len(), 1);
+        assert_eq!(out.parse_count, Some(Count::Finite(BigUint::from(1u32))));
+    }
+}
+
+#[test]
+fn a_beam_that_drops_every_tree_is_given_up_and_the_parse_is_exact() {
+    // Hand-worked numbers with `GREENHOUSE_BEAM`: over "ivy" both beams keep
+    // only Zone, so no tree of "water ivy" survives; its one exact tree has
+    // 1/10 · 1/10 = 0.01.
+    let parser = greenhouse();
+    let words = ["water", "ivy"];
+    let exact = parser.parse(&words, &options(2, None)).unwrap();
+    assert_eq!(exact.beam_abandoned, None);
+    for beam in [
+        Beam::new(0.5, None).unwrap(),
+        Beam::new(f64::INFINITY, Some(1)).unwrap(),
+    ] {
+        let out = parser.parse(&words, &options(2, Some(beam))).unwrap();
+        assert_eq!(out.beam, None, "the results are exact");
+        assert_eq!(out.beam_abandoned, Some(beam));
+        assert!(rel(out.sentence_probability, 0.01) < 1e-12);
+        // Apart from saying so, the exact parse, bit for bit.
+        let mut plain = out.clone();
+        plain.beam_abandoned = None;
+        assert_eq!(plain, exact);
+    }
+    // A sentence without any tree is not parsed, beam or no beam: nothing
+    // was given up.
+    let out = parser
+        .parse(
+            &["ivy", "water"],
+            &options(1, Some(Beam::new(0.0, Some(1)).unwrap())),
+        )
+        .unwrap();
+    assert!(!out.parsed());
+    assert_eq!((out.beam, out.beam_abandoned), (None, None));
 }

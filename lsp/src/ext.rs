@@ -9,7 +9,9 @@
 //! as everywhere in LSP.
 //!
 //! * [`Parse`] (`trellis.parse`): parse sentences with the grammar of an
-//!   open document; trees are labelled brackets.
+//!   open document; trees are labelled brackets. Exact unless `beam` or
+//!   `beamSize` asks for pruning, and then each result says whether it is
+//!   exact, which beam pruned it, or that the beam was given up.
 //! * [`Sample`] (`trellis.sample`): sample sentences (and trees) from it.
 //! * [`RunTest`] (`trellis.runTest`): run one test block of the document,
 //!   or every test of the grammar; counts are of cases.
@@ -26,8 +28,8 @@
 //! command's result) the server also shows the outcome to the user with
 //! `window/showMessage`.
 
-use serde::de::DeserializeOwned;
-use serde::{Deserialize, Serialize};
+use serde::de::{DeserializeOwned, Error as _};
+use serde::{Deserialize, Deserializer, Serialize};
 use tower_lsp::lsp_types::{Command, Location, Url};
 
 /// A command of `workspace/executeCommand` with its typed argument and
@@ -91,6 +93,52 @@ pub struct ParseParams {
     /// ([`SentenceParse::picture`]), the one `trellis parse --svg` draws.
     #[serde(default, skip_serializing_if = "is_false")]
     pub picture: bool,
+    /// Prune each chart span to the symbols whose best log-probability is
+    /// within this width (natural log, 0 or more) of the span's best, as
+    /// `trellis parse --beam` does. Absent: no width limit (and with
+    /// `beamSize` absent too, an exact parse).
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        deserialize_with = "beam_width"
+    )]
+    pub beam: Option<f64>,
+    /// Keep at most this many symbols in each chart span (1 or more), as
+    /// `trellis parse --beam-size` does. Absent: no limit.
+    #[serde(
+        default,
+        skip_serializing_if = "Option::is_none",
+        deserialize_with = "beam_size"
+    )]
+    pub beam_size: Option<usize>,
+}
+
+/// `beam`: a natural-log width of 0 or more (a refusal names the field).
+fn beam_width<'de, D: Deserializer<'de>>(d: D) -> Result<Option<f64>, D::Error> {
+    let Some(value) = Option::<serde_json::Value>::deserialize(d)? else {
+        return Ok(None);
+    };
+    match value.as_f64() {
+        Some(width) if width >= 0.0 => Ok(Some(width)),
+        _ => Err(D::Error::custom(format!(
+            "`beam` must be a natural-log width of 0 or more, such as 8, not {value}; \
+             leave it out to parse without a width limit"
+        ))),
+    }
+}
+
+/// `beamSize`: a whole number of 1 or more (a refusal names the field).
+fn beam_size<'de, D: Deserializer<'de>>(d: D) -> Result<Option<usize>, D::Error> {
+    let Some(value) = Option::<serde_json::Value>::deserialize(d)? else {
+        return Ok(None);
+    };
+    match value.as_u64().and_then(|n| usize::try_from(n).ok()) {
+        Some(n) if n >= 1 => Ok(Some(n)),
+        _ => Err(D::Error::custom(format!(
+            "`beamSize` must be a whole number of symbols per chart span, 1 or more, such \
+             as 20, not {value}; leave it out for no limit"
+        ))),
+    }
 }
 
 /// What `trellis.parse` answers: one entry per sentence, in order.
@@ -153,6 +201,29 @@ pub struct SentenceParse {
     /// of the page it is shown in.
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub picture: Option<String>,
+    /// Whether the results are exact: `false` when a beam pruned the chart
+    /// (`beam` says which; probabilities are then lower bounds, the best
+    /// tree may be missed and `parseCount` counts surviving trees only),
+    /// `true` otherwise; `null` when the sentence was not analysed.
+    #[serde(default)]
+    pub exact: Option<bool>,
+    /// The beam that pruned the chart (`null` when the results are exact).
+    #[serde(default)]
+    pub beam: Option<ParseBeam>,
+    /// Whether the beam asked for dropped every tree of the sentence and
+    /// was given up: the sentence was parsed again exactly (`exact` is
+    /// `true`).
+    #[serde(default)]
+    pub beam_abandoned: bool,
+}
+
+/// A beam that pruned a parse: `logWidth` is `null` when only `maxSymbols`
+/// limits it, and `maxSymbols` is `null` without a limit.
+#[derive(Clone, Debug, Default, PartialEq, Serialize, Deserialize)]
+#[serde(rename_all = "camelCase")]
+pub struct ParseBeam {
+    pub log_width: Option<f64>,
+    pub max_symbols: Option<usize>,
 }
 
 /// A tree with its probability.
@@ -325,6 +396,31 @@ mod tests {
         );
         let back: RunTestParams = serde_json::from_value(argument.clone()).unwrap();
         assert_eq!(back, params);
+    }
+
+    #[test]
+    fn a_beam_out_of_range_is_refused_naming_the_field() {
+        let parse = |extra: serde_json::Value| {
+            let mut value = serde_json::json!({"uri": "file:///g.trellis", "sentence": "a"});
+            for (k, v) in extra.as_object().unwrap() {
+                value[k] = v.clone();
+            }
+            serde_json::from_value::<ParseParams>(value).map_err(|e| e.to_string())
+        };
+        let ok = parse(serde_json::json!({"beam": 8, "beamSize": 20})).unwrap();
+        assert_eq!((ok.beam, ok.beam_size), (Some(8.0), Some(20)));
+        let none = parse(serde_json::json!({"beam": null})).unwrap();
+        assert_eq!((none.beam, none.beam_size), (None, None));
+        for (extra, says) in [
+            (serde_json::json!({"beam": -1.5}), "`beam` must be a natural-log width of 0 or more, such as 8, not -1.5"),
+            (serde_json::json!({"beam": "wide"}), "not \"wide\""),
+            (serde_json::json!({"beamSize": 0}), "`beamSize` must be a whole number of symbols per chart span, 1 or more, such as 20, not 0"),
+            (serde_json::json!({"beamSize": -3}), "not -3"),
+            (serde_json::json!({"beamSize": 2.5}), "not 2.5"),
+        ] {
+            let e = parse(extra.clone()).unwrap_err();
+            assert!(e.contains(says), "{extra}: {e}");
+        }
     }
 
     #[test]

@@ -60,6 +60,8 @@ async fn code_lens_arguments_are_taken_by_execute_command_as_they_are() {
             kbest: None,
             show: true,
             picture: false,
+            beam: None,
+            beam_size: None,
         }
     );
     // As it is, the argument is understood: only the sentence is missing.

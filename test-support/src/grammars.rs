@@ -28,6 +28,31 @@ V { \"saw\" }
 NP { 0.4 NP PP | 0.1 \"astronomers\" | 0.18 \"ears\" | 0.04 \"saw\" | 0.18 \"stars\" | 0.1 \"telescopes\" }
 ";
 
+/// A greenhouse voice grammar on which a narrow beam matters, worked by
+/// hand (a tree's probability is the product of its rules'):
+///
+/// * "water fern" has two trees, (Command "water" (Bed "fern")) with
+///   6/10 · 2/5 = 0.24 and (Command "water" (Plant "fern")) with
+///   1/10 · 9/10 = 0.09; P(sentence) = 0.33. Over "fern", Plant (9/10)
+///   outranks Bed (2/5) by ln(9/4) ≈ 0.81, so keeping one symbol per span,
+///   or a beam of 0.5, drops Bed and the best tree: the pruned parse finds
+///   the one tree of 0.09.
+/// * "water ivy" has the one tree (Command "water" (Plant "ivy")) with
+///   1/10 · 1/10 = 0.01. Over "ivy", Zone (1/2) outranks Command (3/10 ·
+///   1/2 = 0.15, through Zone) and Plant (1/10), so the same beams keep
+///   Zone alone, which no tree of two words uses: no tree survives, and
+///   the beam is given up for that sentence.
+pub const GREENHOUSE_BEAM: &str = "start Command
+Command {
+  1/10  \"water\" Plant
+  6/10  \"water\" Bed
+  3/10  Zone
+}
+Plant { 9/10 \"fern\" | 1/10 \"ivy\" }
+Bed { 2/5 \"fern\" | 3/5 \"gravel\" }
+Zone { 1/2 \"north\" | 1/2 \"ivy\" }
+";
+
 /// The grammar-language text of `(lhs, rhs, weight)` triples: one block per
 /// left-hand side (in order of first appearance); the right-hand side is
 /// written as in the language (terminals in double quotes). Weights are

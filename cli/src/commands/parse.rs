@@ -41,8 +41,9 @@ pub const LONG_ABOUT: &str = "Parse sentences with a grammar.\n\n\
     symbols whose best log-probability is within WIDTH (natural log) of the \
     cell's best, and --beam-size N to its N best symbols. Pruned results are \
     not exact and say so: probabilities are lower bounds, the best tree may \
-    be missed, and the tree count counts surviving trees only. Without \
-    either option parsing is exact.\n\n\
+    be missed, and the tree count counts surviving trees only. A sentence \
+    whose every tree the beam drops is parsed again exactly, and says so. \
+    Without either option parsing is exact.\n\n\
     Exit status: 0 when every sentence parses; 1 when the grammar has errors \
     in what the run uses or some sentence does not parse (or is refused by \
     --max-chart-mib or stopped by --max-seconds); 2 when a file cannot be \

@@ -659,6 +659,13 @@ pub fn parse_report(sentence: &str, result: &Result<ParseOutcome, String>) -> St
                         beam.describe()
                     ));
                 }
+                if let Some(beam) = &o.beam_abandoned {
+                    out.push_str(&format!(
+                        "  note: {} left no tree, so it was given up for this sentence: \
+                         the results are exact\n",
+                        beam.describe()
+                    ));
+                }
             }
             None => {
                 out.push_str("  no parse\n");

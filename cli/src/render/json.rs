@@ -191,12 +191,17 @@ pub struct ParseDocument<'a> {
     explanation: Option<JsonExplanation<'a>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     error: Option<String>,
-    /// `false` when a beam pruned the chart (absent when exact).
+    /// `false` when a beam pruned the chart, `true` when a beam was given
+    /// up (`beam_abandoned`); absent when no beam changed anything.
     #[serde(skip_serializing_if = "Option::is_none")]
     exact: Option<bool>,
     /// The beam that pruned the chart (absent when exact).
     #[serde(skip_serializing_if = "Option::is_none")]
     beam: Option<JsonBeam>,
+    /// `true` when the beam dropped every tree of the sentence and was
+    /// given up: the sentence was parsed again exactly (absent otherwise).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    beam_abandoned: Option<bool>,
     /// Blocks whose weights were divided by their sum for the run.
     rescaled: &'a [String],
     /// Errors outside what the run uses, which did not stop it.
@@ -350,11 +355,16 @@ pub fn parse_document<'a>(
             parse_count: o.parse_count.as_ref().map(count_text),
             explanation: o.explanation.as_ref().map(JsonExplanation::from),
             error: None,
-            exact: o.beam.map(|_| false),
+            exact: match (o.beam, o.beam_abandoned) {
+                (Some(_), _) => Some(false),
+                (None, Some(_)) => Some(true),
+                (None, None) => None,
+            },
             beam: o.beam.map(|b| JsonBeam {
                 log_width: b.log_width.is_finite().then_some(b.log_width),
                 max_symbols: b.max_symbols,
             }),
+            beam_abandoned: o.beam_abandoned.map(|_| true),
             rescaled,
             ignored_errors,
         },
@@ -370,6 +380,7 @@ pub fn parse_document<'a>(
             error: Some(e.clone()),
             exact: None,
             beam: None,
+            beam_abandoned: None,
             rescaled,
             ignored_errors,
         },

@@ -52,6 +52,8 @@ pub async fn code_lenses(
                                 kbest: None,
                                 show: true,
                                 picture: false,
+                                beam: None,
+                                beam_size: None,
                             },
                         ),
                         CodeLensKind::Sample => Sample::command(

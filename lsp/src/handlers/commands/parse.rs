@@ -3,13 +3,13 @@
 //! number of trees, or why there is none.
 
 use super::{finish, grammar_of, ran, ran_summary};
-use crate::ext::{ParseParams, ParseResult, ScoredTree, SentenceParse};
+use crate::ext::{ParseBeam, ParseParams, ParseResult, ScoredTree, SentenceParse};
 use crate::guard::CancelFlag;
 use crate::server::Backend;
 use std::time::{Duration, Instant};
 use tower_lsp::jsonrpc;
 use tower_lsp::lsp_types::MessageType;
-use trellis_engine::parser::{ParseError, ParseOptions, ParseOutcome, ParsedTree};
+use trellis_engine::parser::{Beam, ParseError, ParseOptions, ParseOutcome, ParsedTree};
 use trellis_ide::picture::{tree_picture, Surface};
 use trellis_project::EditorLimits;
 
@@ -41,9 +41,19 @@ pub async fn parse(backend: &Backend, params: ParseParams) -> jsonrpc::Result<Pa
         }
         return Err(jsonrpc::Error::invalid_params(message));
     }
+    let beam = match (params.beam, params.beam_size) {
+        (None, None) => None,
+        // The params' reader refuses what `Beam::new` refuses, naming the
+        // field; this is the same refusal for params built otherwise.
+        (width, size) => Some(
+            Beam::new(width.unwrap_or(f64::INFINITY), size)
+                .map_err(|e| jsonrpc::Error::invalid_params(format!("trellis.parse: {e}")))?,
+        ),
+    };
     let options = ParseOptions {
         kbest,
         max_chart_bytes: limits.parse_chart_mib.saturating_mul(1 << 20),
+        beam,
         ..ParseOptions::default()
     };
     let picture = params.picture;
@@ -175,6 +185,12 @@ fn sentence_parse(sentence: String, out: &ParseOutcome) -> SentenceParse {
         explanation: out.explanation.as_ref().map(|e| e.to_string()),
         error: None,
         picture: None,
+        exact: Some(out.beam.is_none()),
+        beam: out.beam.map(|b| ParseBeam {
+            log_width: b.log_width.is_finite().then_some(b.log_width),
+            max_symbols: b.max_symbols,
+        }),
+        beam_abandoned: out.beam_abandoned.is_some(),
     }
 }
 
@@ -186,9 +202,16 @@ fn summary(result: &ParseResult) -> String {
         .iter()
         .map(|r| match (&r.tree, r.probability) {
             (Some(tree), Some(p)) => format!(
-                "{}: {tree}  p = {}",
+                "{}: {tree}  p = {}{}",
                 r.sentence,
-                trellis_engine::numbers::probability(p)
+                trellis_engine::numbers::probability(p),
+                if r.exact == Some(false) {
+                    " (pruned by the beam: not exact, a lower bound)"
+                } else if r.beam_abandoned {
+                    " (the beam left no tree and was given up: exact)"
+                } else {
+                    ""
+                }
             ),
             _ => {
                 let why = r
@@ -227,6 +250,23 @@ mod tests {
                     sentence: "x".into(),
                     ..SentenceParse::default()
                 },
+                SentenceParse {
+                    sentence: "water fern".into(),
+                    parsed: true,
+                    tree: Some("(Command \"water\" (Plant \"fern\"))".into()),
+                    probability: Some(0.09),
+                    exact: Some(false),
+                    ..SentenceParse::default()
+                },
+                SentenceParse {
+                    sentence: "water ivy".into(),
+                    parsed: true,
+                    tree: Some("(Command \"water\" (Plant \"ivy\"))".into()),
+                    probability: Some(0.01),
+                    exact: Some(true),
+                    beam_abandoned: true,
+                    ..SentenceParse::default()
+                },
             ],
             ..ParseResult::default()
         };
@@ -234,7 +274,11 @@ mod tests {
             summary(&result),
             "ferries sail: (S (NP \"ferries\") (VP \"sail\"))  p = 0.225\n\
              sail ferries: no parse — no tree ends here\n\
-             x: no parse — no parse"
+             x: no parse — no parse\n\
+             water fern: (Command \"water\" (Plant \"fern\"))  p = 0.09 (pruned by the beam: \
+             not exact, a lower bound)\n\
+             water ivy: (Command \"water\" (Plant \"ivy\"))  p = 0.01 (the beam left no tree \
+             and was given up: exact)"
         );
     }
 }
