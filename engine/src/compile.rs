@@ -145,6 +145,9 @@ pub struct CompiledGrammar {
     /// is set when some rule has left child `b` and right child `c`.
     pub(crate) right_masks: Vec<u64>,
     pub(crate) mask_words: usize,
+    /// Per left child `b`, the expected steps of a mask visit per present
+    /// right symbol, in 1/65536ths (see [`CompiledGrammar::visit`]).
+    mask_cost: Vec<u32>,
     /// Left child, probability and origin of each binary rule (cold data).
     pub(crate) bin_left: Vec<u32>,
     pub(crate) bin_p: Vec<f64>,
@@ -311,6 +314,17 @@ impl CompiledGrammar {
 
         let closures = unary_closures(grammar, n_sym, &unary)?;
 
+        // Each present right symbol matches one of b's right children with
+        // probability rights(b) / symbols; a match found through the mask
+        // costs ~4 steps.
+        let kinds = b.kinds.len().max(1) as u64;
+        let mask_cost: Vec<u32> = right_masks
+            .chunks(mask_words.max(1))
+            .map(|row| {
+                let rights: u64 = row.iter().map(|m| u64::from(m.count_ones())).sum();
+                ((4 * rights << 16) / kinds) as u32
+            })
+            .collect();
         let has_unseen = grammar_lang::unseen::terminals().any(|t| b.lexicon.contains_key(t));
         Ok(CompiledGrammar {
             has_unseen,
@@ -327,6 +341,7 @@ impl CompiledGrammar {
             pair_offsets: pair_counts,
             right_masks,
             mask_words,
+            mask_cost,
             bin_left,
             bin_p,
             bin_origin,
@@ -435,19 +450,21 @@ impl CompiledGrammar {
         };
         let rules = (self.left_offsets[b as usize + 1] - self.left_offsets[b as usize]) as usize;
         let w = self.mask_words;
-        let row = &self.right_masks[b as usize * w..(b as usize + 1) * w];
         // Rough cost estimates in units of one scanned rule (a random
         // look-up costs a few sequential steps): a pair look-up ~3, a mask
-        // word ~1, each expected (b, c) match found through the mask ~4.
-        let rights: usize = row.iter().map(|m| m.count_ones() as usize).sum();
-        let matches = rights * right_present / self.kinds.len().max(1);
+        // word ~1, each expected (b, c) match found through the mask ~4
+        // (precomputed per symbol: `mask_cost`).
+        let matches = (u64::from(self.mask_cost[b as usize]) * right_present as u64) >> 16;
         let scan = rules;
         let pairs = 3 * right_present;
-        let mask = w + 4 * matches;
+        let mask = w + matches as usize;
         if scan <= pairs.min(mask) {
             Visit::Scan
         } else if mask < pairs {
-            Visit::Mask(table, row)
+            Visit::Mask(
+                table,
+                &self.right_masks[b as usize * w..(b as usize + 1) * w],
+            )
         } else {
             Visit::Pairs(table)
         }

@@ -217,34 +217,51 @@ fn fill_cell(
     scratch: &mut Scratch,
 ) {
     let Scratch {
-        pre, rmask, groups, ..
+        pre,
+        rmask,
+        groups,
+        keep,
+        ..
     } = scratch;
-    pre.fill(f64::NEG_INFINITY);
+    // Without unary rules or a beam, the scores before the closure are the
+    // final ones: they go straight into the row (still all `-inf`).
+    let direct = g.unary_children.is_empty() && keep.is_empty();
+    let target: &mut [f64] = if direct {
+        row
+    } else {
+        pre.fill(f64::NEG_INFINITY);
+        pre
+    };
     if j - i == 1 {
         if let Some(entries) = g.lexicon.get(words[i]) {
             for e in entries {
-                let slot = &mut pre[e.sym as usize];
+                let slot = &mut target[e.sym as usize];
                 if e.lp > *slot {
                     *slot = e.lp;
                 }
             }
         }
     } else {
-        fill_grouped(g, done, i, j, pre, rmask, groups);
+        fill_grouped(g, done, i, j, target, rmask, groups);
     }
-    row.copy_from_slice(pre);
-    for &b in &g.unary_children {
-        let pb = pre[b as usize];
-        if pb == f64::NEG_INFINITY {
-            continue;
-        }
-        for &(a, w) in &g.vit_closure[b as usize] {
-            let cand = w + pb;
-            if cand > row[a as usize] {
-                row[a as usize] = cand;
+    let row: &[f64] = if direct {
+        target
+    } else {
+        row.copy_from_slice(pre);
+        for &b in &g.unary_children {
+            let pb = pre[b as usize];
+            if pb == f64::NEG_INFINITY {
+                continue;
+            }
+            for &(a, w) in &g.vit_closure[b as usize] {
+                let cand = w + pb;
+                if cand > row[a as usize] {
+                    row[a as usize] = cand;
+                }
             }
         }
-    }
+        row
+    };
     for (s, &v) in row.iter().enumerate() {
         if v > f64::NEG_INFINITY {
             out.push(s as u32);
