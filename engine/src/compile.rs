@@ -322,7 +322,7 @@ impl CompiledGrammar {
             .chunks(mask_words.max(1))
             .map(|row| {
                 let rights: u64 = row.iter().map(|m| u64::from(m.count_ones())).sum();
-                ((4 * rights << 16) / kinds) as u32
+                (((4 * rights) << 16) / kinds) as u32
             })
             .collect();
         let has_unseen = grammar_lang::unseen::terminals().any(|t| b.lexicon.contains_key(t));
