@@ -324,7 +324,7 @@ fn report_against_baseline(g: &Grammar, ambiguity: usize, len: usize) {
         parser.chart_bytes(len, &options) as f64 / (1 << 20) as f64
     );
     // One long sentence on one and on two threads (wall clock, least of
-    // three rounds): the chart passes spread each span length's cells.
+    // five rounds): the chart passes spread each span length's cells.
     if len >= 30 {
         let wall = |threads: usize| {
             let pool = rayon::ThreadPoolBuilder::new()
@@ -336,11 +336,11 @@ fn report_against_baseline(g: &Grammar, ambiguity: usize, len: usize) {
                 ..options.clone()
             };
             pool.install(|| {
-                (0..3)
+                (0..5)
                     .map(|_| {
                         let start = std::time::Instant::now();
                         let mut runs = 0;
-                        while start.elapsed().as_secs_f64() < 0.3 {
+                        while start.elapsed().as_secs_f64() < 0.6 {
                             for s in &sentences {
                                 black_box(parser.parse(s, &spread).expect("fits"));
                             }

@@ -7,7 +7,7 @@
 //! (`index = cell · n_sym + symbol`).
 
 use std::fmt;
-use std::sync::Arc;
+use std::sync::{Arc, Mutex};
 
 /// Sizes and cell numbering of a chart for `n` words and `n_sym` symbols.
 #[derive(Clone, Copy, Debug, PartialEq, Eq)]
@@ -68,11 +68,14 @@ pub trait Spread: Send + Sync {
     /// Runs every task exactly once, in any order, and returns when all
     /// have finished.
     fn run<'a>(&self, tasks: Vec<Task<'a>>);
-    /// The estimated work (in rule visits) of a batch of cells below which
-    /// the calling thread fills it alone: handing work to other threads
-    /// costs a few microseconds, one rule visit about a nanosecond.
+    /// The estimated work (in rule visits, [`cell_work`]) of one span
+    /// length's cells below which the calling thread fills them alone.
+    /// Handing work to other threads costs a few microseconds, and the
+    /// estimate is generous where cells hold few symbols; 4 M was the
+    /// least that never slowed the generated 300-symbol grammar down at 40
+    /// words on two cores (`cargo bench -p trellis-engine --bench parse`).
     fn min_work(&self) -> u64 {
-        1_000_000
+        4_000_000
     }
 }
 
@@ -138,10 +141,14 @@ pub(crate) fn cell_work(
 }
 
 /// Fills the cells of one span length: `fill(n, &mut outs[n], scratch)` for
-/// each, asking `watch` once per cell. With several workers, batches of
-/// cells whose estimated `work(n)` reaches [`Spread::min_work`] are spread over them
-/// (the watch is then asked for a batch's cells before it starts).
-pub(crate) fn fill_cells<T: Send, S>(
+/// each, asking `watch` once per cell. With several workers, and an
+/// estimated work (`work(n)` per cell) of at least [`Spread::min_work`] in
+/// all, every cell is a task of its own (the threads share out uneven
+/// cells best that way), the watch is asked for every cell before they
+/// start, and scratch rows are reused from a pool rather than made per
+/// cell. Cells of one length depend only on shorter ones, so any order
+/// gives the same results.
+pub(crate) fn fill_cells<T: Send, S: Send>(
     workers: &Workers,
     watch: Watch,
     outs: &mut [T],
@@ -149,41 +156,48 @@ pub(crate) fn fill_cells<T: Send, S>(
     scratch: impl Fn() -> S + Sync,
     fill: impl Fn(usize, &mut T, &mut S) + Sync,
 ) -> Result<(), Stopped> {
-    let mut own = None;
     let spread = match &workers.0 {
-        Some(s) if s.threads() > 1 => s,
-        _ => {
-            let s = own.get_or_insert_with(&scratch);
-            for (n, out) in outs.iter_mut().enumerate() {
-                watch.check()?;
-                fill(n, out, s);
-            }
-            return Ok(());
-        }
+        Some(s) if s.threads() > 1 && outs.len() > 1 => s,
+        _ => return fill_serially(watch, outs, &scratch, &fill),
     };
-    let batch = 4 * spread.threads();
-    let mut first = 0;
-    for chunk in outs.chunks_mut(batch) {
-        let total: u64 = (first..first + chunk.len()).map(&work).sum();
-        if total < spread.min_work() {
-            let s = own.get_or_insert_with(&scratch);
-            for (n, out) in chunk.iter_mut().enumerate() {
-                watch.check()?;
-                fill(first + n, out, s);
-            }
-        } else {
-            for _ in 0..chunk.len() {
-                watch.check()?;
-            }
-            let (fill, scratch) = (&fill, &scratch);
-            let tasks = chunk
-                .iter_mut()
-                .enumerate()
-                .map(|(n, out)| Box::new(move || fill(first + n, out, &mut scratch())) as Task<'_>)
-                .collect();
-            spread.run(tasks);
-        }
-        first += chunk.len();
+    let total: u64 = (0..outs.len()).map(&work).sum();
+    if total < spread.min_work() {
+        return fill_serially(watch, outs, &scratch, &fill);
+    }
+    for _ in 0..outs.len() {
+        watch.check()?;
+    }
+    let pool: Mutex<Vec<S>> = Mutex::new(Vec::new());
+    let (fill, scratch, pool) = (&fill, &scratch, &pool);
+    // A panic elsewhere cannot leave a scratch row half-made: take the pool
+    // even if poisoned.
+    let lock = || pool.lock().unwrap_or_else(|e| e.into_inner());
+    let tasks = outs
+        .iter_mut()
+        .enumerate()
+        .map(|(n, out)| {
+            Box::new(move || {
+                let mut s = lock().pop().unwrap_or_else(scratch);
+                fill(n, out, &mut s);
+                lock().push(s);
+            }) as Task<'_>
+        })
+        .collect();
+    spread.run(tasks);
+    Ok(())
+}
+
+/// [`fill_cells`] on the calling thread alone.
+fn fill_serially<T, S>(
+    watch: Watch,
+    outs: &mut [T],
+    scratch: &impl Fn() -> S,
+    fill: &impl Fn(usize, &mut T, &mut S),
+) -> Result<(), Stopped> {
+    let mut s = scratch();
+    for (n, out) in outs.iter_mut().enumerate() {
+        watch.check()?;
+        fill(n, out, &mut s);
     }
     Ok(())
 }
