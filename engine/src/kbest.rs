@@ -434,6 +434,7 @@ impl Lazy<'_> {
             item.expanded = true;
         } else {
             let (g, vit) = (self.g, self.vit);
+            let mut cands = Vec::new();
             for &r in &g.by_parent[a as usize] {
                 let rule = g.bin[r as usize];
                 let left = g.bin_left[r as usize] as usize;
@@ -452,13 +453,27 @@ impl Lazy<'_> {
                         right: rr,
                     });
                     let seq = self.next_seq();
-                    item.heap.push(Cand {
+                    cands.push(Cand {
                         score: rule.lp + sl + sr,
                         seq,
                         item: (e, 0, 0),
                     });
                 }
             }
+            // Only the k best first candidates can lead to one of the item's
+            // k best derivations (every other edge has k better ones ahead
+            // of its best), and no item is asked for more than k (Huang &
+            // Chiang 2005, §4: a k-selection before the heap).
+            if self.k > 0 && cands.len() > self.k {
+                cands.select_nth_unstable_by(self.k - 1, |x, y| y.cmp(x));
+                cands.truncate(self.k);
+                let edges = std::mem::take(&mut item.edges);
+                for (n, c) in cands.iter_mut().enumerate() {
+                    item.edges.push(edges[c.item.0 as usize]);
+                    c.item.0 = n as u32;
+                }
+            }
+            item.heap = BinaryHeap::from(cands);
         }
         let bytes = size_of::<PreItem>()
             + item.list.len() * size_of::<(f64, PreStep)>()
