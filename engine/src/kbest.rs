@@ -435,12 +435,23 @@ impl Lazy<'_> {
         } else {
             let (g, vit) = (self.g, self.vit);
             let mut cands = Vec::new();
-            for &r in &g.by_parent[a as usize] {
-                let rule = g.bin[r as usize];
-                let left = g.bin_left[r as usize] as usize;
-                for split in i + 1..j {
-                    let l = self.layout.cell(i, split) * n_sym + left;
-                    let rr = self.layout.cell(split, j) * n_sym + rule.right as usize;
+            // Split by split, so that the two cells' rows stay in cache
+            // across the item's rules; but ties are broken in the order of
+            // rules, then splits, the order in which the best-tree pass
+            // meets them (so the first of the k best is the best tree).
+            let splits = (j - i - 1) as u64;
+            let base = self.seq;
+            self.seq += g.by_parent[a as usize].len() as u64 * splits;
+            for split in i + 1..j {
+                let lrow = self.layout.cell(i, split) * n_sym;
+                let rrow = self.layout.cell(split, j) * n_sym;
+                if vit.present(lrow / n_sym).is_empty() || vit.present(rrow / n_sym).is_empty() {
+                    continue;
+                }
+                for (nth, &r) in g.by_parent[a as usize].iter().enumerate() {
+                    let rule = g.bin[r as usize];
+                    let l = lrow + g.bin_left[r as usize] as usize;
+                    let rr = rrow + rule.right as usize;
                     let (sl, sr) = (vit.score[l], vit.score[rr]);
                     if sl == f64::NEG_INFINITY || sr == f64::NEG_INFINITY {
                         continue;
@@ -452,10 +463,9 @@ impl Lazy<'_> {
                         left: l,
                         right: rr,
                     });
-                    let seq = self.next_seq();
                     cands.push(Cand {
                         score: rule.lp + sl + sr,
-                        seq,
+                        seq: base + 1 + nth as u64 * splits + (split - i - 1) as u64,
                         item: (e, 0, 0),
                     });
                 }
