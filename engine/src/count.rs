@@ -1,7 +1,7 @@
 //! Exact parse counts: integers of any size, or infinity when a unary cycle
 //! can be repeated inside a parse.
 
-use crate::chart::{kernels, Layout, Stopped, Watch};
+use crate::chart::{Layout, Stopped, Watch};
 use crate::compile::{CompiledGrammar, Visit};
 use crate::inside::FusedCounts;
 use crate::viterbi::ViterbiChart;
@@ -180,35 +180,6 @@ trait Tally: Clone {
     fn add_product_fast(&mut self, a: &Self, b: &Self, doubt: &mut bool);
     /// Whether a value needs the careful path (infinity).
     fn is_special(&self) -> bool;
-    /// `self += a`, flagging doubt as [`Tally::add_product_fast`] does.
-    fn add_fast(&mut self, a: &Self, doubt: &mut bool) {
-        self.add_product_fast(a, &Self::one(), doubt);
-    }
-    /// [`binary`] on the fast path (machine integers read each scanned
-    /// left symbol's rules once for all its split points instead).
-    #[allow(clippy::too_many_arguments)]
-    fn binary_fast(
-        g: &CompiledGrammar,
-        layout: &Layout,
-        vit: &ViterbiChart,
-        done: &[Self],
-        i: usize,
-        j: usize,
-        pre: &mut [Self],
-        scratch: &mut Scratch,
-        doubt: &mut bool,
-    ) {
-        binary::<Self, true>(g, layout, vit, done, i, j, pre, &mut scratch.rmask, doubt);
-    }
-}
-
-/// One cell's working lists for the counting pass.
-struct Scratch {
-    rmask: Vec<u64>,
-    /// Per left symbol whose rules are scanned: its split points.
-    splits: Vec<Vec<u32>>,
-    /// The symbols with split points listed.
-    touched: Vec<u32>,
 }
 
 macro_rules! machine_tally {
@@ -243,25 +214,6 @@ macro_rules! machine_tally {
             #[inline]
             fn is_special(&self) -> bool {
                 *self == <$t>::MAX
-            }
-            #[inline(always)]
-            fn add_fast(&mut self, a: &$t, doubt: &mut bool) {
-                let (v, o) = self.overflowing_add(*a);
-                *self = v;
-                *doubt |= o;
-            }
-            fn binary_fast(
-                g: &CompiledGrammar,
-                layout: &Layout,
-                vit: &ViterbiChart,
-                done: &[$t],
-                i: usize,
-                j: usize,
-                pre: &mut [$t],
-                scratch: &mut Scratch,
-                doubt: &mut bool,
-            ) {
-                binary_grouped(g, layout, vit, done, i, j, pre, scratch, doubt)
             }
             #[inline]
             fn add_product(&mut self, a: &$t, b: &$t) -> bool {
@@ -384,11 +336,7 @@ fn fill<T: Tally>(
         return Ok(Filled::Overflow(from));
     }
     let mut pre: Vec<T> = vec![T::ZERO; n_sym];
-    let mut scratch = Scratch {
-        rmask: vec![0u64; g.mask_words],
-        splits: vec![Vec::new(); n_sym],
-        touched: Vec::new(),
-    };
+    let mut rmask = vec![0u64; g.mask_words];
     for len in 1..=layout.n {
         for i in 0..=layout.n - len {
             let j = i + len;
@@ -419,8 +367,8 @@ fn fill<T: Tally>(
             } else {
                 let (done, _) = counts.split_at(c * n_sym);
                 let mut doubt = false;
-                T::binary_fast(
-                    g, &layout, vit, done, i, j, &mut pre, &mut scratch, &mut doubt,
+                binary::<T, true>(
+                    g, &layout, vit, done, i, j, &mut pre, &mut rmask, &mut doubt,
                 );
                 // Infinity or an overflow somewhere: count the cell again,
                 // carefully (rare: only grammars with unary cycles have
@@ -431,15 +379,7 @@ fn fill<T: Tally>(
                         *x = T::ZERO;
                     }
                     binary::<T, false>(
-                        g,
-                        &layout,
-                        vit,
-                        done,
-                        i,
-                        j,
-                        &mut pre,
-                        &mut scratch.rmask,
-                        &mut doubt,
+                        g, &layout, vit, done, i, j, &mut pre, &mut rmask, &mut doubt,
                     )
                 } else {
                     true
@@ -570,110 +510,6 @@ fn binary<T: Tally, const FAST: bool>(
     }
     *doubt |= d;
     ok
-}
-
-/// [`binary`]'s fast path in machine integers, with the rules of a left
-/// symbol that is best scanned read once per cell: each rule `A → b C`
-/// adds `Σₖ N(b over i..k) · N(C over k..j)` over every split point `k`
-/// where `b` is present (integer sums: the order does not matter). Sets
-/// `doubt` where a result may be wrong, as the per-split loop does.
-#[allow(clippy::too_many_arguments)]
-fn binary_grouped<T: Tally + Copy>(
-    g: &CompiledGrammar,
-    layout: &Layout,
-    vit: &ViterbiChart,
-    done: &[T],
-    i: usize,
-    j: usize,
-    pre: &mut [T],
-    scratch: &mut Scratch,
-    doubt: &mut bool,
-) {
-    let n_sym = layout.n_sym;
-    let mut d = false;
-    let Scratch {
-        rmask,
-        splits,
-        touched,
-    } = scratch;
-    for k in i + 1..j {
-        let l = layout.cell(i, k);
-        let r = layout.cell(k, j);
-        let rp = vit.present(r);
-        if rp.is_empty() {
-            continue;
-        }
-        let left = &done[l * n_sym..(l + 1) * n_sym];
-        let right = &done[r * n_sym..(r + 1) * n_sym];
-        let mut rmask_ready = false;
-        for &b in vit.present(l) {
-            let lb = &left[b as usize];
-            let base = b as usize * n_sym;
-            match g.visit(b, rp.len()) {
-                Visit::Scan => {
-                    let list = &mut splits[b as usize];
-                    if list.is_empty() {
-                        touched.push(b);
-                    }
-                    list.push(k as u32);
-                }
-                Visit::Pairs(table) => {
-                    for &c in rp {
-                        let (s, e) = (
-                            table[base + c as usize] as usize,
-                            table[base + c as usize + 1] as usize,
-                        );
-                        let rc = &right[c as usize];
-                        for rule in &g.bin[s..e] {
-                            pre[rule.parent as usize].add_product_fast(lb, rc, &mut d);
-                        }
-                    }
-                }
-                Visit::Mask(table, bmask) => {
-                    if !rmask_ready {
-                        kernels::fill_mask(rmask, rp);
-                        rmask_ready = true;
-                    }
-                    for (w, (&bm, &rm)) in bmask.iter().zip(rmask.iter()).enumerate() {
-                        let mut m = bm & rm;
-                        while m != 0 {
-                            let c = w * 64 + m.trailing_zeros() as usize;
-                            m &= m - 1;
-                            let (s, e) = (table[base + c] as usize, table[base + c + 1] as usize);
-                            let rc = &right[c];
-                            for rule in &g.bin[s..e] {
-                                pre[rule.parent as usize].add_product_fast(lb, rc, &mut d);
-                            }
-                        }
-                    }
-                }
-            }
-        }
-    }
-    // The left counts and right rows of each listed split, then one pass
-    // over the rules.
-    let mut at: Vec<(T, &[T])> = Vec::with_capacity(j - i);
-    for &b in touched.iter() {
-        at.clear();
-        for &k in &splits[b as usize] {
-            let (l, r) = (layout.cell(i, k as usize), layout.cell(k as usize, j));
-            at.push((
-                done[l * n_sym + b as usize],
-                &done[r * n_sym..(r + 1) * n_sym],
-            ));
-        }
-        splits[b as usize].clear();
-        for rule in &g.bin[g.binary_rule_range(b)] {
-            let r = rule.right as usize;
-            let mut sum = T::ZERO;
-            for (lb, right) in &at {
-                sum.add_product_fast(lb, &right[r], &mut d);
-            }
-            pre[rule.parent as usize].add_fast(&sum, &mut d);
-        }
-    }
-    touched.clear();
-    *doubt |= d;
 }
 
 #[cfg(test)]
