@@ -140,65 +140,84 @@ pub(crate) fn cell_work(
         .sum()
 }
 
+/// Scratch rows a chart pass reuses from cell to cell and from one span
+/// length to the next (each is left clean by the cell that used it).
+pub(crate) struct Scratches<S>(Mutex<Vec<S>>);
+
+impl<S> Scratches<S> {
+    pub fn new() -> Scratches<S> {
+        Scratches(Mutex::new(Vec::new()))
+    }
+
+    /// A scratch from the pool, or a new one from `make`.
+    fn take(&self, make: &impl Fn() -> S) -> S {
+        self.lock().pop().unwrap_or_else(make)
+    }
+
+    fn give_back(&self, s: S) {
+        self.lock().push(s);
+    }
+
+    /// A panic elsewhere cannot leave a scratch half-made: the pool is
+    /// taken even if poisoned.
+    fn lock(&self) -> std::sync::MutexGuard<'_, Vec<S>> {
+        self.0.lock().unwrap_or_else(|e| e.into_inner())
+    }
+}
+
 /// Fills the cells of one span length: `fill(n, &mut outs[n], scratch)` for
 /// each, asking `watch` once per cell. With several workers, and an
 /// estimated work (`work(n)` per cell) of at least [`Spread::min_work`] in
 /// all, every cell is a task of its own (the threads share out uneven
-/// cells best that way), the watch is asked for every cell before they
-/// start, and scratch rows are reused from a pool rather than made per
-/// cell. Cells of one length depend only on shorter ones, so any order
+/// cells best that way) and the watch is asked for every cell before they
+/// start. Scratch rows come from `scratches` (made by `make` when none is
+/// free). Cells of one length depend only on shorter ones, so any order
 /// gives the same results.
 pub(crate) fn fill_cells<T: Send, S: Send>(
     workers: &Workers,
     watch: Watch,
     outs: &mut [T],
     work: impl Fn(usize) -> u64,
-    scratch: impl Fn() -> S + Sync,
+    scratches: &Scratches<S>,
+    make: impl Fn() -> S + Sync,
     fill: impl Fn(usize, &mut T, &mut S) + Sync,
 ) -> Result<(), Stopped> {
+    let serial = |outs: &mut [T]| {
+        let mut s = scratches.take(&make);
+        for (n, out) in outs.iter_mut().enumerate() {
+            if let Err(stopped) = watch.check() {
+                scratches.give_back(s);
+                return Err(stopped);
+            }
+            fill(n, out, &mut s);
+        }
+        scratches.give_back(s);
+        Ok(())
+    };
     let spread = match &workers.0 {
         Some(s) if s.threads() > 1 && outs.len() > 1 => s,
-        _ => return fill_serially(watch, outs, &scratch, &fill),
+        _ => return serial(outs),
     };
     let total: u64 = (0..outs.len()).map(&work).sum();
     if total < spread.min_work() {
-        return fill_serially(watch, outs, &scratch, &fill);
+        return serial(outs);
     }
     for _ in 0..outs.len() {
         watch.check()?;
     }
-    let pool: Mutex<Vec<S>> = Mutex::new(Vec::new());
-    let (fill, scratch, pool) = (&fill, &scratch, &pool);
-    // A panic elsewhere cannot leave a scratch row half-made: take the pool
-    // even if poisoned.
-    let lock = || pool.lock().unwrap_or_else(|e| e.into_inner());
+    let (fill, make) = (&fill, &make);
     let tasks = outs
         .iter_mut()
         .enumerate()
         .map(|(n, out)| {
             Box::new(move || {
-                let mut s = lock().pop().unwrap_or_else(scratch);
+                let mut s = scratches.take(make);
                 fill(n, out, &mut s);
-                lock().push(s);
+                scratches.give_back(s);
             }) as Task<'_>
         })
         .collect();
     spread.run(tasks);
-    Ok(())
-}
-
-/// [`fill_cells`] on the calling thread alone.
-fn fill_serially<T, S>(
-    watch: Watch,
-    outs: &mut [T],
-    scratch: &impl Fn() -> S,
-    fill: &impl Fn(usize, &mut T, &mut S),
-) -> Result<(), Stopped> {
-    let mut s = scratch();
-    for (n, out) in outs.iter_mut().enumerate() {
-        watch.check()?;
-        fill(n, out, &mut s);
-    }
     Ok(())
 }
 
@@ -210,9 +229,12 @@ pub(crate) struct Groups<V> {
     pub split: Vec<[u32; 4]>,
     /// How many splits are queued per symbol (0 to 4).
     pub count: Vec<u8>,
-    /// The symbols queued since the last [`Groups::clear`] (a symbol may
-    /// appear more than once: every time its queue restarts).
+    /// The symbols queued since the cell began (a symbol may appear more
+    /// than once: every time its queue restarts).
     pub touched: Vec<u32>,
+    /// The right cell (by number) of each split point of the cell so far;
+    /// `split` indexes this.
+    pub cells: Vec<u32>,
 }
 
 impl<V: Copy + Default> Groups<V> {
@@ -222,6 +244,7 @@ impl<V: Copy + Default> Groups<V> {
             split: vec![[0; 4]; n_sym],
             count: vec![0; n_sym],
             touched: Vec::new(),
+            cells: Vec::new(),
         }
     }
 
@@ -509,6 +532,31 @@ pub(crate) mod kernels {
                         *slot = slot.add(lbc.weighted(rule.p));
                     }
                 }
+            }
+        }
+    }
+
+    /// Appends to `out`, in increasing order, the symbols whose score in
+    /// `row` is above `-inf`: eight at a time, so that rows with few
+    /// symbols present cost little more than one comparison per eight.
+    #[inline]
+    pub fn push_present(row: &[f64], out: &mut Vec<u32>) {
+        let mut chunks = row.chunks_exact(8);
+        let mut base = 0u32;
+        for chunk in &mut chunks {
+            let mut m = 0u32;
+            for (t, &v) in chunk.iter().enumerate() {
+                m |= u32::from(v > f64::NEG_INFINITY) << t;
+            }
+            while m != 0 {
+                out.push(base + m.trailing_zeros());
+                m &= m - 1;
+            }
+            base += 8;
+        }
+        for (t, &v) in chunks.remainder().iter().enumerate() {
+            if v > f64::NEG_INFINITY {
+                out.push(base + t as u32);
             }
         }
     }

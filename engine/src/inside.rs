@@ -10,7 +10,9 @@
 //! combined with exact log-sum-exp instead. Both paths meet in log space.
 
 use crate::chart::kernels::{self, Counted, Lane};
-use crate::chart::{cell_work, fill_cells, log_add, Groups, Layout, Stopped, Watch, Workers};
+use crate::chart::{
+    cell_work, fill_cells, log_add, Groups, Layout, Scratches, Stopped, Watch, Workers,
+};
 use crate::compile::{CompiledGrammar, Visit};
 use crate::viterbi::ViterbiChart;
 
@@ -171,6 +173,7 @@ impl Item for Counted {
 /// than [`RANGE`], and whether a count of it reached 2⁵³ (and was capped).
 struct State<L> {
     layout: Layout,
+    scratches: Scratches<Scratch<L>>,
     log: Vec<f64>,
     lin: Vec<L>,
     max: Vec<f64>,
@@ -183,6 +186,7 @@ impl<L: Item> State<L> {
         let (cells, items) = (layout.cells(), layout.cells() * layout.n_sym);
         State {
             layout,
+            scratches: Scratches::new(),
             log: vec![f64::NEG_INFINITY; items],
             lin: vec![L::default(); items],
             max: vec![f64::NEG_INFINITY; cells],
@@ -261,6 +265,7 @@ impl Pass<'_> {
             self.watch,
             &mut outs,
             work,
+            &state.scratches,
             || Scratch {
                 acc: vec![L::default(); n_sym],
                 acc_log: vec![f64::NEG_INFINITY; n_sym],
@@ -309,17 +314,22 @@ struct Scratch<L> {
 }
 
 /// Scans the rules of `b` once for the splits queued in `groups` (and
-/// empties its queue): `acc[A] += p · Σ lb · right[C]` over them.
+/// empties its queue): `acc[A] += p · Σ lb · right[C]` over them, the
+/// right rows read from the scaled chart `lin`.
 fn scan_group<L: Item>(
     g: &CompiledGrammar,
     groups: &mut Groups<L>,
-    rights: &[&[L]],
+    lin: &[L],
+    n_sym: usize,
     b: u32,
     acc: &mut [L],
 ) {
     let rules = &g.bin_lin[g.binary_rule_range(b)];
     let (lb, at) = (groups.lb[b as usize], groups.split[b as usize]);
-    let row = |t: usize| rights[at[t] as usize];
+    let row = |t: usize| {
+        let c = groups.cells[at[t] as usize] as usize;
+        &lin[c * n_sym..(c + 1) * n_sym]
+    };
     match groups.count[b as usize] {
         1 => kernels::sum_scan(rules, lb[0], row(0), acc),
         2 => kernels::sum_scan_n(rules, [lb[0], lb[1]], [row(0), row(1)], acc),
@@ -353,8 +363,13 @@ fn fill_cell<L: Item>(
         groups,
     } = scratch;
     let c = layout.cell(i, j);
-    acc.fill(L::default());
-    acc_log.fill(f64::NEG_INFINITY);
+    // Without a beam, every symbol with a share is present in the cell, and
+    // the rows are reset over those at the end; a beam's dropped symbols
+    // may have a share too, so under one they are reset in full.
+    if vit.pruned {
+        acc.fill(L::default());
+        acc_log.fill(f64::NEG_INFINITY);
+    }
     let mut scale = f64::NEG_INFINITY;
     if j - i == 1 {
         if let Some(entries) = g.lexicon.get(words[i]) {
@@ -371,8 +386,6 @@ fn fill_cell<L: Item>(
             let s = done.max[layout.cell(i, k)] + done.max[layout.cell(k, j)];
             scale = scale.max(s);
         }
-        // The right rows of the scaled splits so far, for grouped scans.
-        let mut rights: Vec<&[L]> = Vec::with_capacity(j - i);
         for k in i + 1..j {
             let l = layout.cell(i, k);
             let r = layout.cell(k, j);
@@ -386,8 +399,8 @@ fn fill_cell<L: Item>(
             if scaled {
                 let f = (s - scale).exp();
                 let rp = vit.present(r);
-                let at = rights.len() as u32;
-                rights.push(right);
+                let at = groups.cells.len() as u32;
+                groups.cells.push(r as u32);
                 let mut rmask_ready = false;
                 for &b in vit.present(l) {
                     let lb = left[b as usize].weighted(f);
@@ -395,7 +408,7 @@ fn fill_cell<L: Item>(
                     match g.visit(b, rp.len()) {
                         Visit::Scan => {
                             if groups.push(b, lb, at) {
-                                scan_group(g, groups, &rights, b, acc);
+                                scan_group(g, groups, done.lin, n_sym, b, acc);
                             }
                         }
                         Visit::Pairs(table) => {
@@ -432,9 +445,10 @@ fn fill_cell<L: Item>(
         }
         for t in 0..groups.touched.len() {
             let b = groups.touched[t];
-            scan_group(g, groups, &rights, b, acc);
+            scan_group(g, groups, done.lin, n_sym, b, acc);
         }
         groups.touched.clear();
+        groups.cells.clear();
     }
     // Pre-closure values in log space.
     for &s in vit.present(c) {
@@ -520,5 +534,7 @@ fn fill_cell<L: Item>(
             }
         }
         out.lin[s as usize] = L::new(d.exp(), n);
+        acc[s as usize] = L::default();
+        acc_log[s as usize] = f64::NEG_INFINITY;
     }
 }

@@ -8,7 +8,9 @@
 //! the inner loop to one add, one add and one compare per rule.
 
 use crate::beam::Beam;
-use crate::chart::{cell_work, fill_cells, kernels, Groups, Layout, Stopped, Watch, Workers};
+use crate::chart::{
+    cell_work, fill_cells, kernels, Groups, Layout, Scratches, Stopped, Watch, Workers,
+};
 use crate::compile::{CompiledGrammar, Origin, Visit};
 
 /// A derivation in the compiled grammar.
@@ -69,6 +71,7 @@ pub(crate) fn fill(
     let mut present: Vec<u32> = Vec::new();
     let rules_per_left = (g.bin.len() / n_sym.max(1)).max(1) as u64;
     let mut pruned = false;
+    let scratches = Scratches::new();
     for len in 1..=layout.n {
         let first = layout.cell(0, len);
         let count = layout.n - len + 1;
@@ -91,6 +94,7 @@ pub(crate) fn fill(
             watch,
             &mut outs,
             work,
+            &scratches,
             || Scratch {
                 pre: vec![f64::NEG_INFINITY; n_sym],
                 rmask: vec![0u64; g.mask_words],
@@ -225,11 +229,17 @@ fn fill_cell(
     } = scratch;
     // Without unary rules or a beam, the scores before the closure are the
     // final ones: they go straight into the row (still all `-inf`).
-    let direct = g.unary_children.is_empty() && keep.is_empty();
+    // Otherwise `pre` takes them: all `-inf` on entry without a beam (reset
+    // below, symbol by symbol), refilled here under one (the beam reads it
+    // after the cell).
+    let beam = !keep.is_empty();
+    let direct = g.unary_children.is_empty() && !beam;
     let target: &mut [f64] = if direct {
         row
     } else {
-        pre.fill(f64::NEG_INFINITY);
+        if beam {
+            pre.fill(f64::NEG_INFINITY);
+        }
         pre
     };
     if j - i == 1 {
@@ -262,9 +272,11 @@ fn fill_cell(
         }
         row
     };
-    for (s, &v) in row.iter().enumerate() {
-        if v > f64::NEG_INFINITY {
-            out.push(s as u32);
+    kernels::push_present(row, out);
+    if !direct && !beam {
+        // Every symbol with a score before the closure has one after it.
+        for &s in out.iter() {
+            pre[s as usize] = f64::NEG_INFINITY;
         }
     }
 }
@@ -352,11 +364,10 @@ fn fill_grouped(
     groups: &mut Groups<f64>,
 ) {
     let layout = done.layout;
-    let mut rights: Vec<&[f64]> = Vec::with_capacity(j - i);
-    let scan = |groups: &Groups<f64>, rights: &[&[f64]], b: u32, pre: &mut [f64]| {
+    let scan = |groups: &Groups<f64>, b: u32, pre: &mut [f64]| {
         let rules = &g.bin[g.binary_rule_range(b)];
         let (lb, at) = (groups.lb[b as usize], groups.split[b as usize]);
-        let row = |t: usize| rights[at[t] as usize];
+        let row = |t: usize| done.row(groups.cells[at[t] as usize] as usize);
         match groups.count[b as usize] {
             1 => kernels::max_scan(rules, lb[0], row(0), pre),
             2 => kernels::max_scan_n(rules, [lb[0], lb[1]], [row(0), row(1)], pre),
@@ -373,14 +384,14 @@ fn fill_grouped(
             continue;
         }
         let (left, right) = (done.row(l), done.row(r));
-        let s = rights.len() as u32;
-        rights.push(right);
+        let s = groups.cells.len() as u32;
+        groups.cells.push(r as u32);
         let mut rmask_ready = false;
         for &b in done.present(l) {
             let lb = left[b as usize];
             if matches!(g.visit(b, rp.len()), Visit::Scan) {
                 if groups.push(b, lb, s) {
-                    scan(groups, &rights, b, pre);
+                    scan(groups, b, pre);
                     groups.count[b as usize] = 0;
                 }
             } else {
@@ -390,10 +401,11 @@ fn fill_grouped(
     }
     for t in 0..groups.touched.len() {
         let b = groups.touched[t];
-        scan(groups, &rights, b, pre);
+        scan(groups, b, pre);
         groups.count[b as usize] = 0;
     }
     groups.touched.clear();
+    groups.cells.clear();
 }
 
 /// The best score of `sym` over `i..j` before the unary closure, with its
