@@ -2,9 +2,10 @@
 //! generated grammar of `parse.rs` (300 non-terminals, 30,000 binary rules,
 //! a 2,000-word lexicon; `support::generated_grammar`) at 40 words.
 //!
-//! Prints, on the thread's CPU time, the overhead ratios the engine is held
-//! to: (Viterbi + inside + count) / (Viterbi + inside), and
-//! (k-best with k = 10) / (best tree only, k = 1), both without counting;
+//! Prints, on the thread's CPU time (least of five interleaved rounds),
+//! the overhead ratios the engine is held to: (Viterbi + inside + count) /
+//! (Viterbi + inside), and (k-best with k = 10) / (best tree only, k = 1),
+//! both without counting;
 //! and the bytes of k-best state one sentence needs at k = 10. Criterion
 //! then times each configuration.
 
@@ -15,8 +16,9 @@ mod support;
 
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
 use std::hint::black_box;
-use support::{cpu_time_ns, generated_grammar, sentences};
+use support::{generated_grammar, sentences};
 use trellis_engine::parser::{ParseOptions, Parser};
+use trellis_test_support::bench::least_cpu_times;
 
 fn options(kbest: usize, count_parses: bool) -> ParseOptions {
     ParseOptions {
@@ -41,17 +43,19 @@ fn bench_with(c: &mut Criterion, ambiguity: usize, name: &str) {
             black_box(parser.parse(black_box(s), o).expect("fits"));
         }
     };
-    // Warm up once, then take the best of three CPU-time runs of each.
+    // Warm up once, then the least CPU time of five interleaved rounds of
+    // at least 0.2 s each.
     for (_, o) in &configurations {
         run(o);
     }
-    let times: Vec<Option<f64>> = configurations
+    let calls: Vec<Box<dyn Fn()>> = configurations
         .iter()
-        .map(|(_, o)| {
-            (0..3)
-                .filter_map(|_| cpu_time_ns(|| run(o)))
-                .min_by(f64::total_cmp)
-        })
+        .map(|(_, o)| Box::new(move || run(o)) as Box<dyn Fn()>)
+        .collect();
+    let refs: Vec<&dyn Fn()> = calls.iter().map(|f| f.as_ref()).collect();
+    let times: Vec<Option<f64>> = least_cpu_times(5, 2e8, &refs)
+        .into_iter()
+        .map(|t| t.is_finite().then_some(t))
         .collect();
     if let [Some(base), Some(count), Some(kbest)] = times[..] {
         let per = |ns: f64| ns / 1e6 / sentences.len() as f64;

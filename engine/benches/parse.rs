@@ -28,10 +28,12 @@ use grammar_lang::model::{Grammar, NtId, Sym};
 use grammar_lang::MemoryLoader;
 use std::hint::black_box;
 use std::path::Path;
-use support::{cpu_time_ns, generated_grammar, Rng, WORDS};
+use support::{generated_grammar, Rng, WORDS};
 use trellis_engine::parser::{
     Beam, ParseOptions, Parser, Spread, Task, Workers, DEFAULT_MAX_CHART_BYTES,
 };
+use trellis_test_support::bench::{cpu_time_ns, least_cpu_times};
+use trellis_test_support::dense_cky::DenseCky;
 
 fn bench_generated(c: &mut Criterion) {
     for ambiguity in [0, 4] {
@@ -136,116 +138,6 @@ fn bench_generated_with(c: &mut Criterion, ambiguity: usize, name: &str) {
     group.finish();
 }
 
-/// The straightforward CKY the issue measures against: a dense chart of
-/// `f64` scores, binary rules indexed by left child, loops over split
-/// points, present left symbols and that symbol's rules, then the unary
-/// rules relaxed to a fixed point. `max` picks Viterbi in log space,
-/// otherwise inside sums in linear space. Returns the root's value.
-struct Baseline {
-    n_sym: usize,
-    by_left: Vec<Vec<(usize, usize, f64)>>,
-    unary: Vec<(usize, usize, f64)>,
-    /// Rule weights are stored once for each mode: log-probabilities for
-    /// Viterbi, probabilities for inside.
-    max: bool,
-    lex: std::collections::HashMap<String, Vec<(usize, f64)>>,
-    start: usize,
-}
-
-impl Baseline {
-    fn new(g: &Grammar, max: bool) -> Baseline {
-        let n_sym = g.nonterminals.len();
-        let mut b = Baseline {
-            n_sym,
-            by_left: vec![Vec::new(); n_sym],
-            unary: Vec::new(),
-            max,
-            lex: Default::default(),
-            start: g.start.expect("start").0 as usize,
-        };
-        for rule in &g.rules {
-            let a = rule.lhs.0 as usize;
-            let p = if max { rule.p.ln() } else { rule.p };
-            match rule.rhs[..] {
-                [Sym::N(l), Sym::N(r)] => b.by_left[l.0 as usize].push((r.0 as usize, a, p)),
-                [Sym::N(c)] => b.unary.push((c.0 as usize, a, p)),
-                [Sym::T(t)] => b
-                    .lex
-                    .entry(g.term_text(t).to_string())
-                    .or_default()
-                    .push((a, p)),
-                _ => panic!("the baseline reads binary, unary and lexical rules only"),
-            }
-        }
-        b
-    }
-
-    #[allow(clippy::needless_range_loop)] // cells are addressed by (i, j)
-    fn parse(&self, words: &[String]) -> f64 {
-        let max = self.max;
-        let (n, m) = (words.len(), self.n_sym);
-        let zero = if max { f64::NEG_INFINITY } else { 0.0 };
-        let mut chart = vec![zero; (n + 1) * (n + 1) * m];
-        let at = |i: usize, j: usize| (i * (n + 1) + j) * m;
-        for len in 1..=n {
-            for i in 0..=n - len {
-                let (j, c) = (i + len, at(i, i + len));
-                for &(a, p) in self
-                    .lex
-                    .get(&words[i])
-                    .filter(|_| len == 1)
-                    .into_iter()
-                    .flatten()
-                {
-                    chart[c + a] = if max {
-                        chart[c + a].max(p)
-                    } else {
-                        chart[c + a] + p
-                    };
-                }
-                for k in i + 1..j {
-                    let (l, r) = (at(i, k), at(k, j));
-                    for b in 0..m {
-                        let lb = chart[l + b];
-                        if lb == zero {
-                            continue;
-                        }
-                        for &(rc, a, p) in &self.by_left[b] {
-                            let rv = chart[r + rc];
-                            if rv == zero {
-                                continue;
-                            }
-                            chart[c + a] = if max {
-                                chart[c + a].max(p + lb + rv)
-                            } else {
-                                chart[c + a] + p * lb * rv
-                            };
-                        }
-                    }
-                }
-                for _ in 0..m {
-                    let mut changed = false;
-                    for &(b, a, p) in &self.unary {
-                        let v = if max {
-                            p + chart[c + b]
-                        } else {
-                            p * chart[c + b]
-                        };
-                        if v > chart[c + a] {
-                            chart[c + a] = v;
-                            changed = true;
-                        }
-                    }
-                    if !changed || !max {
-                        break;
-                    }
-                }
-            }
-        }
-        chart[at(0, n) + self.start]
-    }
-}
-
 /// Up to four random `len`-word strings of the generated lexicon that the
 /// grammar parses (a string it does not parse skips the inside pass), drawn
 /// from `seed`.
@@ -269,11 +161,11 @@ fn parsable_sentences(parser: &Parser, seed: u64, len: usize) -> Vec<Vec<String>
 }
 
 /// Prints the time of the Viterbi pass (best tree) and of the inside pass
-/// (a parse without count, less the best tree) against [`Baseline`] on the
+/// (a parse without count, less the best tree) against [`DenseCky`] on the
 /// same sentences, in thread CPU time, and the chart bytes per sentence.
 fn report_against_baseline(g: &Grammar, ambiguity: usize, len: usize) {
     let parser = Parser::new(g).expect("the generated grammar compiles");
-    let (base_max, base_sum) = (Baseline::new(g, true), Baseline::new(g, false));
+    let (base_max, base_sum) = (DenseCky::new(g, true), DenseCky::new(g, false));
     let sentences = parsable_sentences(&parser, len as u64, len);
     let options = ParseOptions {
         kbest: 1,
@@ -284,39 +176,40 @@ fn report_against_baseline(g: &Grammar, ambiguity: usize, len: usize) {
     // The machine is shared: the thread's CPU time, rounds of the four
     // measurements interleaved (so that a busy moment weighs on all of
     // them), the least of five rounds of at least 0.1 s each (the CPU
-    // clock may tick coarsely).
-    let once = |f: &dyn Fn(&Vec<String>)| {
-        let (mut spent, mut runs) = (0.0, 0usize);
-        while spent < 1e8 {
-            spent += cpu_time_ns(|| sentences.iter().for_each(f)).unwrap_or(f64::NAN);
-            runs += sentences.len();
-            if spent.is_nan() {
-                break;
-            }
-        }
-        spent / runs as f64
+    // clock may tick coarsely); per sentence.
+    let each = |f: &dyn Fn(&Vec<String>)| sentences.iter().for_each(f);
+    let least: Vec<f64> = least_cpu_times(
+        5,
+        1e8,
+        &[
+            &|| {
+                each(&|s| {
+                    black_box(base_max.parse(s));
+                })
+            },
+            &|| {
+                each(&|s| {
+                    black_box(base_sum.parse(s));
+                })
+            },
+            &|| {
+                each(&|s| {
+                    black_box(parser.best_tree(s, DEFAULT_MAX_CHART_BYTES).expect("fits"));
+                })
+            },
+            &|| {
+                each(&|s| {
+                    black_box(parser.parse(s, &options).expect("fits"));
+                })
+            },
+        ],
+    )
+    .into_iter()
+    .map(|t| t / sentences.len() as f64)
+    .collect();
+    let [base_vit, base_ins, vit, full] = least[..] else {
+        return;
     };
-    let mut least = [f64::INFINITY; 4];
-    for _ in 0..5 {
-        let round = [
-            once(&|s| {
-                black_box(base_max.parse(s));
-            }),
-            once(&|s| {
-                black_box(base_sum.parse(s));
-            }),
-            once(&|s| {
-                black_box(parser.best_tree(s, DEFAULT_MAX_CHART_BYTES).expect("fits"));
-            }),
-            once(&|s| {
-                black_box(parser.parse(s, &options).expect("fits"));
-            }),
-        ];
-        for (l, t) in least.iter_mut().zip(round) {
-            *l = l.min(t);
-        }
-    }
-    let [base_vit, base_ins, vit, full] = least;
     let ins = full - vit;
     eprintln!(
         "baseline ratio, ambiguity {ambiguity}, {len} words: Viterbi {:.2}× ({:.2} vs {:.2} ms), inside {:.2}× ({:.2} vs {:.2} ms); chart {:.1} MiB per sentence",

@@ -13,7 +13,11 @@
 //! * [`grammars`] — the small grammars (with their sources and hand-worked
 //!   numbers) that more than one suite uses, and the rule-list writer.
 //! * [`stats`] — the statistics the sampling tests are judged by.
+//! * [`bench`] and [`dense_cky`] — the benchmarks' CPU clock, and the
+//!   plain dense CKY the engine's speed is measured against.
 
+pub mod bench;
+pub mod dense_cky;
 pub mod fixture;
 pub mod grammars;
 pub mod stats;

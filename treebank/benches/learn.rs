@@ -11,6 +11,7 @@
 
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
 use std::fmt::Write;
+use trellis_test_support::bench::cpu_time_ns;
 use trellis_treebank::learn::{Counts, LearnOptions};
 use trellis_treebank::{binarize, clean, Cleaning, Markov, TreeReader};
 
@@ -87,18 +88,6 @@ fn bench(c: &mut Criterion) {
     group.throughput(Throughput::Elements(40_000));
     group.bench_function("40k trees of 25 words, h=2 v=2", |b| b.iter(|| learn(true)));
     group.finish();
-}
-
-/// CPU time of this thread while running `f`, in nanoseconds (Linux
-/// `/proc/thread-self/schedstat`; `None` elsewhere).
-fn cpu_time_ns(f: impl FnOnce()) -> Option<f64> {
-    let read = || -> Option<f64> {
-        let text = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
-        text.split_whitespace().next()?.parse().ok()
-    };
-    let before = read()?;
-    f();
-    Some(read()? - before)
 }
 
 criterion_group!(benches, bench);

@@ -33,6 +33,8 @@ use std::hint::black_box;
 use trellis_engine::parser::{ParseOptions, Parser, DEFAULT_MAX_CHART_BYTES};
 use trellis_engine::rng::SplitMix64;
 use trellis_engine::sample::Sampler;
+use trellis_test_support::bench::{cpu_time_ns, least_cpu_times};
+use trellis_test_support::dense_cky::DenseCky;
 use trellis_treebank::learn::{Counts, LearnOptions};
 use trellis_treebank::Markov;
 
@@ -329,6 +331,66 @@ fn bench(c: &mut Criterion) {
             SENTENCES as f64 / ns * 1e9
         );
     }
+    // Against the plain dense CKY (as in the engine's parse benchmark), on
+    // sentences whose words the learned lexicon has (the dense CKY knows
+    // no unseen-word classes): thread CPU time, least of five interleaved
+    // rounds of at least 0.1 s.
+    let known: Vec<Vec<String>> = std::iter::repeat_with(|| {
+        sampler
+            .words(&mut rng, start, 10_000)
+            .expect("a sentence")
+            .iter()
+            .map(|w| w.to_string())
+            .collect::<Vec<String>>()
+    })
+    .filter(|s| s.len() == SENTENCE_WORDS && parser.unseen_words(s).is_empty())
+    .take(SENTENCES)
+    .collect();
+    let (dense_max, dense_sum) = (
+        DenseCky::new(&learned.grammar, true),
+        DenseCky::new(&learned.grammar, false),
+    );
+    let each = |f: &dyn Fn(&Vec<String>)| known.iter().for_each(f);
+    let least = least_cpu_times(
+        5,
+        1e8,
+        &[
+            &|| {
+                each(&|s| {
+                    black_box(dense_max.parse(s));
+                })
+            },
+            &|| {
+                each(&|s| {
+                    black_box(dense_sum.parse(s));
+                })
+            },
+            &|| {
+                each(&|s| {
+                    black_box(parser.best_tree(s, DEFAULT_MAX_CHART_BYTES).expect("fits"));
+                })
+            },
+            &|| {
+                each(&|s| {
+                    black_box(parser.parse(s, &options).expect("fits"));
+                })
+            },
+        ],
+    );
+    if let [base_vit, base_ins, vit, full] = least[..] {
+        let per = |ns: f64| ns / 1e6 / known.len() as f64;
+        eprintln!(
+            "{name}: baseline ratio, {} sentences of known words: Viterbi {:.2}× ({:.3} vs {:.3} \
+             ms), inside {:.2}× ({:.3} vs {:.3} ms)",
+            known.len(),
+            base_vit / vit,
+            per(vit),
+            per(base_vit),
+            base_ins / (full - vit),
+            per(full - vit),
+            per(base_ins)
+        );
+    }
     let mut group = c.benchmark_group(name);
     group.sample_size(10);
     for threads in [1, 2] {
@@ -373,18 +435,6 @@ fn bench(c: &mut Criterion) {
         });
     }
     group.finish();
-}
-
-/// CPU time of this thread while running `f`, in nanoseconds (Linux
-/// `/proc/thread-self/schedstat`; `None` elsewhere).
-fn cpu_time_ns(f: impl FnOnce()) -> Option<f64> {
-    let read = || -> Option<f64> {
-        let text = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
-        text.split_whitespace().next()?.parse().ok()
-    };
-    let before = read()?;
-    f();
-    Some(read()? - before)
 }
 
 criterion_group!(benches, bench);

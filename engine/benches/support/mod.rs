@@ -99,16 +99,3 @@ pub fn sentences(seed: u64, count: usize, len: usize) -> Vec<Vec<String>> {
         .map(|_| (0..len).map(|_| format!("w{}", rng.below(WORDS))).collect())
         .collect()
 }
-
-/// CPU time of this thread while running `f`, in nanoseconds (Linux
-/// `/proc/thread-self/schedstat`; `None` elsewhere). The machine is shared,
-/// so this is steadier than wall-clock time.
-pub fn cpu_time_ns(f: impl FnOnce()) -> Option<f64> {
-    let read = || -> Option<f64> {
-        let text = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
-        text.split_whitespace().next()?.parse().ok()
-    };
-    let before = read()?;
-    f();
-    Some(read()? - before)
-}
