@@ -72,13 +72,15 @@ pub(crate) fn fill(
     let rules_per_left = (g.bin.len() / n_sym.max(1)).max(1) as u64;
     let mut pruned = false;
     let scratches = Scratches::new();
+    // Each cell's list of present symbols, reused from length to length.
+    let mut lists: Vec<Vec<u32>> = Vec::new();
     for len in 1..=layout.n {
         let first = layout.cell(0, len);
         let count = layout.n - len + 1;
         let (done, rest) = score.split_at_mut(first * n_sym);
         let mut outs: Vec<(&mut [f64], Vec<u32>, bool)> = rest[..count * n_sym]
             .chunks_mut(n_sym)
-            .map(|row| (row, Vec::new(), false))
+            .map(|row| (row, lists.pop().unwrap_or_default(), false))
             .collect();
         // The whole sentence's cell is never pruned.
         let beam = beam.filter(|_| len < layout.n);
@@ -113,10 +115,12 @@ pub(crate) fn fill(
                 }
             },
         )?;
-        for (_, out, dropped) in outs {
+        for (_, mut out, dropped) in outs {
             present.extend_from_slice(&out);
             present_start.push(present.len() as u32);
             pruned |= dropped;
+            out.clear();
+            lists.push(out);
         }
     }
     Ok(ViterbiChart {
