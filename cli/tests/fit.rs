@@ -107,6 +107,12 @@ fn maximum_likelihood_weights_replace_only_the_weight_tokens() {
     // goes to standard output.
     assert_eq!(read(dir.path(), "logbook.trellis"), LOGBOOK);
     assert_stderr_has(&run, "fitted 4 blocks to 4 trees (smoothing none)");
+    // The one block that turns to fractions gets its reason in full.
+    assert_stderr_has(
+        &run,
+        "note: `Lamp` takes exact fractions: decimals cannot be exact here: 1/3 has no finite \
+         decimal expansion\n",
+    );
     // Zero weights are reported, and the test case they break.
     assert!(
         run.stderr
@@ -127,6 +133,28 @@ fn add_one_smoothing_gives_unseen_rules_a_share() {
     );
     assert!(run.stdout.is_empty());
     assert_stderr_has(&run, "wrote fitted.trellis");
+    // Entry, Lamp and Weather turn to fractions (below): one note names
+    // them all, and JSON gives each block's reason.
+    assert_eq!(run.stderr.matches("note:").count(), 1, "{}", run.stderr);
+    assert_stderr_has(
+        &run,
+        "note: 3 blocks take exact fractions, since some of their new weights have no finite \
+         decimal expansion: `Entry`, `Lamp`, `Weather` (`--format json` gives each block's \
+         reason)\n",
+    );
+    let json = fit_watches(
+        dir.path(),
+        &["--smoothing", "add-1", "--dry-run", "--format", "json"],
+    );
+    let doc: Value = serde_json::from_str(json.stdout.trim()).unwrap();
+    assert_eq!(
+        doc["fallbacks"],
+        serde_json::json!([
+            {"block": "Entry", "reason": "decimals cannot be exact here: 2/3 has no finite decimal expansion"},
+            {"block": "Lamp", "reason": "decimals cannot be exact here: 1/3 has no finite decimal expansion"},
+            {"block": "Weather", "reason": "percentages cannot be exact here: 2/3 has no finite decimal expansion"},
+        ])
+    );
     let fitted = read(dir.path(), "fitted.trellis");
     // Add-1 (Laplace's rule of succession), (count + 1) / (total + n):
     //   Entry: (3+1)/(4+2) = 4/6 = 2/3, (1+1)/(4+2) = 1/3 — no finite
