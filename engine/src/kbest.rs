@@ -434,12 +434,24 @@ impl Lazy<'_> {
             item.expanded = true;
         } else {
             let (g, vit) = (self.g, self.vit);
-            for &r in &g.by_parent[a as usize] {
-                let rule = g.bin[r as usize];
-                let left = g.bin_left[r as usize] as usize;
-                for split in i + 1..j {
-                    let l = self.layout.cell(i, split) * n_sym + left;
-                    let rr = self.layout.cell(split, j) * n_sym + rule.right as usize;
+            let mut cands = Vec::new();
+            // Split by split, so that the two cells' rows stay in cache
+            // across the item's rules; but ties are broken in the order of
+            // rules, then splits, the order in which the best-tree pass
+            // meets them (so the first of the k best is the best tree).
+            let splits = (j - i - 1) as u64;
+            let base = self.seq;
+            self.seq += g.by_parent[a as usize].len() as u64 * splits;
+            for split in i + 1..j {
+                let lrow = self.layout.cell(i, split) * n_sym;
+                let rrow = self.layout.cell(split, j) * n_sym;
+                if vit.present(lrow / n_sym).is_empty() || vit.present(rrow / n_sym).is_empty() {
+                    continue;
+                }
+                for (nth, &r) in g.by_parent[a as usize].iter().enumerate() {
+                    let rule = g.bin[r as usize];
+                    let l = lrow + g.bin_left[r as usize] as usize;
+                    let rr = rrow + rule.right as usize;
                     let (sl, sr) = (vit.score[l], vit.score[rr]);
                     if sl == f64::NEG_INFINITY || sr == f64::NEG_INFINITY {
                         continue;
@@ -451,14 +463,27 @@ impl Lazy<'_> {
                         left: l,
                         right: rr,
                     });
-                    let seq = self.next_seq();
-                    item.heap.push(Cand {
+                    cands.push(Cand {
                         score: rule.lp + sl + sr,
-                        seq,
+                        seq: base + 1 + nth as u64 * splits + (split - i - 1) as u64,
                         item: (e, 0, 0),
                     });
                 }
             }
+            // Only the k best first candidates can lead to one of the item's
+            // k best derivations (every other edge has k better ones ahead
+            // of its best), and no item is asked for more than k (Huang &
+            // Chiang 2005, §4: a k-selection before the heap).
+            if self.k > 0 && cands.len() > self.k {
+                cands.select_nth_unstable_by(self.k - 1, |x, y| y.cmp(x));
+                cands.truncate(self.k);
+                let edges = std::mem::take(&mut item.edges);
+                for (n, c) in cands.iter_mut().enumerate() {
+                    item.edges.push(edges[c.item.0 as usize]);
+                    c.item.0 = n as u32;
+                }
+            }
+            item.heap = BinaryHeap::from(cands);
         }
         let bytes = size_of::<PreItem>()
             + item.list.len() * size_of::<(f64, PreStep)>()
