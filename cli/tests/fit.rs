@@ -3,7 +3,7 @@
 
 mod common;
 
-use common::trellis;
+use common::{trellis, Run};
 use serde_json::Value;
 use std::fs;
 use std::path::Path;
@@ -59,6 +59,22 @@ fn setup() -> tempfile::TempDir {
     dir
 }
 
+/// `trellis fit logbook.trellis watches.mrg` with `options` after them,
+/// run in `dir`; it must succeed.
+#[track_caller]
+fn fit_watches(dir: &Path, options: &[&str]) -> Run {
+    let args = [&["fit", "logbook.trellis", "watches.mrg"], options].concat();
+    let run = trellis(dir, &args);
+    assert_eq!(run.code, 0, "{}", run.stderr);
+    run
+}
+
+/// Checks that `run` wrote `text` to standard error.
+#[track_caller]
+fn assert_stderr_has(run: &Run, text: &str) {
+    assert!(run.stderr.contains(text), "{}", run.stderr);
+}
+
 fn read(dir: &Path, name: &str) -> String {
     fs::read_to_string(dir.join(name)).unwrap()
 }
@@ -66,17 +82,7 @@ fn read(dir: &Path, name: &str) -> String {
 #[test]
 fn maximum_likelihood_weights_replace_only_the_weight_tokens() {
     let dir = setup();
-    let run = trellis(
-        dir.path(),
-        &[
-            "fit",
-            "logbook.trellis",
-            "watches.mrg",
-            "--smoothing",
-            "none",
-        ],
-    );
-    assert_eq!(run.code, 0, "{}", run.stderr);
+    let run = fit_watches(dir.path(), &["--smoothing", "none"]);
     // Maximum likelihood for a multinomial (common practice), by hand:
     //   Entry: Lamp Status 3 of 4 → 3/4 = 0.75, Weather 1 of 4 → 0.25;
     //   Lamp: lamp 1, fresh water 2, beacon 0 of 3 → 1/3, 2/3, 0 (no
@@ -100,11 +106,12 @@ fn maximum_likelihood_weights_replace_only_the_weight_tokens() {
     // The file itself is untouched: without -o or --in-place the grammar
     // goes to standard output.
     assert_eq!(read(dir.path(), "logbook.trellis"), LOGBOOK);
-    assert!(
-        run.stderr
-            .contains("fitted 4 blocks to 4 trees (smoothing none)"),
-        "{}",
-        run.stderr
+    assert_stderr_has(&run, "fitted 4 blocks to 4 trees (smoothing none)");
+    // The one block that turns to fractions gets its reason in full.
+    assert_stderr_has(
+        &run,
+        "note: `Lamp` takes exact fractions: decimals cannot be exact here: 1/3 has no finite \
+         decimal expansion\n",
     );
     // Zero weights are reported, and the test case they break.
     assert!(
@@ -114,36 +121,39 @@ fn maximum_likelihood_weights_replace_only_the_weight_tokens() {
         "{}",
         run.stderr
     );
-    assert!(
-        run.stderr.contains(
-            "warning: test \"watch\": `accept \"beacon dark\"` held with the old weights and fails with the new"
-        ),
-        "{}",
-        run.stderr
-    );
+    assert_stderr_has(&run, "warning: test \"watch\": `accept \"beacon dark\"` held with the old weights and fails with the new");
 }
 
 #[test]
 fn add_one_smoothing_gives_unseen_rules_a_share() {
     let dir = setup();
-    let run = trellis(
+    let run = fit_watches(
         dir.path(),
-        &[
-            "fit",
-            "logbook.trellis",
-            "watches.mrg",
-            "--smoothing",
-            "add-1",
-            "-o",
-            "fitted.trellis",
-        ],
+        &["--smoothing", "add-1", "-o", "fitted.trellis"],
     );
-    assert_eq!(run.code, 0, "{}", run.stderr);
     assert!(run.stdout.is_empty());
-    assert!(
-        run.stderr.contains("wrote fitted.trellis"),
-        "{}",
-        run.stderr
+    assert_stderr_has(&run, "wrote fitted.trellis");
+    // Entry, Lamp and Weather turn to fractions (below): one note names
+    // them all, and JSON gives each block's reason.
+    assert_eq!(run.stderr.matches("note:").count(), 1, "{}", run.stderr);
+    assert_stderr_has(
+        &run,
+        "note: 3 blocks take exact fractions, since some of their new weights have no finite \
+         decimal expansion: `Entry`, `Lamp`, `Weather` (`--format json` gives each block's \
+         reason)\n",
+    );
+    let json = fit_watches(
+        dir.path(),
+        &["--smoothing", "add-1", "--dry-run", "--format", "json"],
+    );
+    let doc: Value = serde_json::from_str(json.stdout.trim()).unwrap();
+    assert_eq!(
+        doc["fallbacks"],
+        serde_json::json!([
+            {"block": "Entry", "reason": "decimals cannot be exact here: 2/3 has no finite decimal expansion"},
+            {"block": "Lamp", "reason": "decimals cannot be exact here: 1/3 has no finite decimal expansion"},
+            {"block": "Weather", "reason": "percentages cannot be exact here: 2/3 has no finite decimal expansion"},
+        ])
     );
     let fitted = read(dir.path(), "fitted.trellis");
     // Add-1 (Laplace's rule of succession), (count + 1) / (total + n):
@@ -183,13 +193,9 @@ fn add_one_smoothing_gives_unseen_rules_a_share() {
 #[test]
 fn the_default_is_add_a_half_and_fitting_twice_changes_nothing_more() {
     let dir = setup();
-    let run = trellis(
-        dir.path(),
-        &["fit", "logbook.trellis", "watches.mrg", "--in-place"],
-    );
-    assert_eq!(run.code, 0, "{}", run.stderr);
+    let run = fit_watches(dir.path(), &["--in-place"]);
     assert!(run.stdout.is_empty());
-    assert!(run.stderr.contains("(smoothing add-0.5)"), "{}", run.stderr);
+    assert_stderr_has(&run, "(smoothing add-0.5)");
     let once = read(dir.path(), "logbook.trellis");
     // Add-½: Entry (3.5/5, 1.5/5) = 0.7, 0.3; Status counts 2.5 and 1.5.
     assert!(
@@ -202,16 +208,8 @@ fn the_default_is_add_a_half_and_fitting_twice_changes_nothing_more() {
     );
     // Weather: (1.5/2, 0.5/2) = 75%, 25%, in its own notation.
     assert!(once.contains("  75%  \"fog\"\n  25%  \"gale\"\n"), "{once}");
-    let again = trellis(
-        dir.path(),
-        &["fit", "logbook.trellis", "watches.mrg", "--in-place"],
-    );
-    assert_eq!(again.code, 0, "{}", again.stderr);
-    assert!(
-        again.stderr.contains("no weight changes: nothing written"),
-        "{}",
-        again.stderr
-    );
+    let again = fit_watches(dir.path(), &["--in-place"]);
+    assert_stderr_has(&again, "no weight changes: nothing written");
     assert_eq!(read(dir.path(), "logbook.trellis"), once);
     let check = trellis(dir.path(), &["check", "logbook.trellis"]);
     assert_eq!(check.code, 0, "{}{}", check.stdout, check.stderr);
@@ -228,14 +226,8 @@ fn a_node_no_rule_produces_is_located_with_the_rule_it_needs() {
     let run = trellis(dir.path(), &["fit", "logbook.trellis", "odd.mrg"]);
     assert_eq!(run.code, 1, "{}", run.stderr);
     assert!(run.stdout.is_empty());
-    assert!(
-        run.stderr.contains(
-            "error: odd.mrg:2:1: no rule produces this node: the tree needs the rule `Entry → Lamp Status Weather`\n  \
-             help: add the alternative `Lamp Status Weather` to the block `Entry` (logbook.trellis:5:1), or correct the tree"
-        ),
-        "{}",
-        run.stderr
-    );
+    assert_stderr_has(&run, "error: odd.mrg:2:1: no rule produces this node: the tree needs the rule `Entry → Lamp Status Weather`\n  \
+             help: add the alternative `Lamp Status Weather` to the block `Entry` (logbook.trellis:5:1), or correct the tree");
     assert_eq!(read(dir.path(), "logbook.trellis"), LOGBOOK);
     // --keep-going skips both bad trees and fits to the one good tree.
     let run = trellis(
@@ -249,30 +241,16 @@ fn a_node_no_rule_produces_is_located_with_the_rule_it_needs() {
         ],
     );
     assert_eq!(run.code, 0, "{}", run.stderr);
-    assert!(
-        run.stderr.contains(
-            "warning: skipped a tree: odd.mrg:4:8: no rule produces this node: the tree needs the rule `Lamp → \"lantern\"` (`lantern` is no terminal of the grammar)"
-        ),
-        "{}",
-        run.stderr
-    );
-    assert!(
-        run.stderr
-            .contains("fitted 2 blocks to 1 tree (smoothing add-0.5); 2 trees skipped"),
-        "{}",
-        run.stderr
+    assert_stderr_has(&run, "warning: skipped a tree: odd.mrg:4:8: no rule produces this node: the tree needs the rule `Lamp → \"lantern\"` (`lantern` is no terminal of the grammar)");
+    assert_stderr_has(
+        &run,
+        "fitted 2 blocks to 1 tree (smoothing add-0.5); 2 trees skipped",
     );
     // An unknown label, with the name it probably meant.
     fs::write(dir.path().join("typo.mrg"), "(Entry (Wether fog))\n").unwrap();
     let run = trellis(dir.path(), &["fit", "logbook.trellis", "typo.mrg"]);
     assert_eq!(run.code, 1);
-    assert!(
-        run.stderr.contains(
-            "error: typo.mrg:1:8: `Wether` is not a symbol of the grammar: no block has this name\n  help: did you mean `Weather`?"
-        ),
-        "{}",
-        run.stderr
-    );
+    assert_stderr_has(&run, "error: typo.mrg:1:8: `Wether` is not a symbol of the grammar: no block has this name\n  help: did you mean `Weather`?");
 }
 
 #[test]
@@ -295,11 +273,7 @@ fn cleaning_applies_before_matching_and_errors_keep_their_place() {
         ],
     );
     assert_eq!(run.code, 0, "{}", run.stderr);
-    assert!(
-        run.stderr.contains("fitted 4 blocks to 2 trees"),
-        "{}",
-        run.stderr
-    );
+    assert_stderr_has(&run, "fitted 4 blocks to 2 trees");
     // Without --drop-empty the empty element is a node no rule produces,
     // reported at its own bracket on line 2 (the outer bracket of line 1
     // is not a node).
@@ -308,29 +282,16 @@ fn cleaning_applies_before_matching_and_errors_keep_their_place() {
         &["fit", "logbook.trellis", "tagged.mrg", "--strip-functions"],
     );
     assert_eq!(run.code, 1);
-    assert!(
-        run.stderr
-            .contains("error: tagged.mrg:2:19: `-NONE-` is not a symbol of the grammar"),
-        "{}",
-        run.stderr
+    assert_stderr_has(
+        &run,
+        "error: tagged.mrg:2:19: `-NONE-` is not a symbol of the grammar",
     );
 }
 
 #[test]
 fn a_dry_run_prints_old_and_new_probabilities_and_writes_nothing() {
     let dir = setup();
-    let run = trellis(
-        dir.path(),
-        &[
-            "fit",
-            "logbook.trellis",
-            "watches.mrg",
-            "--dry-run",
-            "--smoothing",
-            "none",
-        ],
-    );
-    assert_eq!(run.code, 0, "{}", run.stderr);
+    let run = fit_watches(dir.path(), &["--dry-run", "--smoothing", "none"]);
     assert_eq!(read(dir.path(), "logbook.trellis"), LOGBOOK);
     let lines: Vec<&str> = run.stdout.lines().collect();
     assert_eq!(lines[0], "rule                  count  old            new");
@@ -385,12 +346,10 @@ fn a_grammar_with_errors_is_not_fitted() {
     fs::write(dir.path().join("s.mrg"), "(S a)\n").unwrap();
     let run = trellis(dir.path(), &["fit", "broken.trellis", "s.mrg"]);
     assert_eq!(run.code, 1);
-    assert!(run.stderr.contains("sum-not-one"), "{}", run.stderr);
-    assert!(
-        run.stderr
-            .contains("error: broken.trellis has 1 error; fix it before fitting its weights"),
-        "{}",
-        run.stderr
+    assert_stderr_has(&run, "sum-not-one");
+    assert_stderr_has(
+        &run,
+        "error: broken.trellis has 1 error; fix it before fitting its weights",
     );
 }
 
@@ -410,7 +369,7 @@ fn weights_in_a_used_file_need_in_place() {
     fs::write(dir.path().join("t.mrg"), "(S (W a))\n(S (W a) (W a))\n").unwrap();
     let run = trellis(dir.path(), &["fit", "main.trellis", "t.mrg"]);
     assert_eq!(run.code, 2, "{}", run.stderr);
-    assert!(run.stderr.contains("words.trellis too"), "{}", run.stderr);
+    assert_stderr_has(&run, "words.trellis too");
     let run = trellis(
         dir.path(),
         &[

@@ -11,32 +11,7 @@ use grammar_lang::{analyze_text, Analysis, Code, Diagnostic};
 use num_bigint::BigInt;
 use num_rational::BigRational;
 use num_traits::{One, ToPrimitive, Zero};
-
-/// The first `n` primes, by trial division.
-fn primes(n: usize) -> Vec<u64> {
-    let mut out: Vec<u64> = Vec::with_capacity(n);
-    let mut k = 2u64;
-    while out.len() < n {
-        if out
-            .iter()
-            .take_while(|&&p| p * p <= k)
-            .all(|&p| !k.is_multiple_of(p))
-        {
-            out.push(k);
-        }
-        k += 1;
-    }
-    out
-}
-
-fn prime_reciprocals(n: usize) -> String {
-    let mut text = String::from("grammar harbour\nstart Call\nCall {\n");
-    for p in primes(n) {
-        text.push_str(&format!("  1/{p} \"ahoy\"\n"));
-    }
-    text.push_str("}\n");
-    text
-}
+use trellis_test_support::grammars::{prime_reciprocals, primes};
 
 fn with_code(a: &Analysis, code: Code) -> Vec<&Diagnostic> {
     a.diagnostics.iter().filter(|d| d.code == code).collect()

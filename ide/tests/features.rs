@@ -569,10 +569,23 @@ fn definition_jumps_across_used_files() {
     assert_eq!(a.definition(m, weight), None);
 }
 
+/// Asks for the references at the cursor of a fixture that analyses
+/// cleanly, with or without the definition, and checks that they are
+/// exactly the marked ranges, file by file.
+#[track_caller]
+fn assert_references_marked(fixture: &str, include_declaration: bool) {
+    let (f, a) = analyse_clean(fixture);
+    let (file, offset) = cursor(&f, &a);
+    assert_eq!(
+        a.references(file, offset, include_declaration),
+        marked_locations(&f, &a)
+    );
+}
+
 #[test]
 fn references_to_a_non_terminal_cover_rhs_uses_and_test_labels_in_every_file() {
     // Asked at the definition in the lexikon; the references are in main.
-    let (f, a) = analyse_clean(
+    assert_references_marked(
         r#"
         === main.trellis ===
         start Fahrkarte
@@ -582,22 +595,20 @@ fn references_to_a_non_terminal_cover_rhs_uses_and_test_labels_in_every_file() {
         === lexikon.trellis ===
         $0Ermäßigung { "halb" | "frei" }
         "#,
+        false,
     );
-    let (file, offset) = cursor(&f, &a);
-    assert_eq!(a.references(file, offset, false), marked_locations(&f, &a));
 }
 
 #[test]
 fn references_with_the_definition_include_start_and_block_head() {
-    let (f, a) = analyse_clean(
+    assert_references_marked(
         r#"
         start [[$0Fähre]]
         [[Fähre]] { "hin" | "zurück" }
         test "t" { accept "hin" as ([[Fähre]] "hin") }
         "#,
+        true,
     );
-    let (file, offset) = cursor(&f, &a);
-    assert_eq!(a.references(file, offset, true), marked_locations(&f, &a));
 }
 
 #[test]
@@ -605,7 +616,7 @@ fn references_to_a_word_cover_every_right_hand_side_and_tree_leaf_with_it() {
     // Marked, in order: on a right-hand side and a tree leaf in main, on a
     // right-hand side in the lexikon; not the test case's sentence, which
     // is not a word of the grammar.
-    let (f, a) = analyse_clean(
+    assert_references_marked(
         r#"
         === main.trellis ===
         start Fahrt
@@ -615,9 +626,8 @@ fn references_to_a_word_cover_every_right_hand_side_and_tree_leaf_with_it() {
         === lexikon.trellis ===
         Art { "Einzel" | [[$0"Rückfahrt"]] }
         "#,
+        true,
     );
-    let (file, offset) = cursor(&f, &a);
-    assert_eq!(a.references(file, offset, true), marked_locations(&f, &a));
 }
 
 // ── rename ──────────────────────────────────────────────────────────────
@@ -1347,20 +1357,13 @@ fn document_highlights_mark_definitions_and_uses_of_a_non_terminal_in_one_file()
     );
 }
 
-#[test]
-fn document_highlights_of_words_mark_the_same_words_however_spaced() {
+/// Checks that the highlights at the cursor are exactly the `N` ranges
+/// marked in `grammar.trellis`, none of them a definition (as for words).
+#[track_caller]
+fn assert_word_highlights<const N: usize>(f: &Fixture, a: &Analysis) {
     use trellis_ide::Highlight;
-    let (f, a) = analyse(
-        r#"
-        start Fahrt
-        Fahrt { [["einfache $0Fahrt"]] | "Fahrt" }
-        test "t" { accept "einfache Fahrt" as (Fahrt [["einfache  Fahrt"]]) }
-                                                       ^^^^^^^^^^^^^^^^^ warning terminal-spacing
-        "#,
-    );
-    assert_diagnostics(&f, &a);
-    let (file, offset) = cursor(&f, &a);
-    let expected: Vec<Highlight> = spans::<2>(&f, "grammar.trellis")
+    let (file, offset) = cursor(f, a);
+    let expected: Vec<Highlight> = spans::<N>(f, "grammar.trellis")
         .into_iter()
         .map(|span| Highlight {
             span,
@@ -1371,8 +1374,21 @@ fn document_highlights_of_words_mark_the_same_words_however_spaced() {
 }
 
 #[test]
+fn document_highlights_of_words_mark_the_same_words_however_spaced() {
+    let (f, a) = analyse(
+        r#"
+        start Fahrt
+        Fahrt { [["einfache $0Fahrt"]] | "Fahrt" }
+        test "t" { accept "einfache Fahrt" as (Fahrt [["einfache  Fahrt"]]) }
+                                                       ^^^^^^^^^^^^^^^^^ warning terminal-spacing
+        "#,
+    );
+    assert_diagnostics(&f, &a);
+    assert_word_highlights::<2>(&f, &a);
+}
+
+#[test]
 fn document_highlights_of_a_word_mark_the_same_quoted_word_everywhere_in_the_file() {
-    use trellis_ide::Highlight;
     let (f, a) = analyse_clean(
         r#"
         start Fahrt
@@ -1380,15 +1396,7 @@ fn document_highlights_of_a_word_mark_the_same_quoted_word_everywhere_in_the_fil
         test "t" { accept "hin Fähre" as (Fahrt "hin" [["Fähre"]]) }
         "#,
     );
-    let (file, offset) = cursor(&f, &a);
-    let expected: Vec<Highlight> = spans::<3>(&f, "grammar.trellis")
-        .into_iter()
-        .map(|span| Highlight {
-            span,
-            definition: false,
-        })
-        .collect();
-    assert_eq!(a.document_highlights(file, offset), expected);
+    assert_word_highlights::<3>(&f, &a);
 }
 
 /// A learned grammar's shape: many blocks of hundreds of alternatives. The

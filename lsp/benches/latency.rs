@@ -11,18 +11,14 @@
 //! Also prints the growth of the process's resident memory (VmRSS from
 //! /proc/self/status) from opening the 50,000-rule grammar.
 
+mod support;
+
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
-use serde_json::{json, Value};
 use std::fmt::Write as _;
 use std::time::{Duration, Instant};
-use tokio::io::{AsyncBufReadExt, AsyncReadExt, AsyncWriteExt, BufReader, DuplexStream};
+use support::{rss_kib, Client};
 use tokio::runtime::Runtime;
 use trellis_engine::rng::{RandomSource, SplitMix64};
-
-/// The allocator of the `trellis` binary, which runs the server (see
-/// `cli/src/main.rs`).
-#[global_allocator]
-static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
 /// A clean grammar of `rules` rules: blocks of four alternatives in a
 /// binary-heap layout (every block reachable, productive, acyclic), weights
@@ -62,118 +58,6 @@ fn generate(rules: usize) -> String {
         out.push_str("}\n");
     }
     out
-}
-
-fn frame(body: &str) -> Vec<u8> {
-    let mut out = format!("Content-Length: {}\r\n\r\n", body.len()).into_bytes();
-    out.extend_from_slice(body.as_bytes());
-    out
-}
-
-struct Client {
-    writer: DuplexStream,
-    reader: BufReader<DuplexStream>,
-}
-
-impl Client {
-    fn start() -> Client {
-        let (writer, server_input) = tokio::io::duplex(1 << 22);
-        let (server_output, reader) = tokio::io::duplex(1 << 22);
-        tokio::spawn(trellis_lsp::serve(
-            server_input,
-            server_output,
-            trellis_lsp::Options::default(),
-        ));
-        Client {
-            writer,
-            reader: BufReader::new(reader),
-        }
-    }
-
-    async fn send(&mut self, message: Value) {
-        self.writer
-            .write_all(&frame(&message.to_string()))
-            .await
-            .unwrap();
-    }
-
-    async fn receive(&mut self) -> Value {
-        let mut length = 0;
-        loop {
-            let mut line = String::new();
-            assert!(
-                self.reader.read_line(&mut line).await.unwrap() > 0,
-                "server gone"
-            );
-            let line = line.trim_end();
-            if line.is_empty() {
-                break;
-            }
-            if let Some(n) = line.strip_prefix("Content-Length: ") {
-                length = n.parse().unwrap();
-            }
-        }
-        let mut body = vec![0; length];
-        self.reader.read_exact(&mut body).await.unwrap();
-        serde_json::from_slice(&body).unwrap()
-    }
-
-    /// Waits for the diagnostics of `uri` at `version`; returns how many.
-    async fn diagnostics(&mut self, uri: &str, version: i64) -> usize {
-        loop {
-            let m = self.receive().await;
-            if m["method"] == "textDocument/publishDiagnostics"
-                && m["params"]["uri"] == uri
-                && m["params"]["version"] == version
-            {
-                return m["params"]["diagnostics"].as_array().unwrap().len();
-            }
-        }
-    }
-
-    async fn initialize(&mut self) {
-        self.send(json!({"jsonrpc": "2.0", "id": 1, "method": "initialize",
-                         "params": {"capabilities": {}}}))
-            .await;
-        loop {
-            if self.receive().await["id"] == 1 {
-                break;
-            }
-        }
-        self.send(json!({"jsonrpc": "2.0", "method": "initialized", "params": {}}))
-            .await;
-    }
-
-    async fn open(&mut self, uri: &str, text: &str) {
-        self.send(json!({"jsonrpc": "2.0", "method": "textDocument/didOpen",
-            "params": {"textDocument": {"uri": uri, "languageId": "trellis", "version": 1, "text": text}}}))
-            .await;
-        assert_eq!(
-            self.diagnostics(uri, 1).await,
-            0,
-            "the generated grammar is clean"
-        );
-    }
-
-    async fn change(&mut self, uri: &str, version: i64, text: &str) {
-        self.send(json!({"jsonrpc": "2.0", "method": "textDocument/didChange",
-            "params": {"textDocument": {"uri": uri, "version": version},
-                       "contentChanges": [{"text": text}]}}))
-            .await;
-    }
-}
-
-/// Resident memory of this process in KiB (Linux), if known.
-fn rss_kib() -> Option<u64> {
-    let status = std::fs::read_to_string("/proc/self/status").ok()?;
-    status
-        .lines()
-        .find_map(|l| l.strip_prefix("VmRSS:"))?
-        .trim()
-        .trim_end_matches("kB")
-        .trim()
-        .parse()
-        .ok()
 }
 
 fn bench_latency(c: &mut Criterion) {

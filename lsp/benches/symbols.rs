@@ -16,17 +16,14 @@
 //! the bound in all: 1 MB gives 1.3 MB in 120 ms (+28 MiB), 5 MB 1.5 MB in
 //! 144 ms (+18 MiB).
 
+mod support;
+
 use criterion::{criterion_group, criterion_main, BenchmarkId, Criterion, Throughput};
-use serde_json::{json, Value};
+use serde_json::json;
 use std::fmt::Write as _;
 use std::time::{Duration, Instant};
-use tokio::io::{AsyncBufReadExt, AsyncReadExt, AsyncWriteExt, BufReader, DuplexStream};
+use support::{rss_kib, Client};
 use tokio::runtime::Runtime;
-
-/// The allocator of the `trellis` binary, which runs the server (see
-/// `cli/src/main.rs`).
-#[global_allocator]
-static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
 /// A clean grammar of about `bytes` bytes: `S` chooses among the phrase
 /// blocks `P0…`, each of 400 alternatives `weight W P(i+1)`-style over a
@@ -56,109 +53,6 @@ fn generate(bytes: usize) -> String {
     out
 }
 
-fn frame(body: &str) -> Vec<u8> {
-    let mut out = format!("Content-Length: {}\r\n\r\n", body.len()).into_bytes();
-    out.extend_from_slice(body.as_bytes());
-    out
-}
-
-struct Client {
-    writer: DuplexStream,
-    reader: BufReader<DuplexStream>,
-}
-
-impl Client {
-    fn start() -> Client {
-        let (writer, server_input) = tokio::io::duplex(1 << 22);
-        let (server_output, reader) = tokio::io::duplex(1 << 22);
-        tokio::spawn(trellis_lsp::serve(
-            server_input,
-            server_output,
-            trellis_lsp::Options::default(),
-        ));
-        Client {
-            writer,
-            reader: BufReader::new(reader),
-        }
-    }
-
-    async fn send(&mut self, message: Value) {
-        self.writer
-            .write_all(&frame(&message.to_string()))
-            .await
-            .unwrap();
-    }
-
-    /// The next message's body.
-    async fn receive(&mut self) -> Vec<u8> {
-        let mut length = 0;
-        loop {
-            let mut line = String::new();
-            assert!(
-                self.reader.read_line(&mut line).await.unwrap() > 0,
-                "server gone"
-            );
-            let line = line.trim_end();
-            if line.is_empty() {
-                break;
-            }
-            if let Some(n) = line.strip_prefix("Content-Length: ") {
-                length = n.parse().unwrap();
-            }
-        }
-        let mut body = vec![0; length];
-        self.reader.read_exact(&mut body).await.unwrap();
-        body
-    }
-
-    /// Waits for the response to request `id`; returns its body.
-    async fn response(&mut self, id: i64) -> Vec<u8> {
-        loop {
-            let body = self.receive().await;
-            let m: Value = serde_json::from_slice(&body).unwrap();
-            if m["id"] == id {
-                return body;
-            }
-        }
-    }
-
-    async fn initialize_and_open(&mut self, uri: &str, text: &str) {
-        self.send(json!({"jsonrpc": "2.0", "id": 1, "method": "initialize",
-                         "params": {"capabilities": {}}}))
-            .await;
-        self.response(1).await;
-        self.send(json!({"jsonrpc": "2.0", "method": "initialized", "params": {}}))
-            .await;
-        self.send(json!({"jsonrpc": "2.0", "method": "textDocument/didOpen",
-            "params": {"textDocument": {"uri": uri, "languageId": "trellis", "version": 1, "text": text}}}))
-            .await;
-        loop {
-            let m: Value = serde_json::from_slice(&self.receive().await).unwrap();
-            if m["method"] == "textDocument/publishDiagnostics" && m["params"]["uri"] == uri {
-                assert_eq!(
-                    m["params"]["diagnostics"],
-                    json!([]),
-                    "the grammar is clean"
-                );
-                return;
-            }
-        }
-    }
-}
-
-/// Resident memory of this process in KiB (Linux), if known.
-fn rss_kib() -> Option<u64> {
-    let status = std::fs::read_to_string("/proc/self/status").ok()?;
-    status
-        .lines()
-        .find_map(|l| l.strip_prefix("VmRSS:"))?
-        .trim()
-        .trim_end_matches("kB")
-        .trim()
-        .parse()
-        .ok()
-}
-
 fn bench_document_symbols(c: &mut Criterion) {
     let runtime = Runtime::new().unwrap();
     let mut group = c.benchmark_group("document_symbols");
@@ -169,7 +63,8 @@ fn bench_document_symbols(c: &mut Criterion) {
         let uri = format!("file:///bench/learned_{megabytes}mb.trellis");
         let mut client = runtime.block_on(async {
             let mut client = Client::start();
-            client.initialize_and_open(&uri, &text).await;
+            client.initialize().await;
+            client.open(&uri, &text).await;
             client
         });
         let mut id = 100;

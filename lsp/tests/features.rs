@@ -433,6 +433,28 @@ fn last_published(client: &TestClient, uri: &str) -> Value {
     last["diagnostics"].clone()
 }
 
+/// The code actions offered for `diagnostic`, asked for over its range.
+async fn actions_for(client: &mut TestClient, uri: &str, diagnostic: Value) -> Vec<Value> {
+    let actions = client
+        .request(
+            "textDocument/codeAction",
+            json!({"textDocument": {"uri": uri}, "range": diagnostic["range"],
+                   "context": {"diagnostics": [diagnostic]}}),
+        )
+        .await;
+    actions.as_array().unwrap().clone()
+}
+
+/// Applies `fix`'s edits to `text`, sends the result as version 2 and
+/// checks that the server publishes no diagnostic for it; the fixed text.
+async fn apply_fix(client: &mut TestClient, uri: &str, text: &str, fix: &Value) -> String {
+    let fixed = apply(text, fix["edit"]["changes"][uri].as_array().unwrap());
+    client.change(uri, 2, &fixed).await;
+    let after = client.diagnostics_for_version(uri, 2).await;
+    assert_eq!(after["diagnostics"], json!([]), "{fixed}");
+    fixed
+}
+
 #[tokio::test]
 async fn the_renormalize_quick_fix_makes_the_block_sum_to_one() {
     let (mut client, ws) = open(
@@ -448,28 +470,18 @@ async fn the_renormalize_quick_fix_makes_the_block_sum_to_one() {
     .await;
     let (uri, text) = (ws.uri(DEFAULT_PATH), ws.text(DEFAULT_PATH));
     let diagnostic = last_published(&client, &uri)[0].clone();
-    let actions = client
-        .request(
-            "textDocument/codeAction",
-            json!({"textDocument": {"uri": uri}, "range": diagnostic["range"],
-                   "context": {"diagnostics": [diagnostic]}}),
-        )
-        .await;
-    let actions = actions.as_array().unwrap();
+    let actions = actions_for(&mut client, &uri, diagnostic).await;
     assert!(!actions.is_empty());
-    for action in actions {
+    for action in &actions {
         assert_eq!(action["diagnostics"][0]["code"], "sum-not-one", "{action}");
     }
     let fix = actions
         .iter()
         .find(|a| a["kind"] == "quickfix" && a["title"].as_str().unwrap().contains("ormali"))
         .unwrap_or_else(|| panic!("no renormalize fix in {actions:?}"));
-    let fixed = apply(text, fix["edit"]["changes"][&uri].as_array().unwrap());
+    let fixed = apply_fix(&mut client, &uri, text, fix).await;
     // 1/2 : 1/3 renormalised is 3/5 : 2/5.
     assert!(fixed.contains("3/5") && fixed.contains("2/5"), "{fixed}");
-    client.change(&uri, 2, &fixed).await;
-    let after = client.diagnostics_for_version(&uri, 2).await;
-    assert_eq!(after["diagnostics"], json!([]));
     client.shutdown().await;
 }
 
@@ -494,14 +506,7 @@ async fn a_misspelt_name_comes_with_its_replacement_as_the_preferred_fix() {
         .find(|d| d["code"] == "undefined")
         .cloned()
         .unwrap();
-    let actions = client
-        .request(
-            "textDocument/codeAction",
-            json!({"textDocument": {"uri": uri}, "range": diagnostic["range"],
-                   "context": {"diagnostics": [diagnostic]}}),
-        )
-        .await;
-    let actions = actions.as_array().unwrap();
+    let actions = actions_for(&mut client, &uri, diagnostic).await;
     let preferred: Vec<_> = actions
         .iter()
         .filter(|a| a["isPreferred"] == true)
@@ -511,11 +516,8 @@ async fn a_misspelt_name_comes_with_its_replacement_as_the_preferred_fix() {
     assert_eq!(fix["title"], "Replace `Obsrvation` with `Observation`");
     assert_eq!(fix["kind"], "quickfix");
     assert_eq!(fix["diagnostics"][0]["code"], "undefined");
-    let fixed = apply(text, fix["edit"]["changes"][&uri].as_array().unwrap());
+    let fixed = apply_fix(&mut client, &uri, text, fix).await;
     assert!(fixed.contains("Log { Observation }"), "{fixed}");
-    client.change(&uri, 2, &fixed).await;
-    let after = client.diagnostics_for_version(&uri, 2).await;
-    assert_eq!(after["diagnostics"], json!([]));
     client.shutdown().await;
 }
 

@@ -24,6 +24,37 @@ fn error_code(response: &Value) -> i64 {
         .unwrap_or_else(|| panic!("expected an error response, got {response}"))
 }
 
+/// Parses one sentence with the grammar open at `MAIN`.
+async fn parse(client: &mut TestClient, sentence: &str) -> Value {
+    client
+        .request(
+            "workspace/executeCommand",
+            json!({"command": "trellis.parse", "arguments": [{"uri": MAIN, "sentence": sentence}]}),
+        )
+        .await
+}
+
+/// A started server busy parsing: a small ambiguous grammar open at
+/// `MAIN`, its diagnostics received, and a parse of many long sentences
+/// sent but not awaited, which keeps the parser busy for a long while; the
+/// id of that parse request.
+async fn busy_server() -> (TestClient, i64) {
+    let mut client = TestClient::start();
+    client.initialize().await;
+    client
+        .open(MAIN, 1, "start S\nS relative {\n  1 S S\n  1 \"a\"\n}\n")
+        .await;
+    client.diagnostics(MAIN).await;
+    let sentences = vec![vec!["a"; 40].join(" "); 5_000];
+    let id = client
+        .send_request(
+            "workspace/executeCommand",
+            json!({"command": "trellis.parse", "arguments": [{"uri": MAIN, "sentences": sentences}]}),
+        )
+        .await;
+    (client, id)
+}
+
 #[tokio::test]
 async fn a_request_before_initialize_is_refused_as_not_initialized() {
     let mut client = TestClient::start();
@@ -128,65 +159,32 @@ async fn a_panic_in_core_work_is_logged_answered_with_an_error_and_survived() {
     // The server keeps serving: analysis and commands still work.
     client.open(MAIN, 1, "start S\nS { \"ferry\" }\n").await;
     assert_eq!(client.diagnostics(MAIN).await["diagnostics"], json!([]));
-    let result = client
-        .request(
-            "workspace/executeCommand",
-            json!({"command": "trellis.parse", "arguments": [{"uri": MAIN, "sentence": "ferry"}]}),
-        )
-        .await;
-    assert_eq!(result["results"][0]["parsed"], true);
+    assert_eq!(
+        parse(&mut client, "ferry").await["results"][0]["parsed"],
+        true
+    );
     client.shutdown().await;
 }
 
 #[tokio::test]
 async fn a_cancelled_parse_is_answered_with_request_cancelled() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    // A small ambiguous grammar; many long sentences keep the parser busy
-    // far longer than the cancellation takes to arrive.
-    client
-        .open(MAIN, 1, "start S\nS relative {\n  1 S S\n  1 \"a\"\n}\n")
-        .await;
-    client.diagnostics(MAIN).await;
-    let sentence = vec!["a"; 40].join(" ");
-    let sentences = vec![sentence; 5_000];
-    let id = client
-        .send_request(
-            "workspace/executeCommand",
-            json!({"command": "trellis.parse", "arguments": [{"uri": MAIN, "sentences": sentences}]}),
-        )
-        .await;
+    // The parse runs far longer than the cancellation takes to arrive.
+    let (mut client, id) = busy_server().await;
     client.notify("$/cancelRequest", json!({"id": id})).await;
     let response = client.response(id).await;
     assert_eq!(error_code(&response), REQUEST_CANCELLED);
     // The server answers the next request.
-    let result = client
-        .request(
-            "workspace/executeCommand",
-            json!({"command": "trellis.parse", "arguments": [{"uri": MAIN, "sentence": "a a"}]}),
-        )
-        .await;
-    assert_eq!(result["results"][0]["parsed"], true);
+    assert_eq!(
+        parse(&mut client, "a a").await["results"][0]["parsed"],
+        true
+    );
     client.shutdown().await;
 }
 
 #[tokio::test]
 async fn a_long_request_holds_up_neither_other_requests_nor_diagnostics() {
-    let mut client = TestClient::start();
-    client.initialize().await;
-    // The ambiguous grammar and the many long sentences of the
-    // cancellation test: the parse runs far longer than what follows.
-    client
-        .open(MAIN, 1, "start S\nS relative {\n  1 S S\n  1 \"a\"\n}\n")
-        .await;
-    client.diagnostics(MAIN).await;
-    let sentences = vec![vec!["a"; 40].join(" "); 5_000];
-    let slow = client
-        .send_request(
-            "workspace/executeCommand",
-            json!({"command": "trellis.parse", "arguments": [{"uri": MAIN, "sentences": sentences}]}),
-        )
-        .await;
+    // The parse runs far longer than what follows.
+    let (mut client, slow) = busy_server().await;
     // An edit is analysed and published, and a hover answered, while the
     // parse is still running.
     client

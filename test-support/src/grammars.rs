@@ -79,6 +79,36 @@ pub fn grammar_text<W: Display>(start: &str, rules: &[(&str, &str, W)]) -> Strin
     text
 }
 
+/// The first `n` primes, by trial division.
+pub fn primes(n: usize) -> Vec<u64> {
+    let mut out: Vec<u64> = Vec::with_capacity(n);
+    let mut k = 2u64;
+    while out.len() < n {
+        if out
+            .iter()
+            .take_while(|&&p| p * p <= k)
+            .all(|&p| !k.is_multiple_of(p))
+        {
+            out.push(k);
+        }
+        k += 1;
+    }
+    out
+}
+
+/// A grammar whose one block `Call` has `n` alternatives weighted `1/p`
+/// over the first `n` primes: the exact sum's denominator is the product
+/// of them all (about 23,000 bits for 1,000 primes), hostile to exact
+/// arithmetic.
+pub fn prime_reciprocals(n: usize) -> String {
+    let mut text = String::from("grammar harbour\nstart Call\nCall {\n");
+    for p in primes(n) {
+        text.push_str(&format!("  1/{p} \"ahoy\"\n"));
+    }
+    text.push_str("}\n");
+    text
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

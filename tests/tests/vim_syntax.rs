@@ -102,79 +102,87 @@ struct Probe {
     group: &'static str,
 }
 
-const fn probe(line: &'static str, at: &'static str, group: &'static str) -> Probe {
-    Probe { line, at, group }
-}
-
 /// Places in examples/ferry_kiosk.trellis, one or more for each kind of
-/// token the lexer (grammar-lang/src/syntax/lexer.rs) knows.
-const FERRY_KIOSK: &[Probe] = &[
-    probe(
+/// token the lexer (grammar-lang/src/syntax/lexer.rs) knows: each line to
+/// look in, with the places in it and the syntax group expected at each.
+const FERRY_KIOSK: &[(&str, &[(&str, &str)])] = &[
+    (
         "# The Skerrow Isles ferry kiosk",
-        "Skerrow",
-        "trellisComment",
+        &[("Skerrow", "trellisComment")],
     ),
-    probe("grammar ferry_kiosk", "grammar", "trellisKeyword"),
-    probe("grammar ferry_kiosk", "ferry_kiosk", "trellisGrammarName"),
-    probe("start Request", "start", "trellisKeyword"),
-    probe("start Request", "Request", "trellisSymbol"),
-    probe("use \"ferry_lexicon.trellis\"", "use", "trellisInclude"),
-    probe("use \"ferry_lexicon.trellis\"", "lexicon", "trellisString"),
-    probe(
+    (
+        "grammar ferry_kiosk",
+        &[
+            ("grammar", "trellisKeyword"),
+            ("ferry_kiosk", "trellisGrammarName"),
+        ],
+    ),
+    (
+        "start Request",
+        &[("start", "trellisKeyword"), ("Request", "trellisSymbol")],
+    ),
+    (
+        "use \"ferry_lexicon.trellis\"",
+        &[("use", "trellisInclude"), ("lexicon", "trellisString")],
+    ),
+    (
         "## Everything a traveller",
-        "Everything",
-        "trellisDocComment",
+        &[("Everything", "trellisDocComment")],
     ),
-    probe("Request {", "Request", "trellisDefinition"),
-    probe("Request {", "{", "trellisBrace"),
-    probe("0.45  Purchase", "0.45", "trellisWeight"),
-    probe("0.45  Purchase", "Purchase", "trellisSymbol"),
-    probe("1/5   Question", "1/5", "trellisWeight"),
-    probe("8%    Cancellation", "8%", "trellisWeight"),
-    probe("40%  \"hello\"", "hello", "trellisString"),
-    probe("40%  \"hello\"", "\"", "trellisString"),
-    probe(
-        "0.25  CountOne Fare TicketSg     # a return",
-        "#",
-        "trellisComment",
+    (
+        "Request {",
+        &[("Request", "trellisDefinition"), ("{", "trellisBrace")],
     ),
-    probe(
+    (
+        "0.45  Purchase",
+        &[("0.45", "trellisWeight"), ("Purchase", "trellisSymbol")],
+    ),
+    ("1/5   Question", &[("1/5", "trellisWeight")]),
+    ("8%    Cancellation", &[("8%", "trellisWeight")]),
+    (
+        "40%  \"hello\"",
+        &[("hello", "trellisString"), ("\"", "trellisString")],
+    ),
+    (
         "0.25  CountOne Fare TicketSg     # a return",
-        "TicketSg",
-        "trellisSymbol",
+        &[("#", "trellisComment"), ("TicketSg", "trellisSymbol")],
     ),
     // A keyword inside quotes is a word, and a comment may follow it.
-    probe("\"start\" \"again\"", "start", "trellisString"),
-    probe("\"start\" \"again\"", "keywords", "trellisComment"),
-    probe("test \"buying tickets\" {", "test", "trellisKeyword"),
-    probe("test \"buying tickets\" {", "buying", "trellisString"),
-    probe(
+    (
+        "\"start\" \"again\"",
+        &[("start", "trellisString"), ("keywords", "trellisComment")],
+    ),
+    (
+        "test \"buying tickets\" {",
+        &[("test", "trellisKeyword"), ("buying", "trellisString")],
+    ),
+    (
         "accept \"two return tickets to tolsey\"",
-        "accept",
-        "trellisKeyword",
+        &[("accept", "trellisKeyword")],
     ),
-    probe("reject \"to tolsey\"", "reject", "trellisKeyword"),
-    probe(
+    ("reject \"to tolsey\"", &[("reject", "trellisKeyword")]),
+    (
         "accept \"a single to tolsey please\" as",
-        "as (",
-        "trellisKeyword",
-    ),
-    probe(
-        "accept \"a single to tolsey please\" as",
-        "(Request",
-        "trellisBrace",
-    ),
-    probe(
-        "accept \"a single to tolsey please\" as",
-        "Request",
-        "trellisSymbol",
-    ),
-    probe(
-        "accept \"a single to tolsey please\" as",
-        "tolsey\")",
-        "trellisString",
+        &[
+            ("as (", "trellisKeyword"),
+            ("(Request", "trellisBrace"),
+            ("Request", "trellisSymbol"),
+            ("tolsey\")", "trellisString"),
+        ],
     ),
 ];
+
+/// The probes of `FERRY_KIOSK`, line by line in its order.
+fn ferry_kiosk_probes() -> Vec<Probe> {
+    FERRY_KIOSK
+        .iter()
+        .flat_map(|&(line, places)| {
+            places
+                .iter()
+                .map(move |&(at, group)| Probe { line, at, group })
+        })
+        .collect()
+}
 
 /// The 1-based line and byte column of a probe in `text`.
 fn locate(text: &str, probe: &Probe) -> (usize, usize) {
@@ -196,7 +204,8 @@ fn vim_and_neovim_highlight_the_ferry_kiosk_example_with_the_bundled_syntax_file
     let mut script = String::from(
         "let s:found = [&filetype, &commentstring, &comments, get(b:, 'current_syntax', '')]\n",
     );
-    for p in FERRY_KIOSK {
+    let probes = ferry_kiosk_probes();
+    for p in &probes {
         let (line, column) = locate(&text, p);
         script.push_str(&format!(
             "call add(s:found, synIDattr(synID({line}, {column}, 1), 'name'))\n"
@@ -210,7 +219,7 @@ fn vim_and_neovim_highlight_the_ferry_kiosk_example_with_the_bundled_syntax_file
             ["trellis", "# %s", ":##,:#", "trellis"],
             "{program}: file type, commentstring, comments, syntax"
         );
-        let mismatches: Vec<String> = FERRY_KIOSK
+        let mismatches: Vec<String> = probes
             .iter()
             .zip(&found[4..])
             .filter(|(p, group)| p.group != group.as_str())
@@ -221,7 +230,7 @@ fn vim_and_neovim_highlight_the_ferry_kiosk_example_with_the_bundled_syntax_file
                 )
             })
             .collect();
-        assert_eq!(found.len(), 4 + FERRY_KIOSK.len(), "{program}: {found:?}");
+        assert_eq!(found.len(), 4 + probes.len(), "{program}: {found:?}");
         assert!(
             mismatches.is_empty(),
             "{program} highlights differently:\n{}",

@@ -8,6 +8,7 @@ use ariadne::{Color, IndexType, Label, Report, ReportKind, Source};
 use grammar_lang::diagnostic::Related;
 use grammar_lang::source::SourceFile;
 use grammar_lang::syntax::lexer::quote;
+use grammar_lang::weight::{Inexact, NotExact, MAX_DECIMALS};
 use grammar_lang::{Diagnostic, FileId, Severity, SourceMap};
 use std::collections::HashMap;
 use std::fmt;
@@ -1132,8 +1133,8 @@ pub fn fit_summary(
             unseen.join(", ")
         ));
     }
-    for (block, why) in &fitted.fallbacks {
-        out.push_str(&format!("note: `{block}` takes exact fractions: {why}\n"));
+    if let Some(note) = fallback_note(&fitted.fallbacks) {
+        out.push_str(&note);
     }
     for finding in &fitted.new_findings {
         out.push_str(&format!(
@@ -1146,6 +1147,37 @@ pub fn fit_summary(
         ));
     }
     out
+}
+
+/// The note on the blocks a fit writes in exact fractions because their
+/// new weights cannot be written exactly in their own notation: one line
+/// however many there are. One block gets its reason in full; several get
+/// the kinds of reason and the list of their names (`--format json` keeps
+/// each block's reason).
+fn fallback_note(fallbacks: &[(String, NotExact)]) -> Option<String> {
+    match fallbacks {
+        [] => None,
+        [(block, why)] => Some(format!("note: `{block}` takes exact fractions: {why}\n")),
+        many => {
+            let repeats = many.iter().any(|(_, n)| n.why == Inexact::Repeats);
+            let too_long = many
+                .iter()
+                .any(|(_, n)| matches!(n.why, Inexact::TooLong { .. }));
+            let long = format!("need more than {MAX_DECIMALS} decimal places");
+            let why = match (repeats, too_long) {
+                (true, true) => format!("have no finite decimal expansion or {long}"),
+                (true, false) => "have no finite decimal expansion".to_string(),
+                (false, _) => long,
+            };
+            let names: Vec<String> = many.iter().map(|(b, _)| format!("`{b}`")).collect();
+            Some(format!(
+                "note: {} blocks take exact fractions, since some of their new weights {why}: {} \
+                 (`--format json` gives each block's reason)\n",
+                many.len(),
+                names.join(", ")
+            ))
+        }
+    }
 }
 
 #[cfg(test)]
@@ -1415,5 +1447,49 @@ mod tests {
             "6 tests in 2 grammars: 3 passed, 1 failed, 2 not run (20 of 21 cases held)"
         );
         assert_eq!(test_summary(&Tally::default()), "no tests found");
+    }
+
+    /// Why `weight` (as written) cannot be written exactly as a decimal.
+    fn not_a_decimal(weight: &str) -> NotExact {
+        let (value, _) = grammar_lang::weight::parse_weight(weight).unwrap();
+        grammar_lang::weight::write_exact(&value, grammar_lang::model::Notation::Decimal)
+            .unwrap_err()
+    }
+
+    #[test]
+    fn blocks_that_take_fractions_after_a_fit_are_one_note_however_many() {
+        assert_eq!(fallback_note(&[]), None);
+        // One block: its reason in full.
+        let third = ("Lamp".to_string(), not_a_decimal("1/3"));
+        assert_eq!(
+            fallback_note(std::slice::from_ref(&third)).unwrap(),
+            "note: `Lamp` takes exact fractions: decimals cannot be exact here: 1/3 has no \
+             finite decimal expansion\n"
+        );
+        // Several: one line with every name, the reasons in brief. 1/128 =
+        // 0.0078125 has seven decimal places.
+        let repeating = [third.clone(), ("Weather".to_string(), not_a_decimal("2/3"))];
+        assert_eq!(
+            fallback_note(&repeating).unwrap(),
+            "note: 2 blocks take exact fractions, since some of their new weights have no \
+             finite decimal expansion: `Lamp`, `Weather` (`--format json` gives each block's \
+             reason)\n"
+        );
+        let long = ("Status".to_string(), not_a_decimal("1/128"));
+        assert_eq!(
+            fallback_note(&[long.clone(), long.clone()]).unwrap(),
+            "note: 2 blocks take exact fractions, since some of their new weights need more \
+             than 6 decimal places: `Status`, `Status` (`--format json` gives each block's \
+             reason)\n"
+        );
+        let mixed = fallback_note(&[third, long]).unwrap();
+        assert!(
+            mixed.starts_with(
+                "note: 2 blocks take exact fractions, since some of their new weights have no \
+                 finite decimal expansion or need more than 6 decimal places: `Lamp`, `Status` "
+            ),
+            "{mixed}"
+        );
+        assert_eq!(mixed.lines().count(), 1);
     }
 }

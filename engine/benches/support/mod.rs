@@ -6,20 +6,10 @@ use grammar_lang::model::{Grammar, NtId, Rule, Sym};
 use grammar_lang::{FileId, Location, Span};
 use num_bigint::BigInt;
 
-/// SplitMix64 (Steele, Lea & Flood 2014).
-pub struct Rng(pub u64);
-impl Rng {
-    pub fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-    pub fn below(&mut self, n: usize) -> usize {
-        (self.next() % n as u64) as usize
-    }
-}
+/// The tests' generator, the same draws from the same seeds.
+#[path = "../../tests/parse_support/rng.rs"]
+mod rng;
+pub use rng::Rng;
 
 fn push(g: &mut Grammar, lhs: NtId, rhs: Vec<Sym>, weight: u64, sum: u64) {
     let loc = Location::new(FileId(0), Span::new(0, 0));

@@ -9,6 +9,9 @@ use grammar_lang::tree::Tree;
 use std::collections::HashMap;
 use trellis_test_support::grammars::{grammar_text, ASTRONOMERS};
 
+mod rng;
+pub use rng::Rng;
+
 /// Analyses the grammar of `grammar_text` with the front end; it must have
 /// no errors.
 pub fn grammar(start: &str, rules: &[(&str, &str, &str)]) -> Grammar {
@@ -38,23 +41,6 @@ pub fn rel(a: f64, b: f64) -> f64 {
         0.0
     } else {
         (a - b).abs() / a.abs().max(b.abs())
-    }
-}
-
-/// SplitMix64 (Steele, Lea & Flood 2014): a small seeded generator.
-pub struct Rng(pub u64);
-
-impl Rng {
-    pub fn next(&mut self) -> u64 {
-        self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-        let mut z = self.0;
-        z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-        z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-        z ^ (z >> 31)
-    }
-
-    pub fn below(&mut self, n: usize) -> usize {
-        (self.next() % n as u64) as usize
     }
 }
 
