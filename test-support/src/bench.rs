@@ -15,20 +15,21 @@ pub fn cpu_time_ns(f: impl FnOnce()) -> Option<f64> {
 
 /// The thread's CPU time per call of each of `fs`, in nanoseconds: the
 /// least of `rounds` rounds, each calling every `f` in turn (so a busy
-/// moment of the shared machine weighs on all of them) and repeating it
-/// until it has taken at least `min_ns` (the CPU clock may tick
-/// coarsely). `NaN` where the clock cannot be read.
+/// moment of the shared machine weighs on all of them), as often as fits
+/// in `min_ns` of wall-clock time and at least once, between two readings
+/// of the clock (which may advance only at scheduler ticks: a reading per
+/// call would round every call). `NaN` where the clock cannot be read.
 pub fn least_cpu_times(rounds: usize, min_ns: f64, fs: &[&dyn Fn()]) -> Vec<f64> {
     let once = |f: &dyn Fn()| {
-        let (mut spent, mut calls) = (0.0, 0u32);
-        while spent < min_ns {
-            match cpu_time_ns(f) {
-                Some(ns) => spent += ns,
-                None => return f64::NAN,
+        let started = std::time::Instant::now();
+        let mut calls = 0u32;
+        let spent = cpu_time_ns(|| {
+            while calls == 0 || started.elapsed().as_secs_f64() * 1e9 < min_ns {
+                f();
+                calls += 1;
             }
-            calls += 1;
-        }
-        spent / f64::from(calls)
+        });
+        spent.map_or(f64::NAN, |ns| ns / f64::from(calls))
     };
     let mut least = vec![f64::INFINITY; fs.len()];
     for _ in 0..rounds {
