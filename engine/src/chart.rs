@@ -69,13 +69,11 @@ pub trait Spread: Send + Sync {
     /// have finished.
     fn run<'a>(&self, tasks: Vec<Task<'a>>);
     /// The estimated work (in rule visits, [`cell_work`]) of one span
-    /// length's cells below which the calling thread fills them alone.
-    /// Handing work to other threads costs a few microseconds, and the
-    /// estimate is generous where cells hold few symbols; 4 M was the
-    /// least that never slowed the generated 300-symbol grammar down at 40
-    /// words on two cores (`cargo bench -p trellis-engine --bench parse`).
+    /// length's cells below which the calling thread fills them alone:
+    /// about a millisecond, against the tens of microseconds it can take
+    /// to wake another thread on a virtual machine.
     fn min_work(&self) -> u64 {
-        4_000_000
+        1_000_000
     }
 }
 
