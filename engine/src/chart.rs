@@ -430,33 +430,10 @@ pub(crate) mod kernels {
         right: &[f64],
         pre: &mut [f64],
     ) {
-        let n = right.len();
-        assert_eq!(pre.len(), n);
-        assert!(base + n < table.len());
-        for &c in rp {
-            let c = c as usize;
-            assert!(c < n);
-            // SAFETY: base + c + 1 ≤ base + n < table.len() (asserted above).
-            let (s, e) = unsafe {
-                (
-                    *table.get_unchecked(base + c) as usize,
-                    *table.get_unchecked(base + c + 1) as usize,
-                )
-            };
-            if s < e {
-                let lbc = lb + right[c];
-                for rule in &rules[s..e] {
-                    let a = rule.parent as usize;
-                    debug_assert!(a < n);
-                    // SAFETY: a < n_sym = pre.len() (see module doc).
-                    unsafe {
-                        let cand = rule.lp + lbc;
-                        let slot = pre.get_unchecked_mut(a);
-                        *slot = if cand > *slot { cand } else { *slot };
-                    }
-                }
-            }
-        }
+        assert_eq!(pre.len(), right.len());
+        each_pair(table, base, right.len(), rp, |c, s, e| {
+            max_rules(&rules[s..e], lb + right[c], pre)
+        });
     }
 
     /// The same over the set bits of `bmask & rmask` (the right children of
@@ -473,8 +450,82 @@ pub(crate) mod kernels {
         right: &[f64],
         pre: &mut [f64],
     ) {
-        let n = right.len();
-        assert_eq!(pre.len(), n);
+        assert_eq!(pre.len(), right.len());
+        each_masked_pair(table, base, right.len(), bmask, rmask, |c, s, e| {
+            max_rules(&rules[s..e], lb + right[c], pre)
+        });
+    }
+
+    /// `pre[A] = max(pre[A], lp + lbc)` for each of `rules`.
+    #[inline(always)]
+    fn max_rules(rules: &[BinRule], lbc: f64, pre: &mut [f64]) {
+        let n = pre.len();
+        for rule in rules {
+            let a = rule.parent as usize;
+            debug_assert!(a < n);
+            // SAFETY: a < n_sym = pre.len() (see module doc).
+            unsafe {
+                let cand = rule.lp + lbc;
+                let slot = pre.get_unchecked_mut(a);
+                // A select, not a branch: which rule wins is unpredictable.
+                *slot = if cand > *slot { cand } else { *slot };
+            }
+        }
+    }
+
+    /// `acc[A] += p · lbc` for each of `rules`.
+    #[inline(always)]
+    fn sum_rules<L: Lane>(rules: &[LinRule], lbc: L, acc: &mut [L]) {
+        let n = acc.len();
+        for rule in rules {
+            let a = rule.parent as usize;
+            debug_assert!(a < n);
+            // SAFETY: a < n_sym = acc.len() (see module doc).
+            unsafe {
+                let slot = acc.get_unchecked_mut(a);
+                *slot = slot.add(lbc.weighted(rule.p));
+            }
+        }
+    }
+
+    /// `visit(c, s, e)` for each symbol `c` of `rp` that has rules with the
+    /// left child of row `base` of the pair table: `s..e`, never empty.
+    #[inline(always)]
+    fn each_pair(
+        table: &[u32],
+        base: usize,
+        n: usize,
+        rp: &[u32],
+        mut visit: impl FnMut(usize, usize, usize),
+    ) {
+        assert!(base + n < table.len());
+        for &c in rp {
+            let c = c as usize;
+            assert!(c < n);
+            // SAFETY: base + c + 1 ≤ base + n < table.len() (asserted above).
+            let (s, e) = unsafe {
+                (
+                    *table.get_unchecked(base + c) as usize,
+                    *table.get_unchecked(base + c + 1) as usize,
+                )
+            };
+            if s < e {
+                visit(c, s, e);
+            }
+        }
+    }
+
+    /// The same for the set bits of `bmask & rmask` (every pair a bit of
+    /// `bmask` stands for has rules).
+    #[inline(always)]
+    fn each_masked_pair(
+        table: &[u32],
+        base: usize,
+        n: usize,
+        bmask: &[u64],
+        rmask: &[u64],
+        mut visit: impl FnMut(usize, usize, usize),
+    ) {
         assert!(base + n < table.len() && bmask.len() == rmask.len() && bmask.len() * 64 >= n);
         for (w, (&bm, &rm)) in bmask.iter().zip(rmask).enumerate() {
             let mut m = bm & rm;
@@ -482,18 +533,7 @@ pub(crate) mod kernels {
                 let c = w * 64 + m.trailing_zeros() as usize;
                 m &= m - 1;
                 // Bits are only set for symbols < n.
-                let (s, e) = (table[base + c] as usize, table[base + c + 1] as usize);
-                let lbc = lb + right[c];
-                for rule in &rules[s..e] {
-                    let a = rule.parent as usize;
-                    debug_assert!(a < n);
-                    // SAFETY: a < n_sym = pre.len() (see module doc).
-                    unsafe {
-                        let cand = rule.lp + lbc;
-                        let slot = pre.get_unchecked_mut(a);
-                        *slot = if cand > *slot { cand } else { *slot };
-                    }
-                }
+                visit(c, table[base + c] as usize, table[base + c + 1] as usize);
             }
         }
     }
@@ -511,27 +551,10 @@ pub(crate) mod kernels {
         right: &[L],
         acc: &mut [L],
     ) {
-        let n = right.len();
-        assert_eq!(acc.len(), n);
-        assert!(base + n < table.len() && bmask.len() == rmask.len() && bmask.len() * 64 >= n);
-        for (w, (&bm, &rm)) in bmask.iter().zip(rmask).enumerate() {
-            let mut m = bm & rm;
-            while m != 0 {
-                let c = w * 64 + m.trailing_zeros() as usize;
-                m &= m - 1;
-                let (s, e) = (table[base + c] as usize, table[base + c + 1] as usize);
-                let lbc = lb.mul(right[c]);
-                for rule in &rules[s..e] {
-                    let a = rule.parent as usize;
-                    debug_assert!(a < n);
-                    // SAFETY: a < n_sym = acc.len() (see module doc).
-                    unsafe {
-                        let slot = acc.get_unchecked_mut(a);
-                        *slot = slot.add(lbc.weighted(rule.p));
-                    }
-                }
-            }
-        }
+        assert_eq!(acc.len(), right.len());
+        each_masked_pair(table, base, right.len(), bmask, rmask, |c, s, e| {
+            sum_rules(&rules[s..e], lb.mul(right[c]), acc)
+        });
     }
 
     /// Appends to `out`, in increasing order, the symbols whose score in
@@ -627,31 +650,9 @@ pub(crate) mod kernels {
         right: &[L],
         acc: &mut [L],
     ) {
-        let n = right.len();
-        assert_eq!(acc.len(), n);
-        assert!(base + n < table.len());
-        for &c in rp {
-            let c = c as usize;
-            assert!(c < n);
-            // SAFETY: base + c + 1 ≤ base + n < table.len() (asserted above).
-            let (s, e) = unsafe {
-                (
-                    *table.get_unchecked(base + c) as usize,
-                    *table.get_unchecked(base + c + 1) as usize,
-                )
-            };
-            if s < e {
-                let lbc = lb.mul(right[c]);
-                for rule in &rules[s..e] {
-                    let a = rule.parent as usize;
-                    debug_assert!(a < n);
-                    // SAFETY: a < n_sym = acc.len() (see module doc).
-                    unsafe {
-                        let slot = acc.get_unchecked_mut(a);
-                        *slot = slot.add(lbc.weighted(rule.p));
-                    }
-                }
-            }
-        }
+        assert_eq!(acc.len(), right.len());
+        each_pair(table, base, right.len(), rp, |c, s, e| {
+            sum_rules(&rules[s..e], lb.mul(right[c]), acc)
+        });
     }
 }
