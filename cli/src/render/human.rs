@@ -1152,9 +1152,12 @@ pub fn fit_summary(
 /// The note on the blocks a fit writes in exact fractions because their
 /// new weights cannot be written exactly in their own notation: one line
 /// however many there are. One block gets its reason in full; several get
-/// the kinds of reason and the list of their names (`--format json` keeps
-/// each block's reason).
+/// the kinds of reason and their names, the first twelve of
+/// them (`--format json` keeps each block's reason).
 fn fallback_note(fallbacks: &[(String, NotExact)]) -> Option<String> {
+    /// The most block names the note lists (a learned grammar may have
+    /// hundreds of blocks).
+    const FALLBACK_NAMES: usize = 12;
     match fallbacks {
         [] => None,
         [(block, why)] => Some(format!("note: `{block}` takes exact fractions: {why}\n")),
@@ -1169,7 +1172,14 @@ fn fallback_note(fallbacks: &[(String, NotExact)]) -> Option<String> {
                 (true, false) => "have no finite decimal expansion".to_string(),
                 (false, _) => long,
             };
-            let names: Vec<String> = many.iter().map(|(b, _)| format!("`{b}`")).collect();
+            let mut names: Vec<String> = many
+                .iter()
+                .take(FALLBACK_NAMES)
+                .map(|(b, _)| format!("`{b}`"))
+                .collect();
+            if many.len() > FALLBACK_NAMES {
+                names.push(format!("and {} more", many.len() - FALLBACK_NAMES));
+            }
             Some(format!(
                 "note: {} blocks take exact fractions, since some of their new weights {why}: {} \
                  (`--format json` gives each block's reason)\n",
@@ -1491,5 +1501,19 @@ mod tests {
             "{mixed}"
         );
         assert_eq!(mixed.lines().count(), 1);
+        // Many: the first twelve names and how many more.
+        let many: Vec<(String, NotExact)> = (0..15)
+            .map(|n| (format!("B{n}"), not_a_decimal("1/3")))
+            .collect();
+        let note = fallback_note(&many).unwrap();
+        assert!(
+            note.starts_with("note: 15 blocks take exact fractions"),
+            "{note}"
+        );
+        assert!(
+            note.contains("`B10`, `B11`, and 3 more (`--format json`"),
+            "{note}"
+        );
+        assert!(!note.contains("`B12`"), "{note}");
     }
 }
