@@ -267,3 +267,29 @@ pub fn seconds(text: &str) -> Result<f64, String> {
         _ => Err(format!("`{text}` is not a number of seconds above 0")),
     }
 }
+
+/// How `learn` and `fit` clean treebank trees before reading them.
+#[derive(clap::Args, Debug, Clone)]
+pub struct CleaningArgs {
+    /// Strip function tags and indices from labels (`NP-SBJ-1` → `NP`)
+    #[arg(long)]
+    pub strip_functions: bool,
+
+    /// Drop empty elements (`-NONE-`) and the nodes they leave empty
+    #[arg(long)]
+    pub drop_empty: bool,
+
+    /// Collapse unary chains of one label (`(NP (NP …))` → `(NP …)`)
+    #[arg(long)]
+    pub collapse_unary: bool,
+}
+
+impl CleaningArgs {
+    pub fn cleaning(&self) -> trellis_treebank::Cleaning {
+        trellis_treebank::Cleaning {
+            strip_functions: self.strip_functions,
+            drop_empty: self.drop_empty,
+            collapse_unary: self.collapse_unary,
+        }
+    }
+}

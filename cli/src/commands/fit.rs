@@ -4,11 +4,10 @@
 use super::{Outcome, Ran};
 use crate::output::{emit, Format, Stream, Term};
 use crate::render::{human, json};
-use crate::shared::{fail, load};
+use crate::shared::{fail, load, CleaningArgs};
 use std::path::PathBuf;
 use trellis_project::fit::{fit_grammar, FitError, Fitted, Fitting};
 use trellis_treebank::fit::Smoothing;
-use trellis_treebank::Cleaning;
 
 pub const LONG_ABOUT: &str =
     "Re-estimate a grammar's weights from trees written in its symbols.\n\n\
@@ -74,17 +73,8 @@ pub struct FitArgs {
     #[arg(long, value_enum, default_value_t = Format::Human)]
     pub format: Format,
 
-    /// Strip function tags and indices from labels (`NP-SBJ-1` → `NP`)
-    #[arg(long)]
-    pub strip_functions: bool,
-
-    /// Drop empty elements (`-NONE-`) and the nodes they leave empty
-    #[arg(long)]
-    pub drop_empty: bool,
-
-    /// Collapse unary chains of one label (`(NP (NP …))` → `(NP …)`)
-    #[arg(long)]
-    pub collapse_unary: bool,
+    #[command(flatten)]
+    pub cleaning: CleaningArgs,
 
     /// Skip malformed trees and trees the grammar does not produce (each
     /// is reported, with a count) instead of stopping at the first
@@ -100,11 +90,7 @@ pub fn run(args: &FitArgs, term: Term) -> Ran {
     let analysis = load(&args.grammar)?;
     let how = Fitting {
         smoothing: args.smoothing.clone(),
-        cleaning: Cleaning {
-            strip_functions: args.strip_functions,
-            drop_empty: args.drop_empty,
-            collapse_unary: args.collapse_unary,
-        },
+        cleaning: args.cleaning.cleaning(),
         keep_going: args.keep_going,
     };
     let fitted = match fit_grammar(&analysis, &args.grammar, &args.treebanks, &how) {

@@ -3,11 +3,11 @@
 
 use super::{Outcome, Ran};
 use crate::output::{emit, Stream};
-use crate::shared::fail;
+use crate::shared::{fail, CleaningArgs};
 use std::io::IsTerminal;
 use std::path::PathBuf;
 use trellis_project::learn::{learn_from_files, learned_source, Learning};
-use trellis_treebank::{Cleaning, Markov};
+use trellis_treebank::Markov;
 
 pub const LONG_ABOUT: &str = "Learn a grammar from annotated trees.\n\n\
     Reads labelled-bracket trees (`(S (NP (DT the) (NN ferry)) (VP …))`, any \
@@ -59,17 +59,8 @@ pub struct LearnArgs {
     #[arg(long)]
     pub lossless: bool,
 
-    /// Strip function tags and indices from labels (`NP-SBJ-1` → `NP`)
-    #[arg(long)]
-    pub strip_functions: bool,
-
-    /// Drop empty elements (`-NONE-`) and the nodes they leave empty
-    #[arg(long)]
-    pub drop_empty: bool,
-
-    /// Collapse unary chains of one label (`(NP (NP …))` → `(NP …)`)
-    #[arg(long)]
-    pub collapse_unary: bool,
+    #[command(flatten)]
+    pub cleaning: CleaningArgs,
 
     /// Words seen at most K times also count for the unseen-word class of
     /// their shape (`"<unseen:capitalised>"`, …), so the grammar reads
@@ -93,11 +84,7 @@ pub fn run(args: &LearnArgs) -> Ran {
             horizontal: args.horizontal,
             vertical: args.vertical,
         },
-        cleaning: Cleaning {
-            strip_functions: args.strip_functions,
-            drop_empty: args.drop_empty,
-            collapse_unary: args.collapse_unary,
-        },
+        cleaning: args.cleaning.cleaning(),
         keep_going: args.keep_going,
         rare: args.rare,
     };
