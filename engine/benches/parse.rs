@@ -32,8 +32,8 @@ use support::{generated_grammar, Rng, WORDS};
 use trellis_engine::parser::{
     Beam, ParseOptions, Parser, Spread, Task, Workers, DEFAULT_MAX_CHART_BYTES,
 };
-use trellis_test_support::bench::{cpu_time_ns, least_cpu_times};
-use trellis_test_support::dense_cky::DenseCky;
+use trellis_test_support::bench::cpu_time_ns;
+use trellis_test_support::dense_cky::AgainstDense;
 
 fn bench_generated(c: &mut Criterion) {
     for ambiguity in [0, 4] {
@@ -161,11 +161,10 @@ fn parsable_sentences(parser: &Parser, seed: u64, len: usize) -> Vec<Vec<String>
 }
 
 /// Prints the time of the Viterbi pass (best tree) and of the inside pass
-/// (a parse without count, less the best tree) against [`DenseCky`] on the
+/// (a parse without count, less the best tree) against the dense CKY of `trellis_test_support` on the
 /// same sentences, in thread CPU time, and the chart bytes per sentence.
 fn report_against_baseline(g: &Grammar, ambiguity: usize, len: usize) {
     let parser = Parser::new(g).expect("the generated grammar compiles");
-    let (base_max, base_sum) = (DenseCky::new(g, true), DenseCky::new(g, false));
     let sentences = parsable_sentences(&parser, len as u64, len);
     let options = ParseOptions {
         kbest: 1,
@@ -173,47 +172,23 @@ fn report_against_baseline(g: &Grammar, ambiguity: usize, len: usize) {
         explain: false,
         ..ParseOptions::default()
     };
-    // The machine is shared: the thread's CPU time, rounds of the four
-    // measurements interleaved (so that a busy moment weighs on all of
-    // them), the least of five rounds of at least 0.1 s each (the CPU
-    // clock may tick coarsely); per sentence.
-    let each = |f: &dyn Fn(&Vec<String>)| sentences.iter().for_each(f);
-    let least: Vec<f64> = least_cpu_times(
-        5,
-        1e8,
-        &[
-            &|| {
-                each(&|s| {
-                    black_box(base_max.parse(s));
-                })
-            },
-            &|| {
-                each(&|s| {
-                    black_box(base_sum.parse(s));
-                })
-            },
-            &|| {
-                each(&|s| {
-                    black_box(parser.best_tree(s, DEFAULT_MAX_CHART_BYTES).expect("fits"));
-                })
-            },
-            &|| {
-                each(&|s| {
-                    black_box(parser.parse(s, &options).expect("fits"));
-                })
-            },
-        ],
-    )
-    .into_iter()
-    .map(|t| t / sentences.len() as f64)
-    .collect();
-    let [base_vit, base_ins, vit, full] = least[..] else {
+    // The machine is shared: thread CPU time, the four measurements
+    // interleaved, least of five rounds.
+    let Some(times) = AgainstDense::measure(
+        g,
+        &sentences,
+        &|s| {
+            black_box(parser.best_tree(s, DEFAULT_MAX_CHART_BYTES).expect("fits"));
+        },
+        &|s| {
+            black_box(parser.parse(s, &options).expect("fits"));
+        },
+    ) else {
         return;
     };
-    let ins = full - vit;
     eprintln!(
-        "baseline ratio, ambiguity {ambiguity}, {len} words: Viterbi {:.2}× ({:.2} vs {:.2} ms), inside {:.2}× ({:.2} vs {:.2} ms); chart {:.1} MiB per sentence",
-        base_vit / vit, vit / 1e6, base_vit / 1e6, base_ins / ins, ins / 1e6, base_ins / 1e6,
+        "baseline ratio, ambiguity {ambiguity}, {len} words: {}; chart {:.1} MiB per sentence",
+        times.describe(),
         parser.chart_bytes(len, &options) as f64 / (1 << 20) as f64
     );
     // One long sentence on one and on two threads (wall clock, least of

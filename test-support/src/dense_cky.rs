@@ -114,3 +114,75 @@ impl DenseCky {
         chart[at(0, n) + self.start]
     }
 }
+
+/// What the benchmarks compare, in thread CPU time per sentence
+/// (nanoseconds): the dense CKY's Viterbi and inside passes, and the
+/// engine's Viterbi pass (its best tree) and inside pass (a parse without
+/// count, less the best tree).
+#[derive(Clone, Copy, Debug)]
+pub struct AgainstDense {
+    pub dense_viterbi: f64,
+    pub dense_inside: f64,
+    pub viterbi: f64,
+    pub inside: f64,
+}
+
+impl AgainstDense {
+    /// Times both on `sentences`, with `best` and `full` the engine's best
+    /// tree and parse of one sentence: the four measurements interleaved,
+    /// least of five rounds of at least 0.1 s
+    /// ([`crate::bench::least_cpu_times`]). `None` where the CPU clock
+    /// cannot be read.
+    pub fn measure(
+        grammar: &Grammar,
+        sentences: &[Vec<String>],
+        best: &dyn Fn(&[String]),
+        full: &dyn Fn(&[String]),
+    ) -> Option<AgainstDense> {
+        let (max, sum) = (DenseCky::new(grammar, true), DenseCky::new(grammar, false));
+        let each = |f: &dyn Fn(&[String])| sentences.iter().for_each(|s| f(s));
+        let least = crate::bench::least_cpu_times(
+            5,
+            1e8,
+            &[
+                &|| {
+                    each(&|s| {
+                        std::hint::black_box(max.parse(s));
+                    })
+                },
+                &|| {
+                    each(&|s| {
+                        std::hint::black_box(sum.parse(s));
+                    })
+                },
+                &|| each(best),
+                &|| each(full),
+            ],
+        );
+        let per = |ns: f64| ns / sentences.len() as f64;
+        match least[..] {
+            [dense_viterbi, dense_inside, viterbi, full] if least.iter().all(|t| t.is_finite()) => {
+                Some(AgainstDense {
+                    dense_viterbi: per(dense_viterbi),
+                    dense_inside: per(dense_inside),
+                    viterbi: per(viterbi),
+                    inside: per(full - viterbi),
+                })
+            }
+            _ => None,
+        }
+    }
+
+    /// "Viterbi R× (engine vs dense ms), inside R× (…)".
+    pub fn describe(&self) -> String {
+        format!(
+            "Viterbi {:.2}× ({:.3} vs {:.3} ms), inside {:.2}× ({:.3} vs {:.3} ms)",
+            self.dense_viterbi / self.viterbi,
+            self.viterbi / 1e6,
+            self.dense_viterbi / 1e6,
+            self.dense_inside / self.inside,
+            self.inside / 1e6,
+            self.dense_inside / 1e6
+        )
+    }
+}

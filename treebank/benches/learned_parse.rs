@@ -33,8 +33,8 @@ use std::hint::black_box;
 use trellis_engine::parser::{ParseOptions, Parser, DEFAULT_MAX_CHART_BYTES};
 use trellis_engine::rng::SplitMix64;
 use trellis_engine::sample::Sampler;
-use trellis_test_support::bench::{cpu_time_ns, least_cpu_times};
-use trellis_test_support::dense_cky::DenseCky;
+use trellis_test_support::bench::cpu_time_ns;
+use trellis_test_support::dense_cky::AgainstDense;
 use trellis_treebank::learn::{Counts, LearnOptions};
 use trellis_treebank::Markov;
 
@@ -346,49 +346,20 @@ fn bench(c: &mut Criterion) {
     .filter(|s| s.len() == SENTENCE_WORDS && parser.unseen_words(s).is_empty())
     .take(SENTENCES)
     .collect();
-    let (dense_max, dense_sum) = (
-        DenseCky::new(&learned.grammar, true),
-        DenseCky::new(&learned.grammar, false),
-    );
-    let each = |f: &dyn Fn(&Vec<String>)| known.iter().for_each(f);
-    let least = least_cpu_times(
-        5,
-        1e8,
-        &[
-            &|| {
-                each(&|s| {
-                    black_box(dense_max.parse(s));
-                })
-            },
-            &|| {
-                each(&|s| {
-                    black_box(dense_sum.parse(s));
-                })
-            },
-            &|| {
-                each(&|s| {
-                    black_box(parser.best_tree(s, DEFAULT_MAX_CHART_BYTES).expect("fits"));
-                })
-            },
-            &|| {
-                each(&|s| {
-                    black_box(parser.parse(s, &options).expect("fits"));
-                })
-            },
-        ],
-    );
-    if let [base_vit, base_ins, vit, full] = least[..] {
-        let per = |ns: f64| ns / 1e6 / known.len() as f64;
+    if let Some(times) = AgainstDense::measure(
+        &learned.grammar,
+        &known,
+        &|s| {
+            black_box(parser.best_tree(s, DEFAULT_MAX_CHART_BYTES).expect("fits"));
+        },
+        &|s| {
+            black_box(parser.parse(s, &options).expect("fits"));
+        },
+    ) {
         eprintln!(
-            "{name}: baseline ratio, {} sentences of known words: Viterbi {:.2}× ({:.3} vs {:.3} \
-             ms), inside {:.2}× ({:.3} vs {:.3} ms)",
+            "{name}: baseline ratio, {} sentences of known words: {}",
             known.len(),
-            base_vit / vit,
-            per(vit),
-            per(base_vit),
-            base_ins / (full - vit),
-            per(full - vit),
-            per(base_ins)
+            times.describe()
         );
     }
     let mut group = c.benchmark_group(name);
