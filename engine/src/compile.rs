@@ -172,6 +172,9 @@ pub struct CompiledGrammar {
     pub(crate) sum_closure: Vec<Vec<(u32, f64)>>,
     /// By child `B`: `(A, number of chains A ⇒* B)`, diagonal included.
     pub(crate) count_closure: Vec<Vec<(u32, Count)>>,
+    /// The same as doubles, when every chain count is finite and below
+    /// 2⁵³ (exact in a double): the inside pass counts parses then.
+    pub(crate) exact_count_closure: Option<Vec<Vec<(u32, f64)>>>,
     /// The smallest log-probability of any compiled rule.
     pub(crate) min_lp: f64,
     /// The user's rules with positive probability, for explanations.
@@ -355,6 +358,7 @@ impl CompiledGrammar {
             vit_closure: closures.vit,
             best_first: closures.best_first,
             sum_closure: closures.sum,
+            exact_count_closure: exact_chain_counts(&closures.count),
             count_closure: closures.count,
             min_lp,
             user_rules,
@@ -765,4 +769,23 @@ fn invert_m_matrix(m: &[Vec<f64>]) -> Option<Vec<Vec<f64>>> {
         *v = v.max(0.0);
     }
     Some(inv)
+}
+
+/// Integers below this are exact in a double.
+pub(crate) const EXACT_IN_F64: u64 = 1 << 53;
+
+/// Chain counts as doubles, when all are finite and below 2⁵³ (`None`
+/// otherwise: the counting pass takes those grammars).
+fn exact_chain_counts(count: &[Vec<(u32, Count)>]) -> Option<Vec<Vec<(u32, f64)>>> {
+    count
+        .iter()
+        .map(|row| {
+            row.iter()
+                .map(|(a, w)| {
+                    let w = u64::try_from(w.finite()?).ok()?;
+                    (w < EXACT_IN_F64).then_some((*a, w as f64))
+                })
+                .collect()
+        })
+        .collect()
 }

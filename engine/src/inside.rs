@@ -13,7 +13,7 @@ use crate::chart::kernels::{self, Counted, Lane};
 use crate::chart::{
     cell_work, fill_cells, log_add, Groups, Layout, Scratches, Stopped, Watch, Workers,
 };
-use crate::compile::{CompiledGrammar, Visit};
+use crate::compile::{CompiledGrammar, Visit, EXACT_IN_F64 as EXACT};
 use crate::viterbi::ViterbiChart;
 
 /// Dynamic range, in nats, that the scaled path handles: four factors of at
@@ -76,7 +76,7 @@ pub(crate) fn fill(
         workers,
     };
     let layout = vit.layout;
-    let closure = if count { exact_chain_counts(g) } else { None };
+    let closure = g.exact_count_closure.as_ref().filter(|_| count);
     let Some(closure) = closure else {
         let mut state = State::<f64>::new(layout);
         for len in 1..=layout.n {
@@ -86,7 +86,7 @@ pub(crate) fn fill(
     };
     let mut state = State::<Counted>::new(layout);
     for len in 1..=layout.n {
-        pass.fill_length(&mut state, len, &closure)?;
+        pass.fill_length(&mut state, len, closure)?;
     }
     let root = state.lin[layout.cell(0, layout.n) * layout.n_sym + g.start as usize].count;
     let counts = if root < EXACT as f64 {
@@ -107,25 +107,6 @@ pub(crate) fn fill(
     };
     Ok((state.into_chart(), Some(counts)))
 }
-
-/// The grammar's unary chain counts as doubles, when all are finite and
-/// below 2⁵³ (`None` otherwise: the counting pass takes those grammars).
-fn exact_chain_counts(g: &CompiledGrammar) -> Option<Vec<Vec<(u32, f64)>>> {
-    g.count_closure
-        .iter()
-        .map(|row| {
-            row.iter()
-                .map(|(a, w)| {
-                    let w = u64::try_from(w.finite()?).ok()?;
-                    (w < EXACT).then_some((*a, w as f64))
-                })
-                .collect()
-        })
-        .collect()
-}
-
-/// Integers below this are exact in a double.
-const EXACT: u64 = 1 << 53;
 
 /// What a chart item holds in the scaled rows: the probability, and with
 /// [`Counted`] the parse count too.
@@ -191,7 +172,7 @@ impl<L: Item> State<L> {
             lin: vec![L::default(); items],
             max: vec![f64::NEG_INFINITY; cells],
             wide: vec![false; cells],
-            inexact: vec![false; if L::COUNTS { cells } else { 0 }],
+            inexact: vec![false; cells],
         }
     }
 
@@ -231,17 +212,11 @@ impl Pass<'_> {
         let (lin_done, lin_rest) = state.lin.split_at_mut(first * n_sym);
         let (max_done, max_rest) = state.max.split_at_mut(first);
         let (wide_done, wide_rest) = state.wide.split_at_mut(first);
-        let mut no_flags = vec![false; count];
-        let inexact_rest = if L::COUNTS {
-            &mut state.inexact[first..first + count]
-        } else {
-            &mut no_flags[..]
-        };
         let mut outs: Vec<Out<L>> = log_rest[..count * n_sym]
             .chunks_mut(n_sym)
             .zip(lin_rest[..count * n_sym].chunks_mut(n_sym))
             .zip(max_rest[..count].iter_mut().zip(&mut wide_rest[..count]))
-            .zip(inexact_rest.iter_mut())
+            .zip(state.inexact[first..first + count].iter_mut())
             .map(|(((log, lin), (max, wide)), inexact)| Out {
                 log,
                 lin,
