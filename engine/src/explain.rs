@@ -16,7 +16,7 @@ use crate::compile::{CompiledGrammar, Item};
 use crate::viterbi::ViterbiChart;
 use grammar_lang::check::suggest::distance as edit_distance;
 use grammar_lang::syntax::lexer::quote;
-use std::collections::{BTreeSet, HashSet};
+use std::collections::{BTreeSet, HashMap, HashSet};
 use std::fmt;
 
 /// How many expected words a breakdown lists before summarising the rest.
@@ -257,59 +257,88 @@ fn fragments(g: &CompiledGrammar, words: &[&str], vit: &ViterbiChart) -> Vec<Fra
 /// An Earley item: user rule, dot position, origin.
 type EarleyItem = (u32, u32, u32);
 
+/// The Earley sets over the user's rules, one per position.
+struct Earley {
+    sets: Vec<Vec<EarleyItem>>,
+    seen: Vec<HashSet<EarleyItem>>,
+    /// Per set, its items waiting for each symbol (in the set's order), so
+    /// that completing a symbol visits only the items that wait for it.
+    waiting: Vec<HashMap<u32, Vec<EarleyItem>>>,
+}
+
+impl Earley {
+    /// Adds `item` to set `at` unless it is there.
+    fn add(&mut self, g: &CompiledGrammar, at: usize, item: EarleyItem) {
+        if self.seen[at].insert(item) {
+            self.push(g, at, item);
+        }
+    }
+
+    /// Adds the rules of a symbol predicted at `at`, with the dot at their
+    /// start: no other step makes such items, and a symbol is predicted
+    /// once per set, so they need no look-up in `seen` (most items of a
+    /// large grammar's sets are these).
+    fn predict(&mut self, g: &CompiledGrammar, at: usize, symbol: u32) {
+        for &r in &g.user_rules_of[symbol as usize] {
+            self.push(g, at, (r, 0, at as u32));
+        }
+    }
+
+    fn push(&mut self, g: &CompiledGrammar, at: usize, item: EarleyItem) {
+        self.sets[at].push(item);
+        if let Some(Item::N(b)) = g.user_rules[item.0 as usize].1.get(item.1 as usize) {
+            self.waiting[at].entry(*b).or_default().push(item);
+        }
+    }
+}
+
+#[allow(clippy::needless_range_loop)] // set `i` is filled while it is read
 fn breakdown(g: &CompiledGrammar, words: &[&str]) -> Breakdown {
     let n = words.len();
-    let mut sets: Vec<Vec<EarleyItem>> = vec![Vec::new(); n + 1];
-    let mut seen: Vec<HashSet<EarleyItem>> = vec![HashSet::new(); n + 1];
-    let add = |sets: &mut Vec<Vec<EarleyItem>>,
-               seen: &mut Vec<HashSet<EarleyItem>>,
-               at: usize,
-               item: EarleyItem| {
-        if seen[at].insert(item) {
-            sets[at].push(item);
-        }
+    let mut chart = Earley {
+        sets: vec![Vec::new(); n + 1],
+        seen: vec![HashSet::new(); n + 1],
+        waiting: vec![HashMap::new(); n + 1],
     };
-    for &r in &g.user_rules_of[g.start as usize] {
-        add(&mut sets, &mut seen, 0, (r, 0, 0));
-    }
+    chart.predict(g, 0, g.start);
     let mut prefix = 0;
     for i in 0..=n {
-        if sets[i].is_empty() {
+        if chart.sets[i].is_empty() {
             break;
         }
         prefix = i;
         let mut predicted: HashSet<u32> = HashSet::new();
+        if i == 0 {
+            predicted.insert(g.start);
+        }
+        // (symbol, origin) pairs completed here: completing one again
+        // would only add items the set has.
+        let mut completed: HashSet<(u32, u32)> = HashSet::new();
         let mut pos = 0;
-        while pos < sets[i].len() {
-            let (r, dot, origin) = sets[i][pos];
+        while pos < chart.sets[i].len() {
+            let (r, dot, origin) = chart.sets[i][pos];
             pos += 1;
             let (lhs, rhs) = &g.user_rules[r as usize];
             match rhs.get(dot as usize) {
                 Some(Item::N(b)) => {
                     if predicted.insert(*b) {
-                        for &r2 in &g.user_rules_of[*b as usize] {
-                            add(&mut sets, &mut seen, i, (r2, 0, i as u32));
-                        }
+                        chart.predict(g, i, *b);
                     }
                 }
                 Some(Item::T(w)) => {
                     if i < n && words[i] == w {
-                        add(&mut sets, &mut seen, i + 1, (r, dot + 1, origin));
+                        chart.add(g, i + 1, (r, dot + 1, origin));
                     }
                 }
                 None => {
                     // No empty rules: the origin set is finished.
-                    let origin = origin as usize;
-                    if origin < i {
-                        let waiting: Vec<EarleyItem> = sets[origin]
-                            .iter()
-                            .copied()
-                            .filter(|&(r2, d2, _)| {
-                                matches!(g.user_rules[r2 as usize].1.get(d2 as usize), Some(Item::N(b)) if b == lhs)
-                            })
-                            .collect();
-                        for (r2, d2, o2) in waiting {
-                            add(&mut sets, &mut seen, i, (r2, d2 + 1, o2));
+                    if (origin as usize) < i && completed.insert((*lhs, origin)) {
+                        let for_lhs = chart.waiting[origin as usize]
+                            .get(lhs)
+                            .cloned()
+                            .unwrap_or_default();
+                        for (r2, d2, o2) in for_lhs {
+                            chart.add(g, i, (r2, d2 + 1, o2));
                         }
                     }
                 }
@@ -317,7 +346,7 @@ fn breakdown(g: &CompiledGrammar, words: &[&str]) -> Breakdown {
         }
     }
     let mut expected: BTreeSet<String> = BTreeSet::new();
-    for &(r, dot, _) in &sets[prefix] {
+    for &(r, dot, _) in &chart.sets[prefix] {
         if let Some(Item::T(w)) = g.user_rules[r as usize].1.get(dot as usize) {
             expected.insert(quote(w));
         }
