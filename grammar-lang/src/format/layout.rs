@@ -313,7 +313,7 @@ impl<'a> Printer<'a> {
                     words[first].span.start as usize,
                     words[i - 1].span.end as usize,
                 );
-                anchors.push((span, std::mem::take(&mut line), false));
+                anchors.push((span, std::mem::take(&mut line), true));
                 first = i;
             }
             if !line.is_empty() {
@@ -325,7 +325,9 @@ impl<'a> Printer<'a> {
             words[first].span.start as usize,
             words[words.len() - 1].span.end as usize,
         );
-        anchors.push((span, line, false));
+        // No word of a row has a doc comment: a `##` right above the
+        // row's first word would start documenting it.
+        anchors.push((span, line, true));
     }
 
     /// The block on one line, if it was written on one line, holds only
