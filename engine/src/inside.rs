@@ -14,6 +14,7 @@ use crate::chart::{
     cell_work, fill_cells, log_add, Groups, Layout, Scratches, Stopped, Watch, Workers,
 };
 use crate::compile::{CompiledGrammar, Visit, EXACT_IN_F64 as EXACT};
+use crate::recycle::{Pool, Recycler};
 use crate::viterbi::ViterbiChart;
 
 /// Dynamic range, in nats, that the scaled path handles: four factors of at
@@ -67,6 +68,7 @@ pub(crate) fn fill(
     watch: Watch,
     workers: &Workers,
     count: bool,
+    recycler: &Recycler,
 ) -> Result<(InsideChart, Option<FusedCounts>), Stopped> {
     let pass = Pass {
         g,
@@ -74,17 +76,18 @@ pub(crate) fn fill(
         vit,
         watch,
         workers,
+        recycler,
     };
     let layout = vit.layout;
     let closure = g.exact_count_closure.as_ref().filter(|_| count);
     let Some(closure) = closure else {
-        let mut state = State::<f64>::new(layout);
+        let mut state = State::<f64>::new(layout, recycler);
         for len in 1..=layout.n {
             pass.fill_length(&mut state, len, &[])?;
         }
-        return Ok((state.into_chart(), None));
+        return Ok((state.into_chart(recycler), None));
     };
-    let mut state = State::<Counted>::new(layout);
+    let mut state = State::<Counted>::new(layout, recycler);
     for len in 1..=layout.n {
         pass.fill_length(&mut state, len, closure)?;
     }
@@ -105,13 +108,17 @@ pub(crate) fn fill(
             exact_cells,
         }
     };
-    Ok((state.into_chart(), Some(counts)))
+    Ok((state.into_chart(recycler), Some(counts)))
 }
 
 /// What a chart item holds in the scaled rows: the probability, and with
 /// [`Counted`] the parse count too.
 trait Item: Lane + Default {
     const COUNTS: bool;
+    /// The recycled arrays of this item type.
+    fn pool(r: &Recycler) -> &Pool<Self>;
+    /// The recycled scratch rows of this item type.
+    fn scratches(r: &Recycler) -> &Scratches<InsideScratch<Self>>;
     fn new(lin: f64, count: f64) -> Self;
     fn lin(self) -> f64;
     fn count(self) -> f64;
@@ -119,6 +126,12 @@ trait Item: Lane + Default {
 
 impl Item for f64 {
     const COUNTS: bool = false;
+    fn pool(r: &Recycler) -> &Pool<f64> {
+        &r.f64s
+    }
+    fn scratches(r: &Recycler) -> &Scratches<InsideScratch<f64>> {
+        &r.inside
+    }
     #[inline(always)]
     fn new(lin: f64, _: f64) -> f64 {
         lin
@@ -135,6 +148,12 @@ impl Item for f64 {
 
 impl Item for Counted {
     const COUNTS: bool = true;
+    fn pool(r: &Recycler) -> &Pool<Counted> {
+        &r.counted
+    }
+    fn scratches(r: &Recycler) -> &Scratches<InsideScratch<Counted>> {
+        &r.inside_counted
+    }
     #[inline(always)]
     fn new(lin: f64, count: f64) -> Counted {
         Counted { lin, count }
@@ -154,7 +173,6 @@ impl Item for Counted {
 /// than [`RANGE`], and whether a count of it reached 2⁵³ (and was capped).
 struct State<L> {
     layout: Layout,
-    scratches: Scratches<Scratch<L>>,
     log: Vec<f64>,
     lin: Vec<L>,
     max: Vec<f64>,
@@ -163,20 +181,25 @@ struct State<L> {
 }
 
 impl<L: Item> State<L> {
-    fn new(layout: Layout) -> State<L> {
+    fn new(layout: Layout, recycler: &Recycler) -> State<L> {
         let (cells, items) = (layout.cells(), layout.cells() * layout.n_sym);
         State {
             layout,
-            scratches: Scratches::new(),
-            log: vec![f64::NEG_INFINITY; items],
-            lin: vec![L::default(); items],
-            max: vec![f64::NEG_INFINITY; cells],
-            wide: vec![false; cells],
-            inexact: vec![false; cells],
+            log: recycler.f64s.take(items, f64::NEG_INFINITY),
+            lin: L::pool(recycler).take(items, L::default()),
+            max: recycler.f64s.take(cells, f64::NEG_INFINITY),
+            wide: recycler.flags.take(cells, false),
+            inexact: recycler.flags.take(cells, false),
         }
     }
 
-    fn into_chart(self) -> InsideChart {
+    /// The log values as the finished chart; the rest goes back to
+    /// `recycler`.
+    fn into_chart(self, recycler: &Recycler) -> InsideChart {
+        L::pool(recycler).give_back(self.lin);
+        recycler.f64s.give_back(self.max);
+        recycler.flags.give_back(self.wide);
+        recycler.flags.give_back(self.inexact);
         InsideChart {
             layout: self.layout,
             log: self.log,
@@ -191,6 +214,7 @@ struct Pass<'a> {
     vit: &'a ViterbiChart,
     watch: Watch<'a>,
     workers: &'a Workers,
+    recycler: &'a Recycler,
 }
 
 impl Pass<'_> {
@@ -240,8 +264,8 @@ impl Pass<'_> {
             self.watch,
             &mut outs,
             work,
-            &state.scratches,
-            || Scratch {
+            L::scratches(self.recycler),
+            || InsideScratch {
                 acc: vec![L::default(); n_sym],
                 acc_log: vec![f64::NEG_INFINITY; n_sym],
                 pre: vec![f64::NEG_INFINITY; n_sym],
@@ -278,7 +302,7 @@ struct Out<'a, L> {
 }
 
 /// One cell's working rows.
-struct Scratch<L> {
+pub(crate) struct InsideScratch<L> {
     acc: Vec<L>,
     acc_log: Vec<f64>,
     pre: Vec<f64>,
@@ -323,13 +347,13 @@ fn fill_cell<L: Item>(
     i: usize,
     j: usize,
     out: &mut Out<L>,
-    scratch: &mut Scratch<L>,
+    scratch: &mut InsideScratch<L>,
 ) {
     let vit = done.vit;
     let layout = vit.layout;
     let n_sym = done.n_sym;
     let tiny_rules = g.min_lp < -RANGE;
-    let Scratch {
+    let InsideScratch {
         acc,
         acc_log,
         pre,

@@ -18,5 +18,6 @@ pub(crate) mod viterbi;
 
 mod linalg;
 mod prob_model;
+mod recycle;
 
 pub use parser::{ParseOptions, ParseOutcome, Parser};

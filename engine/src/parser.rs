@@ -23,6 +23,7 @@ use crate::chart::{Stopped, Watch};
 use crate::compile::{CompileError, CompiledGrammar};
 use crate::count::{count_parses, Count};
 use crate::explain::{explain, Explanation};
+use crate::recycle::Recycler;
 use crate::viterbi::{best_derivation, derivation_logprob, to_user_trees, Deriv};
 use crate::{inside, kbest, viterbi};
 use grammar_lang::model::Grammar;
@@ -203,6 +204,8 @@ impl From<Stopped> for ParseError {
 #[derive(Clone, Debug)]
 pub struct Parser {
     grammar: CompiledGrammar,
+    /// Chart memory kept between parses.
+    recycler: Recycler,
 }
 
 impl Parser {
@@ -212,6 +215,7 @@ impl Parser {
     pub fn new(grammar: &Grammar) -> Result<Parser, CompileError> {
         Ok(Parser {
             grammar: CompiledGrammar::new(grammar)?,
+            recycler: Recycler::new(),
         })
     }
 
@@ -266,12 +270,21 @@ impl Parser {
         let watch = Watch(stop);
         let g = &self.grammar;
         let n = words.len();
-        let mut vit = viterbi::fill(g, &keys, watch, &options.workers, options.beam.as_ref())?;
+        let recycler = &self.recycler;
+        let mut vit = viterbi::fill(
+            g,
+            &keys,
+            watch,
+            &options.workers,
+            options.beam.as_ref(),
+            recycler,
+        )?;
         let mut beam_abandoned = None;
         if vit.pruned && vit.get(0, n, g.start) == f64::NEG_INFINITY {
             // No tree survived the beam: parse exactly instead, and say so
             // when the exact parse has a tree (the beam dropped them all).
-            vit = viterbi::fill(g, &keys, watch, &options.workers, None)?;
+            let exact = viterbi::fill(g, &keys, watch, &options.workers, None, recycler)?;
+            recycler.keep_viterbi(std::mem::replace(&mut vit, exact));
             if vit.get(0, n, g.start) > f64::NEG_INFINITY {
                 beam_abandoned = options.beam;
             }
@@ -279,15 +292,17 @@ impl Parser {
         let beam = options.beam.filter(|_| vit.pruned);
         let root_score = vit.get(0, n, g.start);
         if root_score == f64::NEG_INFINITY {
+            let explanation = options
+                .explain
+                .then(|| in_own_words(explain(g, &keys, &vit), &words));
+            recycler.keep_viterbi(vit);
             return Ok(ParseOutcome {
                 best: None,
                 kbest: Vec::new(),
                 sentence_probability: 0.0,
                 sentence_log_probability: f64::NEG_INFINITY,
                 parse_count: options.count_parses.then(Count::zero),
-                explanation: options
-                    .explain
-                    .then(|| in_own_words(explain(g, &keys, &vit), &words)),
+                explanation,
                 beam,
                 beam_abandoned,
             });
@@ -301,6 +316,7 @@ impl Parser {
             watch,
             &options.workers,
             options.count_parses,
+            recycler,
         )?;
         let sentence_log_probability = ins.get(0, n, g.start);
         let kbest = match options.kbest {
@@ -333,6 +349,8 @@ impl Parser {
         } else {
             None
         };
+        recycler.keep_viterbi(vit);
+        recycler.keep_inside(ins);
         Ok(ParseOutcome {
             best,
             kbest,
@@ -386,9 +404,18 @@ impl Parser {
         let words = self.check_size(words, &options)?;
         let keys = self.keys(&words);
         let g = &self.grammar;
-        let vit = viterbi::fill(g, &keys, Watch(stop), &options.workers, None)?;
-        Ok(best_derivation(g, &vit, &keys, 0, words.len(), g.start)
-            .map(|d| self.tree_of(&keys, &words, &d)))
+        let vit = viterbi::fill(
+            g,
+            &keys,
+            Watch(stop),
+            &options.workers,
+            None,
+            &self.recycler,
+        )?;
+        let best = best_derivation(g, &vit, &keys, 0, words.len(), g.start)
+            .map(|d| self.tree_of(&keys, &words, &d));
+        self.recycler.keep_viterbi(vit);
+        Ok(best)
     }
 
     /// The number of binary-rule evaluations one chart pass makes for
@@ -408,7 +435,14 @@ impl Parser {
         let words = self.check_size(words, &options)?;
         let keys = self.keys(&words);
         let g = &self.grammar;
-        let vit = viterbi::fill(g, &keys, Watch(&|| false), &Workers::default(), None)?;
+        let vit = viterbi::fill(
+            g,
+            &keys,
+            Watch(&|| false),
+            &Workers::default(),
+            None,
+            &self.recycler,
+        )?;
         let layout = vit.layout;
         let mut evals = 0u64;
         for len in 2..=layout.n {
@@ -446,7 +480,7 @@ impl Parser {
         let keys = self.keys(&words);
         let g = &self.grammar;
         let watch = Watch(&|| false);
-        let vit = viterbi::fill(g, &keys, watch, &Workers::default(), None)?;
+        let vit = viterbi::fill(g, &keys, watch, &Workers::default(), None, &self.recycler)?;
         match kbest::kbest(g, &keys, &vit, kbest, u64::MAX, watch) {
             Ok(found) => Ok(found.state_bytes),
             Err(_) => Err(ParseError::Stopped),

@@ -8,10 +8,9 @@
 //! the inner loop to one add, one add and one compare per rule.
 
 use crate::beam::Beam;
-use crate::chart::{
-    cell_work, fill_cells, kernels, Groups, Layout, Scratches, Stopped, Watch, Workers,
-};
+use crate::chart::{cell_work, fill_cells, kernels, Groups, Layout, Stopped, Watch, Workers};
 use crate::compile::{CompiledGrammar, Origin, Visit};
+use crate::recycle::Recycler;
 
 /// A derivation in the compiled grammar.
 #[derive(Clone, Debug, PartialEq)]
@@ -50,6 +49,11 @@ impl ViterbiChart {
     pub fn get(&self, i: usize, j: usize, sym: u32) -> f64 {
         self.score[self.layout.cell(i, j) * self.layout.n_sym + sym as usize]
     }
+
+    /// The chart's arrays (scores, list starts, lists), for reuse.
+    pub fn into_arrays(self) -> (Vec<f64>, Vec<u32>, Vec<u32>) {
+        (self.score, self.present_start, self.present)
+    }
 }
 
 /// Fills the Viterbi chart for `words`, asking `watch` once per cell; the
@@ -61,17 +65,26 @@ pub(crate) fn fill(
     watch: Watch,
     workers: &Workers,
     beam: Option<&Beam>,
+    recycler: &Recycler,
 ) -> Result<ViterbiChart, Stopped> {
     let layout = Layout::new(words.len(), g.symbol_count());
     let n_sym = layout.n_sym;
     let cells = layout.cells();
-    let mut score = vec![f64::NEG_INFINITY; cells * n_sym];
-    let mut present_start = Vec::with_capacity(cells + 1);
+    let mut score = recycler.f64s.take(cells * n_sym, f64::NEG_INFINITY);
+    let mut present_start = recycler.u32s.take_empty(cells + 1, 0);
     present_start.push(0u32);
-    let mut present: Vec<u32> = Vec::new();
+    // Room for a few symbols per cell before the list grows.
+    let mut present = recycler.u32s.take_empty(cells * n_sym.min(16), 0);
     let rules_per_left = (g.bin.len() / n_sym.max(1)).max(1) as u64;
     let mut pruned = false;
-    let scratches = Scratches::new();
+    // Scratch rows for a beam have a `keep` row (even in the whole
+    // sentence's cell, which is not pruned), and are kept apart.
+    let beamed = beam.is_some();
+    let scratches = if beamed {
+        &recycler.viterbi_beam
+    } else {
+        &recycler.viterbi
+    };
     // Each cell's list of present symbols, reused from length to length.
     let mut lists: Vec<Vec<u32>> = Vec::new();
     for len in 1..=layout.n {
@@ -96,12 +109,12 @@ pub(crate) fn fill(
             watch,
             &mut outs,
             work,
-            &scratches,
-            || Scratch {
+            scratches,
+            || ViterbiScratch {
                 pre: vec![f64::NEG_INFINITY; n_sym],
                 rmask: vec![0u64; g.mask_words],
                 groups: Groups::new(n_sym),
-                keep: if beam.is_some() {
+                keep: if beamed {
                     vec![false; n_sym]
                 } else {
                     Vec::new()
@@ -155,7 +168,7 @@ impl Done<'_> {
 }
 
 /// One cell's working rows.
-struct Scratch {
+pub(crate) struct ViterbiScratch {
     pre: Vec<f64>,
     rmask: Vec<u64>,
     groups: Groups<f64>,
@@ -174,9 +187,9 @@ fn prune_cell(
     beam: &Beam,
     row: &mut [f64],
     out: &mut Vec<u32>,
-    scratch: &mut Scratch,
+    scratch: &mut ViterbiScratch,
 ) -> bool {
-    let Scratch {
+    let ViterbiScratch {
         pre, keep, order, ..
     } = scratch;
     if !beam.select(row, out, keep, order) {
@@ -222,9 +235,9 @@ fn fill_cell(
     j: usize,
     row: &mut [f64],
     out: &mut Vec<u32>,
-    scratch: &mut Scratch,
+    scratch: &mut ViterbiScratch,
 ) {
-    let Scratch {
+    let ViterbiScratch {
         pre,
         rmask,
         groups,
@@ -721,7 +734,15 @@ mod tests {
     fn grouped_scans_give_the_same_scores_bit_for_bit_as_split_by_split() {
         let g = dense_grammar();
         let words = ["w0", "w4", "w1", "w2", "w4", "w3", "w0", "w1", "w4", "w2"];
-        let chart = fill(&g, &words, Watch(&|| false), &Workers::default(), None).expect("runs");
+        let chart = fill(
+            &g,
+            &words,
+            Watch(&|| false),
+            &Workers::default(),
+            None,
+            &Recycler::new(),
+        )
+        .expect("runs");
         let done = Done {
             layout: chart.layout,
             score: &chart.score,

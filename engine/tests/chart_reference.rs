@@ -10,9 +10,8 @@ mod parse_support;
 use grammar_lang::model::{Grammar, NtId, Ratio, Rule, Sym};
 use grammar_lang::{FileId, Location, Span};
 use num_bigint::BigInt;
-use parse_support::{rel, Rng};
-use std::sync::Mutex;
-use trellis_engine::parser::{ParseOptions, Parser, Spread, Task, Workers};
+use parse_support::{rel, Rng, Scrambled};
+use trellis_engine::parser::{ParseOptions, Parser, Workers};
 
 /// A random grammar in binary, unary and lexical rules over `nts`
 /// non-terminals (start `N0`) and the words `w0..w{words-1}`; unary rules
@@ -102,35 +101,6 @@ fn reference(g: &Grammar, words: &[&str], max: bool) -> Option<f64> {
     }
     let root = chart[at(0, n, g.start?.0 as usize)];
     (root != zero).then_some(root)
-}
-
-/// Runs tasks on two scoped threads, last first, and spreads every batch,
-/// however small.
-struct Scrambled;
-
-impl Spread for Scrambled {
-    fn threads(&self) -> usize {
-        2
-    }
-
-    fn run<'a>(&self, tasks: Vec<Task<'a>>) {
-        let queue = Mutex::new(tasks);
-        std::thread::scope(|s| {
-            for _ in 0..2 {
-                s.spawn(|| loop {
-                    let task = queue.lock().expect("no task panics").pop();
-                    match task {
-                        Some(t) => t(),
-                        None => break,
-                    }
-                });
-            }
-        });
-    }
-
-    fn min_work(&self) -> u64 {
-        0
-    }
 }
 
 fn sentence<'a>(rng: &mut Rng, vocabulary: &'a [String], len: usize) -> Vec<&'a str> {

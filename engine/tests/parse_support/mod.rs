@@ -7,6 +7,8 @@
 use grammar_lang::model::{Grammar, Sym};
 use grammar_lang::tree::Tree;
 use std::collections::HashMap;
+use std::sync::Mutex;
+use trellis_engine::parser::{Spread, Task};
 use trellis_test_support::grammars::{grammar_text, ASTRONOMERS};
 
 mod rng;
@@ -324,4 +326,33 @@ pub fn all_sentences(max_len: usize) -> Vec<Vec<&'static str>> {
         }
     }
     out
+}
+
+/// Runs tasks on two scoped threads, last first, and spreads every batch,
+/// however small.
+pub struct Scrambled;
+
+impl Spread for Scrambled {
+    fn threads(&self) -> usize {
+        2
+    }
+
+    fn run<'a>(&self, tasks: Vec<Task<'a>>) {
+        let queue = Mutex::new(tasks);
+        std::thread::scope(|s| {
+            for _ in 0..2 {
+                s.spawn(|| loop {
+                    let task = queue.lock().expect("no task panics").pop();
+                    match task {
+                        Some(t) => t(),
+                        None => break,
+                    }
+                });
+            }
+        });
+    }
+
+    fn min_work(&self) -> u64 {
+        0
+    }
 }
