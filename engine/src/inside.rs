@@ -185,8 +185,9 @@ impl<L: Item> State<L> {
         let (cells, items) = (layout.cells(), layout.cells() * layout.n_sym);
         State {
             layout,
-            log: recycler.f64s.take(items, f64::NEG_INFINITY),
-            lin: L::pool(recycler).take(items, L::default()),
+            // Each cell resets its own rows first (see `fill_cell`).
+            log: recycler.f64s.take_for_overwrite(items, f64::NEG_INFINITY),
+            lin: L::pool(recycler).take_for_overwrite(items, L::default()),
             max: recycler.f64s.take(cells, f64::NEG_INFINITY),
             wide: recycler.flags.take(cells, false),
             inexact: recycler.flags.take(cells, false),
@@ -362,6 +363,10 @@ fn fill_cell<L: Item>(
         groups,
     } = scratch;
     let c = layout.cell(i, j);
+    // The chart's memory may hold an earlier parse: the cell's rows start
+    // empty here, while they are hot in the cache.
+    out.log.fill(f64::NEG_INFINITY);
+    out.lin.fill(L::default());
     // Without a beam, every symbol with a share is present in the cell, and
     // the rows are reset over those at the end; a beam's dropped symbols
     // may have a share too, so under one they are reset in full.

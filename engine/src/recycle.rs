@@ -54,6 +54,16 @@ impl<T: Copy> Pool<T> {
     /// An array of `len` copies of `value`: the smallest kept one that is
     /// large enough, refilled, or a new one.
     pub fn take(&self, len: usize, value: T) -> Vec<T> {
+        let mut array = self.take_for_overwrite(len, value);
+        array.fill(value);
+        array
+    }
+
+    /// An array of `len` elements, each `value` or left from an earlier
+    /// use: for arrays the caller writes in full before reading (a chart
+    /// whose cells each set their own row first, when the row is hot in
+    /// the cache, rather than all rows in one sweep before the parse).
+    pub fn take_for_overwrite(&self, len: usize, value: T) -> Vec<T> {
         let found = {
             let mut kept = self.lock();
             let fit = kept
@@ -71,7 +81,7 @@ impl<T: Copy> Pool<T> {
         };
         match found {
             Some(mut array) => {
-                array.clear();
+                array.truncate(len);
                 array.resize(len, value);
                 array
             }
@@ -81,7 +91,7 @@ impl<T: Copy> Pool<T> {
 
     /// An empty array with room for at least `len` elements.
     pub fn take_empty(&self, len: usize, value: T) -> Vec<T> {
-        let mut array = self.take(len, value);
+        let mut array = self.take_for_overwrite(len, value);
         array.clear();
         array
     }

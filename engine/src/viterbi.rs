@@ -70,7 +70,10 @@ pub(crate) fn fill(
     let layout = Layout::new(words.len(), g.symbol_count());
     let n_sym = layout.n_sym;
     let cells = layout.cells();
-    let mut score = recycler.f64s.take(cells * n_sym, f64::NEG_INFINITY);
+    // Each cell writes its whole row (see `fill_cell`).
+    let mut score = recycler
+        .f64s
+        .take_for_overwrite(cells * n_sym, f64::NEG_INFINITY);
     let mut present_start = recycler.u32s.take_empty(cells + 1, 0);
     present_start.push(0u32);
     // Room for a few symbols per cell before the list grows.
@@ -245,13 +248,15 @@ fn fill_cell(
         ..
     } = scratch;
     // Without unary rules or a beam, the scores before the closure are the
-    // final ones: they go straight into the row (still all `-inf`).
-    // Otherwise `pre` takes them: all `-inf` on entry without a beam (reset
-    // below, symbol by symbol), refilled here under one (the beam reads it
-    // after the cell).
+    // final ones: they go straight into the row (set to `-inf` first: the
+    // chart's memory may hold an earlier parse). Otherwise `pre` takes
+    // them: all `-inf` on entry without a beam (reset below, symbol by
+    // symbol), refilled here under one (the beam reads it after the cell),
+    // and copied over the whole row.
     let beam = !keep.is_empty();
     let direct = g.unary_children.is_empty() && !beam;
     let target: &mut [f64] = if direct {
+        row.fill(f64::NEG_INFINITY);
         row
     } else {
         if beam {
