@@ -464,19 +464,29 @@ fn fill_cell<L: Item>(
         };
         pre[s as usize] = log_add(v, acc_log[s as usize]);
     }
-    for &s in &g.unary_nodes {
-        let a = acc[s as usize].lin();
-        if a == 0.0 && acc_log[s as usize] == f64::NEG_INFINITY {
-            pre[s as usize] = f64::NEG_INFINITY;
-        } else {
-            let v = if a > 0.0 {
-                a.ln() + scale
+    // The unary nodes that may have a value before the closure. Without a
+    // beam, each of them is present in the cell, whose list (in increasing
+    // order, as `unary_nodes` is) has its value in `pre` already: the sums
+    // below are taken in the same order either way. A beam's dropped
+    // symbols may have a share too: then all unary nodes are looked at.
+    let sources: &[u32] = if vit.pruned {
+        for &s in &g.unary_nodes {
+            let a = acc[s as usize].lin();
+            if a == 0.0 && acc_log[s as usize] == f64::NEG_INFINITY {
+                pre[s as usize] = f64::NEG_INFINITY;
             } else {
-                f64::NEG_INFINITY
-            };
-            pre[s as usize] = log_add(v, acc_log[s as usize]);
+                let v = if a > 0.0 {
+                    a.ln() + scale
+                } else {
+                    f64::NEG_INFINITY
+                };
+                pre[s as usize] = log_add(v, acc_log[s as usize]);
+            }
         }
-    }
+        &g.unary_nodes
+    } else {
+        vit.present(c)
+    };
     let row = &mut *out.log;
     for &s in vit.present(c) {
         if !g.in_unary[s as usize] {
@@ -487,9 +497,9 @@ fn fill_cell<L: Item>(
     let kept = &vit.score[c * n_sym..(c + 1) * n_sym];
     let dropped = |s: u32| vit.pruned && kept[s as usize] == f64::NEG_INFINITY;
     // Summed unary closure: post[A] = Σ_B C[A][B] · pre[B].
-    for &b in &g.unary_nodes {
+    for &b in sources {
         let pb = pre[b as usize];
-        if pb == f64::NEG_INFINITY || dropped(b) {
+        if !g.in_unary[b as usize] || pb == f64::NEG_INFINITY || dropped(b) {
             continue;
         }
         for &(a, lw) in &g.sum_closure[b as usize] {
@@ -507,9 +517,9 @@ fn fill_cell<L: Item>(
                 acc[s as usize].count()
             };
         }
-        for &b in &g.unary_nodes {
+        for &b in sources {
             let pb = acc[b as usize].count();
-            if pb == 0.0 || dropped(b) {
+            if !g.in_unary[b as usize] || pb == 0.0 || dropped(b) {
                 continue;
             }
             for &(a, w) in &done.closure[b as usize] {
