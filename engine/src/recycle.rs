@@ -22,11 +22,13 @@ use crate::chart::Scratches;
 use crate::inside::{InsideChart, InsideScratch};
 use crate::viterbi::{ViterbiChart, ViterbiScratch};
 
-/// At most this many bytes of arrays are kept per element type: enough for
-/// the charts of a few parses at a time on every thread, of sentences the
-/// length people parse in bulk; the charts of longer sentences are freed
-/// (their allocation is small beside their parse).
-const KEPT_BYTES: usize = 64 << 20;
+/// At most this many bytes of arrays are kept per element type (four
+/// types): enough for the charts of a parse on each of a few threads, for
+/// sentences of the lengths people parse in bulk (a 40-word sentence with
+/// 300 symbols has 2 MiB arrays); the charts of longer sentences are freed
+/// (their allocation is small beside their parse), and a language server
+/// holding many parsers keeps little memory for each.
+const KEPT_BYTES: usize = 16 << 20;
 
 /// At most this many arrays are kept per element type.
 const KEPT_ARRAYS: usize = 32;
