@@ -112,11 +112,14 @@ pub(crate) fn count_parses(
     fused: Option<FusedCounts>,
 ) -> Result<Count, Stopped> {
     let layout = vit.layout;
+    if let Some(FusedCounts::Root(n)) = fused {
+        return Ok(Count::Finite(BigUint::from(n)));
+    }
     let items = layout.cells() * layout.n_sym;
     let mut narrow: Vec<u64> = vec![0; items];
     let mut start = 0;
     match fused {
-        Some(FusedCounts::Root(n)) => return Ok(Count::Finite(BigUint::from(n))),
+        Some(FusedCounts::Root(_)) | None => {}
         Some(FusedCounts::Partial {
             values,
             exact_cells,
@@ -127,7 +130,6 @@ pub(crate) fn count_parses(
             }
             start = exact_cells;
         }
-        None => {}
     }
     let from = match fill(g, words, vit, watch, &mut narrow, start, false)? {
         Filled::Done => return Ok(root_count(&layout, g, &narrow)),
