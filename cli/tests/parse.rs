@@ -120,6 +120,69 @@ fn brackets_format_prints_bare_treebank_trees_and_a_blank_line_for_failures() {
 }
 
 #[test]
+fn a_long_batch_is_written_in_input_order_with_sentence_numbers_and_one_summary() {
+    // Long enough to be parsed and written in several rounds: order,
+    // sentence numbers and the summary must span them all.
+    let dir = setup();
+    let total = 2600;
+    let refused_at = 2000;
+    let long = vec!["ticket"; 400].join(" ");
+    let lines: Vec<&str> = (0..total)
+        .map(|n| match n {
+            _ if n == refused_at => long.as_str(),
+            _ if n % 7 == 3 => "ticket day",
+            _ => "day ticket",
+        })
+        .collect();
+    fs::write(dir.path().join("in.txt"), lines.join("\n")).unwrap();
+    let run = trellis(
+        dir.path(),
+        &[
+            "parse",
+            "g.trellis",
+            "--input",
+            "in.txt",
+            "--format",
+            "brackets",
+            "--max-chart-mib",
+            "1",
+        ],
+    );
+    assert_eq!(run.code, 1, "{}", run.stderr);
+    let out: Vec<&str> = run.stdout.lines().collect();
+    assert_eq!(out.len(), total);
+    let mut unparsed = 0;
+    for (n, line) in out.iter().enumerate() {
+        if n == refused_at || n % 7 == 3 {
+            assert_eq!(*line, "", "sentence {}", n + 1);
+            unparsed += usize::from(n != refused_at);
+        } else {
+            assert_eq!(
+                *line,
+                "(Request (Ticket (Kind day) ticket))",
+                "sentence {}",
+                n + 1
+            );
+        }
+    }
+    assert!(
+        run.stderr.contains(&format!(
+            "sentence {}: a sentence of 400 words needs a chart",
+            refused_at + 1
+        )),
+        "{}",
+        run.stderr
+    );
+    assert!(
+        run.stderr.contains(&format!(
+            "{unparsed} of {total} sentences did not parse; 1 of {total} was not analysed"
+        )),
+        "{}",
+        run.stderr
+    );
+}
+
+#[test]
 fn the_human_format_is_the_default_and_text_still_names_it() {
     let dir = setup();
     let default = trellis(dir.path(), &["parse", "g.trellis", "a day ticket"]);

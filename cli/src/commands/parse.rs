@@ -236,6 +236,19 @@ impl Spread for RayonThreads {
     }
 }
 
+/// Sentences parsed (in parallel) and written per round.
+const ROUND: usize = 1024;
+
+/// Writes `text` to standard output; `false` when it cannot be written
+/// (the reader closed the pipe, say), so that no more work is done for it.
+fn write_stdout(text: &str) -> bool {
+    use std::io::Write;
+    let mut out = std::io::stdout().lock();
+    out.write_all(text.as_bytes())
+        .and_then(|()| out.flush())
+        .is_ok()
+}
+
 /// Runs `trellis parse`.
 pub fn run(args: &ParseArgs, term: Term) -> Ran {
     let analysis = load(&args.grammar)?;
@@ -254,73 +267,89 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
         max_chart_mib: args.max_chart_mib,
         max_seconds: args.max_seconds,
     };
-    let mut results: Vec<Result<ParseOutcome, String>> = sentences
-        .par_iter()
-        .map(|s| {
-            // Each sentence's clock starts when its parse does.
-            let deadline = limits.deadline();
-            let words: Vec<&str> = s.split_whitespace().collect();
-            parser
-                .parse_until(&words, &options, &|| deadline.passed())
-                .map_err(|e: ParseError| parse_error_text(&e, &limits))
-        })
-        .collect();
-    if args.treebank_labels {
-        for outcome in results.iter_mut().flatten() {
-            to_treebank_labels(outcome);
-        }
-    }
     let ran = json::Ran::of(&analysis, &run);
     if args.format != ParseFormat::Json {
         note_run(&analysis, &run);
     }
-    let mut out = String::new();
-    for (n, (sentence, result)) in sentences.iter().zip(&results).enumerate() {
-        match args.format {
-            ParseFormat::Human => {
-                if n > 0 {
-                    out.push('\n');
-                }
-                out.push_str(&human::parse_report(sentence, result));
+    // Parsed and written a round at a time: the first trees come out while
+    // the rest are parsed, memory stays bounded however long the input,
+    // and a closed pipe (`| head`) ends the run. The pictures need every
+    // result, kept only when asked for.
+    let mut pictured: Vec<Result<ParseOutcome, String>> = Vec::new();
+    let mut unparsed = 0usize;
+    let mut refusals: Vec<(usize, String)> = Vec::new();
+    for (round, batch) in sentences.chunks(ROUND).enumerate() {
+        let first = round * ROUND;
+        // Each sentence is parsed and written out on its own thread; only
+        // the joining is done in order.
+        let done: Vec<(String, Result<ParseOutcome, String>)> = batch
+            .par_iter()
+            .enumerate()
+            .map(|(k, sentence)| {
+                // Each sentence's clock starts when its parse does.
+                let deadline = limits.deadline();
                 let words: Vec<&str> = sentence.split_whitespace().collect();
-                out.push_str(&human::unseen_words(&parser.unseen_words(&words)));
-            }
-            ParseFormat::Brackets => {
-                if n > 0 && args.kbest > 1 {
-                    out.push('\n');
+                let mut result = parser
+                    .parse_until(&words, &options, &|| deadline.passed())
+                    .map_err(|e: ParseError| parse_error_text(&e, &limits));
+                if let (true, Ok(outcome)) = (args.treebank_labels, &mut result) {
+                    to_treebank_labels(outcome);
                 }
-                out.push_str(&brackets::sentence(result));
+                let mut text = String::new();
+                let n = first + k;
+                match args.format {
+                    ParseFormat::Human => {
+                        if n > 0 {
+                            text.push('\n');
+                        }
+                        text.push_str(&human::parse_report(sentence, &result));
+                        text.push_str(&human::unseen_words(&parser.unseen_words(&words)));
+                    }
+                    ParseFormat::Brackets => {
+                        if n > 0 && args.kbest > 1 {
+                            text.push('\n');
+                        }
+                        text.push_str(&brackets::sentence(&result));
+                    }
+                    ParseFormat::Json => {
+                        text.push_str(&json::to_line(&json::parse_document(
+                            sentence,
+                            &result,
+                            args.kbest > 1,
+                            &ran,
+                        )));
+                    }
+                }
+                (text, result)
+            })
+            .collect();
+        let mut out = String::with_capacity(done.iter().map(|(text, _)| text.len()).sum());
+        for (k, (text, result)) in done.into_iter().enumerate() {
+            out.push_str(&text);
+            match &result {
+                Ok(outcome) if outcome.parsed() => {}
+                Ok(_) => unparsed += 1,
+                Err(e) => refusals.push((first + k, e.clone())),
             }
-            ParseFormat::Json => {
-                out.push_str(&json::to_line(&json::parse_document(
-                    sentence,
-                    result,
-                    args.kbest > 1,
-                    &ran,
-                )));
+            if args.svg.is_some() {
+                pictured.push(result);
             }
         }
+        if !write_stdout(&out) {
+            break;
+        }
     }
-    emit(Stream::Stdout, &out);
     if let Some(svg) = &args.svg {
-        draw_pictures(svg, run.grammar(), &sentences, &results, args.kbest)?;
+        draw_pictures(svg, run.grammar(), &sentences, &pictured, args.kbest)?;
     }
-    let failed = results
-        .iter()
-        .filter(|r| !matches!(r, Ok(o) if o.parsed()))
-        .count();
-    if failed > 0 {
+    let refused = refusals.len();
+    if unparsed + refused > 0 {
         if args.format == ParseFormat::Brackets {
             // The trees go to stdout; why a sentence has none goes here.
             let mut text = String::new();
-            let mut refused = 0;
-            for (n, result) in results.iter().enumerate() {
-                if let Err(e) = result {
-                    refused += 1;
-                    text.push_str(&format!("sentence {}: {e}\n", n + 1));
-                }
+            for (n, e) in &refusals {
+                text.push_str(&format!("sentence {}: {e}\n", n + 1));
             }
-            let unparsed = failed - refused;
             let mut parts = Vec::new();
             if unparsed > 0 {
                 parts.push(format!(
