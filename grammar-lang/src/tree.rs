@@ -238,8 +238,12 @@ impl Drop for Tree {
         }
         let mut stack = std::mem::take(children);
         while let Some(mut tree) = stack.pop() {
+            // A node over words only (most nodes: the pre-terminals) drops
+            // as it is, without recursion.
             if let Tree::Node { children, .. } = &mut tree {
-                stack.append(children);
+                if !children.iter().all(|c| matches!(c, Tree::Leaf(_))) {
+                    stack.append(children);
+                }
             }
         }
     }

@@ -178,39 +178,72 @@ fn picture_path(path: &Path, n: usize, count: usize) -> PathBuf {
     path.with_file_name(format!("{stem}-{}.{ext}", n + 1))
 }
 
-/// Writes one SVG picture per parsed sentence and says where on standard
-/// error (standard output keeps the chosen format).
-fn draw_pictures(
-    path: &Path,
+/// The picture of one sentence's trees (its best, or its `--kbest`), or
+/// `None` when it has no tree.
+fn draw_picture(
     grammar: &Grammar,
-    sentences: &[String],
-    results: &[Result<ParseOutcome, String>],
+    sentence: &str,
+    result: &Result<ParseOutcome, String>,
     kbest: usize,
-) -> Result<(), Stop> {
-    for (n, (sentence, result)) in sentences.iter().zip(results).enumerate() {
-        let target = picture_path(path, n, sentences.len());
-        let trees: Vec<ParsedTree> = match result {
-            Ok(outcome) if kbest > 1 => outcome.kbest.clone(),
-            Ok(outcome) => outcome.best.iter().cloned().collect(),
-            Err(_) => Vec::new(),
-        };
-        if trees.is_empty() {
-            emit(
-                Stream::Stderr,
-                &format!("note: no picture for sentence {} (it has no tree)\n", n + 1),
-            );
-            continue;
-        }
-        let svg = tree_picture(grammar, sentence, &trees, Surface::Standalone);
-        std::fs::write(&target, svg).map_err(|e| {
-            fail(
-                format!("cannot write {}: {e}", target.display()),
-                Outcome::Failure,
-            )
-        })?;
-        emit(Stream::Stderr, &format!("wrote {}\n", target.display()));
+) -> Option<String> {
+    let trees: Vec<ParsedTree> = match result {
+        Ok(outcome) if kbest > 1 => outcome.kbest.clone(),
+        Ok(outcome) => outcome.best.iter().cloned().collect(),
+        Err(_) => Vec::new(),
+    };
+    if trees.is_empty() {
+        return None;
     }
+    Some(tree_picture(grammar, sentence, &trees, Surface::Standalone))
+}
+
+/// Writes sentence `n`'s picture (of `count` sentences) beside `path` and
+/// says where on standard error (standard output keeps the chosen format).
+fn write_picture(path: &Path, n: usize, count: usize, svg: Option<&str>) -> Result<(), Stop> {
+    let Some(svg) = svg else {
+        emit(
+            Stream::Stderr,
+            &format!("note: no picture for sentence {} (it has no tree)\n", n + 1),
+        );
+        return Ok(());
+    };
+    let target = picture_path(path, n, count);
+    std::fs::write(&target, svg).map_err(|e| {
+        fail(
+            format!("cannot write {}: {e}", target.display()),
+            Outcome::Failure,
+        )
+    })?;
+    emit(Stream::Stderr, &format!("wrote {}\n", target.display()));
     Ok(())
+}
+
+/// What became of one sentence, as the closing summary counts it.
+enum Verdict {
+    Parsed,
+    Unparsed,
+    /// Not analysed: refused or stopped by a budget, with the reason.
+    Refused(String),
+}
+
+impl Verdict {
+    fn of(result: &Result<ParseOutcome, String>) -> Verdict {
+        match result {
+            Ok(outcome) if outcome.parsed() => Verdict::Parsed,
+            Ok(_) => Verdict::Unparsed,
+            Err(e) => Verdict::Refused(e.clone()),
+        }
+    }
+}
+
+/// One sentence, done on the thread that parsed it: its output, its
+/// verdict, and its picture under `--svg` (the trees themselves are
+/// dropped there too, so that the thread writing the output in order does
+/// nothing but write).
+struct Done {
+    text: String,
+    verdict: Verdict,
+    picture: Option<String>,
 }
 
 /// Rewrites an outcome's trees in the labels of the treebank the grammar
@@ -272,17 +305,15 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
         note_run(&analysis, &run);
     }
     // Parsed and written a round at a time: the first trees come out while
-    // the rest are parsed, memory stays bounded however long the input,
-    // and a closed pipe (`| head`) ends the run. The pictures need every
-    // result, kept only when asked for.
-    let mut pictured: Vec<Result<ParseOutcome, String>> = Vec::new();
+    // the rest are parsed, memory stays bounded however long the input
+    // (pictures included), and a closed pipe (`| head`) ends the run.
     let mut unparsed = 0usize;
     let mut refusals: Vec<(usize, String)> = Vec::new();
     for (round, batch) in sentences.chunks(ROUND).enumerate() {
         let first = round * ROUND;
-        // Each sentence is parsed and written out on its own thread; only
-        // the joining is done in order.
-        let done: Vec<(String, Result<ParseOutcome, String>)> = batch
+        // Each sentence is parsed, rendered and drawn on its own thread;
+        // only the writing is done in order.
+        let done: Vec<Done> = batch
             .par_iter()
             .enumerate()
             .map(|(k, sentence)| {
@@ -320,27 +351,34 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
                         )));
                     }
                 }
-                (text, result)
+                let picture = args
+                    .svg
+                    .as_ref()
+                    .and_then(|_| draw_picture(run.grammar(), sentence, &result, args.kbest));
+                Done {
+                    text,
+                    verdict: Verdict::of(&result),
+                    picture,
+                }
             })
             .collect();
-        let mut out = String::with_capacity(done.iter().map(|(text, _)| text.len()).sum());
-        for (k, (text, result)) in done.into_iter().enumerate() {
-            out.push_str(&text);
-            match &result {
-                Ok(outcome) if outcome.parsed() => {}
-                Ok(_) => unparsed += 1,
-                Err(e) => refusals.push((first + k, e.clone())),
-            }
-            if args.svg.is_some() {
-                pictured.push(result);
+        let mut out = String::with_capacity(done.iter().map(|d| d.text.len()).sum());
+        for (k, d) in done.iter().enumerate() {
+            out.push_str(&d.text);
+            match &d.verdict {
+                Verdict::Parsed => {}
+                Verdict::Unparsed => unparsed += 1,
+                Verdict::Refused(e) => refusals.push((first + k, e.clone())),
             }
         }
         if !write_stdout(&out) {
             break;
         }
-    }
-    if let Some(svg) = &args.svg {
-        draw_pictures(svg, run.grammar(), &sentences, &pictured, args.kbest)?;
+        if let Some(svg) = &args.svg {
+            for (k, d) in done.iter().enumerate() {
+                write_picture(svg, first + k, sentences.len(), d.picture.as_deref())?;
+            }
+        }
     }
     let refused = refusals.len();
     if unparsed + refused > 0 {
