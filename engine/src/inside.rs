@@ -14,7 +14,7 @@ use crate::chart::{
     cell_work, fill_cells, log_add, Groups, Layout, Scratches, Stopped, Watch, Workers,
 };
 use crate::compile::{CompiledGrammar, Visit, EXACT_IN_F64 as EXACT};
-use crate::recycle::{Pool, Recycler};
+use crate::recycle::{Pool, Recycler, Reused};
 use crate::viterbi::ViterbiChart;
 
 /// Dynamic range, in nats, that the scaled path handles: four factors of at
@@ -23,7 +23,7 @@ const RANGE: f64 = 150.0;
 
 pub(crate) struct InsideChart {
     pub layout: Layout,
-    pub log: Vec<f64>,
+    pub log: Reused<f64>,
 }
 
 impl InsideChart {
@@ -173,11 +173,11 @@ impl Item for Counted {
 /// than [`RANGE`], and whether a count of it reached 2⁵³ (and was capped).
 struct State<L> {
     layout: Layout,
-    log: Vec<f64>,
-    lin: Vec<L>,
-    max: Vec<f64>,
-    wide: Vec<bool>,
-    inexact: Vec<bool>,
+    log: Reused<f64>,
+    lin: Reused<L>,
+    max: Reused<f64>,
+    wide: Reused<bool>,
+    inexact: Reused<bool>,
 }
 
 impl<L: Item> State<L> {
@@ -197,10 +197,10 @@ impl<L: Item> State<L> {
     /// The log values as the finished chart; the rest goes back to
     /// `recycler`.
     fn into_chart(self, recycler: &Recycler) -> InsideChart {
-        L::pool(recycler).give_back(self.lin);
-        recycler.f64s.give_back(self.max);
-        recycler.flags.give_back(self.wide);
-        recycler.flags.give_back(self.inexact);
+        L::pool(recycler).give_back_reused(self.lin);
+        recycler.f64s.give_back_reused(self.max);
+        recycler.flags.give_back_reused(self.wide);
+        recycler.flags.give_back_reused(self.inexact);
         InsideChart {
             layout: self.layout,
             log: self.log,

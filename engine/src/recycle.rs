@@ -53,9 +53,9 @@ impl<T: Copy> Pool<T> {
         }
     }
 
-    /// An array of `len` copies of `value`: the smallest kept one that is
-    /// large enough, refilled, or a new one.
-    pub fn take(&self, len: usize, value: T) -> Vec<T> {
+    /// An array of `len` copies of `value`: a kept one, refilled, or a new
+    /// one.
+    pub fn take(&self, len: usize, value: T) -> Reused<T> {
         let mut array = self.take_for_overwrite(len, value);
         array.fill(value);
         array
@@ -65,37 +65,50 @@ impl<T: Copy> Pool<T> {
     /// use: for arrays the caller writes in full before reading (a chart
     /// whose cells each set their own row first, when the row is hot in
     /// the cache, rather than all rows in one sweep before the parse).
-    pub fn take_for_overwrite(&self, len: usize, value: T) -> Vec<T> {
-        let found = {
-            let mut kept = self.lock();
-            let fit = kept
-                .arrays
-                .iter()
-                .enumerate()
-                .filter(|(_, a)| a.capacity() >= len)
-                .min_by_key(|(_, a)| a.capacity())
-                .map(|(at, _)| at);
-            fit.map(|at| {
-                let array = kept.arrays.swap_remove(at);
-                kept.bytes -= Self::bytes(&array);
-                array
-            })
-        };
-        match found {
-            Some(mut array) => {
-                array.truncate(len);
-                array.resize(len, value);
-                array
-            }
-            None => vec![value; len],
+    /// A kept array that already holds `len` elements is handed out
+    /// without a write; a shorter one is lengthened with `value`.
+    pub fn take_for_overwrite(&self, len: usize, value: T) -> Reused<T> {
+        let mut array = self.take_kept(len).unwrap_or_default();
+        if array.len() < len {
+            array.resize(len, value);
         }
+        Reused { array, len }
     }
 
     /// An empty array with room for at least `len` elements.
-    pub fn take_empty(&self, len: usize, value: T) -> Vec<T> {
-        let mut array = self.take_for_overwrite(len, value);
-        array.clear();
-        array
+    pub fn take_empty(&self, len: usize) -> Vec<T> {
+        match self.take_kept(len) {
+            Some(mut array) => {
+                array.clear();
+                array
+            }
+            None => Vec::with_capacity(len),
+        }
+    }
+
+    /// The smallest kept array with room for `len` elements (of two as
+    /// small, the one that needs less lengthening), if there is one: the
+    /// large arrays stay for the large charts, and each array tends to
+    /// serve the same part of the next parse.
+    fn take_kept(&self, len: usize) -> Option<Vec<T>> {
+        let mut kept = self.lock();
+        let at = kept
+            .arrays
+            .iter()
+            .enumerate()
+            .filter(|(_, a)| a.capacity() >= len)
+            .min_by_key(|(_, a)| (a.capacity(), len.saturating_sub(a.len())))
+            .map(|(at, _)| at)?;
+        let array = kept.arrays.swap_remove(at);
+        kept.bytes -= Self::bytes(&array);
+        Some(array)
+    }
+
+    /// Keeps an array from [`Pool::take`] or [`Pool::take_for_overwrite`],
+    /// whole: its elements past what the last use needed stay as they
+    /// are, so that a longer use next time need not write them again.
+    pub fn give_back_reused(&self, reused: Reused<T>) {
+        self.give_back(reused.array);
     }
 
     /// Keeps `array` for a later [`Pool::take`], unless the pool is full
@@ -138,6 +151,32 @@ impl<T: Copy> Pool<T> {
     }
 }
 
+/// The first `len` elements of an array from a [`Pool`], as a slice. The
+/// array underneath keeps its whole length, so that handing it back keeps
+/// what a longer use once wrote: a batch of sentences of mixed lengths does
+/// not rewrite the tail of its charts each time a longer sentence follows
+/// a shorter one.
+pub(crate) struct Reused<T> {
+    array: Vec<T>,
+    len: usize,
+}
+
+impl<T> std::ops::Deref for Reused<T> {
+    type Target = [T];
+
+    #[inline]
+    fn deref(&self) -> &[T] {
+        &self.array[..self.len]
+    }
+}
+
+impl<T> std::ops::DerefMut for Reused<T> {
+    #[inline]
+    fn deref_mut(&mut self) -> &mut [T] {
+        &mut self.array[..self.len]
+    }
+}
+
 /// The memory one parser keeps between parses (see the module's text).
 pub(crate) struct Recycler {
     pub f64s: Pool<f64>,
@@ -169,14 +208,14 @@ impl Recycler {
     /// Keeps the arrays of a Viterbi chart the parse is done with.
     pub fn keep_viterbi(&self, chart: ViterbiChart) {
         let (score, present_start, present) = chart.into_arrays();
-        self.f64s.give_back(score);
+        self.f64s.give_back_reused(score);
         self.u32s.give_back(present_start);
         self.u32s.give_back(present);
     }
 
     /// Keeps the array of an inside chart the parse is done with.
     pub fn keep_inside(&self, chart: InsideChart) {
-        self.f64s.give_back(chart.log);
+        self.f64s.give_back_reused(chart.log);
     }
 }
 
@@ -203,13 +242,46 @@ mod tests {
         pool.give_back(vec![1.5f64; 100]);
         pool.give_back(vec![2.5f64; 10]);
         let small = pool.take(8, -1.0);
-        assert_eq!(small, vec![-1.0; 8]);
-        assert!(small.capacity() >= 10 && small.capacity() < 100);
+        assert_eq!(*small, [-1.0; 8]);
+        assert!(small.array.capacity() >= 10 && small.array.capacity() < 100);
         let large = pool.take(50, 0.0);
-        assert_eq!(large, vec![0.0; 50]);
-        assert!(large.capacity() >= 100);
+        assert_eq!(*large, [0.0; 50]);
+        assert!(large.array.capacity() >= 100);
         // Nothing left: a new array.
-        assert_eq!(pool.take(3, 7.0), vec![7.0; 3]);
+        assert_eq!(*pool.take(3, 7.0), [7.0; 3]);
+    }
+
+    #[test]
+    fn an_array_lent_for_a_short_use_keeps_its_whole_length_for_a_long_one() {
+        let pool = Pool::new();
+        let mut long = pool.take_for_overwrite(100, 0.0f64);
+        long.fill(5.0);
+        pool.give_back_reused(long);
+        let short = pool.take_for_overwrite(10, 0.0);
+        assert_eq!(short.len(), 10);
+        pool.give_back_reused(short);
+        // The next long use finds all 100 elements as the first one left
+        // them: nothing was written to hand the array out again.
+        let again = pool.take_for_overwrite(100, -1.0);
+        assert_eq!(*again, [5.0; 100]);
+        drop(again);
+        // Longer than any use so far: the new tail is written with the
+        // value asked for.
+        let mut roomy = Vec::with_capacity(200);
+        roomy.resize(50, 5.0);
+        pool.give_back(roomy);
+        let longer = pool.take_for_overwrite(120, -1.0);
+        assert_eq!(longer[..50], [5.0; 50]);
+        assert_eq!(longer[50..], [-1.0; 70]);
+    }
+
+    #[test]
+    fn an_empty_take_is_empty_with_room() {
+        let pool = Pool::new();
+        pool.give_back(vec![9u32; 40]);
+        let empty = pool.take_empty(30);
+        assert!(empty.is_empty() && empty.capacity() >= 40);
+        assert!(pool.take_empty(1000).capacity() >= 1000);
     }
 
     #[test]

@@ -10,7 +10,7 @@
 use crate::beam::Beam;
 use crate::chart::{cell_work, fill_cells, kernels, Groups, Layout, Stopped, Watch, Workers};
 use crate::compile::{CompiledGrammar, Origin, Visit};
-use crate::recycle::Recycler;
+use crate::recycle::{Recycler, Reused};
 
 /// A derivation in the compiled grammar.
 #[derive(Clone, Debug, PartialEq)]
@@ -29,7 +29,7 @@ pub(crate) enum Deriv {
 
 pub(crate) struct ViterbiChart {
     pub layout: Layout,
-    pub score: Vec<f64>,
+    pub score: Reused<f64>,
     present_start: Vec<u32>,
     present: Vec<u32>,
     /// Whether a [`Beam`] dropped any symbol: pruned symbols score `-inf`
@@ -51,7 +51,7 @@ impl ViterbiChart {
     }
 
     /// The chart's arrays (scores, list starts, lists), for reuse.
-    pub fn into_arrays(self) -> (Vec<f64>, Vec<u32>, Vec<u32>) {
+    pub fn into_arrays(self) -> (Reused<f64>, Vec<u32>, Vec<u32>) {
         (self.score, self.present_start, self.present)
     }
 }
@@ -74,10 +74,10 @@ pub(crate) fn fill(
     let mut score = recycler
         .f64s
         .take_for_overwrite(cells * n_sym, f64::NEG_INFINITY);
-    let mut present_start = recycler.u32s.take_empty(cells + 1, 0);
+    let mut present_start = recycler.u32s.take_empty(cells + 1);
     present_start.push(0u32);
     // Room for a few symbols per cell before the list grows.
-    let mut present = recycler.u32s.take_empty(cells * n_sym.min(16), 0);
+    let mut present = recycler.u32s.take_empty(cells * n_sym.min(16));
     let rules_per_left = (g.bin.len() / n_sym.max(1)).max(1) as u64;
     let mut pruned = false;
     // Scratch rows for a beam have a `keep` row (even in the whole
