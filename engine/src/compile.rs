@@ -67,6 +67,9 @@ pub(crate) struct LinRule {
 /// is built (`n_sym²` entries of 4 bytes: at most 16 MiB).
 const MAX_PAIR_TABLE_SYMBOLS: usize = 2048;
 
+/// The lexical entries of each word.
+pub(crate) type Lexicon = HashMap<String, Vec<LexEntry>, rustc_hash::FxBuildHasher>;
+
 /// A lexical entry: `sym → word`.
 #[derive(Clone, Copy, Debug)]
 pub(crate) struct LexEntry {
@@ -154,7 +157,9 @@ pub struct CompiledGrammar {
     pub(crate) bin_origin: Vec<Origin>,
     /// Binary rule indices by parent.
     pub(crate) by_parent: Vec<Vec<u32>>,
-    pub(crate) lexicon: HashMap<String, Vec<LexEntry>>,
+    /// Each word's entries, looked up a few times per word of a sentence
+    /// (by a fast hash: a sentence's words are short keys).
+    pub(crate) lexicon: Lexicon,
     pub(crate) unary: Vec<UnaryRule>,
     /// Unary rule indices by child.
     pub(crate) unary_by_child: Vec<Vec<u32>>,
@@ -195,7 +200,7 @@ impl CompiledGrammar {
             pre: HashMap::new(),
             mids: HashMap::new(),
             bins: Vec::new(),
-            lexicon: HashMap::new(),
+            lexicon: Lexicon::default(),
         };
         let mut unary = Vec::new();
         let mut user_rules = Vec::new();
@@ -487,7 +492,7 @@ struct Builder {
     pre: HashMap<TermId, u32>,
     mids: HashMap<Vec<u32>, u32>,
     bins: Vec<(u32, u32, u32, f64, Origin)>,
-    lexicon: HashMap<String, Vec<LexEntry>>,
+    lexicon: Lexicon,
 }
 
 impl Builder {
