@@ -10,10 +10,12 @@
 //! finished parses for the next ones, up to a bound, so that parsing many
 //! sentences allocates almost nothing.
 //!
-//! What comes back from the pool is indistinguishable from fresh memory:
-//! arrays are refilled with the value asked for, and scratch rows are
-//! clean by the passes' own invariant (each cell leaves them as it found
-//! them), so results never depend on what was parsed before.
+//! Results never depend on what was parsed before: an array taken with
+//! [`Pool::take`] is refilled with the value asked for; one taken with
+//! [`Pool::take_for_overwrite`] may hold an earlier parse's values, and
+//! its user writes every element before reading it (each chart cell sets
+//! its own row first); scratch rows are clean by the passes' own invariant
+//! (each cell leaves them as it found them).
 
 use std::sync::{Mutex, MutexGuard};
 
