@@ -122,7 +122,12 @@ fn the_pure_crates_depend_only_on_what_their_role_needs() {
                 "smol_str",
             ]),
         ),
-        ("engine", set(&["grammar-lang", "num-bigint", "num-traits"])),
+        // rustc-hash: a hash function for the lexicon's short keys (no
+        // dependencies, no I/O).
+        (
+            "engine",
+            set(&["grammar-lang", "num-bigint", "num-traits", "rustc-hash"]),
+        ),
         // Reads trees from any `BufRead` it is given; opening files is the
         // project layer's.
         ("treebank", set(&["grammar-lang"])),
