@@ -289,7 +289,9 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
     let parser = run.parser().map_err(|e| fail(e, Outcome::Findings))?;
     let sentences = read_sentences(args).map_err(|e| fail(e, Outcome::Failure))?;
     let options = ParseOptions {
-        kbest: args.kbest,
+        // The best tree always comes in `best`: the list is asked for only
+        // when it holds more (a list of one would copy every tree).
+        kbest: if args.kbest > 1 { args.kbest } else { 0 },
         max_chart_bytes: args.max_chart_mib.saturating_mul(1 << 20),
         count_parses: !args.no_count,
         explain: true,
