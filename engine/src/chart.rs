@@ -71,10 +71,11 @@ pub trait Spread: Send + Sync {
     /// The estimated work (in rule visits, counted per cell from the rules
     /// indexed under its left children) of one span length's cells below
     /// which the calling thread fills them alone: some 20 µs of work,
-    /// about what it takes to wake another thread on a virtual machine. (Chart arrays are recycled between parses, so a
-    /// helper thread no longer pays page faults on fresh memory; measured
-    /// on the sparse 40-word benchmark sentence, 1,000,000 kept it on one
-    /// thread, 20,000 spreads it at 1.26× on two cores.)
+    /// about what it takes to wake another thread on a virtual machine.
+    /// (Chart arrays are recycled between parses, so a helper thread no
+    /// longer pays page faults on fresh memory; measured on the sparse
+    /// 40-word benchmark sentence, 1,000,000 kept it on one thread, 20,000
+    /// spreads it at 1.26–1.46× on two cores.)
     fn min_work(&self) -> u64 {
         20_000
     }

@@ -112,24 +112,18 @@ pub(crate) fn count_parses(
     fused: Option<FusedCounts>,
 ) -> Result<Count, Stopped> {
     let layout = vit.layout;
-    if let Some(FusedCounts::Root(n)) = fused {
-        return Ok(Count::Finite(BigUint::from(n)));
-    }
-    let items = layout.cells() * layout.n_sym;
-    let mut narrow: Vec<u64> = vec![0; items];
-    let mut start = 0;
-    match fused {
-        Some(FusedCounts::Root(_)) | None => {}
+    let (exact, start) = match fused {
+        Some(FusedCounts::Root(n)) => return Ok(Count::Finite(BigUint::from(n))),
         Some(FusedCounts::Partial {
             values,
             exact_cells,
-        }) => {
-            // Integers below 2⁵³, so the conversion is exact.
-            for (to, from) in narrow.iter_mut().zip(&values) {
-                *to = *from as u64;
-            }
-            start = exact_cells;
-        }
+        }) => (values, exact_cells),
+        None => (Vec::new(), 0),
+    };
+    let mut narrow: Vec<u64> = vec![0; layout.cells() * layout.n_sym];
+    // Integers below 2⁵³, so the conversion is exact.
+    for (to, from) in narrow.iter_mut().zip(&exact) {
+        *to = *from as u64;
     }
     let from = match fill(g, words, vit, watch, &mut narrow, start, false)? {
         Filled::Done => return Ok(root_count(&layout, g, &narrow)),

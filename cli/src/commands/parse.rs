@@ -227,11 +227,12 @@ enum Verdict {
 }
 
 impl Verdict {
-    fn of(result: &Result<ParseOutcome, String>) -> Verdict {
+    /// The verdict on `result`, which it takes (its trees are dropped here).
+    fn of(result: Result<ParseOutcome, String>) -> Verdict {
         match result {
             Ok(outcome) if outcome.parsed() => Verdict::Parsed,
             Ok(_) => Verdict::Unparsed,
-            Err(e) => Verdict::Refused(e.clone()),
+            Err(e) => Verdict::Refused(e),
         }
     }
 }
@@ -315,7 +316,7 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
         let first = round * ROUND;
         // Each sentence is parsed, rendered and drawn on its own thread;
         // only the writing is done in order.
-        let done: Vec<Done> = batch
+        let mut done: Vec<Done> = batch
             .par_iter()
             .enumerate()
             .map(|(k, sentence)| {
@@ -359,18 +360,18 @@ pub fn run(args: &ParseArgs, term: Term) -> Ran {
                     .and_then(|_| draw_picture(run.grammar(), sentence, &result, args.kbest));
                 Done {
                     text,
-                    verdict: Verdict::of(&result),
+                    verdict: Verdict::of(result),
                     picture,
                 }
             })
             .collect();
         let mut out = String::with_capacity(done.iter().map(|d| d.text.len()).sum());
-        for (k, d) in done.iter().enumerate() {
+        for (k, d) in done.iter_mut().enumerate() {
             out.push_str(&d.text);
-            match &d.verdict {
+            match &mut d.verdict {
                 Verdict::Parsed => {}
                 Verdict::Unparsed => unparsed += 1,
-                Verdict::Refused(e) => refusals.push((first + k, e.clone())),
+                Verdict::Refused(e) => refusals.push((first + k, std::mem::take(e))),
             }
         }
         if !write_stdout(&out) {
