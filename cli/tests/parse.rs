@@ -2,7 +2,7 @@
 //! temporary directories.
 
 mod common;
-use common::{trellis, KIOSK};
+use common::{trellis, Run, KIOSK};
 
 use serde_json::Value;
 use std::fs;
@@ -12,6 +12,15 @@ fn setup() -> tempfile::TempDir {
     let dir = tempfile::tempdir().unwrap();
     fs::write(dir.path().join("g.trellis"), KIOSK).unwrap();
     dir
+}
+
+/// `trellis parse g.trellis --input in.txt` with `input` as the file and
+/// `options` after it.
+fn parse_input(dir: &tempfile::TempDir, input: &str, options: &[&str]) -> Run {
+    fs::write(dir.path().join("in.txt"), input).unwrap();
+    let mut args = vec!["parse", "g.trellis", "--input", "in.txt"];
+    args.extend_from_slice(options);
+    trellis(dir.path(), &args)
 }
 
 #[test]
@@ -65,18 +74,7 @@ fn batch_input_gives_one_json_line_per_sentence_in_input_order() {
             }
         })
         .collect();
-    fs::write(dir.path().join("in.txt"), lines.join("\n\n")).unwrap();
-    let run = trellis(
-        dir.path(),
-        &[
-            "parse",
-            "g.trellis",
-            "--input",
-            "in.txt",
-            "--format",
-            "json",
-        ],
-    );
+    let run = parse_input(&dir, &lines.join("\n\n"), &["--format", "json"]);
     assert_eq!(run.code, 1, "some sentences do not parse");
     let docs: Vec<Value> = run
         .stdout
@@ -134,19 +132,10 @@ fn a_long_batch_is_written_in_input_order_with_sentence_numbers_and_one_summary(
             _ => "day ticket",
         })
         .collect();
-    fs::write(dir.path().join("in.txt"), lines.join("\n")).unwrap();
-    let run = trellis(
-        dir.path(),
-        &[
-            "parse",
-            "g.trellis",
-            "--input",
-            "in.txt",
-            "--format",
-            "brackets",
-            "--max-chart-mib",
-            "1",
-        ],
+    let run = parse_input(
+        &dir,
+        &lines.join("\n"),
+        &["--format", "brackets", "--max-chart-mib", "1"],
     );
     assert_eq!(run.code, 1, "{}", run.stderr);
     let out: Vec<&str> = run.stdout.lines().collect();
